@@ -1,0 +1,3 @@
+"""Tickbin core: values, drawer, timing models, search. Never imports Qt."""
+
+__version__ = "0.1.0"

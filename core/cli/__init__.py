@@ -1,0 +1,83 @@
+"""The ``tickbin`` command line: every result the window can compute, as text or JSON.
+
+Sub-commands live in one module each (``register(commands)`` adds the parser
+and a ``run`` function). The window is injected by the launcher in ``gui``,
+so ``core`` never imports Qt.
+"""
+
+from __future__ import annotations
+
+import argparse
+import sys
+import traceback
+from collections.abc import Callable, Sequence
+
+from core import __version__
+from core.errors import TickbinError
+
+WindowLauncher = Callable[[argparse.Namespace], int]
+
+
+class _Parser(argparse.ArgumentParser):
+    """argparse that reports a usage error on one line and exits with status 2."""
+
+    def error(self, message: str) -> None:  # type: ignore[override]
+        self.exit(2, f"{self.prog}: {message} (see {self.prog} --help)\n")
+
+
+def build_parser() -> argparse.ArgumentParser:
+    from core.cli import stock_commands
+
+    parser = _Parser(prog="tickbin",
+                     description="Find the resistors, pots and capacitors in your own drawer "
+                     "that make an RC oscillator run at the frequency you need.")
+    parser.add_argument("--version", action="version", version=f"tickbin {__version__}")
+    commands = parser.add_subparsers(dest="command", metavar="COMMAND", parser_class=_Parser)
+    for module in (stock_commands,):
+        module.register(commands)
+    window = commands.add_parser("gui", help="open the window (the default)")
+    window.add_argument("--stock", metavar="FILE", help="drawer file to open")
+    window.add_argument("--screenshot", metavar="FILE.png",
+                        help="open, run the first search, save a picture and exit")
+    window.set_defaults(run=None)
+    return parser
+
+
+def main(argv: Sequence[str] | None = None, window: WindowLauncher | None = None) -> int:
+    """Run one command; returns the exit status (0 ok, 2 any error, message on stderr)."""
+    parser = build_parser()
+    args = parser.parse_args(argv)
+    try:
+        if args.command in (None, "gui"):
+            if args.command is None:
+                args.stock = args.screenshot = None
+            if window is None:
+                raise TickbinError("the window is not available in this installation")
+            return window(args)
+        return args.run(args)
+    except TickbinError as e:
+        print(f"tickbin: {e}", file=sys.stderr)
+        return 2
+    except KeyboardInterrupt:
+        print("tickbin: interrupted", file=sys.stderr)
+        return 2
+    except Exception as e:  # noqa: BLE001 - last line of defence: no traceback for a person
+        return _internal_error(e)
+
+
+def _internal_error(error: Exception) -> int:
+    from core.locations import data_dir
+
+    try:
+        log = data_dir() / "error.log"
+        with log.open("a", encoding="utf-8") as f:
+            f.write("".join(traceback.format_exception(error)))
+        where = f"details in {log}"
+    except OSError:
+        where = "no log could be written"
+    print(f"tickbin: internal error: {type(error).__name__}: {error} ({where})", file=sys.stderr)
+    return 2
+
+
+if __name__ == "__main__":
+    sys.exit(main())

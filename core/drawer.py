@@ -1,0 +1,597 @@
+"""The drawer: the parts a person owns, as read from and written to their CSV file.
+
+Every cell is kept as the text the person wrote, so a bad value is never
+lost: it is marked with the reason and waits for correction. Parsed parts
+(``Drawer.parts()``) come from the good rows only. Edits go through a few
+methods that emit events (for views) and record undo steps (the history lives
+here, with the data, not in a view).
+"""
+
+from __future__ import annotations
+
+import contextlib
+import csv
+import io
+import os
+import tempfile
+from collections.abc import Callable, Iterable, Iterator
+from dataclasses import dataclass, field
+from pathlib import Path
+from typing import Literal
+
+from core.errors import DrawerFileError, InputError, LineProblem, TickbinError
+from core.units import Tolerance, parse_capacitance, parse_resistance, parse_tolerance
+
+Kind = Literal["R", "P", "C"]
+
+REQUIRED = ("kind", "value", "quantity")
+KNOWN = ("kind", "value", "tolerance", "quantity", "location", "taper", "dielectric", "voltage",
+         "note")
+"""Columns Tickbin interprets; any other column is kept as it is."""
+NEW_DRAWER_COLUMNS = ("kind", "value", "tolerance", "quantity", "location", "note")
+
+_HEADER_ALIASES = {"qty": "quantity", "count": "quantity", "tol": "tolerance", "bin": "location",
+                   "type": "kind"}
+_KIND_WORDS = {"r": "R", "res": "R", "resistor": "R", "p": "P", "pot": "P",
+               "potentiometer": "P", "trimmer": "P", "trimpot": "P", "c": "C", "cap": "C",
+               "capacitor": "C"}
+_TAPERS = {"": "lin", "lin": "lin", "linear": "lin", "b": "lin", "log": "log",
+           "logarithmic": "log", "audio": "log", "a": "log"}
+
+MAX_QUANTITY = 1_000_000
+MAX_FILE_BYTES = 50 * 1024 * 1024
+MAX_LINE_CHARS = 10_000
+_FORMULA_START = ("=", "+", "-", "@", "\t", "\r")
+
+# Default tolerances when a line gives none (common practice, no published source):
+# carbon-film resistors ±5 %, trimmers ±20 %; capacitors by dielectric below.
+DEFAULT_TOLERANCE: dict[str, Tolerance] = {
+    "R": Tolerance(0.05, 0.05),
+    "P": Tolerance(0.20, 0.20),
+}
+DIELECTRIC_TOLERANCE: dict[str, Tolerance] = {
+    "c0g": Tolerance(0.05, 0.05),
+    "np0": Tolerance(0.05, 0.05),
+    "film": Tolerance(0.05, 0.05),
+    "x7r": Tolerance(0.10, 0.10),
+    "x5r": Tolerance(0.10, 0.10),
+    "y5v": Tolerance(0.20, 0.80),
+    "z5u": Tolerance(0.20, 0.80),
+    "tantalum": Tolerance(0.10, 0.10),
+    "electrolytic": Tolerance(0.20, 0.20),
+    "": Tolerance(0.20, 0.20),
+}
+ELECTROLYTIC = frozenset({"electrolytic", "tantalum"})
+
+
+@dataclass(frozen=True)
+class Part:
+    """One usable stock line: SI value (Ω or F), tolerance, how many are in the drawer.
+
+    ``line`` is the line in the drawer file (header = 1), or None for a row
+    not yet saved; ``row`` is its position in the drawer.
+    """
+
+    kind: Kind
+    value: float
+    tolerance: Tolerance
+    quantity: int
+    location: str = ""
+    note: str = ""
+    taper: Literal["lin", "log"] = "lin"
+    dielectric: str = ""
+    line: int | None = None
+    row: int = 0
+    tolerance_given: bool = True
+
+    @property
+    def polarised(self) -> bool:
+        """Electrolytic or tantalum: has a + lead and a voltage rating to respect."""
+        return self.kind == "C" and self.dielectric in ELECTROLYTIC
+
+    @property
+    def stock_line(self) -> int:
+        """The line to name in output: the file's line, or where it will be once saved."""
+        return self.line if self.line is not None else self.row + 2
+
+
+@dataclass
+class Row:
+    """A drawer row as text: what the person wrote, cell by cell."""
+
+    cells: dict[str, str] = field(default_factory=dict)
+    line: int | None = None
+
+    def get(self, column: str) -> str:
+        return self.cells.get(column, "")
+
+
+def parse_kind(text: str) -> Kind:
+    """``R``/``resistor``, ``P``/``pot``/``trimmer``, ``C``/``capacitor``."""
+    kind = _KIND_WORDS.get(text.strip().lower())
+    if kind is None:
+        raise InputError("expected a kind: R (resistor), P (potentiometer/trimmer) or "
+                         "C (capacitor)", text=text, what="kind")
+    return kind  # type: ignore[return-value]
+
+
+def parse_quantity_count(text: str) -> int:
+    """A whole number of parts, 0 … MAX_QUANTITY."""
+    s = text.strip()
+    if not s.isdigit() or not s.isascii():
+        raise InputError("expected a whole number of parts (0 or more)", text=text,
+                         what="quantity")
+    n = int(s)
+    if n > MAX_QUANTITY:
+        raise InputError(f"more than {MAX_QUANTITY:,} parts on one line is not a drawer",
+                         text=text, what="quantity")
+    return n
+
+
+def cell_problems(row: Row) -> dict[str, str]:
+    """Reasons per column why ``row`` is not a usable part (empty when it is)."""
+    return _parse_row(row, 0)[1]
+
+
+def _parse_row(row: Row, index: int) -> tuple[Part | None, dict[str, str]]:
+    problems: dict[str, str] = {}
+    kind: Kind | None = None
+    value = None
+    try:
+        kind = parse_kind(row.get("kind"))
+    except InputError as e:
+        problems["kind"] = e.reason
+    if kind is not None:
+        try:
+            text = row.get("value")
+            value = parse_capacitance(text) if kind == "C" else parse_resistance(text)
+        except InputError as e:
+            problems["value"] = e.reason
+    elif not row.get("value").strip():
+        problems["value"] = "empty; expected a value"
+    quantity = 0
+    try:
+        quantity = parse_quantity_count(row.get("quantity"))
+    except InputError as e:
+        problems["quantity"] = e.reason
+    dielectric = row.get("dielectric").strip().lower().replace("-", "")
+    if dielectric in ("elko", "elcap", "alu", "aluminium", "aluminum"):
+        dielectric = "electrolytic"
+    if kind == "C" and dielectric not in DIELECTRIC_TOLERANCE:
+        problems["dielectric"] = ("expected C0G, NP0, film, X7R, X5R, Y5V, Z5U, tantalum "
+                                  "or electrolytic")
+    taper = _TAPERS.get(row.get("taper").strip().lower())
+    if taper is None:
+        problems["taper"] = "expected lin or log"
+    tolerance_text = row.get("tolerance")
+    tolerance = None
+    if tolerance_text.strip() and kind is not None:
+        try:
+            tolerance = parse_tolerance(tolerance_text, kind, value)
+        except InputError as e:
+            problems["tolerance"] = e.reason
+    if problems or kind is None or value is None:
+        return None, problems
+    given = tolerance is not None
+    if tolerance is None:
+        tolerance = (DIELECTRIC_TOLERANCE[dielectric] if kind == "C"
+                     else DEFAULT_TOLERANCE[kind])
+    part = Part(kind=kind, value=value, tolerance=tolerance, quantity=quantity,
+                location=row.get("location").strip(), note=row.get("note").strip(),
+                taper=taper, dielectric=dielectric if kind == "C" else "",  # type: ignore[arg-type]
+                line=row.line, row=index, tolerance_given=given)
+    return part, {}
+
+
+# ---------------------------------------------------------------- events and undo
+
+Listener = Callable[..., None]
+
+
+class _Event:
+    """A list of callbacks; ``emit`` calls each with the event's arguments."""
+
+    def __init__(self) -> None:
+        self._listeners: list[Listener] = []
+
+    def connect(self, fn: Listener) -> None:
+        self._listeners.append(fn)
+
+    def disconnect(self, fn: Listener) -> None:
+        self._listeners.remove(fn)
+
+    def emit(self, *args: object) -> None:
+        for fn in list(self._listeners):
+            fn(*args)
+
+
+@dataclass
+class _Step:
+    description: str
+    undo: list[Callable[[], None]] = field(default_factory=list)
+    redo: list[Callable[[], None]] = field(default_factory=list)
+
+
+class Drawer:
+    """Rows of a drawer file plus the edit history.
+
+    Events (each an object with ``connect``): ``inserting(first, count)``,
+    ``inserted(first, count)``, ``removing(first, count)``,
+    ``removed(first, count)``, ``changed(row, column)``, ``resetting()``,
+    ``reset()``, ``history_changed()``. Views adapt these; they hold no data.
+    """
+
+    HISTORY_LIMIT = 200
+
+    def __init__(self, rows: Iterable[Row] = (), columns: Iterable[str] = NEW_DRAWER_COLUMNS,
+                 path: Path | None = None, delimiter: str = ","):
+        self.columns: list[str] = list(columns)
+        self.rows: list[Row] = list(rows)
+        self.path = path
+        self.delimiter = delimiter
+        self.inserting, self.inserted = _Event(), _Event()
+        self.removing, self.removed = _Event(), _Event()
+        self.changed, self.resetting, self.reset = _Event(), _Event(), _Event()
+        self.history_changed = _Event()
+        self._undo: list[_Step] = []
+        self._redo: list[_Step] = []
+        self._group: _Step | None = None
+        self._group_depth = 0
+        self._clean_at: int | None = 0
+        self._cache: tuple[list[Part], dict[int, dict[str, str]]] | None = None
+
+    # -- reading the data
+    def __len__(self) -> int:
+        return len(self.rows)
+
+    def parts(self) -> list[Part]:
+        """Usable parts, in row order (rows with problems are left out)."""
+        return self._parsed()[0]
+
+    def problems(self) -> dict[int, dict[str, str]]:
+        """Row index -> {column: reason} for every row that is not a usable part."""
+        return self._parsed()[1]
+
+    def _parsed(self) -> tuple[list[Part], dict[int, dict[str, str]]]:
+        if self._cache is None:
+            parts, problems = [], {}
+            for i, row in enumerate(self.rows):
+                part, bad = _parse_row(row, i)
+                if part is not None:
+                    parts.append(part)
+                else:
+                    problems[i] = bad
+            self._cache = (parts, problems)
+        return self._cache
+
+    def line_problems(self) -> list[LineProblem]:
+        """Problems as ``FILE:LINE: reason`` entries, one per bad cell."""
+        out = []
+        name = str(self.path) if self.path else "<drawer>"
+        for i, bad in self.problems().items():
+            line = self.rows[i].line or i + 2
+            for column, reason in bad.items():
+                text = self.rows[i].get(column)
+                shown = f" {text!r}" if text.strip() else ""
+                out.append(LineProblem(name, line, f"{column}{shown}: {reason}"))
+        return out
+
+    # -- editing
+    @property
+    def dirty(self) -> bool:
+        return self._clean_at != len(self._undo)
+
+    def mark_clean(self) -> None:
+        self._clean_at = len(self._undo)
+        self.history_changed.emit()
+
+    def saved_as(self, path: Path) -> None:
+        """After a save: rows now sit on consecutive lines of ``path``."""
+        self.path = path
+        for i, row in enumerate(self.rows):
+            row.line = i + 2
+        self._cache = None
+        self.mark_clean()
+
+    def set_cell(self, row: int, column: str, text: str) -> None:
+        """Set one cell's text (any text: a bad value is kept and marked)."""
+        old = self.rows[row].get(column)
+        if old == text:
+            return
+        if column not in self.columns:
+            self.columns.append(column)
+
+        def apply(value: str) -> Callable[[], None]:
+            def go() -> None:
+                self.rows[row].cells[column] = value
+                self._cache = None
+                self.changed.emit(row, column)
+            return go
+
+        self._record(f"Edit {column}", apply(old), apply(text))
+
+    def insert_rows(self, first: int, rows: list[Row], description: str = "Add parts") -> None:
+        """Insert ``rows`` before index ``first``."""
+        if not rows:
+            return
+        rows = [Row(dict(r.cells), r.line) for r in rows]
+
+        def insert() -> None:
+            self.inserting.emit(first, len(rows))
+            self.rows[first:first] = [Row(dict(r.cells), r.line) for r in rows]
+            self._cache = None
+            self.inserted.emit(first, len(rows))
+
+        def remove() -> None:
+            self._remove_now(first, len(rows))
+
+        self._record(description, remove, insert)
+
+    def remove_rows(self, indices: Iterable[int], description: str = "Delete parts") -> None:
+        """Remove the given rows, as one undo step."""
+        with self.edit_group(description):
+            for i in sorted(set(indices), reverse=True):
+                saved = Row(dict(self.rows[i].cells), self.rows[i].line)
+
+                def remove(i: int = i) -> None:
+                    self._remove_now(i, 1)
+
+                def insert(i: int = i, saved: Row = saved) -> None:
+                    self.inserting.emit(i, 1)
+                    self.rows.insert(i, Row(dict(saved.cells), saved.line))
+                    self._cache = None
+                    self.inserted.emit(i, 1)
+
+                self._record(description, insert, remove)
+
+    def _remove_now(self, first: int, count: int) -> None:
+        self.removing.emit(first, count)
+        del self.rows[first:first + count]
+        self._cache = None
+        self.removed.emit(first, count)
+
+    def replace_rows(self, rows: list[Row], description: str = "Replace parts") -> None:
+        """Replace every row at once (sort, restore): one undo step, one reset event."""
+        old = [Row(dict(r.cells), r.line) for r in self.rows]
+        new = [Row(dict(r.cells), r.line) for r in rows]
+
+        def apply(target: list[Row]) -> Callable[[], None]:
+            def go() -> None:
+                self.resetting.emit()
+                self.rows = [Row(dict(r.cells), r.line) for r in target]
+                self._cache = None
+                self.reset.emit()
+            return go
+
+        self._record(description, apply(old), apply(new))
+
+    @contextlib.contextmanager
+    def edit_group(self, description: str) -> Iterator[None]:
+        """Make every edit inside the ``with`` block one undo step."""
+        if self._group_depth == 0:
+            self._group = _Step(description)
+        self._group_depth += 1
+        try:
+            yield
+        finally:
+            self._group_depth -= 1
+            if self._group_depth == 0:
+                step, self._group = self._group, None
+                if step is not None and step.redo:
+                    self._push(step)
+
+    def _record(self, description: str, undo: Callable[[], None],
+                redo: Callable[[], None]) -> None:
+        redo()
+        if self._group is not None:
+            self._group.undo.append(undo)
+            self._group.redo.append(redo)
+        else:
+            self._push(_Step(description, [undo], [redo]))
+
+    def _push(self, step: _Step) -> None:
+        self._undo.append(step)
+        self._redo.clear()
+        if self._clean_at is not None and self._clean_at > len(self._undo) - 1:
+            self._clean_at = None  # the saved state can no longer be reached by redo
+        if len(self._undo) > self.HISTORY_LIMIT:
+            del self._undo[0]
+            self._clean_at = None if self._clean_at in (None, 0) else self._clean_at - 1
+        self.history_changed.emit()
+
+    def can_undo(self) -> bool:
+        return bool(self._undo)
+
+    def can_redo(self) -> bool:
+        return bool(self._redo)
+
+    def undo_text(self) -> str:
+        return self._undo[-1].description if self._undo else ""
+
+    def redo_text(self) -> str:
+        return self._redo[-1].description if self._redo else ""
+
+    def undo(self) -> None:
+        if not self._undo:
+            return
+        step = self._undo.pop()
+        for fn in reversed(step.undo):
+            fn()
+        self._redo.append(step)
+        self.history_changed.emit()
+
+    def redo(self) -> None:
+        if not self._redo:
+            return
+        step = self._redo.pop()
+        for fn in step.redo:
+            fn()
+        self._undo.append(step)
+        self.history_changed.emit()
+
+
+# ---------------------------------------------------------------- files
+
+def _decode(data: bytes, name: str) -> str:
+    if b"\x00" in data:
+        raise DrawerFileError([LineProblem(name, 1, "binary data, not a CSV text file")])
+    if data.startswith(b"\xef\xbb\xbf"):
+        data = data[3:]
+    try:
+        return data.decode("utf-8")
+    except UnicodeDecodeError:
+        # Spreadsheets on Windows still save CSV in the legacy 8-bit code page.
+        return data.decode("cp1252", errors="replace")
+
+
+def _sniff_delimiter(header: str) -> str:
+    counts = {d: header.count(d) for d in (",", ";", "\t")}
+    best = max(counts, key=lambda d: counts[d])
+    return best if counts[best] else ","
+
+
+def _unneutralise(text: str) -> str:
+    """Undo what ``_neutralise`` did on export ('=x -> =x)."""
+    if len(text) > 1 and text[0] == "'" and text[1] in _FORMULA_START:
+        return text[1:]
+    return text
+
+
+def _neutralise(text: str) -> str:
+    """Stop a spreadsheet from running a cell as a formula (OWASP CSV injection advice)."""
+    return "'" + text if text.startswith(_FORMULA_START) else text
+
+
+def parse_drawer_text(text: str, name: str = "<drawer>") -> Drawer:
+    """Rows from CSV text; structural problems (header, field counts) raise at once.
+
+    Value problems are kept in the rows (see ``Drawer.problems``).
+    """
+    lines = text.splitlines()
+    problems: list[LineProblem] = []
+    first = next((i for i, ln in enumerate(lines) if ln.strip()), None)
+    if first is None:
+        raise DrawerFileError([LineProblem(name, 1, "empty file; expected a header line "
+                                           "with kind,value,quantity")])
+    delimiter = _sniff_delimiter(lines[first])
+    for i, ln in enumerate(lines):
+        if len(ln) > MAX_LINE_CHARS:
+            problems.append(LineProblem(name, i + 1,
+                                        f"line longer than {MAX_LINE_CHARS:,} characters"))
+    if problems:
+        raise DrawerFileError(problems)
+    reader = csv.reader(io.StringIO(text, newline=""), delimiter=delimiter)
+    header: list[str] | None = None
+    rows: list[Row] = []
+    try:
+        for record in reader:
+            line = reader.line_num
+            if not any(cell.strip() for cell in record):
+                continue
+            if header is None:
+                header = [_HEADER_ALIASES.get(h.strip().lower(), h.strip().lower())
+                          for h in record]
+                missing = [c for c in REQUIRED if c not in header]
+                if missing:
+                    raise DrawerFileError([LineProblem(
+                        name, line, f"header lacks the column{'s' if len(missing) > 1 else ''}"
+                        f" {', '.join(missing)} (needs kind, value, quantity)")])
+                if len(set(header)) != len(header):
+                    raise DrawerFileError([LineProblem(name, line,
+                                                       "header names a column twice")])
+                continue
+            if len(record) > len(header):
+                extra = record[len(header):]
+                if any(cell.strip() for cell in extra):
+                    problems.append(LineProblem(
+                        name, line, f"{len(record)} fields but the header has {len(header)}"))
+                    continue
+            cells = {h: _unneutralise(record[i].strip()) if i < len(record) else ""
+                     for i, h in enumerate(header)}
+            rows.append(Row(cells, line))
+    except csv.Error as e:
+        raise DrawerFileError([LineProblem(name, reader.line_num, f"CSV: {e}")]) from None
+    if problems:
+        raise DrawerFileError(problems)
+    assert header is not None
+    return Drawer(rows, header, delimiter=delimiter)
+
+
+def read_drawer(path: str | os.PathLike[str], *, strict: bool = True) -> Drawer:
+    """Read a drawer file.
+
+    With ``strict`` (the command line), a file with any bad line is refused as a
+    whole, listing every bad line; without it (the window), bad cells stay in the
+    rows, marked, for the person to correct.
+    """
+    p = Path(path)
+    name = str(path)
+    try:
+        size = p.stat().st_size
+        if size > MAX_FILE_BYTES:
+            raise DrawerFileError([LineProblem(
+                name, 1, f"file is {size / 1e6:.0f} MB; a drawer file may be at most "
+                f"{MAX_FILE_BYTES // 2**20} MiB")])
+        data = p.read_bytes()
+    except OSError as e:
+        raise TickbinError(f"{name}: cannot read: {e.strerror or e}") from None
+    drawer = parse_drawer_text(_decode(data, name), name)
+    drawer.path = p
+    if strict:
+        problems = drawer.line_problems()
+        if problems:
+            raise DrawerFileError(problems)
+    return drawer
+
+
+def drawer_csv_text(drawer: Drawer) -> str:
+    """The drawer as CSV text, columns in the drawer's order, formula cells neutralised."""
+    buf = io.StringIO(newline="")
+    writer = csv.writer(buf, delimiter=drawer.delimiter, lineterminator="\n")
+    writer.writerow(drawer.columns)
+    for row in drawer.rows:
+        writer.writerow([_neutralise(row.get(c)) for c in drawer.columns])
+    return buf.getvalue()
+
+
+def write_text_atomically(path: str | os.PathLike[str], text: str, *, backup: bool = True) -> None:
+    """Write via a temporary file in the same folder, flushed and renamed over ``path``.
+
+    The previous file is kept as ``path + '.bak'``. On any failure the old file
+    is untouched and a ``TickbinError`` says why.
+    """
+    p = Path(path)
+    fd = None
+    tmp = None
+    try:
+        fd, tmp = tempfile.mkstemp(prefix=f".{p.name}.", suffix=".tmp", dir=p.parent)
+        with os.fdopen(fd, "w", encoding="utf-8", newline="") as f:
+            fd = None
+            f.write(text)
+            f.flush()
+            os.fsync(f.fileno())
+        if backup and p.exists():
+            bak = p.with_name(p.name + ".bak")
+            with contextlib.suppress(OSError):
+                bak.write_bytes(p.read_bytes())
+        os.replace(tmp, p)
+        tmp = None
+    except OSError as e:
+        raise TickbinError(f"{p}: not saved ({e.strerror or e}); the previous file is "
+                           "unchanged") from None
+    finally:
+        if fd is not None:
+            os.close(fd)
+        if tmp is not None:
+            with contextlib.suppress(OSError):
+                os.unlink(tmp)
+
+
+def write_drawer(drawer: Drawer, path: str | os.PathLike[str] | None = None) -> Path:
+    """Save atomically (see ``write_text_atomically``); the drawer becomes clean."""
+    target = Path(path) if path is not None else drawer.path
+    if target is None:
+        raise TickbinError("no file name to save the drawer to")
+    write_text_atomically(target, drawer_csv_text(drawer))
+    drawer.saved_as(target)
+    return target

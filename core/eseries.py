@@ -1,0 +1,75 @@
+"""IEC 60063 preferred number series (E3 … E192) and kits built from them.
+
+References: IEC 60063:2015, "Preferred number series for resistors and
+capacitors", tables 1 and 2. E3–E24 are two-figure values listed in the
+standard (several differ from plain rounding of 10^(i/24)); E48–E192 are
+10^(i/192) rounded to three figures, except 9.20 where rounding gives 9.19.
+"""
+
+from __future__ import annotations
+
+import math
+from functools import cache
+
+import numpy as np
+
+from core.errors import InputError
+
+_E24 = (1.0, 1.1, 1.2, 1.3, 1.5, 1.6, 1.8, 2.0, 2.2, 2.4, 2.7, 3.0,
+        3.3, 3.6, 3.9, 4.3, 4.7, 5.1, 5.6, 6.2, 6.8, 7.5, 8.2, 9.1)
+
+SERIES = ("E3", "E6", "E12", "E24", "E48", "E96", "E192")
+
+
+@cache
+def series_values(name: str) -> tuple[float, ...]:
+    """The mantissas of one decade of ``name`` (``"E12"``), from 1.0 up to below 10."""
+    key = name.strip().upper()
+    if key not in SERIES:
+        raise InputError(f"unknown series; expected one of {', '.join(SERIES)}",
+                         text=name, what="series")
+    n = int(key[1:])
+    if n <= 24:
+        return _E24[:: 24 // n]
+    e192 = [round(10 ** (i / 192), 2) for i in range(192)]
+    e192[e192.index(9.19)] = 9.20
+    return tuple(e192[:: 192 // n])
+
+
+def _decade_values(name: str, lo: float, hi: float) -> np.ndarray:
+    mant = np.array(series_values(name))
+    first = math.floor(math.log10(lo)) - 1
+    last = math.ceil(math.log10(hi)) + 1
+    decades = 10.0 ** np.arange(first, last + 1)
+    # Round to the series' own precision so 4.7 × 1e3 is exactly 4700.
+    values = np.round((mant[None, :] * decades[:, None]).ravel(), 9)
+    digits = 2 if int(name.strip().upper()[1:]) <= 24 else 3
+    return np.array([float(f"{v:.{digits}g}") for v in values])
+
+
+def kit(name: str, lo: float, hi: float) -> list[float]:
+    """Every value of series ``name`` in [lo, hi] (SI units), for a drawer kit."""
+    if not (0 < lo <= hi) or not math.isfinite(hi):
+        raise InputError("a kit's range must satisfy 0 < low ≤ high", what="kit range",
+                         text=f"{lo}..{hi}")
+    values = _decade_values(name, lo, hi)
+    tol = 1e-9
+    keep = values[(values >= lo * (1 - tol)) & (values <= hi * (1 + tol))]
+    return [float(v) for v in keep]
+
+
+def neighbours(value: float, name: str) -> tuple[float, float]:
+    """The nearest values of series ``name`` at or below and at or above ``value``."""
+    if not (value > 0 and math.isfinite(value)):
+        raise InputError("needs a value above zero", what="value", text=str(value))
+    values = _decade_values(name, value, value)
+    i = int(np.searchsorted(values, value * (1 - 1e-12)))
+    above = float(values[i])
+    below = above if math.isclose(above, value, rel_tol=1e-9) else float(values[i - 1])
+    return below, above
+
+
+def nearest(value: float, name: str) -> float:
+    """The value of series ``name`` closest to ``value`` on a log scale."""
+    below, above = neighbours(value, name)
+    return below if math.log(value / below) <= math.log(above / value) else above

@@ -1,0 +1,360 @@
+"""Reading and writing the values a person types: ohms, farads, hertz, seconds, volts.
+
+Text is matched against our own grammar first (a number, an optional SI
+prefix, an optional unit; or the IEC 60062 letter-for-decimal code; or the
+capacitor three-digit code), so nothing is ever evaluated. pint then only
+turns a recognised ``prefix + unit`` into an SI factor, cached per pair: one
+registry for the whole program, created on first use.
+
+References: IEC 60062:2016 (letter and digit code for resistors and
+capacitors); BIPM SI Brochure, 9th ed., table 7 (SI prefixes).
+"""
+
+from __future__ import annotations
+
+import math
+import re
+from dataclasses import dataclass
+from decimal import Decimal
+from functools import cache, lru_cache
+from typing import TYPE_CHECKING, Literal
+
+from core.errors import InputError
+
+if TYPE_CHECKING:
+    import pint
+
+Quantity = Literal["resistance", "capacitance", "frequency", "period", "voltage", "current", "time"]
+
+MAX_TEXT = 40
+"""Longest value text accepted; anything longer is junk, not a part value."""
+
+# Canonical unit per physical quantity, as pint spells it, and the unit words a
+# person may type for it (lower-cased lookups; "R" is the IEC 60062 ohm marker).
+_UNITS: dict[Quantity, tuple[str, tuple[str, ...]]] = {
+    "resistance": ("ohm", ("ω", "ohm", "ohms", "r")),
+    "capacitance": ("farad", ("f",)),
+    "frequency": ("hertz", ("hz",)),
+    "period": ("second", ("s", "sec")),
+    "time": ("second", ("s", "sec")),
+    "voltage": ("volt", ("v",)),
+    "current": ("ampere", ("a",)),
+}
+_SYMBOL = {
+    "resistance": "Ω",
+    "capacitance": "F",
+    "frequency": "Hz",
+    "period": "s",
+    "time": "s",
+    "voltage": "V",
+    "current": "A",
+}
+_PREFIX_EXP = {"p": -12, "n": -9, "u": -6, "µ": -6, "μ": -6, "m": -3, "": 0,
+               "k": 3, "K": 3, "M": 6, "meg": 6, "MEG": 6, "Meg": 6, "G": 9}
+_PINT_PREFIX = {-12: "pico", -9: "nano", -6: "micro", -3: "milli", 0: "",
+                3: "kilo", 6: "mega", 9: "giga"}
+_FORMAT_PREFIX = {-15: "f", -12: "p", -9: "n", -6: "µ", -3: "m", 0: "", 3: "k", 6: "M", 9: "G"}
+
+_NUMBER = r"(?:\d+(?:\.\d*)?|\.\d+)(?:[eE][+-]?\d{1,3})?"
+_PLAIN = re.compile(
+    rf"^(?P<num>{_NUMBER})\s*(?P<prefix>meg|MEG|Meg|[pnuµμmkKMG]?)\s*(?P<unit>[a-zA-ZΩΩ]*)$"
+)
+# IEC 60062: the multiplier letter stands where the decimal point would be.
+_LETTER = re.compile(r"^(?P<int>\d*)(?P<letter>[RrKkMGpnuµμm])(?P<frac>\d+)\s*(?P<unit>[a-zA-ZΩΩ]*)$")
+_LETTER_EXP_RES = {"R": 0, "r": 0, "K": 3, "k": 3, "M": 6, "G": 9}
+_LETTER_EXP_CAP = {"p": -12, "n": -9, "u": -6, "µ": -6, "μ": -6, "m": -3}
+_CAP_CODE = re.compile(r"^(?P<sig>\d{2})(?P<exp>\d)$")
+_CONTROL = re.compile(r"[\x00-\x1f\x7f]")
+
+
+@cache
+def registry() -> pint.UnitRegistry:
+    """The program's one unit registry, built on first use (pint import is slow)."""
+    import pint
+
+    return pint.UnitRegistry()
+
+
+@lru_cache(maxsize=64)
+def _si_factor(exponent: int, unit: str) -> float:
+    """SI factor of ``prefix+unit`` with the prefix taken out, from pint once per pair."""
+    ureg = registry()
+    q = ureg.Quantity(1.0, _PINT_PREFIX[exponent] + unit)
+    return float(q.to_base_units().magnitude) / 10.0**exponent
+
+
+def _scaled(number: str, exponent: int, quantity: Quantity) -> float:
+    """``number`` × 10^exponent in SI, exact in decimal (``100n`` is 1e-07, not 1.0000000000000001e-07)."""
+    exact = Decimal(number).scaleb(exponent)
+    return float(exact) * round(_si_factor(exponent, _UNITS[quantity][0]), 12)
+
+
+def _clean(text: str, what: str) -> str:
+    if not isinstance(text, str):
+        raise InputError("expected text", text=repr(text), what=what)
+    s = text.strip()
+    if not s:
+        raise InputError(f"empty; expected a {what}", text=text, what=what)
+    if len(s) > MAX_TEXT:
+        raise InputError(f"too long for a {what} (at most {MAX_TEXT} characters)",
+                         text=text, what=what)
+    if _CONTROL.search(s):
+        raise InputError("contains control characters", text=text, what=what)
+    # One decimal comma is a decimal point (European spreadsheets: "4,7k").
+    if s.count(",") == 1 and "." not in s:
+        s = s.replace(",", ".")
+    return s
+
+
+def _unit_ok(unit: str, quantity: Quantity) -> bool:
+    return unit == "" or unit.lower() in _UNITS[quantity][1]
+
+
+def _which_quantity(unit: str) -> str | None:
+    for q, (_, words) in _UNITS.items():
+        if unit.lower() in words:
+            return q
+    return None
+
+
+def _finish(value: float, text: str, quantity: Quantity) -> float:
+    if not math.isfinite(value):
+        raise InputError(f"not a finite {quantity}", text=text, what=quantity)
+    if value <= 0:
+        raise InputError(f"a {quantity} must be greater than zero", text=text, what=quantity)
+    return value
+
+
+def _expected(quantity: Quantity) -> str:
+    examples = {
+        "resistance": "4.7k, 4k7, 470R, 1M0 or 22 kΩ",
+        "capacitance": "100n, 0.1uF, 2n2, 4u7 or the code 104",
+        "frequency": "38k, 1 kHz, 440Hz (or a period such as 2ms)",
+        "period": "2ms, 0.5 s or 250us",
+        "time": "2ms, 0.5 s or 250us",
+        "voltage": "5V, 3.3 or 12 V",
+        "current": "1mA, 10uA",
+    }
+    return f"expected a {quantity} such as {examples[quantity]}"
+
+
+def parse_quantity(text: str, quantity: Quantity) -> float:
+    """Parse ``text`` as ``quantity`` and return its SI magnitude (Ω, F, Hz, s, V, A).
+
+    A frequency may also be given as a period (``2ms`` -> 500 Hz).
+    """
+    s = _clean(text, quantity)
+    if s[0] in "-−":
+        raise InputError(f"a {quantity} must be greater than zero", text=text, what=quantity)
+    if quantity == "frequency":
+        try:
+            return _parse_one(s, text, "frequency")
+        except InputError as freq_error:
+            try:
+                period = _parse_one(s, text, "period", bare_number=False)
+            except InputError:
+                raise freq_error from None
+            return _finish(1.0 / period, text, "frequency")
+    return _parse_one(s, text, quantity)
+
+
+def _parse_one(s: str, text: str, quantity: Quantity, *, bare_number: bool = True) -> float:
+    m = _PLAIN.match(s)
+    if m:
+        unit = m["unit"]
+        prefix = m["prefix"]
+        # "1m" with no unit on a resistor is milliohm by SI; "470R" is the IEC ohm marker.
+        if not _unit_ok(unit, quantity):
+            # "5mHz"? the prefix may have swallowed the unit's first letter ("m" + "Hz" ok),
+            # so anything left that is not our unit is wrong.
+            other = _which_quantity(unit)
+            if other:
+                raise InputError(f"that is a {other}; {_expected(quantity)}", text=text,
+                                 what=quantity)
+            raise InputError(_expected(quantity), text=text, what=quantity)
+        if quantity == "capacitance" and prefix == "" and unit == "":
+            code = _CAP_CODE.match(m["num"])
+            if code:
+                # Third digit: the power of ten; 8 and 9 stand for 0.01 and 0.1.
+                exp = {"8": -2, "9": -1}.get(code["exp"], int(code["exp"]))
+                return _finish(int(code["sig"]) * 10.0**exp * 1e-12, text, quantity)
+            raise InputError("a capacitance needs a prefix or unit (100n, 0.1uF) "
+                             "or a three-digit code (104)", text=text, what=quantity)
+        if not bare_number and prefix == "" and unit == "":
+            raise InputError(_expected(quantity), text=text, what=quantity)
+        return _finish(_scaled(m["num"], _PREFIX_EXP[prefix], quantity), text, quantity)
+    m = _LETTER.match(s)
+    if m and m["int"] + m["frac"] and _unit_ok(m["unit"], quantity):
+        table = _LETTER_EXP_RES if quantity == "resistance" else (
+            _LETTER_EXP_CAP if quantity == "capacitance" else None)
+        if table and m["letter"] in table:
+            number = f"{m['int'] or '0'}.{m['frac']}"
+            return _finish(_scaled(number, table[m["letter"]], quantity), text, quantity)
+    raise InputError(_expected(quantity), text=text, what=quantity)
+
+
+def parse_resistance(text: str) -> float:
+    """Ohms from ``4.7k``, ``4k7``, ``470R``, ``22 kΩ``."""
+    return parse_quantity(text, "resistance")
+
+
+def parse_capacitance(text: str) -> float:
+    """Farads from ``100n``, ``0.1uF``, ``2n2``, ``104``."""
+    return parse_quantity(text, "capacitance")
+
+
+def parse_frequency(text: str) -> float:
+    """Hertz from ``38k``, ``1 kHz``, or a period such as ``2ms``."""
+    return parse_quantity(text, "frequency")
+
+
+def parse_voltage(text: str) -> float:
+    """Volts from ``5V``, ``3.3``."""
+    return parse_quantity(text, "voltage")
+
+
+def parse_percent(text: str, *, allow_zero: bool = True, what: str = "percentage") -> float:
+    """A plain percentage (``1%``, ``0.5``, ``47 %``) as a number of percent."""
+    s = _clean(text, what).rstrip("%").strip()
+    if not re.fullmatch(_NUMBER, s):
+        raise InputError(f"expected a {what} such as 1% or 0.5", text=text, what=what)
+    value = float(s)
+    if not math.isfinite(value) or value < 0 or (value == 0 and not allow_zero):
+        raise InputError(f"expected a {what} above zero", text=text, what=what)
+    return value
+
+
+def parse_band(text: str) -> tuple[float, float]:
+    """A frequency band ``400..480``, ``400 Hz..480 Hz`` or ``1k-2k``: (low, high) in Hz."""
+    s = text.strip() if isinstance(text, str) else ""
+    for sep in ("..", "…", " to ", "–"):
+        if sep in s:
+            lo_text, hi_text = s.split(sep, 1)
+            break
+    else:
+        raise InputError("expected a band such as 400..480 or 1k..2kHz", text=text,
+                         what="band")
+    lo, hi = parse_frequency(lo_text), parse_frequency(hi_text)
+    if lo > hi:
+        lo, hi = hi, lo
+    if lo == hi:
+        raise InputError("the band's ends must differ", text=text, what="band")
+    return lo, hi
+
+
+# ---------------------------------------------------------------- tolerances
+
+@dataclass(frozen=True)
+class Tolerance:
+    """Allowed deviation as fractions: the part lies in [v (1 − minus), v (1 + plus)]."""
+
+    minus: float
+    plus: float
+
+    @property
+    def symmetric(self) -> bool:
+        return math.isclose(self.minus, self.plus)
+
+    def __str__(self) -> str:
+        if self.symmetric:
+            return f"±{_trim(self.plus * 100)}%"
+        return f"+{_trim(self.plus * 100)}/-{_trim(self.minus * 100)}%"
+
+
+def _trim(x: float) -> str:
+    return f"{x:.3g}"
+
+
+# IEC 60062:2016 table 2 (resistors and capacitors of 10 pF and above).
+_LETTER_TOLERANCE_R = {"A": 0.05, "B": 0.1, "C": 0.25, "D": 0.5, "F": 1, "G": 2, "J": 5,
+                       "K": 10, "M": 20}
+_LETTER_TOLERANCE_C = {"F": (1, 1), "G": (2, 2), "H": (2.5, 2.5), "J": (5, 5), "K": (10, 10),
+                       "M": (20, 20), "N": (30, 30), "Q": (10, 30), "T": (10, 50),
+                       "S": (20, 50), "Z": (20, 80), "P": (0, 100)}
+# IEC 60062: below 10 pF the letters are absolute, in picofarads.
+_LETTER_TOLERANCE_C_SMALL = {"B": 0.1, "C": 0.25, "D": 0.5, "F": 1.0}
+
+_ASYM = re.compile(rf"^\+\s*(?P<plus>{_NUMBER})\s*%?\s*/\s*[-−]\s*(?P<minus>{_NUMBER})\s*%?$")
+_SYM = re.compile(rf"^(?:±|\+/-|\+-)?\s*(?P<pct>{_NUMBER})\s*%?$")
+
+
+def parse_tolerance(text: str, kind: str = "R", value: float | None = None) -> Tolerance:
+    """``5%``, ``±5%``, ``+80/-20%`` or an IEC 60062 letter for this part kind.
+
+    ``kind`` is ``R``, ``P`` or ``C``; ``value`` (farads) is needed only for the
+    absolute letters of capacitors below 10 pF.
+    """
+    s = _clean(text, "tolerance")
+    letter = s.upper()
+    if len(s) == 1 and letter.isalpha():
+        if kind == "C":
+            if value is not None and value < 10e-12 and letter in _LETTER_TOLERANCE_C_SMALL:
+                frac = _LETTER_TOLERANCE_C_SMALL[letter] * 1e-12 / value
+                return Tolerance(frac, frac)
+            if letter in _LETTER_TOLERANCE_C:
+                minus, plus = _LETTER_TOLERANCE_C[letter]
+                return Tolerance(minus / 100, plus / 100)
+        elif letter in _LETTER_TOLERANCE_R:
+            pct = _LETTER_TOLERANCE_R[letter]
+            return Tolerance(pct / 100, pct / 100)
+        raise InputError(f"not an IEC 60062 tolerance letter for a {_KIND_WORD[kind]}",
+                         text=text, what="tolerance")
+    s = s.replace(",", ".")
+    m = _ASYM.match(s)
+    if m:
+        tol = Tolerance(float(m["minus"]) / 100, float(m["plus"]) / 100)
+    else:
+        m = _SYM.match(s)
+        if not m:
+            raise InputError("expected a tolerance such as 5%, ±1%, +80/-20% or a letter "
+                             "(F, G, J, K, M)", text=text, what="tolerance")
+        pct = float(m["pct"]) / 100
+        tol = Tolerance(pct, pct)
+    if not (0 <= tol.minus < 1 and 0 <= tol.plus <= 10):
+        raise InputError("tolerance out of range (below 100 % down)", text=text,
+                         what="tolerance")
+    return tol
+
+
+_KIND_WORD = {"R": "resistor", "P": "potentiometer", "C": "capacitor"}
+
+
+# ---------------------------------------------------------------- formatting
+
+def format_quantity(value: float, quantity: Quantity, digits: int = 3) -> str:
+    """Engineering notation with an SI prefix: ``4.7 kΩ``, ``100 nF``, ``38.0 kHz``.
+
+    ``digits`` significant figures; trailing zeros are kept for frequency and
+    time (they state precision), dropped for part values (``4.7 kΩ``).
+    """
+    symbol = _SYMBOL[quantity]
+    if not math.isfinite(value):
+        return f"— {symbol}"
+    if value == 0:
+        return f"0 {symbol}"
+    exp3 = int(math.floor(math.log10(abs(value)) / 3) * 3)
+    exp3 = max(-15, min(9, exp3))
+    mantissa = value / 10.0**exp3
+    decimals = max(0, digits - 1 - int(math.floor(math.log10(abs(mantissa)))))
+    mantissa = round(mantissa, decimals)
+    if abs(mantissa) >= 1000 and exp3 < 9:
+        exp3 += 3
+        mantissa /= 1000
+        decimals = max(0, digits - 1 - int(math.floor(math.log10(abs(mantissa)))))
+    keep_zeros = quantity in ("frequency", "period", "time")
+    text = f"{mantissa:.{decimals}f}"
+    if not keep_zeros and "." in text:
+        text = text.rstrip("0").rstrip(".")
+    return f"{text} {_FORMAT_PREFIX[exp3]}{symbol}"
+
+
+def format_resistance(ohms: float, digits: int = 3) -> str:
+    return format_quantity(ohms, "resistance", digits)
+
+
+def format_capacitance(farads: float, digits: int = 3) -> str:
+    return format_quantity(farads, "capacitance", digits)
+
+
+def format_frequency(hertz: float, digits: int = 3) -> str:
+    return format_quantity(hertz, "frequency", digits)

@@ -1,0 +1,1 @@
+"""Data files: device table, demo drawer. Installed as core.resources."""
