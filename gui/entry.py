@@ -1,7 +1,7 @@
-"""The ``tickbin`` console script: the command line from core, with the window plugged in.
+"""The ``tickbin`` console script: the command line from core, with Qt parts plugged in.
 
-Qt is imported only when the window is actually opened, so command-line runs
-stay quick.
+Qt is imported only when the window is opened or a sheet is drawn, so other
+command-line runs stay quick.
 """
 
 from __future__ import annotations
@@ -18,5 +18,12 @@ def open_window(args: argparse.Namespace) -> int:
     return run_window(stock=args.stock, screenshot=args.screenshot)
 
 
+def render_sheet(*args: object, **kwargs: object) -> None:
+    """Draw a build sheet to PDF (gui.sheet_render does the work)."""
+    from gui.sheet_render import render_sheet_pdf
+
+    render_sheet_pdf(*args, **kwargs)
+
+
 def main() -> None:
-    sys.exit(core.cli.main(window=open_window))
+    sys.exit(core.cli.main(window=open_window, render_sheet=render_sheet))

@@ -16,6 +16,8 @@ from core import __version__
 from core.errors import TickbinError
 
 WindowLauncher = Callable[[argparse.Namespace], int]
+SheetRenderer = Callable[..., None]
+"""Draws a ``core.sheet.Sheet`` to a PDF file; supplied by gui (Qt does the drawing)."""
 
 
 class _Parser(argparse.ArgumentParser):
@@ -43,10 +45,16 @@ def build_parser() -> argparse.ArgumentParser:
     return parser
 
 
-def main(argv: Sequence[str] | None = None, window: WindowLauncher | None = None) -> int:
-    """Run one command; returns the exit status (0 ok, 2 any error, message on stderr)."""
+def main(argv: Sequence[str] | None = None, window: WindowLauncher | None = None,
+         render_sheet: SheetRenderer | None = None) -> int:
+    """Run one command; returns the exit status (0 ok, 2 any error, message on stderr).
+
+    ``window`` and ``render_sheet`` come from gui (see gui/entry.py); commands that
+    need them find ``render_sheet`` on ``args``.
+    """
     parser = build_parser()
     args = parser.parse_args(argv)
+    args.render_sheet = render_sheet
     try:
         if args.command in (None, "gui"):
             if args.command is None:
