@@ -41,8 +41,8 @@ def _decade_values(name: str, lo: float, hi: float) -> np.ndarray:
     first = math.floor(math.log10(lo)) - 1
     last = math.ceil(math.log10(hi)) + 1
     decades = 10.0 ** np.arange(first, last + 1)
+    values = (mant[None, :] * decades[:, None]).ravel()
     # Round to the series' own precision so 4.7 × 1e3 is exactly 4700.
-    values = np.round((mant[None, :] * decades[:, None]).ravel(), 9)
     digits = 2 if int(name.strip().upper()[1:]) <= 24 else 3
     return np.array([float(f"{v:.{digits}g}") for v in values])
 

@@ -53,14 +53,16 @@ _PREFIX_EXP = {"p": -12, "n": -9, "u": -6, "µ": -6, "μ": -6, "m": -3, "": 0,
                "k": 3, "K": 3, "M": 6, "meg": 6, "MEG": 6, "Meg": 6, "G": 9}
 _PINT_PREFIX = {-12: "pico", -9: "nano", -6: "micro", -3: "milli", 0: "",
                 3: "kilo", 6: "mega", 9: "giga"}
-_FORMAT_PREFIX = {-15: "f", -12: "p", -9: "n", -6: "µ", -3: "m", 0: "", 3: "k", 6: "M", 9: "G"}
+_FORMAT_PREFIX = {-12: "p", -9: "n", -6: "µ", -3: "m", 0: "", 3: "k", 6: "M", 9: "G"}
 
 _NUMBER = r"(?:\d+(?:\.\d*)?|\.\d+)(?:[eE][+-]?\d{1,3})?"
 _PLAIN = re.compile(
     rf"^(?P<num>{_NUMBER})\s*(?P<prefix>meg|MEG|Meg|[pnuµμmkKMG]?)\s*(?P<unit>[a-zA-ZΩΩ]*)$"
 )
 # IEC 60062: the multiplier letter stands where the decimal point would be.
-_LETTER = re.compile(r"^(?P<int>\d*)(?P<letter>[RrKkMGpnuµμm])(?P<frac>\d+)\s*(?P<unit>[a-zA-ZΩΩ]*)$")
+_LETTER = re.compile(
+    r"^(?P<int>\d*)(?P<letter>[RrKkMGpnuµμm])(?P<frac>\d+)\s*(?P<unit>[a-zA-ZΩΩ]*)$"
+)
 _LETTER_EXP_RES = {"R": 0, "r": 0, "K": 3, "k": 3, "M": 6, "G": 9}
 _LETTER_EXP_CAP = {"p": -12, "n": -9, "u": -6, "µ": -6, "μ": -6, "m": -3}
 _CAP_CODE = re.compile(r"^(?P<sig>\d{2})(?P<exp>\d)$")
@@ -84,7 +86,7 @@ def _si_factor(exponent: int, unit: str) -> float:
 
 
 def _scaled(number: str, exponent: int, quantity: Quantity) -> float:
-    """``number`` × 10^exponent in SI, exact in decimal (``100n`` is 1e-07, not 1.0000000000000001e-07)."""
+    """``number`` × 10^exponent in SI, exact in decimal: ``100n`` is 1e-07, not 1.0…01e-07."""
     exact = Decimal(number).scaleb(exponent)
     return float(exact) * round(_si_factor(exponent, _UNITS[quantity][0]), 12)
 
@@ -333,14 +335,15 @@ def format_quantity(value: float, quantity: Quantity, digits: int = 3) -> str:
     if value == 0:
         return f"0 {symbol}"
     exp3 = int(math.floor(math.log10(abs(value)) / 3) * 3)
-    exp3 = max(-15, min(9, exp3))
+    exp3 = max(-12, min(9, exp3))
     mantissa = value / 10.0**exp3
-    decimals = max(0, digits - 1 - int(math.floor(math.log10(abs(mantissa)))))
+    decimals = max(0, digits - 1 - math.floor(math.log10(abs(mantissa))))
+    decimals = min(decimals, 20)
     mantissa = round(mantissa, decimals)
     if abs(mantissa) >= 1000 and exp3 < 9:
         exp3 += 3
         mantissa /= 1000
-        decimals = max(0, digits - 1 - int(math.floor(math.log10(abs(mantissa)))))
+        decimals = max(0, digits - 1 - math.floor(math.log10(abs(mantissa))))
     keep_zeros = quantity in ("frequency", "period", "time")
     text = f"{mantissa:.{decimals}f}"
     if not keep_zeros and "." in text:

@@ -69,7 +69,7 @@ def main(argv: Sequence[str] | None = None, window: WindowLauncher | None = None
     except KeyboardInterrupt:
         print("tickbin: interrupted", file=sys.stderr)
         return 2
-    except Exception as e:  # noqa: BLE001 - last line of defence: no traceback for a person
+    except Exception as e:  # last line of defence: no traceback for a person
         return _internal_error(e)
 
 

@@ -1,0 +1,61 @@
+"""``tickbin stock check`` and the command line's error rules (DESIGN.md contract)."""
+
+from __future__ import annotations
+
+import json
+import subprocess
+import sys
+from pathlib import Path
+
+from core.cli import main
+from core.locations import demo_drawer_path
+
+
+def run(*argv: str, cwd: Path | None = None) -> subprocess.CompletedProcess[str]:
+    return subprocess.run([sys.executable, "-c", "from gui.entry import main; main()", *argv],
+                          capture_output=True, text=True, cwd=cwd, timeout=120)
+
+
+def test_check_demo_json(capsys) -> None:
+    assert main(["stock", "check", str(demo_drawer_path()), "--json"]) == 0
+    result = json.loads(capsys.readouterr().out)
+    assert result["counts"]["resistors"]["lines"] > 10
+    assert result["counts"]["capacitors"]["parts"] > 0
+
+
+def test_check_bad_file_lists_each_line(tmp_path: Path, capsys) -> None:
+    p = tmp_path / "bad.csv"
+    p.write_text("kind,value,quantity\nR,10k,3\nR,xx,2\nC,1n,-4\n", encoding="utf-8")
+    assert main(["stock", "check", str(p)]) == 2
+    err = capsys.readouterr().err.strip().splitlines()
+    assert err[0].startswith(f"{p}:3: value 'xx'")
+    assert err[1].startswith(f"{p}:4: quantity")
+
+
+def test_warnings_for_zero_and_duplicate_bins(tmp_path: Path, capsys) -> None:
+    p = tmp_path / "d.csv"
+    p.write_text("kind,value,quantity,location\nR,10k,3,A1\nR,10000,2,A7\nC,1n,0,B\n",
+                 encoding="utf-8")
+    assert main(["stock", "check", str(p), "--json"]) == 0
+    warnings = json.loads(capsys.readouterr().out)["warnings"]
+    assert any("quantity 0" in w for w in warnings)
+    assert any("several bins" in w and "A1" in w and "A7" in w for w in warnings)
+
+
+def test_errors_are_one_line_without_traceback(tmp_path: Path) -> None:
+    missing = run("stock", "check", str(tmp_path / "nope.csv"))
+    assert missing.returncode == 2
+    assert "nope.csv" in missing.stderr and "Traceback" not in missing.stderr
+    assert len(missing.stderr.strip().splitlines()) == 1
+    usage = run("stock", "frobnicate")
+    assert usage.returncode == 2 and len(usage.stderr.strip().splitlines()) == 1
+
+
+def test_installed_program_finds_its_resources_from_elsewhere(tmp_path: Path) -> None:
+    # Run from a folder that is not the checkout: the demo drawer must come with the install.
+    version = run("--version", cwd=tmp_path)
+    assert version.returncode == 0 and version.stdout.startswith("tickbin ")
+    probe = subprocess.run([sys.executable, "-c",
+                            "from core.locations import demo_drawer_path as p; print(p())"],
+                           capture_output=True, text=True, cwd=tmp_path, timeout=60)
+    assert Path(probe.stdout.strip()).is_file()
