@@ -39,6 +39,8 @@ def build_parser() -> argparse.ArgumentParser:
         module.register(commands)
     window = commands.add_parser("gui", help="open the window (the default)")
     window.add_argument("--stock", metavar="FILE", help="drawer file to open")
+    window.add_argument("--demo", action="store_true",
+                        help="open the bundled demo drawer (a makerspace parts cabinet)")
     window.add_argument("--screenshot", metavar="FILE.png",
                         help="open, run the first search, save a picture and exit")
     window.set_defaults(run=None)
@@ -59,6 +61,11 @@ def main(argv: Sequence[str] | None = None, window: WindowLauncher | None = None
         if args.command in (None, "gui"):
             if args.command is None:
                 args.stock = args.screenshot = None
+                args.demo = False
+            if args.demo:
+                from core.locations import demo_drawer_path
+
+                args.stock = str(demo_drawer_path())
             if window is None:
                 raise TickbinError("the window is not available in this installation")
             return window(args)
