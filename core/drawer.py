@@ -451,14 +451,19 @@ def _sniff_delimiter(header: str) -> str:
 
 
 def _unneutralise(text: str) -> str:
-    """Undo what ``_neutralise`` did on export ('=x -> =x)."""
+    """Undo what ``neutralise_formula`` did on export ('=x -> =x)."""
     if len(text) > 1 and text[0] == "'" and text[1] in _FORMULA_START:
         return text[1:]
     return text
 
 
-def _neutralise(text: str) -> str:
-    """Stop a spreadsheet from running a cell as a formula (OWASP CSV injection advice)."""
+def neutralise_formula(text: str) -> str:
+    """A cell safe for spreadsheets: trimmed, one newline style, never run as a formula.
+
+    OWASP's CSV-injection advice: a cell starting with = + - @ tab or CR gets a
+    leading apostrophe. Use for every text cell Tickbin writes to a CSV file.
+    """
+    text = text.replace("\r\n", "\n").replace("\r", "\n").strip()
     return "'" + text if text.startswith(_FORMULA_START) else text
 
 
@@ -550,7 +555,7 @@ def drawer_csv_text(drawer: Drawer) -> str:
     writer = csv.writer(buf, delimiter=drawer.delimiter, lineterminator="\n")
     writer.writerow(drawer.columns)
     for row in drawer.rows:
-        writer.writerow([_neutralise(row.get(c)) for c in drawer.columns])
+        writer.writerow([neutralise_formula(row.get(c)) for c in drawer.columns])
     return buf.getvalue()
 
 

@@ -145,6 +145,14 @@ def parse_quantity(text: str, quantity: Quantity) -> float:
 
     A frequency may also be given as a period (``2ms`` -> 500 Hz).
     """
+    if not isinstance(text, str):
+        raise InputError("expected text", text=repr(text), what=quantity)
+    return _parse_cached(text, quantity)
+
+
+@lru_cache(maxsize=4096)
+def _parse_cached(text: str, quantity: Quantity) -> float:
+    """Drawers repeat the same few hundred spellings; parse each once."""
     s = _clean(text, quantity)
     if s[0] in "-−":
         raise InputError(f"a {quantity} must be greater than zero", text=text, what=quantity)
@@ -280,6 +288,7 @@ _ASYM = re.compile(rf"^\+\s*(?P<plus>{_NUMBER})\s*%?\s*/\s*[-−]\s*(?P<minus>{_
 _SYM = re.compile(rf"^(?:±|\+/-|\+-)?\s*(?P<pct>{_NUMBER})\s*%?$")
 
 
+@lru_cache(maxsize=1024)
 def parse_tolerance(text: str, kind: str = "R", value: float | None = None) -> Tolerance:
     """``5%``, ``±5%``, ``+80/-20%`` or an IEC 60062 letter for this part kind.
 
