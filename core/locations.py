@@ -3,6 +3,7 @@
 from __future__ import annotations
 
 import os
+import traceback
 from importlib import resources
 from importlib.abc import Traversable
 from pathlib import Path
@@ -32,3 +33,14 @@ def data_dir() -> Path:
         path = Path(platformdirs.user_data_dir("tickbin", appauthor=False))
     path.mkdir(parents=True, exist_ok=True)
     return path
+
+
+def append_error_log(error: BaseException) -> str:
+    """Append ``error``'s traceback to ``error.log`` in the data folder; say where it went."""
+    try:
+        log = data_dir() / "error.log"
+        with log.open("a", encoding="utf-8") as f:
+            f.write("".join(traceback.format_exception(error)))
+        return f"details in {log}"
+    except OSError as e:
+        return f"no log could be written: {e.strerror or e}"

@@ -9,7 +9,6 @@ from __future__ import annotations
 
 import argparse
 import sys
-import traceback
 from collections.abc import Callable, Sequence
 
 from core import __version__
@@ -81,15 +80,9 @@ def main(argv: Sequence[str] | None = None, window: WindowLauncher | None = None
 
 
 def _internal_error(error: Exception) -> int:
-    from core.locations import data_dir
+    from core.locations import append_error_log
 
-    try:
-        log = data_dir() / "error.log"
-        with log.open("a", encoding="utf-8") as f:
-            f.write("".join(traceback.format_exception(error)))
-        where = f"details in {log}"
-    except OSError:
-        where = "no log could be written"
+    where = append_error_log(error)
     print(f"tickbin: internal error: {type(error).__name__}: {error} ({where})", file=sys.stderr)
     return 2
 
