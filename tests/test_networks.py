@@ -1,0 +1,185 @@
+"""Networks of stock parts: values, quantity rule, completeness of the index.
+
+Reference formulas: series resistances add, parallel conductances add;
+parallel capacitances add, series capacitances add reciprocally (Horowitz &
+Hill, The Art of Electronics, 3rd ed., §1.2.1 and §1.4.1). The completeness
+check enumerates every network of a small drawer with plain nested loops.
+"""
+
+from __future__ import annotations
+
+import math
+from collections import Counter
+
+import numpy as np
+import pytest
+from hypothesis import given, settings
+from hypothesis import strategies as st
+
+from core.drawer import Part
+from core.errors import InputError
+from core.networks import RESOLUTION, Node, build_index, index_of
+from core.units import Tolerance
+
+FIVE = Tolerance(0.05, 0.05)
+
+
+def part(kind: str, value: float, quantity: int = 5, line: int = 2,
+         tolerance: Tolerance = FIVE) -> Part:
+    return Part(kind, value, tolerance, quantity, location=f"bin {line}", line=line)
+
+
+def test_node_values_follow_the_textbook_rules() -> None:
+    # Horowitz & Hill §1.2.1: 10k + 4.7k = 14.7k; 10k ∥ 10k = 5k.
+    r1, r2 = Node(part=part("R", 10e3)), Node(part=part("R", 4.7e3, line=3))
+    assert Node(series=(r1, r2)).value == pytest.approx(14.7e3, rel=1e-12)
+    assert Node(parallel=(r1, r1)).value == pytest.approx(5e3, rel=1e-12)
+    # §1.4.1: 22n ∥ 10n = 32n; 22n in series with 22n = 11n.
+    c1, c2 = Node(part=part("C", 22e-9)), Node(part=part("C", 10e-9, line=3))
+    assert Node(parallel=(c1, c2)).value == pytest.approx(32e-9, rel=1e-12)
+    assert Node(series=(c1, c1)).value == pytest.approx(11e-9, rel=1e-12)
+    nested = Node(series=(Node(parallel=(r1, r1)), r2))
+    assert nested.value == pytest.approx(9.7e3, rel=1e-12)
+    assert nested.describe() == "(10 kΩ ∥ 10 kΩ) + 4.7 kΩ"
+    assert nested.to_json() == {"series": [{"parallel": [{"line": 2}, {"line": 2}]},
+                                           {"line": 3}]}
+    assert nested.part_count == 3
+    lo, hi = nested.value_range()
+    assert lo == pytest.approx(9.7e3 * 0.95, rel=1e-12)
+    assert hi == pytest.approx(9.7e3 * 1.05, rel=1e-12)
+
+
+def test_a_node_is_one_part_or_several_children() -> None:
+    r = Node(part=part("R", 1e3))
+    with pytest.raises(InputError):
+        Node(series=(r,))
+    with pytest.raises(InputError):
+        Node()
+
+
+def _plain_networks(values: list[float], quantities: list[int], kind: str,
+                    max_parts: int) -> list[tuple[float, int]]:
+    """Every (value, parts) the drawer can make, by nested loops (no engine code)."""
+    def ser(x: float, y: float) -> float:
+        return x * y / (x + y) if kind == "C" else x + y
+
+    def par(x: float, y: float) -> float:
+        return x + y if kind == "C" else x * y / (x + y)
+
+    out = []
+    n = len(values)
+    for a in range(n):
+        if quantities[a] >= 1:
+            out.append((values[a], 1))
+    if max_parts >= 2:
+        for a in range(n):
+            for b in range(n):
+                use = Counter([a, b])
+                if all(quantities[g] >= m for g, m in use.items()):
+                    out.append((ser(values[a], values[b]), 2))
+                    out.append((par(values[a], values[b]), 2))
+    if max_parts >= 3:
+        for a in range(n):
+            for b in range(n):
+                for c in range(n):
+                    use = Counter([a, b, c])
+                    if not all(quantities[g] >= m for g, m in use.items()):
+                        continue
+                    x, y, z = values[a], values[b], values[c]
+                    for v in (ser(ser(x, y), z), par(par(x, y), z), ser(par(x, y), z),
+                              par(ser(x, y), z)):
+                        out.append((v, 3))
+    return out
+
+
+@pytest.mark.parametrize("kind", ["R", "C"])
+@pytest.mark.parametrize("max_parts", [1, 2, 3])
+def test_index_reaches_every_network_of_a_small_drawer(kind: str, max_parts: int) -> None:
+    values = [100.0, 220.0, 470.0, 1000.0, 3300.0] if kind == "R" else \
+        [1e-9, 2.2e-9, 4.7e-9, 10e-9, 33e-9]
+    quantities = [1, 2, 3, 1, 2]
+    parts = [part(kind, v, q, line=i + 2) for i, (v, q) in enumerate(zip(values, quantities,
+                                                                          strict=True))]
+    index = index_of(parts, kind, max_parts)  # type: ignore[arg-type]
+    for value, count in _plain_networks(values, quantities, kind, max_parts):
+        near = np.flatnonzero(np.abs(index.values / value - 1) <= 2 * RESOLUTION)
+        assert near.size, f"{value} ({count} parts) missing"
+        assert index.part_count[near].min() <= count
+    # Every entry recomputes from its concrete network, and respects quantities.
+    nodes = [index.nodes([e])[0] for e in range(len(index))]
+    for entry, node in enumerate(nodes):
+        assert node.value == pytest.approx(index.values[entry], rel=1e-12)
+        lo, hi = node.value_range()
+        assert (lo, hi) == pytest.approx((index.lo[entry], index.hi[entry]), rel=1e-12)
+        used = Counter(p.stock_line for p in node.parts())
+        assert all(used[p.stock_line] <= p.quantity for p in parts)
+
+
+def test_equivalent_lines_pool_their_quantity_and_lines_are_shared_out() -> None:
+    # Two bins of one 10 kΩ each: 10k + 10k is possible, from both lines.
+    parts = [part("R", 10e3, 1, line=2), part("R", 10e3, 1, line=5)]
+    index = index_of(parts, "R", 3)
+    assert len(index.groups) == 1
+    assert index.layers[3].stop == index.layers[3].start  # three would need three parts
+    entry = int(np.flatnonzero(np.isclose(index.values, 20e3))[0])
+    (node,) = index.nodes([entry])
+    assert sorted(p.stock_line for p in node.parts()) == [2, 5]
+    # Asking for the same network twice in one candidate runs out of parts.
+    taken: Counter[int] = Counter()
+    index.nodes([entry], taken)
+    with pytest.raises(InputError):
+        index.nodes([0], taken)
+
+
+def test_pots_and_empty_lines_are_not_fixed_resistors() -> None:
+    parts = [part("P", 10e3, 3), part("R", 1e3, 0, line=3), part("R", 2e3, 1, line=4)]
+    index = index_of(parts, "R", 2)
+    assert [index.nodes([e])[0].describe() for e in range(len(index))] == ["2 kΩ"]
+
+
+def test_overused_counts_across_networks() -> None:
+    parts = [part("R", 10e3, 2), part("R", 4.7e3, 1, line=3)]
+    index = index_of(parts, "R", 2)
+    single_10k = int(np.flatnonzero(index.values == 10e3)[0])
+    pair_20k = int(np.flatnonzero(np.isclose(index.values, 20e3))[0])
+    single_47 = int(np.flatnonzero(index.values == 4.7e3)[0])
+    a = np.array([single_10k, pair_20k, single_47])
+    b = np.array([single_10k, single_10k, single_47])
+    assert index.overused(a, b).tolist() == [False, True, True]
+
+
+def test_build_reports_progress_and_refuses_silly_sizes() -> None:
+    steps = build_index([part("R", 1e3)], "R", 3)
+    fractions = []
+    try:
+        while True:
+            fractions.append(next(steps))
+    except StopIteration as done:
+        index = done.value
+    assert fractions == sorted(fractions) and fractions[-1] == 1.0
+    assert len(index) >= 1
+    with pytest.raises(InputError):
+        index_of([], "R", 4)
+    assert len(index_of([], "C", 2)) == 0
+
+
+@settings(max_examples=30, deadline=None)
+@given(st.lists(st.tuples(st.floats(1.0, 1e7), st.integers(0, 3)), min_size=1, max_size=7),
+       st.integers(1, 3))
+def test_random_drawers_give_sorted_layers_and_true_values(lines: list[tuple[float, int]],
+                                                           max_parts: int) -> None:
+    parts = [part("R", v, q, line=i + 2) for i, (v, q) in enumerate(lines)]
+    index = index_of(parts, "R", max_parts)
+    for layer in index.layers.values():
+        assert np.all(np.diff(index.values[layer]) > 0)
+    for entry in range(len(index)):
+        (node,) = index.nodes([entry])
+        assert math.isclose(node.value, index.values[entry], rel_tol=1e-12)
+        assert node.part_count == index.part_count[entry]
+        used = Counter(p.stock_line for p in node.parts())
+        assert all(used[p.stock_line] <= p.quantity for p in parts)
+    # No two entries (across layers) closer than the index resolution unless in
+    # neighbouring buckets: at most two entries per 2·RESOLUTION window.
+    v = np.sort(index.values)
+    if len(v) > 2:
+        assert np.all(v[2:] / v[:-2] - 1 > RESOLUTION * 0.999)
