@@ -1,0 +1,137 @@
+"""How far a built oscillator can land from its prediction: worst case and Monte Carlo.
+
+Worst case: every corner of the part-value ranges (tolerances may be
+asymmetric) against every threshold corner of the chip (see
+``Oscillator.threshold_corners``). The frequency is monotonic in each part
+value, so the corners bound it.
+
+Monte Carlo: part values uniform within their tolerance (manufacturers sort
+parts into tolerance bins, so no central peak is promised); thresholds drawn
+from a triangular distribution over the table's min/typ/max, independently
+(conservative: real VT+ and VT- move together with the process), redrawn
+where they break the guaranteed hysteresis. Draws that do not oscillate
+count as 0 Hz.
+
+References: IEC 60062 (tolerance letters and meaning); the device data
+sheets in resources/devices.toml (threshold min/typ/max).
+"""
+
+from __future__ import annotations
+
+import itertools
+from collections.abc import Mapping
+from dataclasses import dataclass
+
+import numpy as np
+
+from core.timing import Oscillator, frequency
+from core.units import Tolerance
+
+
+def worst_case_hz(osc: Oscillator, values: Mapping[str, float | np.ndarray],
+                  ranges: Mapping[str, tuple[float | np.ndarray, float | np.ndarray]],
+                  diode_steered: bool = False) -> tuple[float | np.ndarray, float | np.ndarray]:
+    """(lowest, highest) frequency [Hz] over every corner of ``ranges`` and the thresholds.
+
+    ``values`` are nominal part values [Ω, F]; ``ranges`` gives (low, high) per
+    key (keys not in it stay nominal). Arrays broadcast: pass many candidates
+    at once and get arrays back. The low end is 0 where some corner does not
+    oscillate.
+    """
+    corners = osc.threshold_corners()
+    vt_plus = np.array([a for a, _ in corners])
+    vt_minus = np.array([b for _, b in corners])
+    keys = list(ranges)
+    lo = hi = None
+    stopped = None
+    for choice in itertools.product((0, 1), repeat=len(keys)):
+        vals = {k: np.asarray(v, dtype=float)[..., None] for k, v in values.items()}
+        for k, pick in zip(keys, choice, strict=True):
+            vals[k] = np.asarray(ranges[k][pick], dtype=float)[..., None]
+        f = frequency(osc, vals, diode_steered, vt_plus, vt_minus)
+        nan = np.isnan(f)
+        f_lo = np.min(np.where(nan, np.inf, f), axis=-1)
+        f_hi = np.max(np.where(nan, -np.inf, f), axis=-1)
+        any_nan = nan.any(axis=-1)
+        lo = f_lo if lo is None else np.minimum(lo, f_lo)
+        hi = f_hi if hi is None else np.maximum(hi, f_hi)
+        stopped = any_nan if stopped is None else stopped | any_nan
+    assert lo is not None and hi is not None and stopped is not None
+    lo = np.where(stopped | ~np.isfinite(lo), 0.0, lo)
+    hi = np.where(np.isfinite(hi), hi, 0.0)
+    if lo.ndim == 0:
+        return float(lo), float(hi)
+    return lo, hi
+
+
+@dataclass(frozen=True)
+class MonteCarlo:
+    """Frequencies [Hz] of simulated builds (0 where a build would not oscillate)."""
+
+    frequencies_hz: np.ndarray
+
+    def percentile(self, p: float) -> float:
+        """The ``p``-th percentile [Hz] (0 ≤ p ≤ 100)."""
+        return float(np.percentile(self.frequencies_hz, p))
+
+    def fraction_within(self, lo_hz: float, hi_hz: float) -> float:
+        """Share of builds (0…1) landing within lo_hz…hi_hz [Hz]."""
+        f = self.frequencies_hz
+        return float(np.mean((f >= lo_hz) & (f <= hi_hz)))
+
+    @property
+    def interval_95(self) -> tuple[float, float]:
+        """The central 95 % of builds [Hz]."""
+        return self.percentile(2.5), self.percentile(97.5)
+
+    @property
+    def stopped_fraction(self) -> float:
+        """Share of builds that would not oscillate."""
+        return float(np.mean(self.frequencies_hz == 0.0))
+
+
+def _triangular(rng: np.random.Generator, triplet: tuple[float, float, float],
+                n: int) -> np.ndarray:
+    lo, mode, hi = triplet
+    if hi <= lo:
+        return np.full(n, mode)
+    return rng.triangular(lo, mode, hi, n)
+
+
+def draw_thresholds(osc: Oscillator, n: int, rng: np.random.Generator
+                    ) -> tuple[np.ndarray, np.ndarray]:
+    """``n`` (VT+, VT-) draws [V]; fixed thresholds when the oscillator has them given."""
+    if osc.thresholds_given:
+        return np.full(n, osc.vt_plus_v), np.full(n, osc.vt_minus_v)
+    d = osc.device
+    a = _triangular(rng, d.vt_plus, n)
+    b = _triangular(rng, d.vt_minus, n)
+    h = d.hysteresis_min_v if osc.circuit == "schmitt" else 0.0
+    for _ in range(50):
+        bad = a - b < h
+        if not bad.any():
+            break
+        k = int(bad.sum())
+        a[bad] = _triangular(rng, d.vt_plus, k)
+        b[bad] = _triangular(rng, d.vt_minus, k)
+    bad = a - b < h
+    b[bad] = a[bad] - h
+    return a, b
+
+
+def monte_carlo(osc: Oscillator, values: Mapping[str, float],
+                tolerances: Mapping[str, Tolerance], n: int = 10_000, seed: int = 0,
+                diode_steered: bool = False) -> MonteCarlo:
+    """Frequencies of ``n`` simulated builds, seeded (the same seed gives the same draws).
+
+    ``values`` nominal [Ω, F]; ``tolerances`` per key (keys without one stay nominal).
+    """
+    rng = np.random.default_rng(seed)
+    draws = {}
+    for k, v in values.items():
+        tol = tolerances.get(k)
+        draws[k] = (np.full(n, float(v)) if tol is None else
+                    rng.uniform(v * (1 - tol.minus), v * (1 + tol.plus), n))
+    a, b = draw_thresholds(osc, n, rng)
+    f = frequency(osc, draws, diode_steered, a, b)
+    return MonteCarlo(np.where(np.isnan(f), 0.0, f))

@@ -1,0 +1,533 @@
+"""Timing of RC relaxation oscillators from the charging physics.
+
+Both circuits are the same picture: a timing capacitor charges toward one
+Thevenin source while the output is high and toward another while it is low,
+and the chip flips its output a propagation delay after the capacitor voltage
+crosses a threshold. Each phase is then an exact exponential segment, so
+periods have a closed form (no curve fits, no stepping), vectorised over
+numpy arrays of part values.
+
+Schmitt-trigger inverter (R from output to input, C from input to ground)::
+
+    t_high = R C ln((VOH - VT-) / (VOH - VT+))    output high, C charges
+    t_low  = R C ln((VT+ - VOL) / (VT- - VOL))    output low, C discharges
+
+plus output resistance in series with R, input and stray capacitance beside
+C, a TTL input's current through R (a Thevenin source at the input), and the
+propagation delay on each edge (the capacitor overshoots the threshold while
+the output has not yet switched).
+
+555 astable: t_high = ln2 (RA + RB) C, t_low = ln2 RB C, generalised to the
+actual threshold/trigger levels, the discharge transistor's on-resistance,
+and the diode-steered variant (charge through RA and a diode, discharge
+through RB).
+
+References: NE555 and TLC555 data sheets (astable operation); the device
+data sheets in resources/devices.toml; P. Horowitz and W. Hill, The Art of
+Electronics, 3rd ed., §1.4 (RC charging) and §7.1 (relaxation oscillators).
+"""
+
+from __future__ import annotations
+
+import math
+from collections.abc import Mapping
+from dataclasses import dataclass, field, replace
+from typing import TYPE_CHECKING, Any, NamedTuple
+
+import numpy as np
+
+from core.devices import Circuit, DeviceAtSupply, Family, device_table
+from core.errors import InputError, SetupError
+from core.units import Tolerance, format_quantity
+
+if TYPE_CHECKING:
+    from core.calibration import Calibration
+
+DEFAULT_STRAY_F = 5e-12
+"""Stray capacitance at the timing node on a breadboard or perfboard [F]
+(common practice, no published source)."""
+STEERING_DIODE_V = 0.6
+"""Forward drop of a small-signal silicon steering diode (1N4148) at about a
+milliampere [V] (from memory; 1N4148 data sheet forward-voltage curve)."""
+
+VALUE_KEYS: dict[str, tuple[str, ...]] = {"schmitt": ("R", "C"), "555": ("RA", "RB", "C")}
+"""The part values each circuit needs, as keys of ``values``."""
+DEFAULT_FAMILY: dict[str, str] = {"schmitt": "74HC14", "555": "NE555"}
+
+ArrayLike = Any
+
+
+@dataclass(frozen=True)
+class Oscillator:
+    """A chip at a supply, with the thresholds the model uses.
+
+    ``vt_plus_v``/``vt_minus_v`` [V] are the nominal thresholds (the table's
+    typ unless given or calibrated); ``thresholds_given`` means a person or a
+    calibration fixed them, so no threshold spread is applied.
+    ``stray_capacitance_f`` [F] sits beside the timing capacitor;
+    ``load_ohm`` [Ω] is a load from the timing output to ground, if any;
+    ``diode_drop_v`` [V] is the 555 steering diode's forward drop.
+    """
+
+    circuit: Circuit
+    device: DeviceAtSupply
+    vt_plus_v: float
+    vt_minus_v: float
+    thresholds_given: bool = False
+    calibration: str | None = None
+    stray_capacitance_f: float = DEFAULT_STRAY_F
+    load_ohm: float | None = None
+    diode_drop_v: float = STEERING_DIODE_V
+    notes: tuple[str, ...] = field(default=())
+
+    @property
+    def family(self) -> Family:
+        return self.device.family
+
+    @property
+    def supply_v(self) -> float:
+        return self.device.supply_v
+
+    def with_thresholds(self, vt_plus_v: float, vt_minus_v: float) -> Oscillator:
+        """The same oscillator with fixed thresholds [V] (no threshold spread)."""
+        _check_thresholds(self.device, vt_plus_v, vt_minus_v)
+        return replace(self, vt_plus_v=float(vt_plus_v), vt_minus_v=float(vt_minus_v),
+                       thresholds_given=True)
+
+    def threshold_corners(self) -> list[tuple[float, float]]:
+        """(VT+, VT-) pairs [V] whose extremes bound the frequency over the table's spread.
+
+        The feasible thresholds form the box min…max of each, cut by the
+        guaranteed hysteresis VT+ − VT- ≥ hysteresis_min. The period rises with
+        VT+ and falls with VT-, so its extremes lie on the polygon's vertices,
+        except the fastest point on the minimum-hysteresis edge, which is where
+        the window is centred between the output levels (added explicitly).
+        """
+        if self.thresholds_given:
+            return [(self.vt_plus_v, self.vt_minus_v)]
+        d = self.device
+        (a_lo, _, a_hi), (b_lo, _, b_hi) = d.vt_plus, d.vt_minus
+        if self.circuit == "555":
+            return [(a, b) for a in (a_lo, a_hi) for b in (b_lo, b_hi)]
+        h = d.hysteresis_min_v
+        candidates = [(a, b) for a in (a_lo, a_hi) for b in (b_lo, b_hi)]
+        candidates += [(a_lo, a_lo - h), (b_hi + h, b_hi), (a_hi, a_hi - h), (b_lo + h, b_lo)]
+        centre = 0.5 * (d.voh_v + d.vol_v + h)
+        candidates.append((centre, centre - h))
+        eps = 1e-12
+        corners: list[tuple[float, float]] = []
+        for a, b in candidates:
+            inside = (a_lo - eps <= a <= a_hi + eps and b_lo - eps <= b <= b_hi + eps
+                      and a - b >= h - eps)
+            if inside and all(abs(a - p) > 1e-9 or abs(b - q) > 1e-9 for p, q in corners):
+                corners.append((a, b))
+        return corners
+
+
+def _check_thresholds(device: DeviceAtSupply, vt_plus: float, vt_minus: float) -> None:
+    if not (math.isfinite(vt_plus) and math.isfinite(vt_minus)):
+        raise InputError("thresholds must be finite voltages")
+    if vt_plus <= vt_minus:
+        raise InputError(f"VT+ ({vt_plus:.3g} V) must be above VT- ({vt_minus:.3g} V)")
+    if not device.vol_v < vt_minus or not vt_plus < device.voh_v:
+        raise SetupError(f"thresholds {vt_plus:.3g} V / {vt_minus:.3g} V must lie between "
+                         f"the output levels {device.vol_v:.3g} V and {device.voh_v:.3g} V "
+                         f"of the {device.family.name} at {device.supply_v:g} V")
+
+
+def make_oscillator(circuit: str, family: str | Family, supply_v: float,
+                    vt_plus: float | None = None, vt_minus: float | None = None,
+                    calibration: str | Calibration | None = None, *,
+                    stray_capacitance_f: float = DEFAULT_STRAY_F,
+                    load_ohm: float | None = None) -> Oscillator:
+    """An oscillator for ``family`` at ``supply_v`` [V].
+
+    ``vt_plus``/``vt_minus`` [V] override the table (both or neither);
+    ``calibration`` is a saved calibration's name (or the object) whose
+    thresholds are used instead.
+    """
+    if circuit not in VALUE_KEYS:
+        raise InputError("expected schmitt or 555", text=str(circuit), what="circuit")
+    fam = family if isinstance(family, Family) else device_table().family(family)
+    if fam.circuit != circuit:
+        raise InputError(f"{fam.name} is a {_circuit_word(fam.circuit)}; use --circuit "
+                         f"{fam.circuit} (or a {_circuit_word(circuit)} family: "
+                         f"{', '.join(device_table().families(circuit))})",
+                         text=fam.name, what="family")
+    if stray_capacitance_f < 0 or not math.isfinite(stray_capacitance_f):
+        raise InputError("stray capacitance must be zero or more")
+    if load_ohm is not None and not load_ohm > 0:
+        raise InputError("a load must be a resistance above zero")
+    device = fam.at(supply_v)
+    osc = Oscillator(circuit=fam.circuit, device=device, vt_plus_v=device.vt_plus[1],
+                     vt_minus_v=device.vt_minus[1], stray_capacitance_f=stray_capacitance_f,
+                     load_ohm=load_ohm)
+    if (vt_plus is None) != (vt_minus is None):
+        raise InputError("give both thresholds (--vt-plus and --vt-minus) or neither")
+    if calibration is not None:
+        if vt_plus is not None:
+            raise InputError("give thresholds or a calibration, not both")
+        from core.calibration import Calibration, load_calibration
+
+        cal = calibration if isinstance(calibration, Calibration) else load_calibration(
+            calibration)
+        plus, minus, notes = cal.thresholds_for(device)
+        osc = replace(osc.with_thresholds(plus, minus), calibration=cal.name,
+                      notes=tuple(notes))
+    elif vt_plus is not None and vt_minus is not None:
+        osc = osc.with_thresholds(vt_plus, vt_minus)
+    return osc
+
+
+def _circuit_word(circuit: str) -> str:
+    return "Schmitt-trigger inverter" if circuit == "schmitt" else "555 timer"
+
+
+# ---------------------------------------------------------------- the two-phase model
+
+class _Node(NamedTuple):
+    """The timing node as two Thevenin phases: targets [V], time constants [s], delays [s]."""
+
+    vt_plus: Any
+    vt_minus: Any
+    v_high: Any
+    tau_high: Any
+    v_low: Any
+    tau_low: Any
+    delay_lh: float
+    delay_hl: float
+
+
+def _phase_times(n: _Node) -> tuple[np.ndarray, np.ndarray]:
+    """Steady-state (t_high, t_low) [s]; NaN where a target does not pass its threshold.
+
+    After the node crosses VT- the output stays low for delay_lh, so the next
+    charge starts below VT- (at ``v_start``); likewise it overshoots VT+.
+    """
+    a, b = n.vt_plus, n.vt_minus
+    ok = (n.v_high > a) & (n.v_low < b) & (a > b)
+    with np.errstate(all="ignore"):
+        v_start = n.v_low + (b - n.v_low) * np.exp(-n.delay_lh / n.tau_low)
+        v_peak = n.v_high - (n.v_high - a) * np.exp(-n.delay_hl / n.tau_high)
+        t_high = n.tau_high * np.log((n.v_high - v_start) / (n.v_high - a)) + n.delay_hl
+        t_low = n.tau_low * np.log((v_peak - n.v_low) / (b - n.v_low)) + n.delay_lh
+    return np.where(ok, t_high, np.nan), np.where(ok, t_low, np.nan)
+
+
+def _output_sources(osc: Oscillator) -> tuple[float, float, float, float]:
+    """Output high/low as (V, R) Thevenin pairs, with any load to ground folded in."""
+    d = osc.device
+    voh, roh, vol, rol = d.voh_v, d.r_out_high_ohm, d.vol_v, d.r_out_low_ohm
+    if osc.load_ohm is not None:
+        rl = osc.load_ohm
+        voh, roh = voh * rl / (rl + roh), roh * rl / (rl + roh)
+        vol, rol = vol * rl / (rl + rol), rol * rl / (rl + rol)
+    return voh, roh, vol, rol
+
+
+def _schmitt_node(osc: Oscillator, r: ArrayLike, c: ArrayLike, vt_plus: ArrayLike = None,
+                  vt_minus: ArrayLike = None) -> _Node:
+    d = osc.device
+    r = np.asarray(r, dtype=float)
+    ct = np.asarray(c, dtype=float) + d.input_capacitance_f + osc.stray_capacitance_f
+    voh, roh, vol, rol = _output_sources(osc)
+    r_high, r_low = r + roh, r + rol
+    v_high, v_low = voh, vol
+    if math.isfinite(d.input_r_ohm):
+        # TTL input: a source v_open behind r_in feeds the node as well.
+        ri, vi = d.input_r_ohm, d.input_v_open_v
+        v_high = (voh * ri + vi * r_high) / (r_high + ri)
+        v_low = (vol * ri + vi * r_low) / (r_low + ri)
+        r_high = r_high * ri / (r_high + ri)
+        r_low = r_low * ri / (r_low + ri)
+    a = osc.vt_plus_v if vt_plus is None else np.asarray(vt_plus, dtype=float)
+    b = osc.vt_minus_v if vt_minus is None else np.asarray(vt_minus, dtype=float)
+    return _Node(a, b, v_high, r_high * ct, v_low, r_low * ct, d.delay_lh_s, d.delay_hl_s)
+
+
+def _astable_node(osc: Oscillator, ra: ArrayLike, rb: ArrayLike, c: ArrayLike,
+                  diode_steered: bool, vt_plus: ArrayLike = None,
+                  vt_minus: ArrayLike = None) -> _Node:
+    d = osc.device
+    ra = np.asarray(ra, dtype=float)
+    rb = np.asarray(rb, dtype=float)
+    ct = np.asarray(c, dtype=float) + d.input_capacitance_f + osc.stray_capacitance_f
+    v = d.supply_v
+    if diode_steered:
+        # Charge through RA and the diode across RB (RB's share of the current neglected).
+        v_high, r_high = v - osc.diode_drop_v, ra
+    else:
+        v_high, r_high = v, ra + rb
+    # Discharge: pin 7 pulls down through r_dis while RA still feeds it from the supply.
+    rd = d.discharge_r_ohm
+    v_low = v * rd / (ra + rd)
+    r_low = rb + ra * rd / (ra + rd)
+    a = osc.vt_plus_v if vt_plus is None else np.asarray(vt_plus, dtype=float)
+    b = osc.vt_minus_v if vt_minus is None else np.asarray(vt_minus, dtype=float)
+    return _Node(a, b, v_high, r_high * ct, v_low, r_low * ct, d.delay_lh_s, d.delay_hl_s)
+
+
+def schmitt_times(osc: Oscillator, r: ArrayLike, c: ArrayLike, vt_plus: ArrayLike = None,
+                  vt_minus: ArrayLike = None) -> tuple[np.ndarray, np.ndarray]:
+    """(t_high, t_low) [s] of the Schmitt inverter oscillator, broadcast over r [Ω] and c [F].
+
+    ``vt_plus``/``vt_minus`` [V] override the oscillator's thresholds (arrays
+    broadcast too). NaN where the circuit will not oscillate.
+
+    References: DESIGN.md charge equations; Horowitz & Hill, AoE 3rd ed. §1.4.
+    """
+    return _phase_times(_schmitt_node(osc, r, c, vt_plus, vt_minus))
+
+
+def astable_times(osc: Oscillator, ra: ArrayLike, rb: ArrayLike, c: ArrayLike,
+                  diode_steered: bool = False, vt_plus: ArrayLike = None,
+                  vt_minus: ArrayLike = None) -> tuple[np.ndarray, np.ndarray]:
+    """(t_high, t_low) [s] of the 555 astable, broadcast over ra, rb [Ω] and c [F].
+
+    NaN where it will not oscillate (steering diode drop too large for the
+    supply, or RA too small for the discharge transistor).
+
+    References: TI NE555 data sheet, astable operation (t_H = 0.693 (RA + RB) C,
+    t_L = 0.693 RB C); TLC555 data sheet, astable operation.
+    """
+    return _phase_times(_astable_node(osc, ra, rb, c, diode_steered, vt_plus, vt_minus))
+
+
+def _node(osc: Oscillator, values: Mapping[str, ArrayLike], diode_steered: bool,
+          vt_plus: ArrayLike = None, vt_minus: ArrayLike = None) -> _Node:
+    if osc.circuit == "schmitt":
+        return _schmitt_node(osc, values["R"], values["C"], vt_plus, vt_minus)
+    return _astable_node(osc, values["RA"], values["RB"], values["C"], diode_steered,
+                         vt_plus, vt_minus)
+
+
+def times(osc: Oscillator, values: Mapping[str, ArrayLike], diode_steered: bool = False,
+          vt_plus: ArrayLike = None, vt_minus: ArrayLike = None
+          ) -> tuple[np.ndarray, np.ndarray]:
+    """(t_high, t_low) [s] for either circuit; ``values`` keyed as VALUE_KEYS [Ω, F]."""
+    return _phase_times(_node(osc, values, diode_steered, vt_plus, vt_minus))
+
+
+def frequency(osc: Oscillator, values: Mapping[str, ArrayLike], diode_steered: bool = False,
+              vt_plus: ArrayLike = None, vt_minus: ArrayLike = None) -> np.ndarray:
+    """Frequency [Hz] for either circuit; NaN where it will not oscillate."""
+    t_high, t_low = times(osc, values, diode_steered, vt_plus, vt_minus)
+    return 1.0 / (t_high + t_low)
+
+
+def schmitt_resistance_for(osc: Oscillator, frequency_hz: ArrayLike, c: ArrayLike,
+                           r_bounds: tuple[float, float] = (1.0, 1e10)) -> np.ndarray:
+    """R [Ω] giving exactly ``frequency_hz`` [Hz] with capacitor ``c`` [F] (nominal model).
+
+    Vectorised over both (broadcast). The period rises monotonically with R,
+    so a bisection on log R converges everywhere; NaN where no R within
+    ``r_bounds`` reaches the frequency (too fast for the chip, or the
+    TTL input current stops oscillation first).
+    """
+    target = 1.0 / np.asarray(frequency_hz, dtype=float)
+    c = np.asarray(c, dtype=float)
+    shape = np.broadcast_shapes(target.shape, c.shape)
+    target = np.broadcast_to(target, shape)
+    c = np.broadcast_to(c, shape)
+    lo = np.full(shape, math.log(r_bounds[0]))
+    hi = np.full(shape, math.log(r_bounds[1]))
+    for _ in range(64):
+        mid = 0.5 * (lo + hi)
+        t_high, t_low = schmitt_times(osc, np.exp(mid), c)
+        period = t_high + t_low
+        too_slow = ~(period <= target)  # NaN (no oscillation) counts as too large an R
+        hi = np.where(too_slow, mid, hi)
+        lo = np.where(too_slow, lo, mid)
+    r = np.exp(0.5 * (lo + hi))
+    t_high, t_low = schmitt_times(osc, r, c)
+    hit = np.abs((t_high + t_low) / target - 1.0) < 1e-9
+    return np.where(hit, r, np.nan)
+
+
+# ---------------------------------------------------------------- prediction
+
+@dataclass(frozen=True)
+class Prediction:
+    """What a circuit will do: nominal timing, worst-case band, practitioner warnings."""
+
+    frequency_hz: float
+    period_s: float
+    duty_pct: float
+    t_high_s: float
+    t_low_s: float
+    worst_case_hz: tuple[float, float]
+    warnings: list[str] = field(default_factory=list)
+
+    def to_json(self) -> dict[str, Any]:
+        return {"frequency_hz": self.frequency_hz, "period_s": self.period_s,
+                "duty_pct": self.duty_pct, "t_high_s": self.t_high_s, "t_low_s": self.t_low_s,
+                "worst_case_hz": list(self.worst_case_hz), "warnings": list(self.warnings)}
+
+
+def check_values(osc: Oscillator, values: Mapping[str, float]) -> dict[str, float]:
+    """The circuit's part values as floats; InputError if one is missing or not positive."""
+    keys = VALUE_KEYS[osc.circuit]
+    missing = [k for k in keys if k not in values]
+    if missing:
+        raise InputError(f"the {_circuit_word(osc.circuit)} needs {', '.join(keys)}; "
+                         f"missing {', '.join(missing)}")
+    out = {k: float(values[k]) for k in keys}
+    bad = [k for k, v in out.items() if not (math.isfinite(v) and v > 0)]
+    if bad:
+        raise InputError(f"{', '.join(bad)} must be above zero")
+    return out
+
+
+def default_tolerances(osc: Oscillator, dielectric: str = "") -> dict[str, Tolerance]:
+    """Tolerances when none are given: the drawer's defaults (core.drawer)."""
+    from core.drawer import DEFAULT_TOLERANCE, DIELECTRIC_TOLERANCE
+
+    tol = {k: DEFAULT_TOLERANCE["R"] for k in VALUE_KEYS[osc.circuit] if k != "C"}
+    tol["C"] = DIELECTRIC_TOLERANCE.get(dielectric, DIELECTRIC_TOLERANCE[""])
+    return tol
+
+
+def predict(osc: Oscillator, values: Mapping[str, float],
+            tolerances: Mapping[str, Tolerance] | None = None, *, diode_steered: bool = False,
+            dielectric: str = "") -> Prediction:
+    """Nominal timing, worst case and warnings for one set of part values.
+
+    ``values``: schmitt ``R`` [Ω], ``C`` [F]; 555 ``RA``, ``RB`` [Ω], ``C`` [F].
+    ``tolerances`` per key (missing keys: the drawer's defaults, with the
+    capacitor's by ``dielectric``). Raises SetupError when the nominal circuit
+    will not oscillate, saying why.
+    """
+    from core.spread import worst_case_hz
+
+    vals = check_values(osc, values)
+    t_high, t_low = (float(t) for t in times(osc, vals, diode_steered))
+    if not (math.isfinite(t_high) and math.isfinite(t_low)):
+        raise SetupError(why_no_oscillation(osc, vals, diode_steered))
+    tol = default_tolerances(osc, dielectric)
+    tol.update(tolerances or {})
+    ranges = {k: (v * (1 - tol[k].minus), v * (1 + tol[k].plus)) for k, v in vals.items()}
+    lo, hi = worst_case_hz(osc, vals, ranges, diode_steered=diode_steered)
+    period = t_high + t_low
+    pred = Prediction(frequency_hz=1.0 / period, period_s=period,
+                      duty_pct=100.0 * t_high / period, t_high_s=t_high, t_low_s=t_low,
+                      worst_case_hz=(float(lo), float(hi)))
+    pred.warnings.extend(practitioner_warnings(osc, vals, pred, dielectric=dielectric,
+                                               diode_steered=diode_steered))
+    return pred
+
+
+def why_no_oscillation(osc: Oscillator, values: Mapping[str, float],
+                       diode_steered: bool = False) -> str:
+    """One sentence on why these values give no oscillation."""
+    d, name = osc.device, osc.family.name
+    n = _node(osc, values, diode_steered)
+    a, b = float(n.vt_plus), float(n.vt_minus)
+    if osc.circuit == "schmitt" and float(n.v_low) >= b and math.isfinite(d.input_r_ohm):
+        _, _, vol, rol = _output_sources(osc)
+        r_limit = d.input_r_ohm * (b - vol) / (d.input_v_open_v - b) - rol
+        return (f"will not oscillate: the {name}'s input current through R = "
+                f"{format_quantity(values['R'], 'resistance')} holds the input above VT- "
+                f"({b:.2f} V); R must stay below about "
+                f"{format_quantity(max(r_limit, 0.0), 'resistance')}")
+    if osc.circuit == "555" and float(n.v_high) <= a:
+        return (f"will not oscillate: with the steering diode ({osc.diode_drop_v:.2f} V) the "
+                f"capacitor cannot reach the threshold ({a:.2f} V) at {d.supply_v:g} V; "
+                "use a higher supply or no diode")
+    if osc.circuit == "555" and float(n.v_low) >= b:
+        return ("will not oscillate: RA is so small that the discharge transistor cannot pull "
+                "the capacitor below the trigger level; use RA of at least "
+                f"{format_quantity(d.r_min_ohm, 'resistance')}")
+    return (f"will not oscillate: the output levels ({float(n.v_low):.2f} V … "
+            f"{float(n.v_high):.2f} V) do not pass both thresholds ({b:.2f} V, {a:.2f} V)")
+
+
+ELECTROLYTIC_LEAKAGE_RULE = (0.01, 3e-6)
+"""Aluminium electrolytic leakage after charging: I ≤ 0.01 C[µF] V[V] µA or 3 µA,
+whichever is greater (common practice, from the usual data-sheet formula)."""
+
+
+def practitioner_warnings(osc: Oscillator, values: Mapping[str, float], pred: Prediction, *,
+                          dielectric: str = "", diode_steered: bool = False) -> list[str]:
+    """What an experienced builder would point out about this circuit."""
+    from core.drawer import ELECTROLYTIC
+
+    d, name = osc.device, osc.family.name
+    fq = format_quantity
+    out: list[str] = list(osc.notes)
+    c = values["C"]
+    if osc.circuit == "schmitt":
+        r_total, r_label = values["R"], f"R = {fq(values['R'], 'resistance')}"
+        r_low_check = values["R"]
+    else:
+        r_total = values["RA"] + values["RB"]
+        r_label = f"RA + RB = {fq(r_total, 'resistance')}"
+        r_low_check = values["RA"]
+    span = f"{fq(d.r_min_ohm, 'resistance')} … {fq(d.r_max_ohm, 'resistance')}"
+    if r_low_check < d.r_min_ohm:
+        what = "RA" if osc.circuit == "555" else "R"
+        out.append(f"{what} = {fq(r_low_check, 'resistance')} is below the {name}'s sensible "
+                   f"range ({span}): the output (or discharge) current is high and its "
+                   "resistance takes a visible share of the timing")
+    if r_total > d.r_max_ohm:
+        out.append(f"{r_label} is above the {name}'s sensible range ({span}): input and "
+                   "capacitor leakage become comparable to the charging current; use a "
+                   "larger capacitor and a smaller resistor")
+    hysteresis = osc.vt_plus_v - osc.vt_minus_v
+    if dielectric in ELECTROLYTIC:
+        share, floor = ELECTROLYTIC_LEAKAGE_RULE
+        leakage = max(share * (c * 1e6) * d.supply_v * 1e-6, floor)
+        if leakage * r_total > 0.05 * hysteresis:
+            out.append(f"electrolytic timing capacitor with {r_label}: its leakage (up to "
+                       f"{fq(leakage, 'current')}) through the resistor shifts the timing by a "
+                       "noticeable share; prefer a film capacitor or a smaller resistor")
+        out.append("electrolytic capacitor: + lead to the timing node, − to ground; voltage "
+                   f"rating at least {d.supply_v:g} V (better twice that)")
+    if c < 100e-12:
+        out.append(f"C = {fq(c, 'capacitance')} is below about 100 pF: the input "
+                   f"({fq(d.input_capacitance_f, 'capacitance')}) and stray "
+                   f"({fq(osc.stray_capacitance_f, 'capacitance')}) capacitance are a large "
+                   "share of it, so the frequency depends on the layout")
+    delay_share = (d.delay_lh_s + d.delay_hl_s) / pred.period_s
+    if pred.frequency_hz > 0.5 * d.f_max_hz:
+        out.append(f"at {fq(pred.frequency_hz, 'frequency')} the propagation delays "
+                   f"({fq(d.delay_s, 'time')} per edge) are {100 * delay_share:.0f} % of the "
+                   f"period, near the {name}'s limit; they vary with temperature and load, "
+                   "so expect a larger error")
+    if osc.load_ohm is not None and osc.circuit == "schmitt":
+        out.append(f"a load of {fq(osc.load_ohm, 'resistance')} on the timing output shifts "
+                   "the output levels and the frequency; drive the load from a spare gate "
+                   "of the same package fed by the timing output")
+    if pred.worst_case_hz[0] == 0.0:
+        out.append("at some tolerance or threshold corners the circuit does not oscillate; "
+                   "the worst-case band starts at 0 Hz")
+    return out
+
+
+# ---------------------------------------------------------------- waveform
+
+def waveform(osc: Oscillator, values: Mapping[str, float], periods: int = 3,
+             points: int = 600, diode_steered: bool = False
+             ) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+    """(t [s], capacitor voltage [V], output voltage [V]) over ``periods`` steady periods.
+
+    Starts where the output has just gone high. Exact exponential segments.
+    """
+    vals = check_values(osc, values)
+    n = _node(osc, vals, diode_steered)
+    t_high, t_low = (float(t) for t in _phase_times(n))
+    if not (math.isfinite(t_high) and math.isfinite(t_low)):
+        raise SetupError(why_no_oscillation(osc, vals, diode_steered))
+    a, b = float(n.vt_plus), float(n.vt_minus)
+    vh, vl, th, tl = float(n.v_high), float(n.v_low), float(n.tau_high), float(n.tau_low)
+    v_start = vl + (b - vl) * math.exp(-n.delay_lh / tl)
+    v_peak = vh - (vh - a) * math.exp(-n.delay_hl / th)
+    period = t_high + t_low
+    t = np.linspace(0.0, periods * period, points)
+    phase = np.mod(t, period)
+    high = phase < t_high
+    v_cap = np.where(high, vh - (vh - v_start) * np.exp(-phase / th),
+                     vl + (v_peak - vl) * np.exp(-(phase - t_high) / tl))
+    d = osc.device
+    low_level = 0.0 if osc.circuit == "555" else d.vol_v
+    v_out = np.where(high, d.output_high_v, low_level)
+    return t, v_cap, v_out
