@@ -407,3 +407,53 @@ def run_to_end(steps: Generator[float, None, Any]) -> Any:
 def index_of(parts: Iterable[Part], kind: NetworkKind, max_parts: int = 2) -> NetworkIndex:
     """``build_index`` without progress reports."""
     return run_to_end(build_index(parts, kind, max_parts))
+
+
+# ---------------------------------------------------------------- one drawer
+
+@dataclass(frozen=True)
+class DrawerIndex:
+    """Everything a search needs from one drawer: resistor and capacitor indexes, pots."""
+
+    resistors: NetworkIndex
+    capacitors: NetworkIndex
+    pots: tuple[Part, ...]
+
+    def covers(self, max_resistors: int, max_capacitors: int) -> bool:
+        """True if this index holds networks as large as a search asks for."""
+        return (self.resistors.max_parts >= max_resistors
+                and self.capacitors.max_parts >= max_capacitors)
+
+
+def build_drawer_index(parts: Iterable[Part], max_resistors: int = 2, max_capacitors: int = 2
+                       ) -> Generator[float, None, DrawerIndex]:
+    """``build_index`` for resistors and capacitors, yielding overall progress (0…1)."""
+    parts = list(parts)
+    # Three-resistor layers dominate the work; weigh the progress accordingly.
+    share = 0.9 if max_resistors >= 3 else 0.5
+    steps = build_index(parts, "R", max_resistors)
+    while True:
+        try:
+            yield share * next(steps)
+        except StopIteration as done:
+            resistors = done.value
+            break
+    steps = build_index(parts, "C", max_capacitors)
+    while True:
+        try:
+            yield share + (1 - share) * next(steps)
+        except StopIteration as done:
+            capacitors = done.value
+            break
+    pots: dict[tuple[Any, ...], Part] = {}
+    for part in parts:
+        if part.kind == "P" and part.quantity > 0:
+            pots.setdefault((*_group_key(part), part.taper), part)
+    return DrawerIndex(resistors, capacitors, tuple(sorted(pots.values(),
+                                                           key=lambda p: p.value)))
+
+
+def drawer_index(parts: Iterable[Part], max_resistors: int = 2,
+                 max_capacitors: int = 2) -> DrawerIndex:
+    """``build_drawer_index`` without progress reports."""
+    return run_to_end(build_drawer_index(parts, max_resistors, max_capacitors))

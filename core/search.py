@@ -1,0 +1,508 @@
+"""Search the drawer: which networks of stock parts put an oscillator on a target frequency.
+
+For each capacitor network the timing model is inverted for the resistance
+that hits the target, and its neighbours are looked up in the sorted resistor
+index (one layer per part count, so the fewest-parts answer is never hidden
+behind denser three-resistor values). Only the shortlist is evaluated with
+the full model, whose frequency is what a candidate reports.
+
+Ranking (DESIGN.md contract): candidates within ``accept_pct`` of the target
+come first, fewest parts first, then smallest |error|; the rest follow by
+|error|. The list is then kept varied: one candidate per capacitor network
+and no two with both values within ``NEAR_COPY`` of each other, unless the
+drawer offers too few different builds to fill the list.
+
+555 duty (decision where the issue is silent): with ``--duty`` a candidate
+counts as within accept only if its duty is within ``DUTY_ACCEPT_POINTS``
+percentage points as well. A duty of 50 % or less needs the diode-steered
+astable (the plain one cannot go below 50 % with RA > 0).
+"""
+
+from __future__ import annotations
+
+import math
+from collections import Counter
+from collections.abc import Callable
+from dataclasses import dataclass, field
+from typing import Any
+
+import numpy as np
+
+from core.drawer import Part
+from core.errors import InputError
+from core.eseries import kit
+from core.networks import DrawerIndex, NetworkIndex, Node, drawer_index
+from core.timing import Oscillator, astable_times, predict, schmitt_resistance_for, schmitt_times
+from core.units import Tolerance, format_frequency, format_quantity, format_resistance
+
+NEAR_COPY = 0.02
+"""Two candidates whose R and C both agree within this fraction are near-copies."""
+DUTY_ACCEPT_POINTS = 2.0
+"""A 555 candidate meets a duty target when within this many percentage points."""
+PER_SIDE = 2
+"""Index neighbours taken on each side of the ideal value, per layer."""
+LN2 = math.log(2.0)
+
+
+@dataclass(frozen=True)
+class Candidate:
+    """One build from the drawer: values [Ω, F], their networks, and what it will do.
+
+    ``frequency_hz`` is the full model's; ``error_pct`` is (f − target)/target × 100;
+    ``worst_case_hz`` spans every tolerance and threshold corner.
+    """
+
+    circuit: str
+    values: dict[str, float]
+    networks: dict[str, Node]
+    frequency_hz: float
+    error_pct: float
+    duty_pct: float
+    worst_case_hz: tuple[float, float]
+    part_count: int
+    diode_steered: bool = False
+    notes: list[str] = field(default_factory=list)
+
+    def to_json(self) -> dict[str, Any]:
+        return {
+            "frequency_hz": self.frequency_hz,
+            "error_pct": self.error_pct,
+            "duty_pct": self.duty_pct,
+            "values": dict(self.values),
+            "networks": {k: n.to_json() for k, n in self.networks.items()},
+            "worst_case_hz": list(self.worst_case_hz),
+            "part_count": self.part_count,
+            "diode_steered": self.diode_steered,
+            "notes": list(self.notes),
+        }
+
+
+@dataclass(frozen=True)
+class SearchResult:
+    """Ranked candidates, the resistor range allowed, notes and what to buy."""
+
+    target_hz: float
+    limits: tuple[float, float]
+    notes: list[str]
+    candidates: list[Candidate]
+    suggestions: list[dict[str, Any]] = field(default_factory=list)
+
+    def to_json(self) -> dict[str, Any]:
+        return {
+            "target_hz": self.target_hz,
+            "limits": {"r_min_ohm": self.limits[0], "r_max_ohm": self.limits[1]},
+            "notes": list(self.notes),
+            "candidates": [c.to_json() for c in self.candidates],
+            "suggestions": list(self.suggestions),
+        }
+
+
+# ---------------------------------------------------------------- model helpers
+
+def schmitt_frequency(osc: Oscillator, r: Any, c: Any) -> tuple[np.ndarray, np.ndarray]:
+    """Full-model (frequency [Hz], duty [%]) for R [Ω] and C [F] arrays; NaN if no oscillation."""
+    t_high, t_low = schmitt_times(osc, np.asarray(r, float), np.asarray(c, float))
+    period = t_high + t_low
+    return 1.0 / period, 100.0 * t_high / period
+
+
+def astable_frequency(osc: Oscillator, ra: Any, rb: Any, c: Any,
+                      diode_steered: bool) -> tuple[np.ndarray, np.ndarray]:
+    """Full-model (frequency [Hz], duty [%]) of the 555 astable for RA, RB [Ω], C [F]."""
+    t_high, t_low = astable_times(osc, np.asarray(ra, float), np.asarray(rb, float),
+                                  np.asarray(c, float), diode_steered=diode_steered)
+    period = t_high + t_low
+    return 1.0 / period, 100.0 * t_high / period
+
+
+def schmitt_resistance(osc: Oscillator, target_hz: float, c: np.ndarray,
+                       limits: tuple[float, float] = (1.0, 1e10)) -> np.ndarray:
+    """R [Ω] that gives ``target_hz`` [Hz] with each C [F] (full nominal model); NaN if none.
+
+    The model's inverse (a bisection) runs only where a one-evaluation
+    estimate (f nearly proportional to 1/R) falls within a factor of two of
+    ``limits`` [Ω]: that keeps a search on a full capacitor kit within milliseconds.
+    """
+    c = np.asarray(c, dtype=float)
+    r_ref = math.sqrt(limits[0] * limits[1])
+    f_ref, _ = schmitt_frequency(osc, np.full(c.shape, r_ref), c)
+    with np.errstate(invalid="ignore"):
+        estimate = r_ref * f_ref / target_hz
+    # NaN at r_ref (a TTL input stopping oscillation) still gets the exact inverse.
+    maybe = ~(estimate < 0.5 * limits[0]) & ~(estimate > 2.0 * limits[1])
+    out = np.full(c.shape, np.nan)
+    if maybe.any():
+        out[maybe] = schmitt_resistance_for(osc, target_hz, c[maybe])
+    return out
+
+
+def _rank_order(error_pct: np.ndarray, parts: np.ndarray, accept_pct: float,
+                duty_ok: np.ndarray | None = None) -> np.ndarray:
+    """Indices in contract order: within accept by (parts, |error|), then the rest by |error|."""
+    err = np.abs(error_pct)
+    within = err <= accept_pct
+    if duty_ok is not None:
+        within &= duty_ok
+    tier_parts = np.where(within, parts, 0)
+    return np.lexsort((err, tier_parts, ~within))
+
+
+def _varied(order: np.ndarray, c_entry: np.ndarray, r_values: np.ndarray,
+            c_values: np.ndarray, top: int) -> list[int]:
+    """Pick ``top`` candidates in rank order, skipping near-copies; refill if too few."""
+    chosen: list[int] = []
+    seen_c: set[int] = set()
+    for i in order:
+        if len(chosen) == top:
+            break
+        if int(c_entry[i]) in seen_c:
+            continue
+        near = any(abs(r_values[i] / r_values[j] - 1) < NEAR_COPY
+                   and abs(c_values[i] / c_values[j] - 1) < NEAR_COPY for j in chosen)
+        if near:
+            continue
+        chosen.append(int(i))
+        seen_c.add(int(c_entry[i]))
+    if len(chosen) < top:
+        rank = {int(i): k for k, i in enumerate(order)}
+        rest = [int(i) for i in order if int(i) not in set(chosen)][: top - len(chosen)]
+        chosen = sorted(chosen + rest, key=rank.__getitem__)
+    return chosen
+
+
+# ---------------------------------------------------------------- search
+
+def search(parts: list[Part], osc: Oscillator, target_hz: float, duty_pct: float | None = None,
+           max_resistors: int = 2, max_capacitors: int = 2, accept_pct: float = 1.0,
+           top: int = 10, index: DrawerIndex | None = None) -> SearchResult:
+    """Rank builds from ``parts`` for ``target_hz`` [Hz] on oscillator ``osc``.
+
+    ``duty_pct`` [%] only for the 555 (None: whatever RA and RB give);
+    ``accept_pct`` [%] the error counted as a hit; ``index`` a prebuilt
+    ``DrawerIndex`` of these parts (built here when missing or too small).
+    """
+    if not (target_hz > 0 and math.isfinite(target_hz)):
+        raise InputError("the target frequency must be above zero", text=str(target_hz),
+                         what="target")
+    if top < 1:
+        raise InputError("--top must be at least 1", text=str(top), what="top")
+    if duty_pct is not None and not 0 < duty_pct < 100:
+        raise InputError("a duty cycle lies between 0 and 100 %", text=str(duty_pct),
+                         what="duty")
+    if duty_pct is not None and osc.circuit != "555":
+        raise InputError("--duty applies to the 555 astable; a Schmitt inverter's duty follows "
+                         "from its thresholds", text=str(duty_pct), what="duty")
+    if index is None or not index.covers(max_resistors, max_capacitors):
+        index = drawer_index(parts, max_resistors, max_capacitors)
+    device = osc.device
+    limits = (float(device.r_min_ohm), float(device.r_max_ohm))
+    notes = [f"resistor networks limited to {format_resistance(limits[0])} … "
+             f"{format_resistance(limits[1])} for {device.family.name} at "
+             f"{device.supply_v:g} V"]
+    if not len(index.resistors) or not len(index.capacitors):
+        missing = "resistors" if not len(index.resistors) else "capacitors"
+        notes.append(f"the drawer has no {missing} in stock, so nothing can be built")
+        return SearchResult(target_hz, limits, notes, [])
+    if osc.circuit == "555":
+        shortlist = _shortlist_555(index, osc, target_hz, duty_pct, max_resistors,
+                                   max_capacitors, limits, notes)
+    else:
+        shortlist = _shortlist_schmitt(index, osc, target_hz, max_resistors, max_capacitors,
+                                       limits)
+    if shortlist is None:
+        notes.append(f"no network of up to {max_resistors} resistors and {max_capacitors} "
+                     f"capacitors reaches {format_frequency(target_hz)} inside the "
+                     "resistor range (or the circuit would not oscillate)")
+        return SearchResult(target_hz, limits, notes, [],
+                            suggest(index, osc, target_hz, accept_pct, limits, max_resistors,
+                                    max_capacitors, duty_pct))
+    order = _rank_order(shortlist.error_pct, shortlist.parts, accept_pct, shortlist.duty_ok)
+    picked = _varied(order, shortlist.entries["C"], shortlist.r_sum, shortlist.c_values, top)
+    candidates = [_candidate(index, osc, target_hz, shortlist, i) for i in picked]
+    suggestions: list[dict[str, Any]] = []
+    hits = [c for c in candidates if abs(c.error_pct) <= accept_pct]
+    if not hits:
+        best = candidates[0]
+        notes.append(f"nothing in the drawer is within ±{accept_pct:g} % of "
+                     f"{format_frequency(target_hz)}; the closest is {best.error_pct:+.2f} %")
+        suggestions = suggest(index, osc, target_hz, accept_pct, limits, max_resistors,
+                              max_capacitors, duty_pct)
+        if suggestions:
+            first = suggestions[0]
+            notes.append(f"buying {first['buy']['text']} ({first['buy']['series']}) would give "
+                         f"{first['error_pct']:+.2f} % with parts you have")
+    return SearchResult(target_hz, limits, notes, candidates, suggestions)
+
+
+@dataclass
+class _Shortlist:
+    """Candidate combinations as parallel arrays (one element per combination)."""
+
+    entries: dict[str, np.ndarray]  # role -> index entry (into resistors or capacitors)
+    frequency_hz: np.ndarray
+    duty_pct: np.ndarray
+    error_pct: np.ndarray
+    parts: np.ndarray
+    r_sum: np.ndarray
+    c_values: np.ndarray
+    duty_ok: np.ndarray | None = None
+    diode_steered: bool = False
+
+
+def _capacitor_entries(index: DrawerIndex, max_capacitors: int) -> np.ndarray:
+    caps = index.capacitors
+    return np.concatenate([np.arange(s.start, s.stop) for s in caps.layer_slices(max_capacitors)])
+
+
+def _shortlist_schmitt(index: DrawerIndex, osc: Oscillator, target_hz: float,
+                       max_resistors: int, max_capacitors: int,
+                       limits: tuple[float, float]) -> _Shortlist | None:
+    res, caps = index.resistors, index.capacitors
+    ce = _capacitor_entries(index, max_capacitors)
+    cv = caps.values[ce]
+    r_ideal = schmitt_resistance(osc, target_hz, cv, limits)
+    near = res.nearest(r_ideal, max_resistors, PER_SIDE, *limits)
+    rows, cols = np.nonzero(near >= 0)
+    if not rows.size:
+        return None
+    re, ce = near[rows, cols], ce[rows]
+    f, duty = schmitt_frequency(osc, res.values[re], caps.values[ce])
+    ok = np.isfinite(f)
+    if not ok.any():
+        return None
+    re, ce, f, duty = re[ok], ce[ok], f[ok], duty[ok]
+    return _Shortlist({"R": re, "C": ce}, f, duty, (f - target_hz) / target_hz * 100.0,
+                      res.part_count[re].astype(int) + caps.part_count[ce],
+                      res.values[re], caps.values[ce])
+
+
+def _astable_ideal(target_hz: float, c: np.ndarray, ratio: float,
+                   diode_steered: bool) -> tuple[np.ndarray, np.ndarray]:
+    """(RA, RB) [Ω] of the ideal astable for frequency, C [F] and RA/RB = ``ratio``.
+
+    References: NE555 datasheet (Texas Instruments SLFS022), astable operation:
+    t_high = ln2 (RA + RB) C, t_low = ln2 RB C; diode-steered: t_high = ln2 RA C.
+    """
+    period = 1.0 / target_hz
+    rb = period / (LN2 * c * (ratio + (1.0 if diode_steered else 2.0)))
+    return ratio * rb, rb
+
+
+def _shortlist_555(index: DrawerIndex, osc: Oscillator, target_hz: float,
+                   duty_pct: float | None, max_resistors: int, max_capacitors: int,
+                   limits: tuple[float, float], notes: list[str]) -> _Shortlist | None:
+    res, caps = index.resistors, index.capacitors
+    ce = _capacitor_entries(index, max_capacitors)
+    cv = caps.values[ce]
+    diode = duty_pct is not None and duty_pct <= 50.0
+    if duty_pct is None:
+        ratios = np.geomspace(0.02, 20.0, 25)  # natural duty: sweep RA/RB (51 % … 95 %)
+    else:
+        d = duty_pct / 100.0
+        ratios = np.array([d / (1 - d) if diode else (2 * d - 1) / (1 - d)])
+        if diode:
+            notes.append(f"a duty of {duty_pct:g} % needs the diode-steered astable (a diode "
+                         "across RB, or separate charge and discharge diodes): RA sets the "
+                         "high time, RB the low time")
+    blocks = []
+    for ratio in ratios:
+        ra_ideal, rb_ideal = _astable_ideal(target_hz, cv, float(ratio), diode)
+        ra_ideal, rb_ideal = _refine_astable(osc, target_hz, duty_pct, ra_ideal, rb_ideal, cv,
+                                             diode)
+        na = res.nearest(ra_ideal, max_resistors, 1, *limits)
+        nb = res.nearest(rb_ideal, max_resistors, 1, *limits)
+        ra = np.repeat(na, nb.shape[1], axis=1).ravel()
+        rb = np.tile(nb, (1, na.shape[1])).ravel()
+        cc = np.repeat(ce, na.shape[1] * nb.shape[1])
+        keep = (ra >= 0) & (rb >= 0)
+        blocks.append((ra[keep], rb[keep], cc[keep]))
+    ra, rb, cc = (np.concatenate(x) for x in zip(*blocks, strict=True))
+    if not ra.size:
+        return None
+    # One row per distinct combination, then drop those needing more parts than stocked.
+    combo = np.unique(np.stack([ra, rb, cc], axis=1), axis=0)
+    ra, rb, cc = combo[:, 0], combo[:, 1], combo[:, 2]
+    fits = ~res.overused(ra, rb)
+    ra, rb, cc = ra[fits], rb[fits], cc[fits]
+    f, duty = astable_frequency(osc, res.values[ra], res.values[rb], caps.values[cc], diode)
+    ok = np.isfinite(f)
+    if not ok.any():
+        return None
+    ra, rb, cc, f, duty = ra[ok], rb[ok], cc[ok], f[ok], duty[ok]
+    duty_ok = None if duty_pct is None else np.abs(duty - duty_pct) <= DUTY_ACCEPT_POINTS
+    return _Shortlist({"RA": ra, "RB": rb, "C": cc}, f, duty,
+                      (f - target_hz) / target_hz * 100.0,
+                      res.part_count[ra].astype(int) + res.part_count[rb] + caps.part_count[cc],
+                      res.values[ra] + res.values[rb], caps.values[cc], duty_ok, diode)
+
+
+def _refine_astable(osc: Oscillator, target_hz: float, duty_pct: float | None,
+                    ra: np.ndarray, rb: np.ndarray, c: np.ndarray,
+                    diode: bool) -> tuple[np.ndarray, np.ndarray]:
+    """Correct ideal RA, RB [Ω] with the full model: scale for frequency, shift for duty."""
+    with np.errstate(invalid="ignore", divide="ignore"):
+        for _ in range(2):
+            f, duty = astable_frequency(osc, ra, rb, c, diode)
+            good = np.isfinite(f) & (f > 0)
+            scale = np.where(good, f / target_hz, 1.0)
+            ra, rb = ra * scale, rb * scale
+            if duty_pct is not None:
+                # t_high/t_low grows with RA/RB: nudge RA towards the wanted ratio.
+                want = duty_pct / (100 - duty_pct)
+                have = duty / (100 - duty)
+                ra = np.where(good, ra * np.clip(want / have, 0.5, 2.0), ra)
+    return ra, rb
+
+
+def _candidate(index: DrawerIndex, osc: Oscillator, target_hz: float, s: _Shortlist,
+               i: int) -> Candidate:
+    taken: Counter[int] = Counter()
+    networks: dict[str, Node] = {}
+    for role, entries in s.entries.items():
+        net_index: NetworkIndex = index.capacitors if role == "C" else index.resistors
+        (networks[role],) = net_index.nodes([int(entries[i])], taken)
+    values = {role: node.value for role, node in networks.items()}
+    # The networks' value ranges as tolerances, so predict's worst case spans their corners.
+    tolerances = {}
+    for role, node in networks.items():
+        lo, hi = node.value_range()
+        tolerances[role] = Tolerance(1.0 - lo / values[role], hi / values[role] - 1.0)
+    c_parts = networks["C"].parts()
+    dielectric = next((p.dielectric for p in c_parts if p.polarised), c_parts[0].dielectric)
+    prediction = predict(osc, values, tolerances, diode_steered=s.diode_steered,
+                         dielectric=dielectric)
+    notes = list(prediction.warnings)
+    if s.diode_steered:
+        notes.append("diode-steered astable: a diode across RB (anode at pin 7) so RA alone "
+                     "charges C")
+    return Candidate(osc.circuit, values, networks, float(prediction.frequency_hz),
+                     (float(prediction.frequency_hz) - target_hz) / target_hz * 100.0,
+                     float(prediction.duty_pct), prediction.worst_case_hz,
+                     sum(n.part_count for n in networks.values()), s.diode_steered, notes)
+
+
+# ---------------------------------------------------------------- what to buy
+
+BUY_SERIES = ("E12", "E24", "E96")
+"""IEC 60063 series tried in order when suggesting a part to buy."""
+BUY_RANGE = {"R": (1.0, 10e6), "C": (10e-12, 10e-3)}
+"""Values one can buy off the shelf [Ω, F] (common practice, no published source)."""
+
+
+def _nearest_in_series(values: np.ndarray, series: str, kind: str) -> np.ndarray:
+    """Nearest IEC 60063 ``series`` value to each of ``values`` on a log scale (NaN kept)."""
+    table = np.array(kit(series, *BUY_RANGE[kind]))
+    x = np.where(np.isfinite(values), values, table[0])
+    pos = np.clip(np.searchsorted(table, x), 1, len(table) - 1)
+    below, above = table[pos - 1], table[pos]
+    out = np.where(np.log(x / below) <= np.log(above / x), below, above)
+    return np.where(np.isfinite(values), out, np.nan)
+
+
+def _solve_capacitance(frequency: Callable[[np.ndarray], np.ndarray], target_hz: float,
+                       c: np.ndarray) -> np.ndarray:
+    """C [F] that gives ``target_hz``, from a first guess, f being nearly proportional to 1/C."""
+    with np.errstate(invalid="ignore", divide="ignore"):
+        for _ in range(3):
+            f = frequency(c)
+            c = np.where(np.isfinite(f) & (f > 0), c * f / target_hz, np.nan)
+    return c
+
+
+def suggest(index: DrawerIndex, osc: Oscillator, target_hz: float, accept_pct: float,
+            limits: tuple[float, float], max_resistors: int, max_capacitors: int,
+            duty_pct: float | None = None, count: int = 3) -> list[dict[str, Any]]:
+    """Parts to buy (nearest IEC 60063 values) that hit the target with parts already owned.
+
+    Tries E12, then E24, then E96 and keeps the first series that gives a hit
+    within ``accept_pct`` [%]; with no hit in any, the closest E96 proposals.
+    Schmitt: buy the resistor for an owned capacitor network, or the capacitor
+    for an owned resistor network. 555: buy the capacitor for owned single RA
+    and RB. Each suggestion names what to buy, what it pairs with, and its error.
+    """
+    res, caps = index.resistors, index.capacitors
+    diode = duty_pct is not None and duty_pct <= 50.0
+    best: list[dict[str, Any]] = []
+    for series in BUY_SERIES:
+        options: list[tuple[float, int, dict[str, Any]]] = []
+        if osc.circuit == "schmitt" and len(caps):
+            ce = _capacitor_entries(index, max_capacitors)
+            r = schmitt_resistance(osc, target_hz, caps.values[ce], limits)
+            buy = _nearest_in_series(r, series, "R")
+            buy = np.where((buy >= limits[0]) & (buy <= limits[1]), buy, np.nan)
+            f, _ = schmitt_frequency(osc, buy, caps.values[ce])
+            options += _options(index, "R", buy, {"C": ce}, f, target_hz, series)
+        if osc.circuit == "schmitt" and len(res):
+            re = np.concatenate([np.arange(s.start, s.stop)[
+                (res.values[s] >= limits[0]) & (res.values[s] <= limits[1])]
+                for s in res.layer_slices(max_resistors)])
+            rv = res.values[re]
+            c0 = 1.0 / (target_hz * rv)  # f ≈ 1/(RC) to start; refined with the model
+            c = _solve_capacitance(lambda c, rv=rv: schmitt_frequency(osc, rv, c)[0],
+                                   target_hz, c0)
+            buy = _nearest_in_series(c, series, "C")
+            f, _ = schmitt_frequency(osc, rv, buy)
+            options += _options(index, "C", buy, {"R": re}, f, target_hz, series)
+        if osc.circuit == "555" and len(res):
+            singles = np.arange(res.layers[1].start, res.layers[1].stop)
+            singles = singles[(res.values[singles] >= limits[0])
+                              & (res.values[singles] <= limits[1])]
+            ra, rb = (a.ravel() for a in np.meshgrid(singles, singles, indexing="ij"))
+            fits = ~res.overused(ra, rb)
+            ra, rb = ra[fits], rb[fits]
+            va, vb = res.values[ra], res.values[rb]
+            if duty_pct is not None:
+                _, duty = astable_frequency(osc, va, vb, np.full(va.shape, 1e-6), diode)
+                keep = np.abs(duty - duty_pct) <= DUTY_ACCEPT_POINTS
+                ra, rb, va, vb = ra[keep], rb[keep], va[keep], vb[keep]
+            c0 = 1.0 / (target_hz * LN2 * (va + (1.0 if diode else 2.0) * vb))
+            c = _solve_capacitance(
+                lambda c, va=va, vb=vb: astable_frequency(osc, va, vb, c, diode)[0],
+                target_hz, c0)
+            buy = _nearest_in_series(c, series, "C")
+            f, _ = astable_frequency(osc, va, vb, buy, diode)
+            options += _options(index, "C", buy, {"RA": ra, "RB": rb}, f, target_hz, series)
+        options.sort(key=lambda o: (o[0] > accept_pct, o[1] if o[0] <= accept_pct else 0, o[0]))
+        chosen: list[dict[str, Any]] = []
+        seen: set[tuple[str, float]] = set()
+        for _, _, option in options:
+            key = (option["buy"]["kind"], option["buy"]["value"])
+            if key not in seen:
+                seen.add(key)
+                chosen.append(option)
+            if len(chosen) == count:
+                break
+        best = chosen
+        if chosen and abs(chosen[0]["error_pct"]) <= accept_pct:
+            break
+    return best
+
+
+def _options(index: DrawerIndex, kind: str, buy: np.ndarray, owned: dict[str, np.ndarray],
+             f: np.ndarray, target_hz: float,
+             series: str) -> list[tuple[float, int, dict[str, Any]]]:
+    """The best few (|error|, owned parts, suggestion) of one way of buying."""
+    error = (f - target_hz) / target_hz * 100.0
+    ok = np.flatnonzero(np.isfinite(error) & np.isfinite(buy))
+    ok = ok[np.argsort(np.abs(error[ok]), kind="stable")][:20]
+    out = []
+    for i in ok:
+        taken: Counter[int] = Counter()
+        networks = {}
+        try:
+            for role, entries in owned.items():
+                net_index = index.capacitors if role == "C" else index.resistors
+                (networks[role],) = net_index.nodes([int(entries[i])], taken)
+        except InputError:
+            continue
+        quantity = "capacitance" if kind == "C" else "resistance"
+        role = "C" if kind == "C" else "R"
+        out.append((abs(float(error[i])), sum(n.part_count for n in networks.values()), {
+            "buy": {"kind": kind, "role": role, "value": float(buy[i]), "series": series,
+                    "text": format_quantity(float(buy[i]), quantity)},
+            "with": {r: n.to_json() for r, n in networks.items()},
+            "with_text": {r: n.describe() for r, n in networks.items()},
+            "frequency_hz": float(f[i]),
+            "error_pct": float(error[i]),
+        }))
+    return out

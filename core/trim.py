@@ -1,0 +1,286 @@
+"""Trim designs: a fixed resistor network in series with a pot, so a band is always reachable.
+
+The pot is a variable resistor (wiper tied to one end) in series with a fixed
+resistance R, never zero, which protects the output at zero rotation. A
+design is returned only if its *guaranteed* band covers LO..HI: the band
+reached at every tolerance corner (fixed parts, the pot's end-to-end value,
+the capacitor, and the device table's thresholds unless they were given).
+Its low end is the highest full-rotation frequency over the corners, its high
+end the lowest zero-rotation frequency (DESIGN.md contract). Designs are
+ranked finest adjustment first (smallest nominal range_hz[1] / range_hz[0]),
+then fewest parts.
+
+Taper laws (rotation x from 0 to 1, resistance as a share of end-to-end):
+linear r = x; logarithmic ("audio") r = (81^x − 1) / 80, an exponential law
+through 0, 10 % at mid-rotation and 100 %: the usual description of an A
+taper (common practice, no published source; real log pots are often two
+straight segments meeting near 10–15 % at mid-rotation).
+"""
+
+from __future__ import annotations
+
+import math
+from collections import Counter
+from dataclasses import dataclass, field
+from typing import Any
+
+import numpy as np
+
+from core.drawer import Part
+from core.errors import InputError
+from core.networks import DrawerIndex, Node, drawer_index, single
+from core.search import PER_SIDE, schmitt_frequency, schmitt_resistance
+from core.timing import Oscillator, schmitt_resistance_for
+from core.units import format_frequency
+
+LOG_TAPER_BASE = 81.0
+"""Base of the log taper law r = (b^x − 1)/(b − 1); b = 81 puts 10 % at mid-rotation."""
+SHORTLIST = 40
+"""(pot, capacitor) pairs per requested candidate that get the full corner check."""
+
+
+def pot_resistance(end_to_end_ohm: Any, rotation_pct: Any, taper: str = "lin") -> np.ndarray:
+    """Resistance [Ω] between wiper and the tied end at ``rotation_pct`` [%] (0…100)."""
+    x = np.clip(np.asarray(rotation_pct, dtype=float) / 100.0, 0.0, 1.0)
+    share = x if taper == "lin" else (LOG_TAPER_BASE ** x - 1.0) / (LOG_TAPER_BASE - 1.0)
+    return np.asarray(end_to_end_ohm, dtype=float) * share
+
+
+def rotation_for_share(share: Any, taper: str = "lin") -> np.ndarray:
+    """Rotation [%] that puts ``share`` (0…1) of the end-to-end resistance in circuit."""
+    s = np.asarray(share, dtype=float)
+    if taper == "lin":
+        return 100.0 * s
+    return 100.0 * np.log1p(s * (LOG_TAPER_BASE - 1.0)) / math.log(LOG_TAPER_BASE)
+
+
+@dataclass(frozen=True)
+class TrimCandidate:
+    """A trim design: fixed R, pot P, capacitor C (values [Ω, F]) and what it reaches.
+
+    ``range_hz`` (at full rotation, at zero rotation) is nominal;
+    ``guaranteed_hz`` holds at every corner; ``rotation_pct`` (at band high,
+    at band low) is nominal; ``resolution_hz_per_pct`` is the frequency change
+    per percent of rotation at the band centre.
+    """
+
+    values: dict[str, float]
+    networks: dict[str, Node]
+    range_hz: tuple[float, float]
+    guaranteed_hz: tuple[float, float]
+    rotation_pct: tuple[float, float]
+    resolution_hz_per_pct: float
+    part_count: int
+    taper: str
+    notes: list[str] = field(default_factory=list)
+
+    def to_json(self) -> dict[str, Any]:
+        return {
+            "values": dict(self.values),
+            "networks": {k: n.to_json() for k, n in self.networks.items()},
+            "range_hz": list(self.range_hz),
+            "guaranteed_hz": list(self.guaranteed_hz),
+            "rotation_pct": list(self.rotation_pct),
+            "resolution_hz_per_pct": self.resolution_hz_per_pct,
+            "part_count": self.part_count,
+            "taper": self.taper,
+            "notes": list(self.notes),
+        }
+
+
+@dataclass(frozen=True)
+class TrimResult:
+    """Trim designs, finest first, and notes saying what was searched or why nothing fits."""
+
+    band_hz: tuple[float, float]
+    notes: list[str]
+    candidates: list[TrimCandidate]
+
+    def to_json(self) -> dict[str, Any]:
+        return {"band_hz": list(self.band_hz), "notes": list(self.notes),
+                "candidates": [c.to_json() for c in self.candidates]}
+
+
+def _corner_oscillators(osc: Oscillator) -> list[Oscillator]:
+    if osc.thresholds_given:
+        return [osc]
+    return [osc.with_thresholds(a, b) for a, b in osc.threshold_corners()]
+
+
+def _corner_frequencies(osc: Oscillator, r: np.ndarray, c: np.ndarray) -> np.ndarray:
+    """Frequency [Hz] at every threshold corner: shape (corners, len(r)); NaN = stops."""
+    return np.stack([schmitt_frequency(o, r, c)[0] for o in _corner_oscillators(osc)])
+
+
+def guaranteed_band(osc: Oscillator, r: tuple[np.ndarray, np.ndarray],
+                    p: tuple[np.ndarray, np.ndarray],
+                    c: tuple[np.ndarray, np.ndarray]) -> tuple[np.ndarray, np.ndarray]:
+    """(low, high) [Hz] reachable at every corner, from (low, high) ranges of R, P, C [Ω, F].
+
+    Low: the highest full-rotation frequency over all corners of R, P, C and
+    thresholds; high: the lowest zero-rotation frequency. A corner that does
+    not oscillate makes the band empty (NaN low end).
+    """
+    full, zero = [], []
+    for rv in r:
+        for cv in c:
+            zero.append(_corner_frequencies(osc, rv, cv))
+            for pv in p:
+                full.append(_corner_frequencies(osc, rv + pv, cv))
+    full_f, zero_f = np.concatenate(full), np.concatenate(zero)
+    stops = np.isnan(full_f).any(axis=0) | np.isnan(zero_f).any(axis=0)
+    low = np.where(stops, np.nan, np.max(full_f, axis=0))
+    high = np.where(stops, np.nan, np.min(zero_f, axis=0))
+    return low, high
+
+
+def trim(parts: list[Part], osc: Oscillator, band_hz: tuple[float, float], top: int = 10,
+         max_resistors: int = 2, max_capacitors: int = 2,
+         index: DrawerIndex | None = None) -> TrimResult:
+    """Trim designs from ``parts`` whose guaranteed band covers ``band_hz`` (lo, hi) [Hz]."""
+    lo_band, hi_band = (float(x) for x in band_hz)
+    if not (0 < lo_band < hi_band and math.isfinite(hi_band)):
+        raise InputError("a band needs 0 < LO < HI", text=f"{lo_band}..{hi_band}", what="band")
+    if osc.circuit != "schmitt":
+        raise InputError("trim designs are for the Schmitt inverter oscillator "
+                         "(--circuit schmitt)", text=osc.circuit, what="circuit")
+    if top < 1:
+        raise InputError("--top must be at least 1", text=str(top), what="top")
+    if index is None or not index.covers(max_resistors, max_capacitors):
+        index = drawer_index(parts, max_resistors, max_capacitors)
+    device = osc.device
+    limits = (float(device.r_min_ohm), float(device.r_max_ohm))
+    notes = [f"{format_frequency(lo_band)} … {format_frequency(hi_band)} must be reachable at "
+             "every tolerance corner" + ("" if osc.thresholds_given else
+                                         " and threshold corner of the device table")]
+    res, caps, pots = index.resistors, index.capacitors, index.pots
+    missing = [w for w, have in (("potentiometers", pots), ("fixed resistors", len(res)),
+                                 ("capacitors", len(caps))) if not have]
+    if missing:
+        notes.append(f"the drawer has no {' or '.join(missing)} in stock")
+        return TrimResult((lo_band, hi_band), notes, [])
+    ce = np.concatenate([np.arange(s.start, s.stop) for s in caps.layer_slices(max_capacitors)])
+    corners = _corner_oscillators(osc)
+    # B: largest fixed R (at its high corner) that still reaches HI at zero rotation with C
+    # high and the slowest thresholds; A: total resistance at full rotation (low corners)
+    # that gets down to LO at the fastest thresholds.
+    b_need = np.min([schmitt_resistance(o, hi_band, caps.hi[ce], limits) for o in corners],
+                    axis=0)
+    a_need = np.max([schmitt_resistance(o, lo_band, caps.lo[ce], limits) for o in corners],
+                    axis=0)
+    pot_value = np.array([p.value for p in pots])
+    pot_lo = np.array([p.value * (1 - p.tolerance.minus) for p in pots])
+    pot_hi = np.array([p.value * (1 + p.tolerance.plus) for p in pots])
+    # Shortlist (pot, capacitor) pairs by the best fineness they could allow.
+    spread = float(np.median(res.hi / res.values))
+    r_best = np.minimum(b_need / spread, limits[1])  # nominal R just inside the zero-rotation limit
+    ratio = (r_best[None, :] + pot_value[:, None]) / r_best[None, :]
+    feasible = (np.isfinite(ratio) & (r_best[None, :] >= limits[0])
+                & (r_best[None, :] * (2 - spread) + pot_lo[:, None] >= a_need[None, :])
+                & (r_best[None, :] + pot_value[:, None] <= limits[1]))
+    pi, cj = np.nonzero(feasible)
+    if not pi.size:
+        notes.append(_why_none(pots, lo_band, hi_band))
+        return TrimResult((lo_band, hi_band), notes, [])
+    keep = np.argsort(ratio[pi, cj], kind="stable")[: SHORTLIST * top]
+    pi, cj = pi[keep], cj[keep]
+    near = res.nearest(b_need[cj] / spread, max_resistors, PER_SIDE + 1, *limits)
+    rows, cols = np.nonzero(near >= 0)
+    re, pi, cj = near[rows, cols], pi[rows], cj[rows]
+    ce_sel = ce[cj]
+    low, high = guaranteed_band(osc, (res.lo[re], res.hi[re]), (pot_lo[pi], pot_hi[pi]),
+                                (caps.lo[ce_sel], caps.hi[ce_sel]))
+    with np.errstate(invalid="ignore"):
+        ok = (low <= lo_band) & (high >= hi_band) & (res.values[re] + pot_value[pi] <= limits[1])
+    if not ok.any():
+        notes.append(_why_none(pots, lo_band, hi_band))
+        return TrimResult((lo_band, hi_band), notes, [])
+    re, pi, ce_sel, low, high = re[ok], pi[ok], ce_sel[ok], low[ok], high[ok]
+    f_full, _ = schmitt_frequency(osc, res.values[re] + pot_value[pi], caps.values[ce_sel])
+    f_zero, _ = schmitt_frequency(osc, res.values[re], caps.values[ce_sel])
+    parts_used = res.part_count[re].astype(int) + 1 + caps.part_count[ce_sel]
+    order = np.lexsort((parts_used, f_zero / f_full))
+    chosen, seen = [], set()
+    for i in order:
+        key = (int(pi[i]), int(ce_sel[i]))  # one design per pot and capacitor network
+        if key in seen:
+            continue
+        seen.add(key)
+        chosen.append(int(i))
+        if len(chosen) == top:
+            break
+    candidates = []
+    for i in chosen:
+        taken: Counter[int] = Counter()
+        (r_node,) = res.nodes([int(re[i])], taken)
+        (c_node,) = caps.nodes([int(ce_sel[i])], taken)
+        pot = pots[int(pi[i])]
+        candidates.append(_design(osc, r_node, single(pot), c_node, (lo_band, hi_band),
+                                  (float(f_full[i]), float(f_zero[i])),
+                                  (float(low[i]), float(high[i]))))
+    return TrimResult((lo_band, hi_band), notes, candidates)
+
+
+def _why_none(pots: tuple[Part, ...], lo: float, hi: float) -> str:
+    return (f"no pot in the drawer ({len(pots)} line{'s' if len(pots) != 1 else ''}) with a "
+            f"fixed resistor and capacitor covers {format_frequency(lo)} … "
+            f"{format_frequency(hi)} at every corner; a wider band needs a larger pot, a "
+            "narrower spread needs closer-tolerance parts or --vt-plus/--vt-minus from a "
+            "calibration")
+
+
+def _design(osc: Oscillator, r_node: Node, p_node: Node, c_node: Node,
+            band: tuple[float, float], range_hz: tuple[float, float],
+            guaranteed: tuple[float, float]) -> TrimCandidate:
+    pot = p_node.parts()[0]
+    values = {"R": r_node.value, "P": pot.value, "C": c_node.value}
+    networks = {"R": r_node, "P": p_node, "C": c_node}
+    cand = TrimCandidate(values, networks, range_hz, guaranteed, (0.0, 0.0), 0.0,
+                         r_node.part_count + 1 + c_node.part_count, pot.taper)
+    rot_high, rot_low = (float(x) for x in rotation_for(osc, cand, np.array(band[::-1])))
+    centre = 0.5 * (band[0] + band[1])
+    x = float(rotation_for(osc, cand, centre))
+    f_a, f_b = frequency_at_rotation(osc, cand, np.array([max(x - 0.5, 0.0),
+                                                          min(x + 0.5, 100.0)]))
+    step = min(x + 0.5, 100.0) - max(x - 0.5, 0.0)
+    resolution = abs(float(f_a - f_b)) / step
+    notes = [f"turn the pot to about {rot_high:.0f} % for {format_frequency(band[1])} and "
+             f"{rot_low:.0f} % for {format_frequency(band[0])} (nominal parts); measure and "
+             "trim on the bench"]
+    if pot.taper == "log":
+        notes.append("log-taper pot: the frequency changes slowly near zero rotation and "
+                     "quickly near full rotation")
+    return TrimCandidate(values, networks, range_hz, guaranteed, (rot_high, rot_low),
+                         resolution, cand.part_count, pot.taper, notes)
+
+
+def frequency_at_rotation(osc: Oscillator, candidate: TrimCandidate, rotation_pct: Any,
+                          corner: str | None = None) -> np.ndarray:
+    """Frequency [Hz] of a trim design at each rotation [%] (0 = fixed R only).
+
+    ``corner`` None: nominal parts and thresholds; ``"low"``/``"high"``: the
+    lowest/highest frequency over every tolerance and threshold corner (the
+    edges of the guaranteed band at each rotation). NaN where it stops.
+    """
+    r, p, c = (candidate.networks[k] for k in ("R", "P", "C"))
+    if corner is None:
+        total = r.value + pot_resistance(p.value, rotation_pct, candidate.taper)
+        return schmitt_frequency(osc, total, np.full(np.shape(total), c.value))[0]
+    if corner not in ("low", "high"):
+        raise InputError("corner is None, 'low' or 'high'", text=str(corner), what="corner")
+    (r_lo, r_hi), (p_lo, p_hi), (c_lo, c_hi) = (n.value_range() for n in (r, p, c))
+    slow = corner == "low"
+    total = (r_hi if slow else r_lo) + pot_resistance(p_hi if slow else p_lo, rotation_pct,
+                                                      candidate.taper)
+    f = _corner_frequencies(osc, total, np.full(np.shape(total), c_hi if slow else c_lo))
+    return np.min(f, axis=0) if slow else np.max(f, axis=0)
+
+
+def rotation_for(osc: Oscillator, candidate: TrimCandidate, frequency_hz: Any) -> np.ndarray:
+    """Rotation [%] that gives ``frequency_hz`` [Hz] with nominal parts; NaN outside the range."""
+    f = np.asarray(frequency_hz, dtype=float)
+    total = schmitt_resistance_for(osc, f, candidate.values["C"])
+    share = (total - candidate.values["R"]) / candidate.values["P"]
+    share = np.where((share >= -1e-9) & (share <= 1 + 1e-9), np.clip(share, 0.0, 1.0), np.nan)
+    rotation = rotation_for_share(share, candidate.taper)
+    return rotation if rotation.ndim else float(rotation)
