@@ -1,0 +1,309 @@
+"""Calibration: the effective thresholds of the chip on the bench, from measurements.
+
+One measurement of a known R and C (frequency, optionally duty) fixes the
+thresholds: with the duty both are solved (two equations, two unknowns);
+without it the table's VT+/VT- ratio is kept and both are scaled together.
+Several measurements are fitted by least squares on the logarithms of the
+measured times (t_high and t_low where the duty is known, else the period).
+
+Calibrations are named and saved as small JSON files in
+``core.locations.data_dir() / "calibrations"``; ``--calibration NAME`` (and the
+window) use them through ``core.timing.make_oscillator``.
+
+References: the charge equations of core.timing; K. Levenberg (1944) and
+D. Marquardt (1963) for the damped Gauss-Newton step.
+"""
+
+from __future__ import annotations
+
+import json
+import math
+import re
+from collections.abc import Callable, Mapping, Sequence
+from dataclasses import asdict, dataclass, field
+from datetime import UTC, datetime
+from pathlib import Path
+from typing import TYPE_CHECKING, Any
+
+import numpy as np
+
+from core.errors import InputError, SetupError, TickbinError
+from core.units import format_quantity
+
+if TYPE_CHECKING:
+    from core.devices import DeviceAtSupply
+    from core.timing import Oscillator
+
+FORMAT_VERSION = 1
+_NAME = re.compile(r"^[A-Za-z0-9][A-Za-z0-9_.-]{0,63}$")
+
+
+@dataclass(frozen=True)
+class Measurement:
+    """One bench reading: the parts [Ω, F], the frequency [Hz], the duty [%] if measured."""
+
+    values: Mapping[str, float]
+    frequency_hz: float
+    duty_pct: float | None = None
+    diode_steered: bool = False
+
+    def __post_init__(self) -> None:
+        if not (math.isfinite(self.frequency_hz) and self.frequency_hz > 0):
+            raise InputError("a measured frequency must be above zero")
+        if self.duty_pct is not None and not 0 < self.duty_pct < 100:
+            raise InputError("a measured duty cycle lies between 0 and 100 %")
+
+
+@dataclass(frozen=True)
+class Calibration:
+    """Thresholds [V] that reproduce bench measurements of ``family`` at ``supply_v`` [V].
+
+    ``scale`` is measured frequency ÷ the frequency the table's nominal model
+    predicts for the same parts (geometric mean over the measurements; above
+    1 the chip runs faster than the table says). ``mode`` is ``"both"`` (duty
+    known: both thresholds solved) or ``"ratio"`` (table ratio kept).
+    ``residual_pct`` is the rms misfit of the measured times after fitting.
+    """
+
+    name: str | None
+    family: str
+    circuit: str
+    supply_v: float
+    vt_plus_v: float
+    vt_minus_v: float
+    scale: float
+    mode: str
+    residual_pct: float
+    table_vt_plus_v: float
+    table_vt_minus_v: float
+    measurements: tuple[Measurement, ...] = field(default=())
+    created: str = ""
+    warnings: tuple[str, ...] = field(default=())
+
+    def thresholds_for(self, device: DeviceAtSupply) -> tuple[float, float, list[str]]:
+        """(VT+, VT-, notes) to use on ``device``: as measured, or moved to another supply.
+
+        At another supply the thresholds keep their measured ratio to the
+        table's typ values (CMOS thresholds track the supply).
+        """
+        if device.family.name.lower() != self.family.lower():
+            raise SetupError(f"calibration {self.name!r} was measured on a {self.family}, "
+                             f"not a {device.family.name}")
+        if math.isclose(device.supply_v, self.supply_v, rel_tol=1e-6):
+            return self.vt_plus_v, self.vt_minus_v, []
+        plus = device.vt_plus[1] * self.vt_plus_v / self.table_vt_plus_v
+        minus = device.vt_minus[1] * self.vt_minus_v / self.table_vt_minus_v
+        note = (f"calibration {self.name!r} was measured at {self.supply_v:g} V; its "
+                f"thresholds are moved to {device.supply_v:g} V in proportion to the table "
+                "(calibrate at this supply for the best accuracy)")
+        return plus, minus, [note]
+
+    def to_json(self) -> dict[str, Any]:
+        data = asdict(self)
+        data["measurements"] = [dict(asdict(m), values=dict(m.values))
+                                for m in self.measurements]
+        return data
+
+
+# ---------------------------------------------------------------- solving
+
+def _residuals(osc: Oscillator, measurements: Sequence[Measurement], vt_plus: float,
+               vt_minus: float) -> np.ndarray:
+    """Log misfits of the measured times (t_high, t_low where the duty is known, else T)."""
+    from core.timing import times
+
+    out = []
+    for m in measurements:
+        t_high, t_low = (float(t) for t in times(osc, m.values, m.diode_steered, vt_plus,
+                                                 vt_minus))
+        period = 1.0 / m.frequency_hz
+        if not (math.isfinite(t_high) and math.isfinite(t_low)):
+            return np.full(2 * len(measurements), np.inf)
+        if m.duty_pct is None:
+            out.append(math.log((t_high + t_low) / period))
+        else:
+            out.append(math.log(t_high / (period * m.duty_pct / 100)))
+            out.append(math.log(t_low / (period * (1 - m.duty_pct / 100))))
+    return np.array(out)
+
+
+def _least_squares(fun: Callable[[np.ndarray], np.ndarray], p0: np.ndarray) -> np.ndarray:
+    """Damped Gauss-Newton (Levenberg-Marquardt) with a numerical Jacobian."""
+    p = p0.astype(float)
+    r = fun(p)
+    cost = float(r @ r)
+    lam = 1e-3
+    for _ in range(200):
+        if cost < 1e-28:
+            break
+        jac = np.empty((r.size, p.size))
+        for j in range(p.size):
+            h = 1e-7 * max(1.0, abs(p[j]))
+            dp = np.zeros_like(p)
+            dp[j] = h
+            jac[:, j] = (fun(p + dp) - fun(p - dp)) / (2 * h)
+        if not np.all(np.isfinite(jac)):
+            jac = np.nan_to_num(jac, nan=0.0, posinf=0.0, neginf=0.0)
+        hess = jac.T @ jac
+        grad = jac.T @ r
+        improved = False
+        for _ in range(30):
+            step = np.linalg.solve(hess + lam * (np.diag(np.diag(hess)) + 1e-12 * np.eye(p.size)),
+                                   -grad)
+            r_new = fun(p + step)
+            cost_new = float(r_new @ r_new) if np.all(np.isfinite(r_new)) else math.inf
+            if cost_new < cost:
+                p, r, cost = p + step, r_new, cost_new
+                lam = max(lam / 3, 1e-12)
+                improved = True
+                break
+            lam *= 4
+        if not improved or np.max(np.abs(step)) < 1e-13 * (1 + np.max(np.abs(p))):
+            break
+    return p
+
+
+def fit(osc: Oscillator, measurements: Sequence[Measurement],
+        name: str | None = None) -> Calibration:
+    """Thresholds that best reproduce ``measurements`` on ``osc``'s chip and supply.
+
+    Both thresholds are fitted when any measurement has a duty, else the
+    oscillator's VT+/VT- ratio is kept. Raises SetupError when no thresholds
+    between the output levels come close (the parts or reading are likely wrong).
+    """
+    from core.timing import check_values, frequency
+
+    if not measurements:
+        raise InputError("a calibration needs at least one measurement")
+    ms = [Measurement(check_values(osc, m.values), m.frequency_hz, m.duty_pct,
+                      m.diode_steered) for m in measurements]
+    a0, b0 = osc.vt_plus_v, osc.vt_minus_v
+    d = osc.device
+    both = any(m.duty_pct is not None for m in ms)
+
+    def feasible(a: float, b: float) -> bool:
+        return d.vol_v < b < a < d.voh_v
+
+    if both:
+        def fun(p: np.ndarray) -> np.ndarray:
+            if not feasible(p[0], p[1]):
+                return np.full(2 * len(ms), np.inf)
+            return _residuals(osc, ms, p[0], p[1])
+        a, b = _least_squares(fun, np.array([a0, b0]))
+    else:
+        def fun(p: np.ndarray) -> np.ndarray:
+            if not feasible(p[0] * a0, p[0] * b0):
+                return np.full(2 * len(ms), np.inf)
+            return _residuals(osc, ms, p[0] * a0, p[0] * b0)
+        (s,) = _least_squares(fun, np.array([1.0]))
+        a, b = s * a0, s * b0
+    r = _residuals(osc, ms, a, b)
+    residual_pct = 100 * math.sqrt(float(np.mean(r**2))) if np.all(np.isfinite(r)) else math.inf
+    if not residual_pct < 1.0 and len(ms) == 1:
+        m = ms[0]
+        duty = "" if m.duty_pct is None else f" at {m.duty_pct:g} % duty"
+        raise SetupError(f"no thresholds between {d.vol_v:g} V and {d.voh_v:g} V make "
+                         f"these parts run at {format_quantity(m.frequency_hz, 'frequency')}"
+                         f"{duty} on a {d.family.name}; check the part values and the reading")
+    if not math.isfinite(residual_pct):
+        raise SetupError("no thresholds between the output levels fit these measurements")
+    table = [float(frequency(osc, m.values, m.diode_steered, a0, b0)) for m in ms]
+    scale = math.exp(float(np.mean([math.log(m.frequency_hz / f) for m, f in zip(ms, table,
+                                                                               strict=True)])))
+    warnings = []
+    for label, v, (lo, _, hi) in (("VT+", a, d.vt_plus), ("VT-", b, d.vt_minus)):
+        if not lo <= v <= hi:
+            warnings.append(f"the fitted {label} ({v:.3g} V) lies outside the data sheet's "
+                            f"{lo:.3g} … {hi:.3g} V: check the part values, the supply and "
+                            "the reading")
+    if len(ms) > 1 and residual_pct > 2.0:
+        warnings.append(f"the measurements disagree with one another by {residual_pct:.1f} % "
+                        "rms after fitting; one reading or part value may be off")
+    return Calibration(name=name, family=d.family.name, circuit=osc.circuit,
+                       supply_v=d.supply_v, vt_plus_v=float(a), vt_minus_v=float(b),
+                       scale=scale, mode="both" if both else "ratio",
+                       residual_pct=residual_pct, table_vt_plus_v=a0, table_vt_minus_v=b0,
+                       measurements=tuple(ms),
+                       created=datetime.now(UTC).isoformat(timespec="seconds"),
+                       warnings=tuple(warnings))
+
+
+def calibrate(osc: Oscillator, values: Mapping[str, float], measured_hz: float,
+              duty_pct: float | None = None, *, diode_steered: bool = False,
+              name: str | None = None) -> Calibration:
+    """Thresholds from one bench measurement of known parts (see ``fit``)."""
+    return fit(osc, [Measurement(values, measured_hz, duty_pct, diode_steered)], name)
+
+
+# ---------------------------------------------------------------- files
+
+def calibrations_dir() -> Path:
+    from core.locations import data_dir
+
+    path = data_dir() / "calibrations"
+    path.mkdir(parents=True, exist_ok=True)
+    return path
+
+
+def check_name(name: str) -> str:
+    """A calibration name usable as a file name (letters, digits, ``_ . -``)."""
+    if not isinstance(name, str) or not _NAME.match(name):
+        raise InputError("a calibration name uses letters, digits, _ . - (up to 64, "
+                         "starting with a letter or digit)", text=str(name), what="name")
+    return name
+
+
+def _path(name: str) -> Path:
+    return calibrations_dir() / f"{check_name(name)}.json"
+
+
+def save_calibration(cal: Calibration, name: str | None = None) -> Path:
+    """Write ``cal`` under ``name`` (or its own name); returns the file written."""
+    from core.drawer import write_text_atomically
+
+    name = name or cal.name
+    if not name:
+        raise InputError("a calibration needs a name to be saved")
+    data = dict(cal.to_json(), name=check_name(name), format=FORMAT_VERSION)
+    path = _path(name)
+    write_text_atomically(path, json.dumps(data, indent=2, ensure_ascii=False) + "\n",
+                          backup=False)
+    return path
+
+
+def list_calibrations() -> list[str]:
+    """Names of the saved calibrations, sorted."""
+    return sorted(p.stem for p in calibrations_dir().glob("*.json"))
+
+
+def load_calibration(name: str) -> Calibration:
+    """A saved calibration by name (InputError naming the known ones if absent)."""
+    path = _path(name)
+    if not path.exists():
+        known = ", ".join(list_calibrations()) or "none saved yet"
+        raise InputError(f"no such calibration (known: {known})", text=name,
+                         what="calibration")
+    try:
+        data = json.loads(path.read_text(encoding="utf-8"))
+        ms = tuple(Measurement(values=dict(m["values"]), frequency_hz=float(m["frequency_hz"]),
+                               duty_pct=m.get("duty_pct"),
+                               diode_steered=bool(m.get("diode_steered", False)))
+                   for m in data.get("measurements", ()))
+        return Calibration(
+            name=data["name"], family=data["family"], circuit=data["circuit"],
+            supply_v=float(data["supply_v"]), vt_plus_v=float(data["vt_plus_v"]),
+            vt_minus_v=float(data["vt_minus_v"]), scale=float(data["scale"]),
+            mode=data["mode"], residual_pct=float(data["residual_pct"]),
+            table_vt_plus_v=float(data["table_vt_plus_v"]),
+            table_vt_minus_v=float(data["table_vt_minus_v"]), measurements=ms,
+            created=data.get("created", ""), warnings=tuple(data.get("warnings", ())))
+    except (OSError, ValueError, KeyError, TypeError) as e:
+        raise TickbinError(f"{path}: not a readable calibration ({e})") from None
+
+
+def delete_calibration(name: str) -> None:
+    """Remove a saved calibration (InputError if there is none by that name)."""
+    path = _path(name)
+    if not path.exists():
+        raise InputError("no such calibration", text=name, what="calibration")
+    path.unlink()

@@ -1,0 +1,256 @@
+"""``tickbin predict`` and ``tickbin calibrate``: the timing model on the command line."""
+
+from __future__ import annotations
+
+import argparse
+import csv
+from pathlib import Path
+from typing import Any
+
+from core.calibration import (
+    Calibration,
+    Measurement,
+    fit,
+    list_calibrations,
+    save_calibration,
+)
+from core.cli.circuit_options import add_circuit_options, oscillator_from_args
+from core.cli.common import add_json_option, emit, value_arg
+from core.errors import InputError, TickbinError
+from core.spread import monte_carlo
+from core.timing import Oscillator, default_tolerances, predict
+from core.units import (
+    Tolerance,
+    format_quantity,
+    parse_capacitance,
+    parse_frequency,
+    parse_percent,
+    parse_resistance,
+    parse_tolerance,
+)
+
+_DIELECTRICS = ("c0g", "np0", "film", "x7r", "x5r", "y5v", "z5u", "tantalum", "electrolytic")
+
+
+def register(commands: argparse._SubParsersAction) -> None:
+    pred = commands.add_parser("predict", help="what given parts will do: frequency, duty, "
+                               "worst case")
+    add_circuit_options(pred)
+    _add_part_options(pred)
+    tol = pred.add_argument_group("tolerances")
+    tol.add_argument("--r-tolerance", metavar="TOL", type=_tolerance("R"),
+                     help="resistor tolerance (5%%, ±1%%, F, J; default ±5 %%)")
+    tol.add_argument("--c-tolerance", metavar="TOL", type=_tolerance("C"),
+                     help="capacitor tolerance (default by --dielectric)")
+    tol.add_argument("--dielectric", choices=_DIELECTRICS, default="",
+                     help="capacitor dielectric: sets its default tolerance and the "
+                     "electrolytic warnings")
+    pred.add_argument("--draws", type=int, default=10_000, metavar="N",
+                      help="Monte Carlo builds for the 95 %% spread (default 10000)")
+    add_json_option(pred)
+    pred.set_defaults(run=run_predict)
+
+    cal = commands.add_parser("calibrate", help="solve the chip's effective thresholds "
+                              "from a bench measurement")
+    add_circuit_options(cal)
+    _add_part_options(cal)
+    cal.add_argument("--measured", type=value_arg("frequency"), metavar="FREQ",
+                     help="the frequency measured on the bench (or its period)")
+    cal.add_argument("--duty", type=_duty, metavar="PCT",
+                     help="the measured share of the period the output is high")
+    cal.add_argument("--measurements", metavar="FILE.csv",
+                     help="several readings for a least-squares fit: columns r, c (or ra, "
+                     "rb, c), frequency and optionally duty")
+    cal.add_argument("--save", metavar="NAME",
+                     help="store the result as a named calibration (use with --calibration)")
+    cal.add_argument("--list", action="store_true", help="list the saved calibrations")
+    add_json_option(cal)
+    cal.set_defaults(run=run_calibrate)
+
+
+def _add_part_options(parser: argparse.ArgumentParser) -> None:
+    parts = parser.add_argument_group("parts")
+    parts.add_argument("--r", type=value_arg("resistance"), metavar="R",
+                       help="timing resistor (Schmitt)")
+    parts.add_argument("--c", type=value_arg("capacitance"), metavar="C",
+                       help="timing capacitor")
+    parts.add_argument("--ra", type=value_arg("resistance"), metavar="R",
+                       help="555: resistor from VCC to discharge (pin 7)")
+    parts.add_argument("--rb", type=value_arg("resistance"), metavar="R",
+                       help="555: resistor from discharge (pin 7) to the timing node")
+    parts.add_argument("--diode-steered", action="store_true",
+                       help="555: a diode across RB (charge through RA only)")
+
+
+def _tolerance(kind: str) -> Any:
+    def parse(text: str) -> Tolerance:
+        try:
+            return parse_tolerance(text, kind)
+        except InputError as e:
+            raise argparse.ArgumentTypeError(e.reason) from None
+    parse.__name__ = "tolerance"
+    return parse
+
+
+def _duty(text: str) -> float:
+    try:
+        value = parse_percent(text, allow_zero=False, what="duty cycle")
+    except InputError as e:
+        raise argparse.ArgumentTypeError(e.reason) from None
+    if not value < 100:
+        raise argparse.ArgumentTypeError("a duty cycle lies between 0 and 100 %")
+    return value
+
+
+def _values(osc: Oscillator, args: argparse.Namespace) -> dict[str, float]:
+    if osc.circuit == "schmitt":
+        given = {"R": args.r, "C": args.c}
+        flags = "--r R --c C"
+    else:
+        given = {"RA": args.ra, "RB": args.rb, "C": args.c}
+        flags = "--ra R --rb R --c C"
+    if any(v is None for v in given.values()):
+        raise InputError(f"the {osc.family.name} circuit needs {flags}")
+    return {k: float(v) for k, v in given.items() if v is not None}
+
+
+def _threshold_source(osc: Oscillator) -> str:
+    if osc.calibration:
+        return f"calibration {osc.calibration}"
+    return "given" if osc.thresholds_given else "table typ"
+
+
+def _describe_values(values: dict[str, float]) -> str:
+    return ", ".join(f"{k} = {format_quantity(v, 'capacitance' if k == 'C' else 'resistance')}"
+                     for k, v in values.items())
+
+
+# ---------------------------------------------------------------- predict
+
+def run_predict(args: argparse.Namespace) -> int:
+    osc = oscillator_from_args(args)
+    values = _values(osc, args)
+    tolerances = default_tolerances(osc, args.dielectric)
+    if args.r_tolerance is not None:
+        tolerances.update({k: args.r_tolerance for k in values if k != "C"})
+    if args.c_tolerance is not None:
+        tolerances["C"] = args.c_tolerance
+    if not 100 <= args.draws <= 1_000_000:
+        raise InputError("--draws must be between 100 and 1000000")
+    pred = predict(osc, values, tolerances, diode_steered=args.diode_steered,
+                   dielectric=args.dielectric)
+    mc = monte_carlo(osc, values, tolerances, n=args.draws, seed=0,
+                     diode_steered=args.diode_steered)
+    result = pred.to_json()
+    result.update({
+        "circuit": osc.circuit, "family": osc.family.name, "supply_v": osc.supply_v,
+        "values": values, "diode_steered": bool(args.diode_steered),
+        "tolerances": {k: [t.minus * 100, t.plus * 100] for k, t in tolerances.items()},
+        "vt_plus_v": osc.vt_plus_v, "vt_minus_v": osc.vt_minus_v,
+        "thresholds": _threshold_source(osc),
+        "spread_95_hz": list(mc.interval_95), "draws": args.draws,
+        "within_worst_case_pct": 100 * mc.fraction_within(*pred.worst_case_hz),
+    })
+    return emit(args, result, _predict_text)
+
+
+def _predict_text(r: dict[str, Any]) -> str:
+    f = format_quantity
+    circuit = ("Schmitt-trigger inverter" if r["circuit"] == "schmitt" else
+               "555 astable" + (", diode-steered" if r["diode_steered"] else ""))
+    tol = ", ".join(f"{k} ±{t[1]:g}%" if t[0] == t[1] else f"{k} +{t[1]:g}/-{t[0]:g}%"
+                    for k, t in r["tolerances"].items())
+    spread = "" if r["thresholds"] != "table typ" else ", thresholds min…max"
+    lo, hi = r["worst_case_hz"]
+    s_lo, s_hi = r["spread_95_hz"]
+    rows = [
+        f"{r['family']} at {r['supply_v']:g} V, {circuit}: {_describe_values(r['values'])}",
+        f"  thresholds      VT+ {r['vt_plus_v']:.3g} V, VT- {r['vt_minus_v']:.3g} V "
+        f"({r['thresholds']})",
+        f"  frequency       {f(r['frequency_hz'], 'frequency')}   "
+        f"(period {f(r['period_s'], 'time')})",
+        f"  output high     {r['duty_pct']:.1f} %   (t_high {f(r['t_high_s'], 'time')}, "
+        f"t_low {f(r['t_low_s'], 'time')})",
+        f"  worst case      {f(lo, 'frequency')} … {f(hi, 'frequency')}   ({tol}{spread})",
+        f"  95 % of builds  {f(s_lo, 'frequency')} … {f(s_hi, 'frequency')}   "
+        f"(Monte Carlo, {r['draws']:,} draws)",
+    ]
+    if r["warnings"]:
+        rows.append("warnings:")
+        rows.extend(f"  - {w}" for w in r["warnings"])
+    return "\n".join(rows)
+
+
+# ---------------------------------------------------------------- calibrate
+
+def _read_measurements(path: str, osc: Oscillator) -> list[Measurement]:
+    keys = ("r", "c") if osc.circuit == "schmitt" else ("ra", "rb", "c")
+    try:
+        text = Path(path).read_text(encoding="utf-8-sig")
+    except OSError as e:
+        raise TickbinError(f"{path}: cannot read: {e.strerror or e}") from None
+    rows = list(csv.DictReader(text.splitlines()))
+    out = []
+    for line, row in enumerate(rows, start=2):
+        row = {(k or "").strip().lower(): (v or "").strip() for k, v in row.items()}
+        try:
+            missing = [k for k in (*keys, "frequency") if not row.get(k)]
+            if missing:
+                raise InputError(f"needs {', '.join(missing)}")
+            values = {k.upper(): (parse_capacitance(row[k]) if k == "c"
+                                  else parse_resistance(row[k])) for k in keys}
+            duty = (parse_percent(row["duty"], allow_zero=False, what="duty cycle")
+                    if row.get("duty") else None)
+            out.append(Measurement(values, parse_frequency(row["frequency"]), duty))
+        except InputError as e:
+            raise TickbinError(f"{path}:{line}: {e}") from None
+    if not out:
+        raise TickbinError(f"{path}: no measurements (header r,c,frequency[,duty])")
+    return out
+
+
+def run_calibrate(args: argparse.Namespace) -> int:
+    if args.list:
+        return emit(args, {"calibrations": list_calibrations()},
+                    lambda r: "\n".join(r["calibrations"]) or "no calibrations saved")
+    osc = oscillator_from_args(args)
+    if args.measurements:
+        if args.measured is not None:
+            raise InputError("give --measured or --measurements, not both")
+        measurements = _read_measurements(args.measurements, osc)
+    else:
+        if args.measured is None:
+            raise InputError("calibrate needs --measured FREQ (and optionally --duty PCT)")
+        measurements = [Measurement(_values(osc, args), args.measured, args.duty,
+                                    args.diode_steered)]
+    cal = fit(osc, measurements, name=args.save)
+    saved = str(save_calibration(cal)) if args.save else None
+    return emit(args, _calibration_json(cal, saved), _calibrate_text)
+
+
+def _calibration_json(cal: Calibration, saved: str | None) -> dict[str, Any]:
+    return {"scale": cal.scale, "vt_plus_v": cal.vt_plus_v, "vt_minus_v": cal.vt_minus_v,
+            "mode": cal.mode, "family": cal.family, "supply_v": cal.supply_v,
+            "table_vt_plus_v": cal.table_vt_plus_v, "table_vt_minus_v": cal.table_vt_minus_v,
+            "residual_pct": cal.residual_pct, "measurements": len(cal.measurements),
+            "name": cal.name, "saved": saved, "warnings": list(cal.warnings)}
+
+
+def _calibrate_text(r: dict[str, Any]) -> str:
+    how = ("both thresholds solved from frequency and duty" if r["mode"] == "both"
+           else "the table's VT+/VT- ratio kept, both scaled")
+    rows = [
+        f"{r['family']} at {r['supply_v']:g} V, {r['measurements']} measurement"
+        f"{'s' if r['measurements'] != 1 else ''} ({how})",
+        f"  VT+   {r['vt_plus_v']:.3f} V   (table {r['table_vt_plus_v']:.3f} V)",
+        f"  VT-   {r['vt_minus_v']:.3f} V   (table {r['table_vt_minus_v']:.3f} V)",
+        f"  scale {r['scale']:.4f}   (measured ÷ table-model frequency)",
+    ]
+    if r["measurements"] > 1:
+        rows.append(f"  fit   {r['residual_pct']:.2f} % rms misfit")
+    if r["saved"]:
+        rows.append(f"saved as {r['name']!r} ({r['saved']}); use --calibration {r['name']}")
+    if r["warnings"]:
+        rows.append("warnings:")
+        rows.extend(f"  - {w}" for w in r["warnings"])
+    return "\n".join(rows)
