@@ -1,0 +1,484 @@
+"""The build sheet's schematic as drawing primitives on a grid, laid out from the networks.
+
+Core decides *what* is drawn and where (grid units, y grows downwards); the
+renderer in gui only maps grid units to millimetres and draws each primitive.
+The timing networks are drawn exactly as the candidate wires them: a series
+node becomes parts in a row, a parallel node parts side by side between two
+bus wires, recursively.
+
+References: IEC 60617 (graphical symbols for diagrams: resistor box,
+capacitor plates, variable resistor, Schmitt-trigger hysteresis mark, ground).
+"""
+
+from __future__ import annotations
+
+from collections.abc import Callable, Iterator
+from dataclasses import dataclass, field
+from typing import Any, Literal, Protocol
+
+Point = tuple[float, float]
+Axis = Literal["h", "v"]
+
+LEAF = 5.0
+"""Length of one two-terminal part with its leads, grid units."""
+STUB = 1.0
+"""Wire between a parallel group's bus and its branches, grid units."""
+GATE = 7.0
+"""Inverter symbol from input terminal to output terminal, grid units."""
+
+
+class NetworkNode(Protocol):
+    """What the layout needs of ``core.networks.Node``."""
+
+    part: object | None
+    series: tuple[NetworkNode, ...]
+    parallel: tuple[NetworkNode, ...]
+
+
+@dataclass(frozen=True)
+class Wire:
+    points: tuple[Point, ...]
+
+
+@dataclass(frozen=True)
+class Junction:
+    at: Point
+
+
+@dataclass(frozen=True)
+class Component:
+    """A two-terminal symbol between ``a`` and ``b`` (body centred, leads to the ends).
+
+    ``symbol``: resistor, capacitor, electrolytic (+ at ``a``), diode (anode ``a``),
+    pot (variable resistor; the wiper arrow starts at ``wiper``).
+    """
+
+    symbol: Literal["resistor", "capacitor", "electrolytic", "diode", "pot"]
+    a: Point
+    b: Point
+    wiper: Point | None = None
+
+
+@dataclass(frozen=True)
+class Label:
+    """Text beside ``at``: ``h``/``v`` name the side of the point the text lies on."""
+
+    at: Point
+    text: str
+    h: Literal["left", "center", "right"] = "center"
+    v: Literal["top", "middle", "bottom"] = "middle"
+    size: Literal["small", "normal"] = "small"
+
+
+@dataclass(frozen=True)
+class Inverter:
+    """Schmitt-trigger inverter: input terminal at ``at``, output ``GATE`` units to the right."""
+
+    at: Point
+
+
+@dataclass(frozen=True)
+class Box:
+    """A chip body (the 555): a rectangle with a title inside."""
+
+    top_left: Point
+    bottom_right: Point
+    title: str
+
+
+@dataclass(frozen=True)
+class Supply:
+    """Positive supply: a bar at ``at`` with its voltage above."""
+
+    at: Point
+    text: str
+
+
+@dataclass(frozen=True)
+class Ground:
+    at: Point
+
+
+@dataclass(frozen=True)
+class Terminal:
+    """An open circle where a wire leaves the board (the output)."""
+
+    at: Point
+
+
+Item = Wire | Junction | Component | Label | Inverter | Box | Supply | Ground | Terminal
+
+
+@dataclass(frozen=True)
+class Placed:
+    """One drawn part of a network and the reference printed beside it."""
+
+    ref: str
+    part: object
+    role: str
+    """The candidate's network key the part belongs to (R, P, C, RA, RB)."""
+
+
+@dataclass
+class Schematic:
+    items: list[Item] = field(default_factory=list)
+    placed: list[Placed] = field(default_factory=list)
+    """Every network part drawn, in reference order (R1, R2, ... C1, ...)."""
+    support: dict[str, str] = field(default_factory=dict)
+    """References of the parts around the networks: decoupling, control, diode."""
+
+    def bounds(self) -> tuple[float, float, float, float]:
+        """Geometry bounds (x0, y0, x1, y1) in grid units, text not included."""
+        xs, ys = [], []
+        for p in self.points():
+            xs.append(p[0])
+            ys.append(p[1])
+        return min(xs), min(ys), max(xs), max(ys)
+
+    def points(self) -> Iterator[Point]:
+        for item in self.items:
+            if isinstance(item, Wire):
+                yield from item.points
+            elif isinstance(item, Component):
+                yield item.a
+                yield item.b
+            elif isinstance(item, Box):
+                yield item.top_left
+                yield item.bottom_right
+            elif isinstance(item, Inverter):
+                yield item.at
+                yield (item.at[0] + GATE, item.at[1] + 2.0)
+                yield (item.at[0] + GATE, item.at[1] - 2.0)
+            else:
+                yield item.at
+
+
+# ---------------------------------------------------------------- networks
+
+@dataclass(frozen=True)
+class _Extent:
+    """A network's size: ``length`` along its axis, ``near``/``far`` across it (≥ 0).
+
+    ``far`` is the side parallel branches grow towards.
+    """
+
+    length: float
+    near: float
+    far: float
+
+
+def _leaf_extent(axis: Axis, pot: bool) -> _Extent:
+    # Horizontal: reference above, value below. Vertical: both to the right.
+    if axis == "h":
+        return _Extent(LEAF, 2.4 if pot else 2.3, 2.8 if pot else 2.3)
+    return _Extent(LEAF, 2.2 if pot else 1.0, 6.5)
+
+
+def _extent(node: NetworkNode, axis: Axis, kinds: dict[int, str]) -> _Extent:
+    if node.part is not None:
+        return _leaf_extent(axis, kinds.get(id(node)) == "P")
+    if node.series:
+        parts = [_extent(n, axis, kinds) for n in node.series]
+        return _Extent(sum(p.length for p in parts), max(p.near for p in parts),
+                       max(p.far for p in parts))
+    parts = [_extent(n, axis, kinds) for n in node.parallel]
+    reach = parts[0].far + sum(p.near + p.far for p in parts[1:])
+    return _Extent(max(p.length for p in parts) + 2 * STUB, parts[0].near, reach)
+
+
+class _Pen:
+    """Lays out networks in local (along, across) coordinates and maps them to the page."""
+
+    def __init__(self, sheet: Schematic, counters: dict[str, int]):
+        self.s = sheet
+        self.counters = counters
+        self.role = ""
+
+    def ref(self, kind: str) -> str:
+        self.counters[kind] = self.counters.get(kind, 0) + 1
+        return f"{kind}{self.counters[kind]}"
+
+    def network(self, net: Network, start: Point, axis: Axis, grow: int,
+                kinds: dict[int, str], values: dict[int, str]) -> Point:
+        """Draw ``net`` from ``start`` along ``axis``; parallel branches go ``grow`` (±1).
+
+        Returns the far terminal.
+        """
+        node = net.node
+        self.role = net.role
+        def at(s: float, t: float) -> Point:
+            return (start[0] + s, start[1] + grow * t) if axis == "h" else \
+                (start[0] + grow * t, start[1] + s)
+
+        self._draw(node, 0.0, 0.0, at, axis, grow, kinds, values)
+        return at(_extent(node, axis, kinds).length, 0.0)
+
+    def _draw(self, node: NetworkNode, s: float, t: float, at, axis: Axis, grow: int,
+              kinds: dict[int, str], values: dict[int, str]) -> None:
+        items = self.s.items
+        if node.part is not None:
+            kind = kinds[id(node)]
+            ref = self.ref(kind)
+            self.s.placed.append(Placed(ref, node.part, self.role))
+            a, b = at(s, t), at(s + LEAF, t)
+            value = values[id(node)]
+            if kind == "P":
+                # Wiper arrow from the near side; the wiper is tied to end 3 (at b), so
+                # the part is a variable resistor between pin 1 (a) and the wiper.
+                w = at(s + LEAF / 2, t - 1.6 * grow)
+                corner = at(s + LEAF - 0.3, t - 1.6 * grow)
+                items.append(Component("pot", a, b, wiper=w))
+                items.append(Wire((w, corner, at(s + LEAF - 0.3, t))))
+                items.append(Junction(at(s + LEAF - 0.3, t)))
+                items.append(Label(at(s + 0.5, t - 0.4 * grow), "1", "center", "top"))
+                items.append(Label(at(s + LEAF / 2 - 0.4, t - 1.4 * grow), "2", "left",
+                                   "middle"))
+            else:
+                polarised = bool(getattr(node.part, "polarised", False))
+                symbol = "resistor" if kind != "C" else \
+                    "electrolytic" if polarised else "capacitor"
+                items.append(Component(symbol, a, b))
+            mid = s + LEAF / 2
+            if axis == "h":
+                if kind == "P":
+                    items.append(Label(at(mid, t + 1.0 * grow), f"{ref}  {value}", "center",
+                                       "bottom"))
+                else:
+                    items.append(Label(at(mid, t - 1.0 * grow), ref, "center", "top"))
+                    items.append(Label(at(mid, t + 1.0 * grow), value, "center", "bottom"))
+            else:
+                x, y = at(s + LEAF / 2, t)
+                items.append(Label((x + 1.2, y - 0.1), ref, "right", "top"))
+                items.append(Label((x + 1.2, y + 0.1), value, "right", "bottom"))
+            return
+        if node.series:
+            for child in node.series:
+                self._draw(child, s, t, at, axis, grow, kinds, values)
+                s += _extent(child, axis, kinds).length
+            return
+        ext = _extent(node, axis, kinds)
+        end = s + ext.length
+        offset = 0.0
+        branches = list(node.parallel)
+        offsets = []
+        for i, child in enumerate(branches):
+            ce = _extent(child, axis, kinds)
+            if i:
+                offset += ce.near
+            offsets.append(offset)
+            items.append(Wire((at(s, t + offset), at(s + STUB, t + offset))))
+            self._draw(child, s + STUB, t + offset, at, axis, grow, kinds, values)
+            items.append(Wire((at(s + STUB + ce.length, t + offset), at(end, t + offset))))
+            offset += ce.far
+        last = offsets[-1]
+        items.append(Wire((at(s, t), at(s, t + last))))
+        items.append(Wire((at(end, t), at(end, t + last))))
+        for o in offsets[:-1]:
+            items.append(Junction(at(s, t + o)))
+            items.append(Junction(at(end, t + o)))
+
+
+def _leaves(node: NetworkNode) -> Iterator[NetworkNode]:
+    if node.part is not None:
+        yield node
+    for child in (*node.series, *node.parallel):
+        yield from _leaves(child)
+
+
+# ---------------------------------------------------------------- circuits
+
+@dataclass(frozen=True)
+class Network:
+    """A network to draw: the node, its role (R, P, C, RA, RB) and each part's label."""
+
+    node: NetworkNode
+    role: str
+    value_text: Callable[[Any], str]
+
+    @property
+    def kind(self) -> str:
+        return "R" if self.role in ("RA", "RB") else self.role
+
+
+def _maps(networks: list[Network]) -> tuple[dict[int, str], dict[int, str]]:
+    kinds, values = {}, {}
+    for net in networks:
+        for leaf in _leaves(net.node):
+            kinds[id(leaf)] = net.kind
+            values[id(leaf)] = net.value_text(leaf.part)
+    return kinds, values
+
+
+def schmitt_schematic(feedback: list[Network], capacitor: Network, *, gate_ref: str,
+                      input_pin: str, output_pin: str, vcc_pin: str, gnd_pin: str,
+                      supply_text: str, decoupling_text: str) -> Schematic:
+    """Inverter with the feedback networks (in series, output → input) and C to ground.
+
+    ``feedback`` is the fixed resistor network, then the pot for a trim design.
+    The chip's supply pins are drawn as a separate unit with its decoupling
+    capacitor, as is usual for multi-gate packages.
+    """
+    sheet = Schematic()
+    pen = _Pen(sheet, {})
+    kinds, values = _maps([*feedback, capacitor])
+    items = sheet.items
+    f_ext = [_extent(n.node, "h", kinds) for n in feedback]
+    f_len = sum(e.length for e in f_ext)
+    f_below = max(e.near for e in f_ext)
+    c_ext = _extent(capacitor.node, "v", kinds)
+
+    gate_x = max(3.0, c_ext.far + 1.5)
+    out_gate = gate_x + GATE
+    x_out = max(out_gate + 2.0, f_len + 2.0)
+    y_top = -(3.5 + f_below)
+    start = (x_out - f_len) / 2
+    # Feedback path: input node up, across through the networks, down to the output node.
+    items.append(Wire(((0.0, 0.0), (0.0, y_top), (start, y_top))))
+    point = (start, y_top)
+    for net in feedback:
+        point = pen.network(net, point, "h", -1, kinds, values)
+    items.append(Wire((point, (x_out, y_top), (x_out, 0.0))))
+    # Gate, with its pin numbers on the leads.
+    items.append(Wire(((0.0, 0.0), (gate_x, 0.0))))
+    items.append(Inverter((gate_x, 0.0)))
+    items.append(Label((gate_x + 0.5, -0.3), input_pin, "center", "top"))
+    items.append(Label((out_gate - 0.5, -0.3), output_pin, "center", "top"))
+    items.append(Label((gate_x + GATE / 2 - 0.3, 2.4), gate_ref, "center", "bottom"))
+    items.append(Wire(((out_gate, 0.0), (x_out + 4.0, 0.0))))
+    items.append(Junction((0.0, 0.0)))
+    items.append(Junction((x_out, 0.0)))
+    items.append(Terminal((x_out + 4.0, 0.0)))
+    items.append(Label((x_out + 4.8, 0.0), "OUT", "right", "middle", "normal"))
+    # Timing capacitor to ground.
+    end = pen.network(capacitor, (0.0, 0.0), "v", 1, kinds, values)
+    items.append(Ground(end))
+    _power_unit(sheet, x_out + 11.0, gate_ref.split(" ")[0].rstrip("abcdef") or "U1",
+                vcc_pin, gnd_pin, supply_text, decoupling_text, pen)
+    return sheet
+
+
+def _power_unit(sheet: Schematic, x: float, chip: str, vcc_pin: str, gnd_pin: str,
+                supply_text: str, decoupling_text: str, pen: _Pen) -> None:
+    """The chip's supply pins with the decoupling capacitor right beside them."""
+    items = sheet.items
+    items.append(Box((x, -3.0), (x + 5.0, 3.0), chip))
+    top, bottom = (x + 2.5, -3.0), (x + 2.5, 3.0)
+    items.append(Wire((top, (x + 2.5, -6.0))))
+    items.append(Wire((bottom, (x + 2.5, 6.0))))
+    items.append(Label((x + 2.8, -3.3), vcc_pin, "right", "top"))
+    items.append(Label((x + 2.8, 3.3), gnd_pin, "right", "bottom"))
+    items.append(Supply((x + 2.5, -6.0), supply_text))
+    items.append(Ground((x + 2.5, 6.0)))
+    cx = x + 8.0
+    items.append(Wire(((x + 2.5, -4.5), (cx, -4.5), (cx, -2.5))))
+    items.append(Component("capacitor", (cx, -2.5), (cx, 2.5)))
+    items.append(Wire(((cx, 2.5), (cx, 4.5), (x + 2.5, 4.5))))
+    items.append(Junction((x + 2.5, -4.5)))
+    items.append(Junction((x + 2.5, 4.5)))
+    ref = pen.ref("C")
+    sheet.support["decoupling"] = ref
+    items.append(Label((cx + 1.2, -0.1), ref, "right", "top"))
+    items.append(Label((cx + 1.2, 0.1), decoupling_text, "right", "bottom"))
+
+
+def astable_schematic(ra: Network, rb: Network, capacitor: Network, *, pins: dict[str, str],
+                      chip: str, supply_text: str, decoupling_text: str,
+                      control_text: str, diode_text: str | None) -> Schematic:
+    """555 astable: RA from the supply to DIS, RB from DIS to THR/TRIG, C to ground.
+
+    ``pins`` maps role (gnd, trig, out, reset, ctrl, thr, dis, vcc) to the pin
+    number. With ``diode_text`` a steering diode (anode at DIS) bypasses RB while
+    charging, so RA alone sets the high time.
+    """
+    sheet = Schematic()
+    pen = _Pen(sheet, {})
+    kinds, values = _maps([ra, rb, capacitor])
+    items = sheet.items
+    exts = [_extent(n.node, "v", kinds) for n in (ra, rb, capacitor)]
+    reach = max(e.far for e in exts)
+    # Column: supply rail at y = 0, RA, DIS node, RB, THR node, C, ground.
+    items.append(Supply((0.0, -1.5), supply_text))
+    items.append(Wire(((0.0, -1.5), (0.0, 1.0))))
+    y_dis = pen.network(ra, (0.0, 1.0), "v", 1, kinds, values)[1]
+    y_thr = pen.network(rb, (0.0, y_dis), "v", 1, kinds, values)[1]
+    c_end = pen.network(capacitor, (0.0, y_thr), "v", 1, kinds, values)
+    items.append(Ground(c_end))
+    items.append(Junction((0.0, y_dis)))
+    items.append(Junction((0.0, y_thr)))
+    x_pin = reach + 3.0
+    if diode_text is not None:
+        xd = reach + 1.5
+        x_pin = xd + 8.0
+        d_end = min(y_dis + LEAF, y_thr)
+        items.append(Component("diode", (xd, y_dis), (xd, d_end)))
+        if d_end < y_thr:
+            items.append(Wire(((xd, d_end), (xd, y_thr))))
+        items.append(Junction((xd, y_dis)))
+        items.append(Junction((xd, y_thr)))
+        sheet.support["diode"] = "D1"
+        items.append(Label((xd + 1.2, y_dis + LEAF / 2 - 0.1), "D1", "right", "top"))
+        items.append(Label((xd + 1.2, y_dis + LEAF / 2 + 0.1), diode_text, "right", "bottom"))
+    bx0 = x_pin + 2.0
+    bx1 = bx0 + 15.0
+    y_trig = y_thr + 2.0
+    by0 = min(y_dis - 3.0, 1.0 + 2.0)
+    by0 = max(by0, 2.0)
+    by1 = max(y_trig + 2.0, by0 + 10.0)
+    items.append(Box((bx0, by0), (bx1, by1), chip))
+
+    def pin(outer: Point, inner: Point, role: str, h: str, v: str) -> None:
+        items.append(Wire((outer, inner)))
+        mid = ((outer[0] + inner[0]) / 2, (outer[1] + inner[1]) / 2)
+        if outer[1] == inner[1]:
+            items.append(Label((mid[0], mid[1] - 0.3), pins[role], "center", "top"))
+        else:
+            items.append(Label((mid[0] + 0.3, mid[1]), pins[role], "right", "middle"))
+        names = {"gnd": "GND", "trig": "TRIG", "out": "OUT", "reset": "RESET",
+                 "ctrl": "CV", "thr": "THR", "dis": "DIS", "vcc": "VCC"}
+        inset = {"right": (0.4, 0.0), "left": (-0.4, 0.0), "top": (0.0, -0.4),
+                 "bottom": (0.0, 0.4)}[h if h != "center" else v]
+        items.append(Label((inner[0] + inset[0], inner[1] + inset[1]), names[role], h,
+                           v))  # type: ignore[arg-type]
+
+    # Left side: DIS, THR, TRIG.
+    items.append(Wire(((0.0, y_dis), (x_pin, y_dis))))
+    pin((x_pin, y_dis), (bx0, y_dis), "dis", "right", "middle")
+    items.append(Wire(((0.0, y_thr), (x_pin, y_thr), (x_pin, y_trig))))
+    items.append(Junction((x_pin, y_thr)))
+    pin((x_pin, y_thr), (bx0, y_thr), "thr", "right", "middle")
+    pin((x_pin, y_trig), (bx0, y_trig), "trig", "right", "middle")
+    # Top: VCC and RESET to the rail (RESET held high: always running).
+    x_vcc, x_rst = bx0 + 4.0, bx0 + 10.0
+    rail = -1.5
+    items.append(Wire(((0.0, rail), (x_rst, rail))))
+    items.append(Junction((0.0, rail)))
+    items.append(Junction((x_vcc, rail)))
+    pin((x_vcc, rail), (x_vcc, by0), "vcc", "center", "bottom")
+    pin((x_rst, rail), (x_rst, by0), "reset", "center", "bottom")
+    # Bottom: GND to ground, CV decoupled to ground.
+    x_gnd, x_cv = bx0 + 4.0, bx0 + 10.0
+    pin((x_gnd, by1 + 2.0), (x_gnd, by1), "gnd", "center", "top")
+    items.append(Ground((x_gnd, by1 + 2.0)))
+    pin((x_cv, by1 + 2.0), (x_cv, by1), "ctrl", "center", "top")
+    items.append(Component("capacitor", (x_cv, by1 + 2.0), (x_cv, by1 + 7.0)))
+    items.append(Ground((x_cv, by1 + 7.0)))
+    ref = pen.ref("C")
+    sheet.support["control"] = ref
+    items.append(Label((x_cv + 1.2, by1 + 4.4), ref, "right", "top"))
+    items.append(Label((x_cv + 1.2, by1 + 4.6), control_text, "right", "bottom"))
+    # Right: OUT.
+    y_out = (by0 + by1) / 2
+    pin((bx1 + 2.0, y_out), (bx1, y_out), "out", "left", "middle")
+    items.append(Wire(((bx1 + 2.0, y_out), (bx1 + 5.0, y_out))))
+    items.append(Terminal((bx1 + 5.0, y_out)))
+    items.append(Label((bx1 + 5.8, y_out), "OUT", "right", "middle", "normal"))
+    # Decoupling right at the VCC pin: from the rail's end to ground.
+    xd = bx1 + 3.0
+    items.append(Wire(((x_rst, rail), (xd, rail), (xd, rail + 1.0))))
+    items.append(Component("capacitor", (xd, rail + 1.0), (xd, rail + 6.0)))
+    items.append(Ground((xd, rail + 6.0)))
+    ref = pen.ref("C")
+    sheet.support["decoupling"] = ref
+    items.append(Label((xd + 1.2, rail + 3.4), ref, "right", "top"))
+    items.append(Label((xd + 1.2, rail + 3.6), decoupling_text, "right", "bottom"))
+    return sheet

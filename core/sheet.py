@@ -1,0 +1,480 @@
+"""The build sheet as plain data: everything a person needs at the bench, without the program.
+
+``build_sheet`` gathers it for one chosen candidate (search or trim); the
+window and ``tickbin sheet`` hand it to the renderer in gui, which only lays
+it out. ``take_parts`` takes the sheet's parts out of the drawer as one undo
+step once the circuit is built.
+"""
+
+from __future__ import annotations
+
+import datetime as _dt
+from collections import Counter
+from collections.abc import Iterable, Mapping, Sequence
+from dataclasses import dataclass, field
+from typing import Any
+
+import numpy as np
+
+from core.drawer import Drawer, Part
+from core.errors import InputError
+from core.networks import Node
+from core.schematic import Network, Schematic, astable_schematic, schmitt_schematic
+from core.search import Candidate
+from core.spread import monte_carlo
+from core.timing import Oscillator, predict, waveform
+from core.trim import TrimCandidate, frequency_at_rotation, pot_resistance, rotation_for
+from core.units import Tolerance, format_quantity, parse_voltage
+
+DECOUPLING_F = 100e-9
+"""Supply decoupling at the chip (common practice, no published source: 100 nF ceramic)."""
+CONTROL_F = 10e-9
+"""555 control-voltage pin to ground (NE555 data sheet application circuits: 0.01 µF)."""
+BULK_F = 10e-6
+"""Extra bulk decoupling for the bipolar 555, whose output edges draw current spikes
+(common practice, no published source)."""
+STEERING_DIODE = "1N4148"
+MONTE_CARLO_DRAWS = 10_000
+
+
+@dataclass(frozen=True)
+class PartRow:
+    """One line of the parts list, ticked off while building."""
+
+    refs: str
+    """Reference designators on the schematic (``R1, R2``)."""
+    what: str
+    value: str
+    tolerance: str
+    quantity: int
+    location: str
+    """Drawer location; empty when the part is not in the drawer."""
+    line: int | None
+    """Stock line in the drawer file, or None for parts the drawer does not hold."""
+    note: str = ""
+
+
+@dataclass(frozen=True)
+class PinRow:
+    pin: str
+    function: str
+    connect: str
+
+
+@dataclass(frozen=True)
+class Waveform:
+    """Capacitor voltage and output over a few periods (s, V), with the thresholds (V)."""
+
+    t_s: np.ndarray
+    v_cap_v: np.ndarray
+    v_out_v: np.ndarray
+    upper_v: float
+    lower_v: float
+    supply_v: float
+
+
+@dataclass(frozen=True)
+class Sheet:
+    """Everything printed on a build sheet, as text and numbers (no layout)."""
+
+    title: str
+    date: str
+    summary: list[tuple[str, str]]
+    """Target, circuit, family, supply, package: (label, text)."""
+    schematic: Schematic
+    package: str
+    pins: list[PinRow]
+    parts: list[PartRow]
+    predictions: list[tuple[str, str]]
+    frequency_hz: float
+    """The predicted frequency (at the starting rotation for a trim design), Hz."""
+    waveform: Waveform
+    adjustment: list[str]
+    build_notes: list[str]
+    warnings: list[str]
+    cautions: list[str]
+    take: tuple[Part, ...] = field(default=())
+    """Drawer parts used by the sheet, repeated as often as used (see take_parts)."""
+
+    def to_json(self) -> dict[str, Any]:
+        """The sheet's facts for ``--json`` output (no drawing data)."""
+        return {
+            "title": self.title,
+            "date": self.date,
+            "frequency_hz": self.frequency_hz,
+            "parts": [{"refs": r.refs, "what": r.what, "value": r.value,
+                       "tolerance": r.tolerance, "quantity": r.quantity,
+                       "location": r.location, "line": r.line} for r in self.parts],
+            "predictions": dict(self.predictions),
+            "warnings": list(self.warnings),
+        }
+
+
+def _fmt(value: float, kind: str) -> str:
+    return format_quantity(value, "capacitance" if kind == "C" else "resistance")
+
+
+def _hz(value: float) -> str:
+    return format_quantity(value, "frequency")
+
+
+def _network_tolerance(node: Node) -> Tolerance:
+    """The network's value range as a tolerance about its nominal value."""
+    lo, hi = node.value_range()
+    v = node.value
+    return Tolerance(max(0.0, 1 - lo / v), max(0.0, hi / v - 1))
+
+
+def _describe(part: Part) -> str:
+    if part.kind == "R":
+        return "resistor"
+    if part.kind == "P":
+        return f"potentiometer, {'log' if part.taper == 'log' else 'linear'}"
+    return f"capacitor, {part.dielectric}" if part.dielectric else "capacitor"
+
+
+def voltage_ratings(drawer: Drawer) -> dict[int, str]:
+    """Stock line -> the text of the drawer's ``voltage`` column, where filled in."""
+    out = {}
+    for part in drawer.parts():
+        text = drawer.rows[part.row].get("voltage").strip()
+        if text:
+            out[part.stock_line] = text
+    return out
+
+
+def _find_in_stock(stock: Sequence[Part], farads: float, used: Counter[int]) -> Part | None:
+    """A non-polarised capacitor of this value with a piece left after the timing parts."""
+    for part in stock:
+        if (part.kind == "C" and not part.polarised and abs(part.value / farads - 1) < 0.02
+                and part.quantity - used[part.stock_line] > 0):
+            return part
+    return None
+
+
+def _support_row(refs: str, what: str, farads: float, stock: Sequence[Part],
+                 used: Counter[int], take: list[Part]) -> PartRow:
+    part = _find_in_stock(stock, farads, used)
+    if part is None:
+        return PartRow(refs, what, _fmt(farads, "C"), "", 1, "", None, "not in the drawer")
+    used[part.stock_line] += 1
+    take.append(part)
+    return PartRow(refs, what, _fmt(farads, "C"), str(part.tolerance), 1, part.location,
+                   part.stock_line)
+
+
+def build_sheet(osc: Oscillator, candidate: Candidate | TrimCandidate, target: str, *,
+                stock: Sequence[Part] = (), ratings: Mapping[int, str] | None = None,
+                today: _dt.date | None = None) -> Sheet:
+    """The build sheet for ``candidate`` on ``osc``.
+
+    ``target`` is the person's target as text (``1 kHz``, ``900 Hz … 1.1 kHz``);
+    ``stock`` the drawer's parts, to find the decoupling capacitors in it;
+    ``ratings`` stock line -> voltage rating text (``voltage_ratings``), used
+    to check polarised capacitors against the supply.
+    """
+    trim = isinstance(candidate, TrimCandidate)
+    device = osc.device
+    family = device.family
+    package = family.package
+    supply = device.supply_v
+    supply_text = format_quantity(supply, "voltage")
+    networks: dict[str, Node] = dict(candidate.networks)
+    value_text = lambda part: _fmt(part.value, part.kind)  # noqa: E731
+
+    if osc.circuit == "555":
+        pins = {role: str(package.pins[key]) for role, key in
+                (("gnd", "gnd"), ("trig", "trigger"), ("out", "output"), ("reset", "reset"),
+                 ("ctrl", "control"), ("thr", "threshold"), ("dis", "discharge"),
+                 ("vcc", "vcc"))}
+        steered = bool(getattr(candidate, "diode_steered", False))
+        schematic = astable_schematic(
+            Network(networks["RA"], "RA", value_text), Network(networks["RB"], "RB", value_text),
+            Network(networks["C"], "C", value_text), pins=pins, chip=f"U1 {family.name}",
+            supply_text=f"+{supply_text}", decoupling_text=_fmt(DECOUPLING_F, "C"),
+            control_text=_fmt(CONTROL_F, "C"),
+            diode_text=STEERING_DIODE if steered else None)
+    else:
+        feedback = [Network(networks["R"], "R", value_text)]
+        if trim:
+            feedback.append(Network(networks["P"], "P", value_text))
+        schematic = schmitt_schematic(
+            feedback, Network(networks["C"], "C", value_text),
+            gate_ref=f"U1a {family.name}", input_pin=str(package.pins["input"]),
+            output_pin=str(package.pins["output"]), vcc_pin=str(package.pins["vcc"]),
+            gnd_pin=str(package.pins["gnd"]), supply_text=f"+{supply_text}",
+            decoupling_text=_fmt(DECOUPLING_F, "C"))
+        steered = False
+
+    # Parts list: one line per stock line used, in schematic order.
+    refs: dict[tuple[int, str], list[str]] = {}
+    first: dict[tuple[int, str], Part] = {}
+    for placed in schematic.placed:
+        part: Part = placed.part  # type: ignore[assignment]
+        key = (part.stock_line, placed.role)
+        refs.setdefault(key, []).append(placed.ref)
+        first.setdefault(key, part)
+    take = [p for node in networks.values() for p in node.parts()]
+    used = Counter(p.stock_line for p in take)
+    rows = []
+    for key, part in first.items():
+        role = f" ({key[1]})" if osc.circuit == "555" and key[1] != "C" else ""
+        note = "; ".join(x for x in ("+ lead to the timing node" if part.polarised else "",
+                                     part.note) if x)
+        rows.append(PartRow(", ".join(refs[key]), _describe(part) + role,
+                            _fmt(part.value, part.kind), str(part.tolerance), len(refs[key]),
+                            part.location or "—", key[0], note))
+    rows.append(PartRow("U1", family.description, family.name, "", 1, "", None,
+                        package.name))
+    support = schematic.support
+    rows.append(_support_row(support["decoupling"], "decoupling, ceramic", DECOUPLING_F,
+                             stock, used, take))
+    if osc.circuit == "555":
+        rows.append(_support_row(support["control"], "control pin, ceramic", CONTROL_F, stock,
+                                 used, take))
+        if steered:
+            rows.append(PartRow(support["diode"], "small-signal diode", STEERING_DIODE, "", 1,
+                                "", None, "anode to DIS (7), cathode to THR (6)"))
+
+    extra = {"diode_steered": True} if steered else {}
+    dielectric = _common_dielectric(networks["C"])
+    predictions: list[tuple[str, str]] = []
+    adjustment: list[str] = []
+    if trim:
+        start = _start_rotation(osc, candidate)
+        model_values, model_tol = _values_at_rotation(candidate, start)
+        frequency = float(frequency_at_rotation(osc, candidate, start))
+        prediction = predict(osc, model_values, model_tol, dielectric=dielectric)
+        adjustment = _adjustment(osc, candidate, start, frequency, refs_of(schematic, "P"))
+        full, zero = candidate.range_hz
+        g_lo, g_hi = candidate.guaranteed_hz
+        predictions += [
+            ("Adjustable range (nominal parts)", f"{_hz(full)} (full rotation) … {_hz(zero)} "
+                                                 "(zero rotation)"),
+            ("Reached by every build", f"{_hz(g_lo)} … {_hz(g_hi)} (every tolerance and "
+                                       "threshold corner)"),
+            ("Frequency at the starting position", f"{_hz(frequency)} at {start:.0f} % "
+                                                   "rotation"),
+        ]
+    else:
+        model_values = {k: float(v) for k, v in candidate.values.items()}
+        model_tol = {k: _network_tolerance(n) for k, n in networks.items()}
+        prediction = predict(osc, model_values, model_tol, dielectric=dielectric, **extra)
+        frequency = float(candidate.frequency_hz)
+        predictions += [("Predicted frequency", _hz(frequency)),
+                        ("Error against target", f"{float(candidate.error_pct):+.2f} %")]
+    predictions.append(("Period", format_quantity(prediction.period_s, "period")))
+    predictions.append(("Duty cycle (output high)", f"{prediction.duty_pct:.1f} %"))
+    lo, hi = prediction.worst_case_hz
+    where = " at the starting position" if trim else ""
+    predictions.append((f"Worst case{where}", f"{_hz(lo)} … {_hz(hi)} (every tolerance "
+                                              "and threshold corner)"))
+    mc = monte_carlo(osc, model_values, model_tol, n=MONTE_CARLO_DRAWS, seed=0, **extra)
+    m_lo, m_hi = mc.interval_95
+    predictions.append((f"95 % of builds{where}", f"{_hz(m_lo)} … {_hz(m_hi)} (Monte Carlo, "
+                                                  f"{MONTE_CARLO_DRAWS:,} draws)"))
+    t, v_cap, v_out = waveform(osc, model_values, periods=3, **extra)
+    wave = Waveform(np.asarray(t), np.asarray(v_cap), np.asarray(v_out), osc.vt_plus_v,
+                    osc.vt_minus_v, supply)
+
+    summary = [
+        ("Target", target),
+        ("Circuit", "555 astable" + (" (diode-steered)" if steered else "")
+         if osc.circuit == "555" else "Schmitt-trigger inverter RC oscillator"),
+        ("Chip", f"{family.name} — {family.description}"),
+        ("Supply", f"{supply_text} (range {family.supply_range_v[0]:g}–"
+                   f"{family.supply_range_v[1]:g} V)"),
+        ("Thresholds", _threshold_text(osc)),
+    ]
+    warnings = list(dict.fromkeys([*prediction.warnings, *candidate.notes]))
+    title = (f"Build sheet: {target} "
+             f"{'555 astable' if osc.circuit == '555' else 'Schmitt oscillator'}"
+             f"{' with trimmer' if trim else ''}")
+    return Sheet(
+        title=title,
+        date=(today or _dt.date.today()).isoformat(),
+        summary=summary,
+        schematic=schematic,
+        package=package.name,
+        pins=_pin_rows(osc.circuit, package),
+        parts=rows,
+        predictions=predictions,
+        frequency_hz=frequency,
+        waveform=wave,
+        adjustment=adjustment,
+        build_notes=_build_notes(osc, package, networks),
+        warnings=warnings,
+        cautions=_cautions(osc, take, ratings or {}, supply),
+        take=tuple(take),
+    )
+
+
+def refs_of(schematic: Schematic, kind: str) -> str:
+    """The references of the drawn parts of one kind (``P1``)."""
+    return ", ".join(p.ref for p in schematic.placed
+                     if p.part.kind == kind)  # type: ignore[attr-defined]
+
+
+def _common_dielectric(node: Node) -> str:
+    """The capacitors' dielectric when they share one (for the model's warnings)."""
+    kinds = {p.dielectric for p in node.parts()}
+    return kinds.pop() if len(kinds) == 1 else ""
+
+
+def _band(osc: Oscillator, candidate: TrimCandidate) -> tuple[float, float]:
+    """The band the design was found for (low, high) [Hz], from its rotations."""
+    rot_high, rot_low = candidate.rotation_pct
+    f = frequency_at_rotation(osc, candidate, np.array([rot_low, rot_high]))
+    return float(f[0]), float(f[1])
+
+
+def _start_rotation(osc: Oscillator, candidate: TrimCandidate) -> float:
+    """Rotation [%] that puts a nominal build in the middle of its band."""
+    lo, hi = _band(osc, candidate)
+    return float(rotation_for(osc, candidate, 0.5 * (lo + hi)))
+
+
+def _values_at_rotation(candidate: TrimCandidate, rotation_pct: float
+                        ) -> tuple[dict[str, float], dict[str, Tolerance]]:
+    """Schmitt model values (R = fixed R + pot share, C) and their tolerances at one rotation."""
+    r, p, c = (candidate.networks[k] for k in ("R", "P", "C"))
+    (r_lo, r_hi), (p_lo, p_hi) = r.value_range(), p.value_range()
+
+    def total(fixed: float, pot: float) -> float:
+        return fixed + float(pot_resistance(pot, rotation_pct, candidate.taper))
+
+    nominal = total(r.value, p.value)
+    tol = Tolerance(1 - total(r_lo, p_lo) / nominal, total(r_hi, p_hi) / nominal - 1)
+    return {"R": nominal, "C": c.value}, {"R": tol, "C": _network_tolerance(c)}
+
+
+def _adjustment(osc: Oscillator, candidate: TrimCandidate, start: float, f_start: float,
+                pot_ref: str) -> list[str]:
+    """The bench procedure for a trim design (common practice, no published source)."""
+    lo, hi = _band(osc, candidate)
+    rot_high, rot_low = candidate.rotation_pct
+    pot = candidate.networks["P"].parts()[0]
+    resolution = _hz(candidate.resolution_hz_per_pct)
+    taper = (" It is a log-taper pot: the frequency moves slowly near zero rotation and "
+             "quickly near full rotation." if candidate.taper == "log" else "")
+    return [
+        f"Before fitting {pot_ref} ({_fmt(pot.value, 'P')}), check it with an ohmmeter between "
+        "pin 1 and the wiper (pin 2): the reading should rise as you turn clockwise. If it "
+        "falls, your part is wired the other way round and every direction below swaps.",
+        f"Set {pot_ref} to about {start:.0f} % of its travel, counted from the pin-1 end "
+        "(fully anticlockwise = 0 %; a 25-turn trimmer moves 4 % per turn). A nominal build "
+        f"then runs near {_hz(f_start)}, the middle of the band.",
+        "Turning clockwise puts more resistance in circuit and lowers the frequency; turning "
+        f"anticlockwise raises it. With nominal parts the band's top, {_hz(hi)}, is near "
+        f"{rot_high:.0f} % and its bottom, {_hz(lo)}, near {rot_low:.0f} %; your parts' "
+        f"tolerances move these points, but every build reaches the whole band.{taper}",
+        "Measure at OUT or at a spare gate driven from it, never on the timing capacitor. A "
+        "frequency counter with 1 s gate time reads to 1 Hz (10 s to 0.1 Hz). On an "
+        "oscilloscope, trigger on the rising edge, read the period T between two rising "
+        "edges (or over ten periods, then divide) and take f = 1/T.",
+        f"Fine-tune: expect about {resolution} per 1 % of rotation near the band centre. "
+        "Approach the target from one side in small steps, wait a few seconds after each, "
+        "give the circuit a minute to warm up before the last step, and read again after "
+        "removing the probe.",
+        "When it is set, mark the position, or fix the screw with a dab of paint if the "
+        "board will be moved.",
+    ]
+
+
+_SCHMITT_PIN_ROLES = (("input", "gate input", "timing node: C to GND, R (and pot) from output"),
+                      ("tie_high", "second NAND input", "VCC (the NAND works as an inverter)"),
+                      ("output", "gate output", "R (and pot) back to the input; OUT"),
+                      ("vcc", "supply", "+ supply; 100 nF to GND right at the pin"),
+                      ("gnd", "ground", "supply 0 V"))
+_TIMER_PIN_ROLES = (("gnd", "GND", "supply 0 V"),
+                    ("trigger", "TRIG", "timing node (join to THR, 6)"),
+                    ("output", "OUT", "output; buffer heavy loads"),
+                    ("reset", "RESET", "VCC (held high: always running)"),
+                    ("control", "CV", "10 nF to GND"),
+                    ("threshold", "THR", "timing node: C to GND, RB to DIS"),
+                    ("discharge", "DIS", "between RA and RB"),
+                    ("vcc", "VCC", "+ supply; 100 nF to GND right at the pin"))
+
+
+def _pin_rows(circuit: str, package: Any) -> list[PinRow]:
+    roles = _TIMER_PIN_ROLES if circuit == "555" else _SCHMITT_PIN_ROLES
+    rows = [PinRow(str(package.pins[key]), name, connect) for key, name, connect in roles
+            if key in package.pins]
+    if package.unused_inputs:
+        rows.append(PinRow(", ".join(str(p) for p in package.unused_inputs),
+                           "unused gate inputs", "GND (never leave them open)"))
+    rows.sort(key=lambda r: int(r.pin.split(",")[0]))
+    return rows
+
+
+def _threshold_text(osc: Oscillator) -> str:
+    if osc.circuit == "555":
+        return f"comparators at {osc.vt_plus_v:.2f} V and {osc.vt_minus_v:.2f} V"
+    text = f"VT+ {osc.vt_plus_v:.2f} V, VT− {osc.vt_minus_v:.2f} V"
+    if osc.calibration:
+        return f"{text} (calibration “{osc.calibration}”)"
+    if osc.thresholds_given:
+        return f"{text} (given; no threshold spread)"
+    return f"{text} (device table, typical)"
+
+
+def _build_notes(osc: Oscillator, package: Any, networks: Mapping[str, Node]) -> list[str]:
+    """What an experienced builder would tell a newcomer (common practice, no published source)."""
+    notes = [n[:1].upper() + n[1:] for n in package.notes]
+    if osc.circuit == "555":
+        notes += [
+            "Keep the timing capacitor and RB close to pins 2 and 6, and its ground lead "
+            "short to pin 1.",
+            "Drive loads from pin 3 through a series resistor; a relay or motor needs a "
+            "flyback diode across it.",
+        ]
+    else:
+        notes += [
+            "Keep the timing leads short: the capacitor right at the input pin, its ground "
+            "end straight to the chip's GND pin; route the resistor away from other signals.",
+            "Buffer any load through another gate of the same chip (its input on OUT): a "
+            "load on the timing output shifts the output levels and with them the frequency.",
+            "Measure at a buffered output, never with a probe on the timing capacitor: "
+            "a probe's 10–15 pF adds to C.",
+        ]
+    caps = [p for p in networks["C"].parts()]
+    if any(p.dielectric in ("x7r", "x5r", "y5v", "z5u") for p in caps):
+        notes.append("The timing capacitor is a high-k ceramic (X7R/X5R/Y5V): its value moves "
+                     "with temperature and DC voltage. Film or C0G holds the frequency better.")
+    if any(p.polarised for p in caps):
+        notes.append("An electrolytic timing capacitor leaks and ages; expect the frequency to "
+                     "wander more than the tolerance band suggests.")
+    return notes
+
+
+def _cautions(osc: Oscillator, take: Iterable[Part], ratings: Mapping[int, str],
+              supply: float) -> list[str]:
+    out = [
+        f"Power the circuit from a low-voltage, current-limited supply: a bench supply set to "
+        f"{format_quantity(supply, 'voltage')} with its current limit at about 50 mA, or a "
+        "battery with a fuse. Check the supply polarity before connecting the chip.",
+        "Electrolytic and tantalum capacitors are polarised: the + lead goes to the more "
+        "positive node (on this sheet, towards the timing node or the supply, never to GND), "
+        "and the voltage rating must exceed the supply with margin. Reversed or over-voltage, "
+        "they can vent or burst.",
+    ]
+    for part in dict.fromkeys(p for p in take if p.polarised):
+        text = ratings.get(part.stock_line, "")
+        where = f"line {part.stock_line}, {part.location or 'no location'}"
+        try:
+            rated = parse_voltage(text) if text else None
+        except InputError:
+            rated = None
+        if rated is None:
+            out.append(f"{_fmt(part.value, 'C')} {part.dielectric} ({where}): the drawer gives "
+                       "no voltage rating; read it off the can before fitting it.")
+        elif rated < 1.5 * supply:
+            out.append(f"{_fmt(part.value, 'C')} {part.dielectric} ({where}) is rated {text}: "
+                       f"too close to the {format_quantity(supply, 'voltage')} supply; use a "
+                       "higher-rated one.")
+        else:
+            out.append(f"{_fmt(part.value, 'C')} {part.dielectric} ({where}) is rated {text}: "
+                       "fine for this supply; mind the polarity.")
+    out.append("This sheet does not cover mains-connected designs. For anything connected to "
+               "the mains, local codes and licensed practice apply.")
+    return out

@@ -1,0 +1,528 @@
+"""Draws a ``core.sheet.Sheet`` on paper: a PDF file or the system printer.
+
+All content comes from core; this module only lays it out top to bottom,
+breaking pages between blocks, and draws the schematic primitives. Black on
+white with grey fills only, so it prints well on any printer.
+"""
+
+from __future__ import annotations
+
+import ctypes
+import math
+import sys
+from collections.abc import Sequence
+from pathlib import Path
+
+from PySide6.QtCore import QMarginsF, QPointF, QRectF, Qt
+from PySide6.QtGui import (
+    QBrush,
+    QColor,
+    QFont,
+    QFontMetricsF,
+    QPagedPaintDevice,
+    QPageLayout,
+    QPageSize,
+    QPainter,
+    QPainterPath,
+    QPdfWriter,
+    QPen,
+    QPolygonF,
+)
+
+from core import schematic as sch
+from core.errors import InputError, TickbinError
+from core.sheet import Sheet
+from core.units import format_quantity
+
+PAGE_SIZES = {"a4": QPageSize.PageSizeId.A4, "letter": QPageSize.PageSizeId.Letter}
+MARGIN_MM = 15.0
+RESOLUTION_DPI = 600
+UNIT_MM = 2.6
+"""Schematic grid unit at full size (shrunk if the drawing is wider than the page)."""
+FONT_FAMILY = "DejaVu Sans"
+"""Has Ω, µ, ∥, … and ☐; Qt falls back to any sans-serif font when missing."""
+
+
+
+def keep_none_alive() -> None:
+    """Work around PySide6 6.12 on Python 3.11: each call of a C++ ``void`` method drops
+    one reference to ``None`` that it never took (the bindings assume Python ≥ 3.12,
+    where ``None`` is immortal). A sheet makes thousands of such painter calls, and
+    ``None``'s count reaching zero aborts the interpreter ("none_dealloc"). Giving
+    ``None`` a huge reference count makes it effectively immortal, as on 3.12.
+    """
+    if sys.version_info < (3, 12) and sys.getrefcount(None) < 1 << 40:
+        ctypes.c_ssize_t.from_address(id(None)).value += 1 << 48
+
+
+keep_none_alive()
+
+_GREY = QColor(110, 110, 110)
+_LIGHT = QColor(232, 232, 232)
+
+
+def page_size_id(name: str) -> QPageSize.PageSizeId:
+    try:
+        return PAGE_SIZES[name.lower()]
+    except KeyError:
+        raise InputError("expected A4 or Letter", text=name, what="page size") from None
+
+
+def render_sheet_pdf(sheet: Sheet, path: str | Path, page_size: str = "A4") -> int:
+    """Write ``sheet`` to a PDF file; returns the number of pages."""
+    writer = QPdfWriter(str(path))
+    writer.setResolution(RESOLUTION_DPI)
+    writer.setTitle(sheet.title)
+    writer.setCreator("Tickbin")
+    writer.setPageLayout(QPageLayout(QPageSize(page_size_id(page_size)),
+                                     QPageLayout.Orientation.Portrait,
+                                     QMarginsF(MARGIN_MM, MARGIN_MM, MARGIN_MM, MARGIN_MM),
+                                     QPageLayout.Unit.Millimeter))
+    pages = render_sheet(sheet, writer)
+    if not Path(path).is_file():
+        raise TickbinError(f"{path}: the PDF could not be written")
+    return pages
+
+
+def render_sheet(sheet: Sheet, device: QPagedPaintDevice) -> int:
+    """Draw ``sheet`` on a PDF writer or printer (already set up); returns pages drawn."""
+    painter = QPainter()
+    if not painter.begin(device):
+        raise TickbinError("cannot draw on the output device (is the file writable?)")
+    try:
+        flow = _Flow(painter, device, sheet)
+        flow.run()
+        return flow.page
+    finally:
+        painter.end()
+
+
+def print_sheet(sheet: Sheet, parent: object = None) -> bool:
+    """Show the system print dialog and print ``sheet``; False when cancelled."""
+    from PySide6.QtPrintSupport import QPrintDialog, QPrinter
+
+    printer = QPrinter(QPrinter.PrinterMode.HighResolution)
+    printer.setDocName(sheet.title)
+    printer.setPageMargins(QMarginsF(MARGIN_MM, MARGIN_MM, MARGIN_MM, MARGIN_MM),
+                           QPageLayout.Unit.Millimeter)
+    dialog = QPrintDialog(printer, parent)
+    dialog.setWindowTitle("Print build sheet")
+    if dialog.exec() != QPrintDialog.DialogCode.Accepted:
+        return False
+    render_sheet(sheet, printer)
+    return True
+
+
+# ---------------------------------------------------------------- page flow
+
+def _font(size: float, bold: bool = False) -> QFont:
+    f = QFont(FONT_FAMILY)
+    f.setStyleHint(QFont.StyleHint.SansSerif)
+    f.setPointSizeF(size)
+    f.setBold(bold)
+    return f
+
+
+class _Flow:
+    """Blocks from top to bottom in millimetres; a block that does not fit starts a page."""
+
+    BODY, SMALL, HEAD, TITLE = 9.0, 7.5, 11.0, 15.0
+
+    def __init__(self, painter: QPainter, device: QPagedPaintDevice, sheet: Sheet):
+        self.p = painter
+        self.device = device
+        self.sheet = sheet
+        self.scale = device.logicalDpiX() / 25.4  # device pixels per mm
+        rect = device.pageLayout().paintRectPixels(device.logicalDpiX())
+        self.width = rect.width() / self.scale
+        self.height = rect.height() / self.scale - 8.0  # room for the footer
+        self.y = 0.0
+        self.page = 1
+        painter.scale(self.scale, self.scale)  # from here on: millimetres
+
+    # -- primitives in mm
+    # Text is measured and drawn in device pixels (fonts are sized for the device's
+    # resolution, so they must not go through the millimetre scale).
+    def text_height(self, text: str, width: float, font: QFont) -> float:
+        fm = QFontMetricsF(font, self.device)
+        k = self.scale
+        r = fm.boundingRect(QRectF(0, 0, width * k, 1e6), int(_WRAP), text)
+        return r.height() / k
+
+    def draw_text(self, x: float, y: float, width: float, text: str, font: QFont,
+                  align: Qt.AlignmentFlag = Qt.AlignmentFlag.AlignLeft,
+                  colour: QColor | None = None) -> float:
+        k = self.scale
+        h = self.text_height(text, width, font)
+        self.p.save()
+        self.p.resetTransform()
+        self.p.setFont(font)
+        self.p.setPen(colour or Qt.GlobalColor.black)
+        self.p.drawText(QRectF(x * k, y * k, width * k, h * k + 2), _WRAP | align, text)
+        self.p.restore()
+        return h
+
+    def need(self, height: float) -> None:
+        if self.y + height > self.height and self.y > 0:
+            self.new_page()
+
+    def new_page(self) -> None:
+        self.footer()
+        self.device.newPage()
+        self.page += 1
+        self.y = 0.0
+
+    def footer(self) -> None:
+        self.draw_text(0, self.height + 3.0, self.width,
+                       f"Tickbin build sheet · {self.sheet.date} · page {self.page}",
+                       _font(self.SMALL), Qt.AlignmentFlag.AlignRight, _GREY)
+
+    # -- blocks
+    def run(self) -> None:
+        s = self.sheet
+        self.title()
+        self.key_values(s.summary, 34.0)
+        self.heading("Schematic")
+        self.schematic()
+        self.heading(f"Pin hookup ({s.package})", keep=20)
+        self.table(["Pin", "Function", "Connect to"], [[r.pin, r.function, r.connect]
+                                                      for r in s.pins], [30, 40, None])
+        # Keep the parts list on one page with its heading wherever it fits.
+        whole = sum(h + 1.6 for h in self.parts_layout()[2])
+        self.heading("Parts list", keep=min(whole, self.height - 20.0))
+        self.parts()
+        self.heading("Predicted performance", keep=50)
+        self.key_values(s.predictions, 70.0)
+        self.plot()
+        if s.adjustment:
+            self.heading("Adjustment", keep=25)
+            self.items(s.adjustment, numbered=True)
+        self.heading("Build notes", keep=20)
+        self.items(s.build_notes)
+        if s.warnings:
+            self.heading("What the model warns about", keep=20)
+            self.items(s.warnings)
+        self.heading("Cautions", keep=30)
+        self.items(s.cautions, boxed=True)
+        self.footer()
+
+    def title(self) -> None:
+        h = self.draw_text(0, self.y, self.width * 0.78, self.sheet.title, _font(self.TITLE, True))
+        self.draw_text(self.width * 0.78, self.y + 1.0, self.width * 0.22, self.sheet.date,
+                       _font(self.BODY), Qt.AlignmentFlag.AlignRight)
+        self.y += h + 1.5
+        self.rule(0.5)
+        self.y += 3.0
+
+    def rule(self, weight: float) -> None:
+        self.p.setPen(QPen(Qt.GlobalColor.black, weight))
+        self.p.drawLine(QPointF(0, self.y), QPointF(self.width, self.y))
+
+    def heading(self, text: str, keep: float = 15.0) -> None:
+        self.y += 3.0
+        self.need(8.0 + keep)
+        h = self.draw_text(0, self.y, self.width, text, _font(self.HEAD, True))
+        self.y += h + 0.6
+        self.p.setPen(QPen(_GREY, 0.25))
+        self.p.drawLine(QPointF(0, self.y), QPointF(self.width, self.y))
+        self.y += 2.0
+
+    def key_values(self, pairs: Sequence[tuple[str, str]], key_width: float) -> None:
+        body, bold = _font(self.BODY), _font(self.BODY, True)
+        for key, value in pairs:
+            h = max(self.text_height(key, key_width - 2, bold),
+                    self.text_height(value, self.width - key_width, body))
+            self.need(h + 0.8)
+            self.draw_text(0, self.y, key_width - 2, key, bold)
+            self.draw_text(key_width, self.y, self.width - key_width, value, body)
+            self.y += h + 0.8
+
+    def table(self, header: list[str], rows: list[list[str]],
+              widths: list[float | None]) -> None:
+        fixed = sum(w for w in widths if w is not None)
+        free = [i for i, w in enumerate(widths) if w is None]
+        col = [w if w is not None else (self.width - fixed) / len(free) for w in widths]
+        body, bold = _font(self.BODY), _font(self.BODY, True)
+
+        def line(cells: list[str], font: QFont, shade: bool) -> None:
+            h = max(self.text_height(c, w - 2.0, font) for c, w in zip(cells, col, strict=True))
+            self.need(h + 1.6)
+            if shade:
+                self.p.fillRect(QRectF(0, self.y, self.width, h + 1.2), _LIGHT)
+            x = 0.0
+            for c, w in zip(cells, col, strict=True):
+                self.draw_text(x + 1.0, self.y + 0.6, w - 2.0, c, font)
+                x += w
+            self.y += h + 1.2
+            self.p.setPen(QPen(_GREY, 0.15))
+            self.p.drawLine(QPointF(0, self.y), QPointF(self.width, self.y))
+            self.y += 0.4
+
+        line(header, bold, True)
+        for r in rows:
+            line(r, body, False)
+
+    def parts_layout(self) -> tuple[list[list[str]], list[float], list[float]]:
+        """Cells (header first), column widths and row heights of the parts list [mm]."""
+        header = ["", "Ref", "Part", "Value", "Tol.", "Qty", "Location", "Line", "Note"]
+        widths = [7.0, 14.0, 40.0, 18.0, 13.0, 9.0, 17.0, 10.0]
+        widths.append(self.width - sum(widths))
+        body, bold = _font(self.BODY), _font(self.BODY, True)
+        rows = [["", r.refs, r.what, r.value, r.tolerance, str(r.quantity), r.location,
+                 "" if r.line is None else str(r.line), r.note] for r in self.sheet.parts]
+        cells = [header, *rows]
+        heights = [max(max(self.text_height(c, w - 2.0, bold if i == 0 else body) if c else 0.0
+                           for c, w in zip(row, widths, strict=True)), 4.6 if i else 0.0)
+                   for i, row in enumerate(cells)]
+        return cells, widths, heights
+
+    def parts(self) -> None:
+        body, bold = _font(self.BODY), _font(self.BODY, True)
+        cells_all, widths, heights = self.parts_layout()
+        for i, cells in enumerate(cells_all):
+            font = bold if i == 0 else body
+            h = heights[i]
+            self.need(h + 1.6)
+            if i == 0:
+                self.p.fillRect(QRectF(0, self.y, self.width, h + 1.2), _LIGHT)
+            else:
+                # The tick box: ticked off by hand as each part goes in.
+                self.p.setPen(QPen(Qt.GlobalColor.black, 0.3))
+                self.p.setBrush(Qt.BrushStyle.NoBrush)
+                self.p.drawRect(QRectF(1.5, self.y + 0.6, 3.8, 3.8))
+            x = 0.0
+            for c, w in zip(cells, widths, strict=True):
+                if c:
+                    self.draw_text(x + 1.0, self.y + 0.6, w - 2.0, c, font)
+                x += w
+            self.y += h + 1.2
+            self.p.setPen(QPen(_GREY, 0.15))
+            self.p.drawLine(QPointF(0, self.y), QPointF(self.width, self.y))
+            self.y += 0.4
+
+    def items(self, texts: Sequence[str], numbered: bool = False, boxed: bool = False) -> None:
+        body = _font(self.BODY)
+        indent = 6.0
+        for i, text in enumerate(texts, start=1):
+            h = self.text_height(text, self.width - indent - 2.0, body)
+            self.need(h + 1.4)
+            mark = f"{i}." if numbered else "•"
+            if boxed:
+                self.p.fillRect(QRectF(0, self.y - 0.3, 1.2, h + 0.6), Qt.GlobalColor.black)
+                mark = "!"
+            self.draw_text(2.0, self.y, indent, mark, _font(self.BODY, boxed))
+            self.draw_text(indent + 1.0, self.y, self.width - indent - 2.0, text, body)
+            self.y += h + 1.4
+
+    # -- the waveform
+    def plot(self) -> None:
+        w = self.sheet.waveform
+        height, left, bottom = 52.0, 13.0, 8.0
+        self.y += 2.0
+        self.need(height + 2.0)
+        box = QRectF(left, self.y, self.width - left - 2.0, height - bottom)
+        t0, t1 = float(w.t_s[0]), float(w.t_s[-1])
+        v_top = w.supply_v * 1.08
+
+        def pt(t: float, v: float) -> QPointF:
+            return QPointF(box.left() + (t - t0) / (t1 - t0) * box.width(),
+                           box.bottom() - v / v_top * box.height())
+
+        small = _font(self.SMALL)
+        self.p.setPen(QPen(Qt.GlobalColor.black, 0.25))
+        self.p.setBrush(Qt.BrushStyle.NoBrush)
+        self.p.drawRect(box)
+        for v, name in ((0.0, "0 V"), (w.supply_v, format_quantity(w.supply_v, "voltage"))):
+            y = pt(t0, v).y()
+            self.draw_text(0, y - 1.6, left - 1.5, name, small, Qt.AlignmentFlag.AlignRight)
+        for v, name in ((w.upper_v, f"{w.upper_v:.2f} V"), (w.lower_v, f"{w.lower_v:.2f} V")):
+            self.p.setPen(QPen(_GREY, 0.2, Qt.PenStyle.DashLine))
+            self.p.drawLine(pt(t0, v), pt(t1, v))
+            self.draw_text(0, pt(t0, v).y() - 1.6, left - 1.5, name, small,
+                           Qt.AlignmentFlag.AlignRight, _GREY)
+        step = _nice_step((t1 - t0) / 6)
+        t = math.ceil(t0 / step) * step
+        while t <= t1 + step * 1e-6:
+            x = pt(t, 0).x()
+            self.p.setPen(QPen(Qt.GlobalColor.black, 0.2))
+            self.p.drawLine(QPointF(x, box.bottom()), QPointF(x, box.bottom() + 1.0))
+            self.draw_text(x - 10, box.bottom() + 1.2, 20, format_quantity(t, "time"), small,
+                           Qt.AlignmentFlag.AlignHCenter)
+            t += step
+        for values, pen in ((w.v_out_v, QPen(_GREY, 0.35)),
+                            (w.v_cap_v, QPen(Qt.GlobalColor.black, 0.5))):
+            path = QPainterPath(pt(float(w.t_s[0]), float(values[0])))
+            for t, v in zip(w.t_s[1:], values[1:], strict=True):
+                path.lineTo(pt(float(t), float(v)))
+            self.p.setPen(pen)
+            self.p.drawPath(path)
+        legend = ("black: timing capacitor voltage · grey: output · dashed: switching "
+                  "thresholds")
+        self.draw_text(box.left(), box.bottom() + 4.6, box.width(), legend, small,
+                       Qt.AlignmentFlag.AlignHCenter, _GREY)
+        self.y += height + 1.0
+
+    # -- the schematic
+    def schematic(self) -> None:
+        s = self.sheet.schematic
+        x0, y0, x1, y1 = s.bounds()
+        unit = min(UNIT_MM, (self.width - 30.0) / max(x1 - x0, 1.0))
+        pad = 4.0  # grid units of room around the geometry for labels and symbols
+        height = (y1 - y0 + 2 * pad) * unit
+        self.need(height)
+        ox = (self.width - (x1 - x0) * unit) / 2 - 6.0
+        origin = QPointF(ox - x0 * unit, self.y + pad * unit - y0 * unit)
+        _Schematic(self, unit, origin).draw(s)
+        self.y += height
+
+
+_WRAP = Qt.TextFlag.TextWordWrap
+
+
+def _nice_step(raw: float) -> float:
+    exp = math.floor(math.log10(raw))
+    for m in (1, 2, 5, 10):
+        if m * 10**exp >= raw:
+            return m * 10**exp
+    return 10 ** (exp + 1)
+
+
+class _Schematic:
+    """Maps grid units to mm and draws each primitive (IEC 60617-style symbols)."""
+
+    def __init__(self, flow: _Flow, unit: float, origin: QPointF):
+        self.f = flow
+        self.p = flow.p
+        self.u = unit
+        self.o = origin
+
+    def pt(self, xy: sch.Point) -> QPointF:
+        return QPointF(self.o.x() + xy[0] * self.u, self.o.y() + xy[1] * self.u)
+
+    def pen(self, weight: float = 0.3) -> None:
+        self.p.setPen(QPen(Qt.GlobalColor.black, weight, Qt.PenStyle.SolidLine,
+                           Qt.PenCapStyle.RoundCap, Qt.PenJoinStyle.RoundJoin))
+        self.p.setBrush(Qt.BrushStyle.NoBrush)
+
+    def draw(self, s: sch.Schematic) -> None:
+        for item in s.items:
+            self.pen()
+            if isinstance(item, sch.Wire):
+                self.p.drawPolyline(QPolygonF([self.pt(q) for q in item.points]))
+            elif isinstance(item, sch.Junction):
+                self.p.setBrush(QBrush(Qt.GlobalColor.black))
+                self.p.drawEllipse(self.pt(item.at), 0.18 * self.u, 0.18 * self.u)
+            elif isinstance(item, sch.Component):
+                self.component(item)
+            elif isinstance(item, sch.Inverter):
+                self.inverter(item)
+            elif isinstance(item, sch.Box):
+                self.box(item)
+            elif isinstance(item, sch.Supply):
+                c = self.pt(item.at)
+                self.p.drawLine(QPointF(c.x() - 0.8 * self.u, c.y()),
+                                QPointF(c.x() + 0.8 * self.u, c.y()))
+                self.f.draw_text(c.x() - 15, c.y() - 1.2 - 3.4, 30, item.text,
+                                 _font(_Flow.SMALL + 0.5), Qt.AlignmentFlag.AlignHCenter)
+            elif isinstance(item, sch.Ground):
+                c = self.pt(item.at)
+                self.p.drawLine(c, QPointF(c.x(), c.y() + 0.8 * self.u))
+                for i, half in enumerate((0.8, 0.5, 0.2)):
+                    y = c.y() + (0.8 + i * 0.3) * self.u
+                    self.p.drawLine(QPointF(c.x() - half * self.u, y),
+                                    QPointF(c.x() + half * self.u, y))
+            elif isinstance(item, sch.Terminal):
+                self.p.setBrush(QBrush(Qt.GlobalColor.white))
+                self.p.drawEllipse(self.pt(item.at), 0.35 * self.u, 0.35 * self.u)
+            elif isinstance(item, sch.Label):
+                self.label(item)
+
+    def label(self, item: sch.Label) -> None:
+        font = _font(_Flow.SMALL if item.size == "small" else _Flow.BODY)
+        fm = QFontMetricsF(font, self.f.device)
+        w = fm.horizontalAdvance(item.text) / self.f.scale
+        h = fm.height() / self.f.scale
+        c = self.pt(item.at)
+        x = {"left": c.x() - w, "center": c.x() - w / 2, "right": c.x()}[item.h]
+        y = {"top": c.y() - h, "middle": c.y() - h / 2, "bottom": c.y()}[item.v]
+        self.f.draw_text(x, y, w + 1.0, item.text, font)
+
+    def component(self, item: sch.Component) -> None:
+        a, b = self.pt(item.a), self.pt(item.b)
+        dx, dy = b.x() - a.x(), b.y() - a.y()
+        length = math.hypot(dx, dy)
+        ux, uy = dx / length, dy / length  # along
+        nx, ny = -uy, ux  # across
+
+        def at(s: float, t: float) -> QPointF:
+            """``s`` mm along from a, ``t`` grid units across."""
+            return QPointF(a.x() + ux * s + nx * t * self.u, a.y() + uy * s + ny * t * self.u)
+
+        mid = length / 2
+        if item.symbol in ("resistor", "pot"):
+            body = 2.6 * self.u / 2
+            self.p.drawLine(a, at(mid - body, 0))
+            self.p.drawLine(at(mid + body, 0), b)
+            self.p.drawPolygon(QPolygonF([at(mid - body, -0.45), at(mid + body, -0.45),
+                                          at(mid + body, 0.45), at(mid - body, 0.45)]))
+            if item.wiper is not None:
+                w = self.pt(item.wiper)
+                tip = at(mid, 0.5 if (w.x() - a.x()) * nx + (w.y() - a.y()) * ny > 0 else -0.5)
+                self.p.drawLine(w, tip)
+                self.arrow_head(w, tip)
+        elif item.symbol in ("capacitor", "electrolytic"):
+            gap = 0.22 * self.u
+            self.p.drawLine(a, at(mid - gap, 0))
+            self.p.drawLine(at(mid + gap, 0), b)
+            self.pen(0.55)
+            self.p.drawLine(at(mid - gap, -0.95), at(mid - gap, 0.95))
+            if item.symbol == "electrolytic":
+                self.p.setBrush(QBrush(Qt.GlobalColor.black))
+                self.p.drawPolygon(QPolygonF([at(mid + gap, -0.95), at(mid + gap + 0.25 * self.u,
+                                                                         -0.95),
+                                              at(mid + gap + 0.25 * self.u, 0.95),
+                                              at(mid + gap, 0.95)]))
+                self.f.draw_text(at(mid - gap - 1.8, -1.3).x() - 2, at(mid - gap - 1.8, -1.3).y()
+                                 - 1.5, 4, "+", _font(_Flow.SMALL), Qt.AlignmentFlag.AlignHCenter)
+            else:
+                self.p.drawLine(at(mid + gap, -0.95), at(mid + gap, 0.95))
+        elif item.symbol == "diode":
+            half = 0.8 * self.u
+            self.p.drawLine(a, at(mid - half, 0))
+            self.p.drawLine(at(mid + half, 0), b)
+            self.p.drawPolygon(QPolygonF([at(mid - half, -0.7), at(mid - half, 0.7),
+                                          at(mid + half, 0)]))
+            self.p.drawLine(at(mid + half, -0.7), at(mid + half, 0.7))
+
+    def arrow_head(self, tail: QPointF, tip: QPointF) -> None:
+        dx, dy = tip.x() - tail.x(), tip.y() - tail.y()
+        n = math.hypot(dx, dy) or 1.0
+        ux, uy = dx / n, dy / n
+        size = 0.45 * self.u
+        bx, by = tip.x() - ux * size, tip.y() - uy * size
+        left = QPointF(bx - uy * size * 0.5, by + ux * size * 0.5)
+        right = QPointF(bx + uy * size * 0.5, by - ux * size * 0.5)
+        self.p.setBrush(QBrush(Qt.GlobalColor.black))
+        self.p.drawPolygon(QPolygonF([tip, left, right]))
+
+    def inverter(self, item: sch.Inverter) -> None:
+        x, y = item.at
+        g = sch.GATE
+        self.p.drawLine(self.pt((x, y)), self.pt((x + 1.0, y)))
+        self.p.drawPolygon(QPolygonF([self.pt((x + 1.0, y - 2.0)), self.pt((x + 1.0, y + 2.0)),
+                                      self.pt((x + g - 1.8, y))]))
+        self.p.drawEllipse(self.pt((x + g - 1.45, y)), 0.35 * self.u, 0.35 * self.u)
+        self.p.drawLine(self.pt((x + g - 1.1, y)), self.pt((x + g, y)))
+        # Hysteresis mark (IEC 60617-12): a small loop inside the triangle.
+        cx = x + 2.55
+        loop = [(cx - 0.75, y + 0.45), (cx + 0.25, y + 0.45), (cx + 0.25, y - 0.45),
+                (cx + 0.75, y - 0.45), (cx - 0.25, y - 0.45), (cx - 0.25, y + 0.45)]
+        self.pen(0.2)
+        self.p.drawPolyline(QPolygonF([self.pt(q) for q in loop]))
+
+    def box(self, item: sch.Box) -> None:
+        r = QRectF(self.pt(item.top_left), self.pt(item.bottom_right))
+        self.pen(0.4)
+        self.p.drawRect(r)
+        self.f.draw_text(r.left(), r.center().y() - 2.0, r.width(), item.title,
+                         _font(_Flow.BODY, True), Qt.AlignmentFlag.AlignHCenter)
