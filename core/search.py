@@ -116,12 +116,15 @@ def astable_frequency(osc: Oscillator, ra: Any, rb: Any, c: Any,
 
 
 def schmitt_resistance(osc: Oscillator, target_hz: float, c: np.ndarray,
-                       limits: tuple[float, float] = (1.0, 1e10)) -> np.ndarray:
+                       limits: tuple[float, float] = (1.0, 1e10),
+                       clip: bool = False) -> np.ndarray:
     """R [Ω] that gives ``target_hz`` [Hz] with each C [F] (full nominal model); NaN if none.
 
     The model's inverse (a bisection) runs only where a one-evaluation
     estimate (f nearly proportional to 1/R) falls within a factor of two of
-    ``limits`` [Ω]: that keeps a search on a full capacitor kit within milliseconds.
+    ``limits`` [Ω]: that keeps a search on a full capacitor kit within
+    milliseconds. With ``clip`` the answer is moved into ``limits`` (an
+    unreachable target gives the nearest allowed R, where the closest miss lies).
     """
     c = np.asarray(c, dtype=float)
     r_ref = math.sqrt(limits[0] * limits[1])
@@ -133,6 +136,11 @@ def schmitt_resistance(osc: Oscillator, target_hz: float, c: np.ndarray,
     out = np.full(c.shape, np.nan)
     if maybe.any():
         out[maybe] = schmitt_resistance_for(osc, target_hz, c[maybe])
+    if clip:
+        # No exact answer: the estimate shows the side; no estimate (R too large to
+        # oscillate at all) means the smallest allowed R.
+        fallback = np.where(np.isnan(estimate), limits[0], estimate)
+        out = np.clip(np.where(np.isnan(out), fallback, out), *limits)
     return out
 
 
@@ -199,6 +207,10 @@ def search(parts: list[Part], osc: Oscillator, target_hz: float, duty_pct: float
     notes = [f"resistor networks limited to {format_resistance(limits[0])} … "
              f"{format_resistance(limits[1])} for {device.family.name} at "
              f"{device.supply_v:g} V"]
+    if target_hz > device.f_max_hz:
+        notes.append(f"{format_frequency(target_hz)} is above what the {device.family.name} "
+                     f"does well (about {format_frequency(device.f_max_hz)}, where the "
+                     "propagation delays become a tenth of the period)")
     if not len(index.resistors) or not len(index.capacitors):
         missing = "resistors" if not len(index.resistors) else "capacitors"
         notes.append(f"the drawer has no {missing} in stock, so nothing can be built")
@@ -260,7 +272,7 @@ def _shortlist_schmitt(index: DrawerIndex, osc: Oscillator, target_hz: float,
     res, caps = index.resistors, index.capacitors
     ce = _capacitor_entries(index, max_capacitors)
     cv = caps.values[ce]
-    r_ideal = schmitt_resistance(osc, target_hz, cv, limits)
+    r_ideal = schmitt_resistance(osc, target_hz, cv, limits, clip=True)
     near = res.nearest(r_ideal, max_resistors, PER_SIDE, *limits)
     rows, cols = np.nonzero(near >= 0)
     if not rows.size:
@@ -309,6 +321,7 @@ def _shortlist_555(index: DrawerIndex, osc: Oscillator, target_hz: float,
         ra_ideal, rb_ideal = _astable_ideal(target_hz, cv, float(ratio), diode)
         ra_ideal, rb_ideal = _refine_astable(osc, target_hz, duty_pct, ra_ideal, rb_ideal, cv,
                                              diode)
+        ra_ideal, rb_ideal = np.clip(ra_ideal, *limits), np.clip(rb_ideal, *limits)
         na = res.nearest(ra_ideal, max_resistors, 1, *limits)
         nb = res.nearest(rb_ideal, max_resistors, 1, *limits)
         ra = np.repeat(na, nb.shape[1], axis=1).ravel()
