@@ -94,6 +94,14 @@ class Oscillator:
         return replace(self, vt_plus_v=float(vt_plus_v), vt_minus_v=float(vt_minus_v),
                        thresholds_given=True)
 
+    def idealised(self) -> Oscillator:
+        """The textbook circuit: same levels and thresholds, but no output resistance,
+        input current, input or stray capacitance, discharge resistance or delay."""
+        device = replace(self.device, r_out_high_ohm=0.0, r_out_low_ohm=0.0,
+                         input_r_ohm=math.inf, input_current_a=0.0, input_capacitance_f=0.0,
+                         delay_lh_s=0.0, delay_hl_s=0.0, discharge_r_ohm=0.0)
+        return replace(self, device=device, stray_capacitance_f=0.0, load_ohm=None)
+
     def threshold_corners(self) -> list[tuple[float, float]]:
         """(VT+, VT-) pairs [V] whose extremes bound the frequency over the table's spread.
 

@@ -1,0 +1,168 @@
+"""The device table: sources, datasheet numbers, interpolation, refusal, pin hookup."""
+
+from __future__ import annotations
+
+import math
+import tomllib
+
+import pytest
+
+from core.devices import device_table, load_device_table
+from core.errors import InputError, SetupError, TickbinError
+from core.locations import resource
+from core.timing import make_oscillator
+
+REQUIRED_FAMILIES = ("74HC14", "74HCT14", "74AHC14", "74LVC14A", "74LS14", "7414",
+                     "CD40106B", "CD4093B", "NE555", "TLC555")
+
+
+def _raw() -> dict:
+    return tomllib.loads(resource("devices.toml").read_text(encoding="utf-8"))
+
+
+def test_every_family_the_issue_lists_is_in_the_table():
+    names = device_table().families()
+    for name in REQUIRED_FAMILIES:
+        assert name in names
+    assert set(device_table().families("555")) >= {"NE555", "TLC555"}
+    assert "74HC14" not in device_table().families("555")
+
+
+def test_every_entry_names_its_source():
+    # Binding rule of the customer: every entry carries its source or "from memory".
+    raw = _raw()
+    for name, fam in raw["families"].items():
+        assert fam.get("source", "").strip(), name
+        for entry in fam.get("supply", ()):
+            assert entry.get("source", "").strip(), (name, entry["v"])
+        if "span_of" not in fam:
+            assert fam.get("r_range_source", "").strip(), name
+    for name, pkg in raw["packages"].items():
+        assert pkg.get("source", "").strip(), name
+
+
+@pytest.mark.parametrize(("supply", "vt_plus", "vt_minus"), [
+    # NXP 74HC1G14 data sheet, static characteristics, -40…85 °C (min/typ/max).
+    (2.0, (0.7, 1.09, 1.5), (0.3, 0.60, 0.9)),
+    (4.5, (1.7, 2.36, 3.15), (0.9, 1.53, 2.0)),
+    (6.0, (2.1, 3.12, 4.2), (1.2, 2.08, 2.6)),
+])
+def test_74hc14_thresholds_at_listed_supplies_are_the_datasheet_values(supply, vt_plus,
+                                                                       vt_minus):
+    d = device_table().family("74HC14").at(supply)
+    assert d.vt_plus == pytest.approx(vt_plus, abs=1e-12)
+    assert d.vt_minus == pytest.approx(vt_minus, abs=1e-12)
+
+
+def test_ls14_numbers_and_the_derived_ttl_input_model():
+    # National DM74LS14: VT+ 1.4/1.6/1.9, VT- 0.5/0.8/1.0, IT+ -0.14 mA, IT- -0.18 mA.
+    d = device_table().family("74LS14").at(5.0)
+    assert d.vt_plus == (1.4, 1.6, 1.9)
+    assert d.vt_minus == (0.5, 0.8, 1.0)
+    # The Thevenin input reproduces both datasheet currents (out of the pin = negative).
+    for v, current in ((1.6, -0.14e-3), (0.8, -0.18e-3)):
+        assert -(d.input_v_open_v - v) / d.input_r_ohm == pytest.approx(current, rel=1e-9)
+    # VOH 3.4 V typ at -0.4 mA through the output resistance from the open level.
+    assert d.voh_v - 0.4e-3 * d.r_out_high_ohm == pytest.approx(3.4)
+
+
+def test_hef40106b_datasheet_thresholds():
+    # Philips HEF40106B data sheet, DC characteristics: 5/10/15 V.
+    fam = device_table().family("HEF40106B")
+    assert fam.at(10.0).vt_plus == (3.7, 5.8, 7.0)
+    assert fam.at(15.0).vt_minus == (4.0, 6.5, 10.1)
+
+
+def test_interpolation_between_listed_supplies_is_linear():
+    fam = device_table().family("74HC14")
+    lo, hi, mid = fam.at(4.5), fam.at(6.0), fam.at(5.25)
+    for k in range(3):
+        assert mid.vt_plus[k] == pytest.approx(0.5 * (lo.vt_plus[k] + hi.vt_plus[k]))
+        assert mid.vt_minus[k] == pytest.approx(0.5 * (lo.vt_minus[k] + hi.vt_minus[k]))
+    assert mid.r_out_high_ohm == pytest.approx(0.5 * (lo.r_out_high_ohm + hi.r_out_high_ohm))
+    assert lo.r_out_high_ohm > hi.r_out_high_ohm  # CMOS drives harder at higher supply
+
+
+@pytest.mark.parametrize(("family", "supply"), [("74HC14", 9.0), ("74HC14", 1.5),
+                                                 ("74LVC14A", 5.0), ("74LS14", 3.3),
+                                                 ("NE555", 3.0), ("CD40106B", 20.0)])
+def test_supply_outside_the_family_range_is_refused(family, supply):
+    with pytest.raises(SetupError, match="supply range"):
+        device_table().family(family).at(supply)
+
+
+def test_family_lookup_is_case_insensitive_and_names_the_known_ones():
+    assert device_table().family("74hc14").name == "74HC14"
+    with pytest.raises(InputError, match="74HC14"):
+        device_table().family("74XX99")
+
+
+def test_cd40106b_spans_the_makers():
+    # HEF40106B vs CD40106BC at 5 V differ markedly (issue 3): the generic entry
+    # must cover both makers' min…max.
+    table = device_table()
+    span = table.family("CD40106B")
+    assert set(span.span_of) == {"HEF40106B", "CD40106BC", "CD40106B-TI"}
+    for supply in span.supplies_v:
+        s = span.at(supply)
+        for name in span.span_of:
+            v = table.family(name).at(supply)
+            assert s.vt_plus[0] <= v.vt_plus[0] and v.vt_plus[2] <= s.vt_plus[2]
+            assert s.vt_minus[0] <= v.vt_minus[0] and v.vt_minus[2] <= s.vt_minus[2]
+    assert span.at(5.0).vt_plus[2] == 4.3  # CD40106BC's max
+    assert span.at(5.0).vt_plus[0] == 2.0  # HEF40106B's min
+
+
+def test_pin_hookup():
+    # Standard 74xx14 DIP-14 pinout (from memory): gate 1 in 1, out 2, VCC 14, GND 7.
+    pkg = device_table().family("74HC14").package
+    assert (pkg.name, pkg.input_pin, pkg.output_pin, pkg.vcc_pin, pkg.gnd_pin) == (
+        "DIP-14", 1, 2, 14, 7)
+    # 555 DIP-8 (from memory): 1 GND, 2 TRIG, 3 OUT, 4 RESET, 5 CONT, 6 THRES, 7 DISCH, 8 VCC.
+    pins = device_table().family("NE555").package.pins
+    assert pins == {"gnd": 1, "trigger": 2, "output": 3, "reset": 4, "control": 5,
+                    "threshold": 6, "discharge": 7, "vcc": 8}
+    nand = device_table().family("CD4093B").package
+    assert nand.pins["tie_high"] == 2 and nand.output_pin == 3
+
+
+@pytest.mark.parametrize("name", device_table().families())
+def test_every_family_is_physically_consistent_across_its_range(name):
+    fam = device_table().family(name)
+    lo, hi = fam.supply_range_v
+    for supply in (lo, 0.5 * (lo + hi), hi):
+        d = fam.at(supply)
+        assert d.vol_v < d.vt_minus[1] < d.vt_plus[1] < d.voh_v
+        assert d.r_min_ohm < d.r_max_ohm
+        assert d.f_max_hz > 0 and math.isfinite(d.f_max_hz)
+        osc = make_oscillator(fam.circuit, fam, supply)
+        corners = osc.threshold_corners()
+        assert corners
+        for a, b in corners:
+            # Physics: VT+ above VT-, at least the guaranteed hysteresis, within min…max.
+            assert a > b
+            if fam.circuit == "schmitt":
+                assert a - b >= d.hysteresis_min_v - 1e-9
+            assert d.vt_plus[0] - 1e-9 <= a <= d.vt_plus[2] + 1e-9
+            assert d.vt_minus[0] - 1e-9 <= b <= d.vt_minus[2] + 1e-9
+
+
+def test_a_malformed_table_is_refused_with_the_entry_named():
+    text = """
+[packages.p]
+name = "DIP-14"
+pins = { input = 1, output = 2, vcc = 14, gnd = 7 }
+[families.BAD]
+circuit = "schmitt"
+supply_range_v = [2.0, 6.0]
+package = "p"
+[[families.BAD.supply]]
+v = 5.0
+vt_plus = [1.0, 0.9, 2.0]
+vt_minus = [0.5, 0.6, 0.7]
+hysteresis_min = 0.1
+r_out_ohm = [50.0, 50.0]
+r_range_ohm = [1e3, 1e6]
+"""
+    with pytest.raises(TickbinError, match="BAD"):
+        load_device_table(text)
