@@ -241,7 +241,7 @@ def build_sheet(osc: Oscillator, candidate: Candidate | TrimCandidate, target: s
     predictions: list[tuple[str, str]] = []
     adjustment: list[str] = []
     if trim:
-        start = _start_rotation(osc, candidate)
+        start = start_rotation(osc, candidate)
         model_values, model_tol = _values_at_rotation(candidate, start)
         frequency = float(frequency_at_rotation(osc, candidate, start))
         prediction = predict(osc, model_values, model_tol, dielectric=dielectric)
@@ -328,7 +328,7 @@ def _band(osc: Oscillator, candidate: TrimCandidate) -> tuple[float, float]:
     return float(f[0]), float(f[1])
 
 
-def _start_rotation(osc: Oscillator, candidate: TrimCandidate) -> float:
+def start_rotation(osc: Oscillator, candidate: TrimCandidate) -> float:
     """Rotation [%] that puts a nominal build in the middle of its band."""
     lo, hi = _band(osc, candidate)
     return float(rotation_for(osc, candidate, 0.5 * (lo + hi)))

@@ -1,0 +1,280 @@
+"""SPICE netlist of a chosen design, so anyone can check the prediction in a simulator.
+
+The timing networks are written part by part as the candidate wires them
+(references as on the build sheet: R1, R2, ... C1, ...). The chip is
+behavioural, built from the same numbers the model uses:
+
+* Schmitt gate: its input is a hysteresis switch (SPICE ``sw`` model, on
+  above VT+, off below VT-); the output is VOH/VOL behind the output
+  resistance; a TTL input is its Thevenin source; input and stray
+  capacitance sit beside C.
+* 555: both comparators and the flip-flop are one hysteresis switch on the
+  joined THR/TRIG node (upper and lower comparator levels); the discharge
+  transistor is a switch with its on-resistance; the steering diode, when
+  used, is a constant-drop diode (as the model assumes).
+* Propagation delays: the switch state passes through an RC lag per edge
+  (delay = RC ln 2) before it moves the output.
+
+The transient run starts in the steady state (capacitor at the voltage where
+the output has just gone high) and ``.meas`` lines report period, frequency,
+high time and duty. ``ngspice -b FILE.cir`` prints them.
+
+References: ngspice User's Manual (version 39), §3.2.14 "Switches" (sw model
+VT/VH hysteresis), §11.4 ".meas"; NE555 data sheet, functional block
+diagram (two comparators at 2/3 and 1/3 VCC, flip-flop, discharge transistor).
+"""
+
+from __future__ import annotations
+
+import math
+import re
+import shutil
+import subprocess
+import tempfile
+from collections.abc import Iterator, Mapping
+from pathlib import Path
+
+from core import __version__
+from core.errors import SetupError, TickbinError
+from core.networks import Node
+from core.search import Candidate
+from core.sheet import start_rotation
+from core.timing import Oscillator, predict, waveform
+from core.trim import TrimCandidate, frequency_at_rotation, pot_resistance
+from core.units import format_quantity
+
+MEASURES = ("period_s", "frequency_hz", "t_high_s", "duty_pct")
+"""The ``.meas`` results the netlist prints (names as in the command-line JSON)."""
+_FIRST_RISE, _LAST_RISE = 2, 7
+
+
+def _num(x: float) -> str:
+    """A number as SPICE reads it (plain exponent notation: no SI letters to misread)."""
+    return f"{x:.9g}"
+
+
+def _elements(node: Node, a: str, b: str, counters: dict[str, int], nodes: Iterator[str],
+              pot_ohm: float = 0.0) -> list[str]:
+    """SPICE lines for ``node`` between nodes ``a`` and ``b``, numbering parts in order.
+
+    A pot is written as the resistance it puts in circuit, ``pot_ohm`` [Ω].
+    """
+    if node.part is not None:
+        part = node.part
+        counters[part.kind] = counters.get(part.kind, 0) + 1
+        ref = f"{part.kind}{counters[part.kind]}"
+        where = f"line {part.stock_line}" + (f", {part.location}" if part.location else "")
+        text = format_quantity(part.value, "capacitance" if part.kind == "C" else "resistance")
+        if part.kind == "P":
+            return [f"R{ref} {a} {b} {_num(max(pot_ohm, 1e-3))} ; {text} pot at the start "
+                    f"rotation, {where}"]
+        return [f"{ref} {a} {b} {_num(part.value)} ; {text}, {where}"]
+    lines: list[str] = []
+    if node.series:
+        ends = [a, *(next(nodes) for _ in node.series[:-1]), b]
+        for child, x, y in zip(node.series, ends, ends[1:], strict=False):
+            lines += _elements(child, x, y, counters, nodes, pot_ohm)
+    else:
+        for child in node.parallel:
+            lines += _elements(child, a, b, counters, nodes, pot_ohm)
+    return lines
+
+
+def _node_names() -> Iterator[str]:
+    i = 0
+    while True:
+        i += 1
+        yield f"n{i}"
+
+
+def _delay_and_output(osc: Oscillator, out_high_v: float, out_low_v: float,
+                      r_high: float, r_low: float, extra: list[str]) -> list[str]:
+    """Switch state -> RC lags per edge -> combined delayed state -> output switches.
+
+    The output goes low ``delay_hl`` after the input state rises and high
+    ``delay_lh`` after it falls; with the longer delay on the rising edge both
+    lags must agree (AND), otherwise either suffices (OR).
+    """
+    d = osc.device
+    t_hl, t_lh = max(d.delay_hl_s, 1e-12), max(d.delay_lh_s, 1e-12)
+    lag = 1e3
+    and_gate = t_hl >= t_lh
+    lines = [
+        "* propagation delays: RC lags of the switch state, delay = R C ln 2",
+        "Est stb 0 st 0 1",
+        f"Rdh stb dh {_num(lag)}",
+        f"Cdh dh 0 {_num(t_hl / (lag * math.log(2)))} ; tPHL = "
+        f"{format_quantity(d.delay_hl_s, 'time')}",
+        f"Rdl stb dl {_num(lag)}",
+        f"Cdl dl 0 {_num(t_lh / (lag * math.log(2)))} ; tPLH = "
+        f"{format_quantity(d.delay_lh_s, 'time')}",
+        f"* delayed state lo: output low once {'both lags have' if and_gate else 'one lag has'}"
+        " passed 0.5 V",
+    ]
+    if and_gate:
+        lines += ["Sla one nlo dh 0 logic", "Slb nlo lo dl 0 logic"]
+    else:
+        lines += ["Sla one lo dh 0 logic", "Slb one lo dl 0 logic"]
+    return [
+        *lines,
+        "Rlo lo 0 1e6",
+        "Elo lob 0 lo 0 1",
+        "* output stage: Thevenin sources behind the output resistance",
+        f"Voh voh 0 DC {_num(out_high_v)}",
+        f"Vol vol 0 DC {_num(out_low_v)}",
+        "Shi outh voh 0 lob logic_inv",
+        f"Roh outh out {_num(r_high)}",
+        "Slo outl vol lob 0 logic",
+        f"Rol outl out {_num(r_low)}",
+        *extra,
+        ".model logic sw vt=0.5 vh=0 ron=1e-3 roff=1e12",
+        ".model logic_inv sw vt=-0.5 vh=0 ron=1e-3 roff=1e12",
+    ]
+
+
+def _run_lines(period: float, v_start: float, v_mid: float) -> list[str]:
+    n = _FIRST_RISE, _LAST_RISE
+    return [
+        "* start in the steady state: the output has just gone high",
+        f".ic v(tn)={_num(v_start)}",
+        f".tran {_num(period / 1000)} {_num((n[1] + 1.2) * period)} 0 {_num(period / 2000)}",
+        ".options reltol=1e-5 abstol=1e-12 vntol=1e-7",
+        f".meas tran t_rise_a WHEN v(out)={_num(v_mid)} RISE={n[0]}",
+        f".meas tran t_rise_b WHEN v(out)={_num(v_mid)} RISE={n[1]}",
+        f".meas tran t_fall_a WHEN v(out)={_num(v_mid)} FALL={n[0] + 1}",
+        f".meas tran period_s PARAM='(t_rise_b - t_rise_a) / {n[1] - n[0]}'",
+        ".meas tran frequency_hz PARAM='1 / period_s'",
+        ".meas tran t_high_s PARAM='t_fall_a - t_rise_a'",
+        ".meas tran duty_pct PARAM='100 * t_high_s / period_s'",
+        ".end",
+    ]
+
+
+def spice_netlist(osc: Oscillator, candidate: Candidate | TrimCandidate,
+                  rotation_pct: float | None = None, title: str = "") -> str:
+    """The design as a SPICE netlist (text), ready for ``ngspice -b``.
+
+    For a trim design the pot sits at ``rotation_pct`` [%] (default: the middle
+    of the band, as on the build sheet).
+    """
+    trim = isinstance(candidate, TrimCandidate)
+    networks = dict(candidate.networks)
+    d = osc.device
+    steered = bool(getattr(candidate, "diode_steered", False))
+    share = 0.0
+    if trim:
+        rotation = start_rotation(osc, candidate) if rotation_pct is None else rotation_pct
+        share = float(pot_resistance(networks["P"].value, rotation, candidate.taper))
+        values = {"R": networks["R"].value + share, "C": networks["C"].value}
+        f_model = float(frequency_at_rotation(osc, candidate, rotation))
+    else:
+        values = {k: float(v) for k, v in candidate.values.items()}
+        f_model = float(candidate.frequency_hz)
+    pred = predict(osc, values, diode_steered=steered)
+    _, v_cap, _ = waveform(osc, values, periods=1, points=2, diode_steered=steered)
+    v_start = float(v_cap[0])
+    circuit = ("555 astable" + (", diode-steered" if steered else "") if osc.circuit == "555"
+               else "Schmitt-trigger inverter RC oscillator")
+    head = [
+        f"* {title or circuit}: {d.family.name} at {d.supply_v:g} V",
+        f"* Tickbin {__version__}. Run: ngspice -b THIS_FILE.cir",
+        f"* Model prediction: f = {_num(pred.frequency_hz)} Hz, period = {_num(pred.period_s)} s,"
+        f" duty = {pred.duty_pct:.2f} %",
+        f"* Thresholds: upper {osc.vt_plus_v:.4g} V, lower {osc.vt_minus_v:.4g} V"
+        + (f" (calibration {osc.calibration})" if osc.calibration
+           else " (given)" if osc.thresholds_given else " (device table, typical)"),
+    ]
+    if trim:
+        head.append(f"* Pot at {rotation:.1f} % rotation ({candidate.taper} taper): "
+                    f"{_num(share)} ohm in circuit; the model gives {_num(f_model)} Hz there. "
+                    "Edit RP1 to explore the range.")
+    counters: dict[str, int] = {}
+    names = _node_names()
+    body = [f"Vsupply vdd 0 DC {_num(d.supply_v)}", "Vone one 0 DC 1"]
+    c_extra = d.input_capacitance_f + osc.stray_capacitance_f
+    if osc.circuit == "555":
+        body.append("* RA from the supply to DIS (pin 7)")
+        body += _elements(networks["RA"], "vdd", "dis", counters, names)
+        body.append("* RB from DIS to THR/TRIG (pins 6 and 2)")
+        body += _elements(networks["RB"], "dis", "tn", counters, names)
+        if steered:
+            body += ["* steering diode across RB, anode at DIS: constant drop, as modelled",
+                     f"Vdrop dis dsa DC {_num(osc.diode_drop_v)}",
+                     "D1 dsa tn dideal",
+                     ".model dideal d is=1e-9 n=0.02"]
+    else:
+        r_nets = [networks["R"]] + ([networks["P"]] if trim else [])
+        body.append("* timing resistance from the gate output to the timing node"
+                    + (", then the pot (wiper tied to pin 3)" if trim else ""))
+        ends = ["out", *(next(names) for _ in r_nets[:-1]), "tn"]
+        for net, a, b in zip(r_nets, ends, ends[1:], strict=False):
+            body += _elements(net, a, b, counters, names, share)
+    body.append("* timing capacitor from the timing node to ground")
+    body += _elements(networks["C"], "tn", "0", counters, names)
+    body.append(f"Cnode tn 0 {_num(c_extra)} ; input "
+                f"{format_quantity(d.input_capacitance_f, 'capacitance')} + stray "
+                f"{format_quantity(osc.stray_capacitance_f, 'capacitance')}")
+    upper, lower = osc.vt_plus_v, osc.vt_minus_v
+    body += [
+        "* input: hysteresis switch, on above the upper threshold, off below the lower",
+        "Sst one st tn 0 hysteresis",
+        "Rst st 0 1e6",
+        f".model hysteresis sw vt={_num((upper + lower) / 2)} vh={_num((upper - lower) / 2)} "
+        "ron=1e-3 roff=1e12",
+    ]
+    if osc.circuit == "555":
+        extra = ["* discharge transistor (pin 7): on while the output is low",
+                 "Sdis dis 0 lob 0 discharge",
+                 f".model discharge sw vt=0.5 vh=0 ron={_num(d.discharge_r_ohm)} roff=1e12"]
+        body += _delay_and_output(osc, d.output_high_v, 0.0, 1.0, 1.0, extra)
+        v_mid = 0.5 * d.output_high_v
+    else:
+        extra = []
+        if math.isfinite(d.input_r_ohm):
+            extra += ["* TTL input: its Thevenin source at the timing node",
+                      f"Vin vin 0 DC {_num(d.input_v_open_v)}",
+                      f"Rin tn vin {_num(d.input_r_ohm)}"]
+        if osc.load_ohm is not None:
+            extra.append(f"Rload out 0 {_num(osc.load_ohm)}")
+        body += _delay_and_output(osc, d.voh_v, d.vol_v, d.r_out_high_ohm, d.r_out_low_ohm,
+                                  extra)
+        v_mid = 0.5 * (d.voh_v + d.vol_v)
+    text = "\n".join([*head, *body, *_run_lines(pred.period_s, v_start, v_mid)]) + "\n"
+    return text.translate(_ASCII)  # plain ASCII: every SPICE reads it
+
+
+_ASCII = str.maketrans({"Ω": "ohm", "µ": "u", "−": "-", "…": "...", "∥": "||"})
+
+
+def simulate(netlist: str, ngspice: str | None = None, timeout_s: float = 120.0
+             ) -> dict[str, float]:
+    """Run ``netlist`` in ngspice batch mode; returns the ``.meas`` results (MEASURES).
+
+    TickbinError when ngspice is missing, fails, or prints no measurement.
+    """
+    exe = ngspice or shutil.which("ngspice")
+    if exe is None:
+        raise TickbinError("ngspice is not installed (Debian/Ubuntu: apt install ngspice)")
+    with tempfile.TemporaryDirectory(prefix="tickbin-spice-") as tmp:
+        path = Path(tmp) / "design.cir"
+        path.write_text(netlist, encoding="utf-8")
+        try:
+            run = subprocess.run([exe, "-b", str(path)], capture_output=True, text=True,
+                                 timeout=timeout_s, cwd=tmp, check=False)
+        except (OSError, subprocess.TimeoutExpired) as e:
+            raise TickbinError(f"ngspice did not run: {e}") from None
+    found = _parse_measures(run.stdout)
+    missing = [m for m in MEASURES if m not in found]
+    if missing:
+        last = (run.stderr or run.stdout).strip().splitlines()[-1:] or ["no output"]
+        raise SetupError(f"ngspice gave no {', '.join(missing)} (exit {run.returncode}): "
+                         f"{last[0]}")
+    return found
+
+
+def _parse_measures(text: str) -> Mapping[str, float]:
+    out = {}
+    for m in re.finditer(r"^\s*(\w+)\s*=\s*([-+0-9.eE]+)", text, re.MULTILINE):
+        if m[1].lower() in MEASURES:
+            out[m[1].lower()] = float(m[2])
+    return out
