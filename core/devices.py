@@ -132,7 +132,8 @@ class DeviceAtSupply:
     @property
     def f_max_hz(self) -> float:
         """Frequency where the two edge delays make up F_MAX_DELAY_SHARE of the period [Hz]."""
-        return F_MAX_DELAY_SHARE / (self.delay_lh_s + self.delay_hl_s)
+        delays = self.delay_lh_s + self.delay_hl_s
+        return F_MAX_DELAY_SHARE / delays if delays > 0 else math.inf
 
 
 @dataclass(frozen=True, eq=False)

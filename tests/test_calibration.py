@@ -1,0 +1,141 @@
+"""Calibration: thresholds from bench measurements, least squares, named files."""
+
+from __future__ import annotations
+
+import math
+
+import numpy as np
+import pytest
+
+from core.calibration import (
+    Measurement,
+    _residuals,
+    calibrate,
+    calibrations_dir,
+    delete_calibration,
+    fit,
+    list_calibrations,
+    load_calibration,
+    save_calibration,
+)
+from core.errors import InputError, SetupError
+from core.timing import make_oscillator, predict, times
+
+BENCH = {"R": 21.7e3, "C": 1.00e-6}
+
+
+def hc14(supply: float = 5.0):
+    return make_oscillator("schmitt", "74HC14", supply)
+
+
+def test_bench_calibration_gives_the_known_thresholds():
+    # Bench measurement (common practice, no published source): 5 V hex Schmitt
+    # inverter, R = 21.7 kΩ, C = 1.00 µF, 63.3 Hz, output high 47 %: calibrating
+    # must give thresholds near 2.80 V and 1.90 V.
+    cal = calibrate(hc14(), BENCH, 63.3, 47.0)
+    assert cal.mode == "both"
+    assert cal.vt_plus_v == pytest.approx(2.80, abs=0.03)
+    assert cal.vt_minus_v == pytest.approx(1.90, abs=0.03)
+    osc = make_oscillator("schmitt", "74HC14", 5.0, calibration=cal)
+    pred = predict(osc, BENCH)
+    assert pred.frequency_hz == pytest.approx(63.3, rel=1e-9)
+    assert pred.duty_pct == pytest.approx(47.0, abs=1e-7)
+    assert cal.scale == pytest.approx(63.3 / predict(hc14(), BENCH).frequency_hz, rel=1e-12)
+    assert cal.warnings == ()
+
+
+def test_without_duty_the_table_ratio_is_kept():
+    osc = hc14()
+    cal = calibrate(osc, BENCH, 63.3)
+    assert cal.mode == "ratio"
+    assert cal.vt_plus_v / cal.vt_minus_v == pytest.approx(osc.vt_plus_v / osc.vt_minus_v)
+    calibrated = make_oscillator("schmitt", "74HC14", 5.0, calibration=cal)
+    assert predict(calibrated, BENCH).frequency_hz == pytest.approx(63.3, rel=1e-9)
+
+
+def test_least_squares_recovers_thresholds_from_noisy_readings():
+    truth = hc14().with_thresholds(2.9, 1.75)
+    rng = np.random.default_rng(11)
+    readings = []
+    for r, c in ((4.7e3, 1e-6), (10e3, 470e-9), (47e3, 100e-9), (100e3, 22e-9), (22e3, 1e-6)):
+        t_high, t_low = (float(t) for t in times(truth, {"R": r, "C": c}))
+        noise = 1 + rng.normal(0, 0.002, 2)  # 0.2 % meter noise
+        t_high, t_low = t_high * noise[0], t_low * noise[1]
+        readings.append(Measurement({"R": r, "C": c}, 1 / (t_high + t_low),
+                                    100 * t_high / (t_high + t_low)))
+    cal = fit(hc14(), readings)
+    assert cal.vt_plus_v == pytest.approx(2.9, abs=0.02)
+    assert cal.vt_minus_v == pytest.approx(1.75, abs=0.02)
+    assert cal.residual_pct < 0.5
+
+
+def test_least_squares_agrees_with_scipy():
+    # scipy.optimize.least_squares (a general-purpose reference library) on the
+    # same residuals finds the same thresholds.
+    optimize = pytest.importorskip("scipy.optimize")
+    osc = hc14()
+    readings = [Measurement({"R": 21.7e3, "C": 1e-6}, 63.3, 47.0),
+                Measurement({"R": 10e3, "C": 1e-6}, 140.0, 46.0),
+                Measurement({"R": 47e3, "C": 220e-9}, 131.0)]
+    cal = fit(osc, readings)
+    ref = optimize.least_squares(lambda p: _residuals(osc, readings, p[0], p[1]),
+                                 x0=[osc.vt_plus_v, osc.vt_minus_v], xtol=1e-14, ftol=1e-14,
+                                 gtol=1e-14)
+    assert cal.vt_plus_v == pytest.approx(ref.x[0], abs=1e-6)
+    assert cal.vt_minus_v == pytest.approx(ref.x[1], abs=1e-6)
+
+
+def test_impossible_measurement_is_refused():
+    with pytest.raises(SetupError, match="check the part values"):
+        calibrate(hc14(), BENCH, 1.0, 50.0)  # would need thresholds beyond the supply
+    with pytest.raises(InputError):
+        calibrate(hc14(), BENCH, 63.3, 120.0)
+
+
+def test_thresholds_outside_the_datasheet_are_flagged():
+    cal = calibrate(hc14(), BENCH, 6330.0, 47.0)
+    assert any("outside the data sheet" in w for w in cal.warnings)
+
+
+def test_save_load_list_delete(tmp_path):
+    cal = calibrate(hc14(), BENCH, 63.3, 47.0, name="bench-5v")
+    path = save_calibration(cal)
+    assert path.parent == calibrations_dir()
+    assert list_calibrations() == ["bench-5v"]
+    back = load_calibration("bench-5v")
+    assert (back.vt_plus_v, back.vt_minus_v, back.scale) == (cal.vt_plus_v, cal.vt_minus_v,
+                                                              cal.scale)
+    assert back.measurements[0].values == BENCH
+    osc = make_oscillator("schmitt", "74HC14", 5.0, calibration="bench-5v")
+    assert osc.calibration == "bench-5v" and osc.thresholds_given
+    assert osc.threshold_corners() == [(cal.vt_plus_v, cal.vt_minus_v)]
+    with pytest.raises(InputError, match="bench-5v"):
+        load_calibration("other")
+    delete_calibration("bench-5v")
+    assert list_calibrations() == []
+    with pytest.raises(InputError, match="letters, digits"):
+        save_calibration(cal, "../escape")
+
+
+def test_calibration_used_at_another_supply_or_chip():
+    cal = calibrate(hc14(), BENCH, 63.3, 47.0, name="bench")
+    save_calibration(cal)
+    osc = make_oscillator("schmitt", "74HC14", 3.3, calibration="bench")
+    table = hc14(3.3)
+    # Thresholds keep their measured ratio to the table's typ values.
+    assert osc.vt_plus_v / table.vt_plus_v == pytest.approx(cal.vt_plus_v / cal.table_vt_plus_v)
+    assert any("3.3 V" in n for n in osc.notes)
+    assert any("measured at 5 V" in w for w in predict(osc, BENCH).warnings)
+    with pytest.raises(SetupError, match="74HC14"):
+        make_oscillator("schmitt", "CD40106B", 5.0, calibration="bench")
+
+
+def test_555_calibration():
+    osc = make_oscillator("555", "NE555", 9.0)
+    truth = osc.with_thresholds(6.1, 2.95)
+    values = {"RA": 10e3, "RB": 47e3, "C": 10e-9}
+    t_high, t_low = (float(t) for t in times(truth, values))
+    cal = calibrate(osc, values, 1 / (t_high + t_low), 100 * t_high / (t_high + t_low))
+    assert cal.vt_plus_v == pytest.approx(6.1, abs=1e-6)
+    assert cal.vt_minus_v == pytest.approx(2.95, abs=1e-6)
+    assert math.isfinite(cal.scale)
