@@ -29,14 +29,8 @@ def register(commands: argparse._SubParsersAction) -> None:
                                "frequency")
     _add_stock(find)
     add_circuit_options(find)
-    find.add_argument("--target", type=value_arg("frequency"), required=True, metavar="FREQ",
-                      help="the frequency wanted (1kHz, 38k, or a period such as 2ms)")
-    find.add_argument("--duty", type=_percent("duty cycle", below_100=True), metavar="PCT",
-                      help="555 only: share of the period the output is high (default: "
-                      "whatever RA and RB give; 50 %% or less uses a steering diode)")
+    add_goal_options(find, search_required=True)
     _add_sizes(find)
-    find.add_argument("--accept", type=_percent("acceptable error"), default=1.0, metavar="PCT",
-                      help="error that counts as a hit (default 1 %%)")
     _add_top(find)
     add_json_option(find)
     find.set_defaults(run=run_search)
@@ -45,12 +39,41 @@ def register(commands: argparse._SubParsersAction) -> None:
                                "cover a band at every tolerance corner")
     _add_stock(band)
     add_circuit_options(band)
-    band.add_argument("--band", type=_band, required=True, metavar="LO..HI",
-                      help="the band the pot must cover (400..480, 1k..1.2kHz)")
+    add_goal_options(band, trim_required=True)
     _add_sizes(band)
     _add_top(band)
     add_json_option(band)
     band.set_defaults(run=run_trim)
+
+
+def add_design_options(parser: argparse.ArgumentParser) -> None:
+    """Everything that picks a design, for commands built on one (sheet, netlist).
+
+    The search options with ``--target``, or the trim options with ``--band``.
+    """
+    _add_stock(parser)
+    add_circuit_options(parser)
+    add_goal_options(parser)
+    _add_sizes(parser)
+    _add_top(parser)
+
+
+def add_goal_options(parser: argparse.ArgumentParser, search_required: bool = False,
+                     trim_required: bool = False) -> None:
+    """--target, --duty and --accept (search) and/or --band (trim)."""
+    if not trim_required:
+        parser.add_argument("--target", type=value_arg("frequency"), required=search_required,
+                            metavar="FREQ",
+                            help="the frequency wanted (1kHz, 38k, or a period such as 2ms)")
+        parser.add_argument("--duty", type=_percent("duty cycle", below_100=True),
+                            metavar="PCT",
+                            help="555 only: share of the period the output is high (default: "
+                            "whatever RA and RB give; 50 %% or less uses a steering diode)")
+        parser.add_argument("--accept", type=_percent("acceptable error"), default=1.0,
+                            metavar="PCT", help="error that counts as a hit (default 1 %%)")
+    if not search_required:
+        parser.add_argument("--band", type=_band, required=trim_required, metavar="LO..HI",
+                            help="the band the pot must cover (400..480, 1k..1.2kHz)")
 
 
 def _add_stock(parser: argparse.ArgumentParser) -> None:
