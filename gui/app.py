@@ -1,20 +1,91 @@
-"""The Tickbin main window (placeholder until the window issue lands)."""
+"""Starting the window: the application object, our look, and the screenshot mode.
+
+Only Qt widgets are imported before the window shows; the plots (pyqtgraph)
+and the first search come right after, so the window appears quickly.
+"""
 
 from __future__ import annotations
 
 import sys
+import time
+
+from PySide6.QtCore import QEventLoop, Qt, QTimer
+from PySide6.QtGui import QGuiApplication
+from PySide6.QtWidgets import QApplication
+
+from core.errors import TickbinError
+from gui import error_hook, settings
+from gui.main_window import MainWindow
+
+SCREENSHOT_SIZE = (1280, 800)
+SCREENSHOT_TIMEOUT_MS = 60_000
+
+# Our own calm look: warm light greys, one slate-teal accent, red only for problems.
+STYLE_SHEET = """
+QMainWindow, QDialog { background: #f2f1ed; }
+QFrame#panel { background: #ffffff; border: 1px solid #d8d5cd; border-radius: 6px; }
+QLabel#heading { font-weight: 600; color: #2e4a4f; padding-bottom: 2px; }
+QLabel#hint { color: #5f6468; }
+QLabel#problem { color: #9c2a1f; }
+QLineEdit[invalid="true"] { border: 1px solid #b3261e; background: #fdeceA; }
+QTableView { gridline-color: #e6e3dc; selection-background-color: #cfe3e1;
+             selection-color: #1d2b2d; alternate-background-color: #f8f7f4; }
+QHeaderView::section { background: #ecebe6; color: #3a3f44; border: none;
+                       border-right: 1px solid #dcd9d1; border-bottom: 1px solid #d2cfc7;
+                       padding: 3px 6px; }
+QToolBar { background: #e8e6e0; border: none; spacing: 4px; padding: 2px 6px; }
+QStatusBar { background: #e8e6e0; }
+QSplitter::handle { background: transparent; }
+"""
+
+
+def make_application() -> QApplication:
+    """The QApplication (created once), with our names and style."""
+    app = QApplication.instance()
+    if not isinstance(app, QApplication):
+        QGuiApplication.setHighDpiScaleFactorRoundingPolicy(
+            Qt.HighDpiScaleFactorRoundingPolicy.PassThrough)
+        app = QApplication(sys.argv[:1])
+    app.setOrganizationName(settings.ORGANIZATION)
+    app.setApplicationName(settings.APPLICATION)
+    app.setApplicationDisplayName("Tickbin")
+    app.setStyle("Fusion")
+    app.setStyleSheet(STYLE_SHEET)
+    return app
 
 
 def run_window(stock: str | None = None, screenshot: str | None = None) -> int:
-    """Open the window; with ``screenshot``, save a picture of it and exit."""
-    from PySide6.QtWidgets import QApplication, QLabel
+    """Open the window; with ``screenshot``, draw the first result, save a PNG and exit 0.
 
-    app = QApplication.instance() or QApplication(sys.argv[:1])
-    label = QLabel("Tickbin")
-    label.resize(1200, 750)
-    label.show()
+    ``stock`` is a drawer file (errors in it are shown in the table, but a file
+    that cannot be read at all raises TickbinError for the command line).
+    A screenshot run ignores and keeps the remembered settings, so pictures are
+    reproducible.
+    """
+    started = time.perf_counter()
+    app = make_application()
+    window = MainWindow(stock, remember=screenshot is None)
     if screenshot:
-        app.processEvents()
-        label.grab().save(screenshot)
-        return 0
-    return app.exec()
+        return _screenshot(app, window, screenshot)
+    error_hook.install(lambda message: window.tell("Unexpected error", message))
+    app.aboutToQuit.connect(window.quitting)
+    window.show()
+    window.startup_seconds = time.perf_counter() - started
+    QTimer.singleShot(0, window.finish_startup)
+    return int(app.exec())
+
+
+def _screenshot(app: QApplication, window: MainWindow, path: str) -> int:
+    window.resize(*SCREENSHOT_SIZE)
+    window.show()
+    loop = QEventLoop()
+    window.sigSearchDone.connect(loop.quit)
+    QTimer.singleShot(SCREENSHOT_TIMEOUT_MS, loop.quit)
+    window.finish_startup()
+    loop.exec()
+    app.processEvents()
+    picture = window.grab()
+    if not picture.save(path, "PNG"):
+        raise TickbinError(f"{path}: the screenshot could not be written")
+    window.close()
+    return 0

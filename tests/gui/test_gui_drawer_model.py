@@ -34,7 +34,7 @@ def test_model_passes_qt_model_tester(qtmodeltester):
 
 
 def test_proxy_passes_qt_model_tester(qtmodeltester):
-    drawer, model = make()
+    _, model = make()
     proxy = DrawerFilterProxy()
     proxy.setSourceModel(model)
     proxy.set_kind("R")
@@ -67,7 +67,7 @@ def test_bad_cell_is_marked_kept_and_explained():
 
 
 def test_changing_kind_notifies_the_whole_row(qtbot):
-    drawer, model = make()
+    _, model = make()
     with qtbot.waitSignal(model.dataChanged) as blocker:
         model.setData(model.index(0, model.column_of("kind")), "C")
     top, bottom = blocker.args[:2]

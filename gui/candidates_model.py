@@ -1,0 +1,157 @@
+"""Ranked candidates as a read-only Qt table over a core search or trim result.
+
+The model keeps a reference to core's candidate list and formats it with
+``core.units``; it computes nothing itself.
+"""
+
+from __future__ import annotations
+
+from collections import Counter
+from collections.abc import Callable, Sequence
+from typing import Any
+
+from PySide6.QtCore import QAbstractTableModel, QModelIndex, QPersistentModelIndex, Qt
+from PySide6.QtGui import QBrush, QColor
+
+from core.units import format_frequency
+
+CANDIDATE_ROLE = Qt.ItemDataRole.UserRole + 10
+"""Role giving the core candidate object of a row."""
+
+GOOD = QColor(40, 110, 70)
+FAR = QColor(150, 90, 30)
+
+NETWORK_HEADINGS = {"R": "Resistor", "RA": "RA", "RB": "RB", "C": "Capacitor",
+                    "P": "Pot"}
+
+
+def where(networks: dict[str, Any]) -> str:
+    """Drawer locations and stock lines of every part: ``B1-06 line 11 ×2, B2-01 line 30``."""
+    counts: Counter[tuple[str, int]] = Counter()
+    for node in networks.values():
+        for part in node.parts():
+            counts[(part.location or "no location", part.stock_line)] += 1
+    return ", ".join(f"{loc} line {line}" + (f" ×{n}" if n > 1 else "")
+                     for (loc, line), n in sorted(counts.items(), key=lambda kv: kv[0][1]))
+
+
+def _band(lo_hi: Sequence[float]) -> str:
+    lo, hi = lo_hi
+    return f"{format_frequency(lo)} … {format_frequency(hi)}"
+
+
+Column = tuple[str, str, Callable[[Any], str]]
+
+
+def _search_columns(keys: Sequence[str]) -> list[Column]:
+    cols: list[Column] = [
+        ("Frequency", "Predicted frequency with the nominal model",
+         lambda c: format_frequency(c.frequency_hz, 4)),
+        ("Error", "(predicted − target) / target", lambda c: f"{c.error_pct:+.2f} %"),
+        ("Duty", "Share of each period the output is high",
+         lambda c: f"{c.duty_pct:.1f} %"),
+        ("Worst case", "Frequency band over every tolerance and threshold corner",
+         lambda c: _band(c.worst_case_hz)),
+    ]
+    for key in keys:
+        cols.append((NETWORK_HEADINGS.get(key, key), f"The {key} network from your drawer",
+                     lambda c, key=key: c.networks[key].describe()))
+    cols.append(("From the drawer", "Where each part lives and its line in the drawer file",
+                 lambda c: where(c.networks)))
+    return cols
+
+
+def _trim_columns() -> list[Column]:
+    return [
+        ("Pot", "The potentiometer or trimmer (end-to-end value)",
+         lambda c: c.networks["P"].describe()),
+        ("Fixed R", "Fixed resistor in series with the pot",
+         lambda c: c.networks["R"].describe()),
+        ("Capacitor", "Timing capacitor", lambda c: c.networks["C"].describe()),
+        ("Guaranteed", "Band reached at every tolerance corner",
+         lambda c: _band(c.guaranteed_hz)),
+        ("Nominal range", "Frequency at full rotation … at zero rotation",
+         lambda c: _band(c.range_hz)),
+        ("Rotation at band", "Pot rotation for the band's high … low end (nominal)",
+         lambda c: f"{c.rotation_pct[0]:.0f} % … {c.rotation_pct[1]:.0f} %"),
+        ("Resolution", "Frequency change per percent of rotation",
+         lambda c: f"{format_frequency(c.resolution_hz_per_pct)}/%"),
+        ("From the drawer", "Where each part lives and its line in the drawer file",
+         lambda c: where(c.networks)),
+    ]
+
+
+class CandidatesModel(QAbstractTableModel):
+    """Rows are candidates, best first; ``set_result`` swaps in a new core result."""
+
+    def __init__(self, parent: Any = None):
+        super().__init__(parent)
+        self._candidates: list[Any] = []
+        self._columns: list[Column] = _search_columns(("R", "C"))
+        self._accept_pct: float | None = None
+        self.trim = False
+
+    def set_result(self, candidates: Sequence[Any], trim: bool,
+                   accept_pct: float | None = None) -> None:
+        """Show ``candidates`` (core Candidate or TrimCandidate objects)."""
+        self.beginResetModel()
+        self._candidates = list(candidates)
+        self.trim = trim
+        self._accept_pct = accept_pct
+        if trim:
+            self._columns = _trim_columns()
+        else:
+            keys = list(self._candidates[0].networks) if self._candidates else ["R", "C"]
+            self._columns = _search_columns(keys)
+        self.endResetModel()
+
+    def candidate(self, row: int) -> Any:
+        return self._candidates[row] if 0 <= row < len(self._candidates) else None
+
+    def rowCount(self, parent: QModelIndex | QPersistentModelIndex = QModelIndex()) -> int:  # noqa: B008, N802
+        return 0 if parent.isValid() else len(self._candidates)
+
+    def columnCount(self, parent: QModelIndex | QPersistentModelIndex = QModelIndex()) -> int:  # noqa: B008, N802
+        return 0 if parent.isValid() else len(self._columns)
+
+    def data(self, index: QModelIndex | QPersistentModelIndex,
+             role: int = Qt.ItemDataRole.DisplayRole) -> Any:
+        if not index.isValid() or not self.checkIndex(index):
+            return None
+        cand = self._candidates[index.row()]
+        heading, _, fmt = self._columns[index.column()]
+        if role in (Qt.ItemDataRole.DisplayRole, Qt.ItemDataRole.AccessibleTextRole):
+            return fmt(cand)
+        if role == CANDIDATE_ROLE:
+            return cand
+        if role == Qt.ItemDataRole.ToolTipRole:
+            notes = list(getattr(cand, "notes", []) or [])
+            return "\n".join([fmt(cand), *notes]) if notes else fmt(cand)
+        if role == Qt.ItemDataRole.ForegroundRole and heading == "Error":
+            ok = self._accept_pct is not None and abs(cand.error_pct) <= self._accept_pct
+            return QBrush(GOOD if ok else FAR)
+        if role == Qt.ItemDataRole.TextAlignmentRole and heading in (
+                "Frequency", "Error", "Duty"):
+            return int(Qt.AlignmentFlag.AlignRight | Qt.AlignmentFlag.AlignVCenter)
+        return None
+
+    def headerData(self, section: int, orientation: Qt.Orientation,  # noqa: N802
+                   role: int = Qt.ItemDataRole.DisplayRole) -> Any:
+        if orientation == Qt.Orientation.Vertical:
+            if role == Qt.ItemDataRole.DisplayRole and 0 <= section < len(self._candidates):
+                return str(section + 1)
+            return None
+        if not 0 <= section < len(self._columns):
+            return None
+        heading, tip, _ = self._columns[section]
+        if role == Qt.ItemDataRole.DisplayRole:
+            return heading
+        if role == Qt.ItemDataRole.ToolTipRole:
+            return tip
+        return None
+
+    def flags(self, index: QModelIndex | QPersistentModelIndex) -> Qt.ItemFlag:
+        if not index.isValid():
+            return Qt.ItemFlag.NoItemFlags
+        return (Qt.ItemFlag.ItemIsEnabled | Qt.ItemFlag.ItemIsSelectable
+                | Qt.ItemFlag.ItemNeverHasChildren)

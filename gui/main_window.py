@@ -1,0 +1,724 @@
+"""The main window: the drawer on the left; target, candidates and plots on the right.
+
+The window wires views to core objects and to the search worker; it computes
+nothing itself. Dialogs go through ``ask``/``ask_path`` so tests can answer
+them.
+"""
+
+from __future__ import annotations
+
+import contextlib
+import json
+import time
+from pathlib import Path
+from typing import Any
+
+from PySide6.QtCore import QByteArray, QElapsedTimer, QItemSelectionModel, Qt, QTimer, Signal
+from PySide6.QtGui import QAction, QCloseEvent, QKeySequence
+from PySide6.QtWidgets import (
+    QAbstractItemView,
+    QFileDialog,
+    QFrame,
+    QHeaderView,
+    QLabel,
+    QMainWindow,
+    QMessageBox,
+    QProgressBar,
+    QSplitter,
+    QTableView,
+    QVBoxLayout,
+    QWidget,
+)
+
+from core.drawer import (
+    Drawer,
+    Row,
+    drawer_csv_text,
+    read_drawer,
+    write_drawer,
+    write_text_atomically,
+)
+from core.errors import DrawerFileError, TickbinError
+from core.locations import demo_drawer_path
+from gui import settings as keys
+from gui.autosave import INTERVAL_MS, Autosave
+from gui.candidates_model import CandidatesModel
+from gui.drawer_model import DrawerTableModel
+from gui.drawer_panel import DrawerPanel
+from gui.search_worker import Outcome, SearchRunner
+from gui.target_form import Target, TargetForm
+
+DEBOUNCE_MS = 250
+"""Quiet time after the last keystroke before a search starts."""
+
+CSV_FILTER = "Drawer files (*.csv *.txt);;All files (*)"
+
+SAFETY = (
+    "<p><b>Before you build</b></p><ul>"
+    "<li>Use a current-limited, low-voltage bench supply (for example 5 V, limit "
+    "around 50 mA) while you try the circuit.</li>"
+    "<li>Electrolytic and tantalum capacitors are polarised: the + lead goes to the "
+    "more positive node, and the rated voltage must be well above the supply.</li>"
+    "<li>Keep the supply inside the chip's range shown in the target form.</li>"
+    "<li>Nothing here is meant for mains-connected equipment: for that, follow your "
+    "local codes and licensed practice.</li></ul>")
+
+
+def _section(title: str, body: QWidget, name: str) -> QFrame:
+    """A titled panel; the title doubles as the accessible name of its area."""
+    frame = QFrame()
+    frame.setObjectName("panel")
+    frame.setAccessibleName(name)
+    heading = QLabel(title)
+    heading.setObjectName("heading")
+    layout = QVBoxLayout(frame)
+    layout.setContentsMargins(10, 8, 10, 10)
+    layout.setSpacing(6)
+    layout.addWidget(heading)
+    layout.addWidget(body, 1)
+    return frame
+
+
+class MainWindow(QMainWindow):
+    """One window over one drawer.
+
+    Signals: ``sigSearchDone()`` after a search result (or failure) is shown.
+
+    Hooks for build actions (the build sheet, printing, netlist, taking parts):
+    ``selected_candidate()``, ``current_oscillator()``, ``current_target()``,
+    ``drawer``, ``build_menu`` and ``add_build_action(action)``.
+    """
+
+    sigSearchDone = Signal()  # noqa: N815
+
+    def __init__(self, stock: str | None = None, *, remember: bool = True):
+        super().__init__()
+        self.remember = remember
+        self.autosave = Autosave()
+        self._outcome: Outcome | None = None
+        self._plots: Any = None
+        self._slowest_ms = 0.0
+        self.last_search_ms: float | None = None
+        self.startup_seconds: float | None = None
+
+        drawer, note = self._initial_drawer(stock)
+        self.drawer_model = DrawerTableModel(drawer, self)
+        self.drawer_panel = DrawerPanel(self.drawer_model)
+        self.form = TargetForm()
+        self.candidates = CandidatesModel(self)
+        self.candidate_view = self._candidate_view()
+        self.notes = QLabel()
+        self.notes.setObjectName("hint")
+        self.notes.setWordWrap(True)
+        self.notes.setTextInteractionFlags(Qt.TextInteractionFlag.TextSelectableByMouse)
+        self.plot_area = QWidget()
+        self.plot_area.setMinimumHeight(230)
+        QVBoxLayout(self.plot_area).setContentsMargins(0, 0, 0, 0)
+        self.runner = SearchRunner(self)
+        self._build_layout()
+        self._build_actions()
+        self._build_status_bar()
+
+        self.debounce = QTimer(self)
+        self.debounce.setSingleShot(True)
+        self.debounce.setInterval(DEBOUNCE_MS)
+        self.debounce.timeout.connect(self.run_search)
+        self.autosave_timer = QTimer(self)
+        self.autosave_timer.setInterval(INTERVAL_MS)
+        self.autosave_timer.timeout.connect(self.autosave_now)
+
+        self.form.sigChanged.connect(self.schedule_search)
+        self.form.sigNewCalibration.connect(self.new_calibration)
+        self.runner.sigFinished.connect(self._search_finished)
+        self.runner.sigFailed.connect(self._search_failed)
+        self.runner.sigProgress.connect(self._search_progress)
+        self.candidate_view.selectionModel().currentRowChanged.connect(self._candidate_chosen)
+        self.drawer_panel.sigMessage.connect(self.say)
+        self._attach(drawer)
+        self.resize(1280, 800)
+        if self.remember:
+            self._restore_settings()
+        if note:
+            self.say(note)
+
+    # ------------------------------------------------------------ building
+    def _candidate_view(self) -> QTableView:
+        view = QTableView()
+        view.setModel(self.candidates)
+        view.setAccessibleName("candidates")
+        view.setSelectionBehavior(QAbstractItemView.SelectionBehavior.SelectRows)
+        view.setSelectionMode(QAbstractItemView.SelectionMode.SingleSelection)
+        view.setEditTriggers(QAbstractItemView.EditTrigger.NoEditTriggers)
+        view.setAlternatingRowColors(True)
+        view.setWordWrap(False)
+        view.verticalHeader().setDefaultSectionSize(view.fontMetrics().height() + 8)
+        header = view.horizontalHeader()
+        header.setStretchLastSection(True)
+        header.setSectionResizeMode(QHeaderView.ResizeMode.Interactive)
+        self.candidates.modelReset.connect(lambda: self._fit_columns(view))
+        return view
+
+    @staticmethod
+    def _fit_columns(view: QTableView) -> None:
+        view.resizeColumnsToContents()
+        cap = view.fontMetrics().horizontalAdvance("M") * 18
+        for column in range(view.model().columnCount() - 1):
+            if view.columnWidth(column) > cap:
+                view.setColumnWidth(column, cap)
+
+    def _build_layout(self) -> None:
+        candidates_box = QWidget()
+        layout = QVBoxLayout(candidates_box)
+        layout.setContentsMargins(0, 0, 0, 0)
+        layout.addWidget(self.candidate_view, 1)
+        layout.addWidget(self.notes)
+        self.right_split = QSplitter(Qt.Orientation.Vertical)
+        self.right_split.addWidget(_section("Target", self.form, "target form"))
+        self.right_split.addWidget(_section("Candidates from your drawer", candidates_box,
+                                            "candidates"))
+        self.right_split.addWidget(_section("How the selected candidate behaves",
+                                            self.plot_area, "plots"))
+        self.right_split.setStretchFactor(0, 0)
+        self.right_split.setStretchFactor(1, 2)
+        self.right_split.setStretchFactor(2, 3)
+        self.right_split.setChildrenCollapsible(False)
+        self.main_split = QSplitter(Qt.Orientation.Horizontal)
+        self.main_split.addWidget(_section("Your drawer", self.drawer_panel, "drawer"))
+        self.main_split.addWidget(self.right_split)
+        self.main_split.setStretchFactor(0, 2)
+        self.main_split.setStretchFactor(1, 3)
+        self.main_split.setChildrenCollapsible(False)
+        self.main_split.setSizes([470, 810])
+        self.right_split.setSizes([130, 250, 380])
+        outer = QWidget()
+        box = QVBoxLayout(outer)
+        box.setContentsMargins(8, 8, 8, 4)
+        box.addWidget(self.main_split)
+        self.setCentralWidget(outer)
+
+    def _action(self, text: str, slot: Any, shortcut: Any = None, tip: str = "") -> QAction:
+        action = QAction(text, self)
+        if shortcut is not None:
+            action.setShortcut(shortcut)
+        if tip:
+            action.setStatusTip(tip)
+            action.setToolTip(tip)
+        action.triggered.connect(slot)
+        return action
+
+    def _build_actions(self) -> None:
+        std = QKeySequence.StandardKey
+        self.new_action = self._action("&New drawer", self.new_drawer, std.New,
+                                       "Start an empty drawer")
+        self.open_action = self._action("&Open drawer…", self.open_drawer, std.Open,
+                                        "Open a drawer file (CSV)")
+        self.demo_action = self._action("Open the &demo drawer", self.open_demo, None,
+                                        "A makerspace parts cabinet to try things on")
+        self.save_action = self._action("&Save", self.save, std.Save, "Save the drawer file")
+        self.save_as_action = self._action("Save &as…", self.save_as, std.SaveAs,
+                                           "Save the drawer under a new name")
+        self.import_action = self._action("&Import CSV…", self.import_csv, None,
+                                          "Add the rows of another drawer file to this one")
+        self.export_action = self._action("&Export CSV…", self.export_csv, None,
+                                          "Write a copy of this drawer; keep working on "
+                                          "this file")
+        self.quit_action = self._action("&Quit", self.close, std.Quit, "Close Tickbin")
+        file_menu = self.menuBar().addMenu("&File")
+        for action in (self.new_action, self.open_action, self.demo_action, None,
+                       self.save_action, self.save_as_action, None, self.import_action,
+                       self.export_action, None, self.quit_action):
+            file_menu.addSeparator() if action is None else file_menu.addAction(action)
+
+        self.undo_action = self._action("&Undo", self.undo, std.Undo)
+        self.redo_action = self._action("&Redo", self.redo, std.Redo)
+        self.find_action = self._action("&Find in drawer", self._focus_filter, std.Find,
+                                        "Filter the drawer by text")
+        panel = self.drawer_panel
+        edit_menu = self.menuBar().addMenu("&Edit")
+        for action in (self.undo_action, self.redo_action, None, panel.add_action,
+                       panel.duplicate_action, panel.delete_action, None, panel.kit_action,
+                       panel.paste_action, panel.sort_action, None, self.find_action):
+            edit_menu.addSeparator() if action is None else edit_menu.addAction(action)
+
+        self.search_action = self._action("Search &now", self.run_search, std.Refresh,
+                                          "Run the search without waiting")
+        self.calibrate_action = self._action("&Calibration from a measurement…",
+                                             self.new_calibration, None,
+                                             "Fit the thresholds to a frequency you measured")
+        self.build_menu = self.menuBar().addMenu("&Build")
+        self.build_menu.addAction(self.search_action)
+        self.build_menu.addAction(self.calibrate_action)
+        self.build_menu.addSeparator()
+
+        help_menu = self.menuBar().addMenu("&Help")
+        help_menu.addAction(self._action("&Safety notes", self.show_safety, std.HelpContents))
+        help_menu.addAction(self._action("&About Tickbin", self.show_about))
+
+        self.toolbar = self.addToolBar("Main")
+        self.toolbar.setObjectName("main toolbar")
+        self.toolbar.setMovable(False)
+        self.toolbar.setToolButtonStyle(Qt.ToolButtonStyle.ToolButtonTextOnly)
+        for action in (self.open_action, self.save_action, None, self.undo_action,
+                       self.redo_action, None, self.search_action):
+            self.toolbar.addSeparator() if action is None else self.toolbar.addAction(action)
+        self.toolbar.addSeparator()
+
+    def add_build_action(self, action: QAction, *, toolbar: bool = True) -> None:
+        """Put a build action (sheet, print, netlist, take parts) in the Build menu and bar."""
+        self.build_menu.addAction(action)
+        if toolbar:
+            self.toolbar.addAction(action)
+
+    def _build_status_bar(self) -> None:
+        bar = self.statusBar()
+        self.status_text = QLabel()
+        self.progress = QProgressBar()
+        self.progress.setRange(0, 100)
+        self.progress.setMaximumWidth(160)
+        self.progress.setTextVisible(False)
+        self.progress.setAccessibleName("search progress")
+        self.progress.hide()
+        self.timing = QLabel()
+        self.timing.setObjectName("hint")
+        bar.addWidget(self.status_text, 1)
+        bar.addPermanentWidget(self.progress)
+        bar.addPermanentWidget(self.timing)
+
+    def say(self, text: str) -> None:
+        """A short message in the status bar (kept until the next one)."""
+        self.status_text.setText(text)
+
+    # ------------------------------------------------------------ start-up and settings
+    def _initial_drawer(self, stock: str | None) -> tuple[Drawer, str]:
+        """The drawer to show: ``stock``, else the remembered one, else the demo."""
+        if stock:
+            return read_drawer(stock, strict=False), ""  # errors: the CLI reports and exits
+        if self.remember:
+            last = keys.settings().value(keys.LAST_DRAWER, "")
+            if last and Path(str(last)).is_file():
+                try:
+                    return read_drawer(str(last), strict=False), ""
+                except TickbinError as e:
+                    return self._demo(), f"Last drawer could not be opened ({e}); showing the demo."
+        return self._demo(), "Showing the demo drawer; File ▸ Open loads your own."
+
+    @staticmethod
+    def _demo() -> Drawer:
+        drawer = read_drawer(demo_drawer_path(), strict=False)
+        drawer.path = None  # a copy: saving asks for a name, the bundled file stays intact
+        return drawer
+
+    def _restore_settings(self) -> None:
+        store = keys.settings()
+        geometry = store.value(keys.GEOMETRY)
+        if isinstance(geometry, QByteArray):
+            self.restoreGeometry(geometry)
+        state = store.value(keys.WINDOW_STATE)
+        if isinstance(state, QByteArray):
+            self.restoreState(state)
+        splitters = store.value(keys.SPLITTERS)
+        if isinstance(splitters, str):
+            try:
+                main, right = json.loads(splitters)
+                self.main_split.setSizes([int(x) for x in main])
+                self.right_split.setSizes([int(x) for x in right])
+            except (ValueError, TypeError):
+                pass
+        fields = store.value(keys.TARGET)
+        if isinstance(fields, str):
+            with contextlib.suppress(ValueError, TypeError, AttributeError):
+                self.form.restore(json.loads(fields))
+
+    def save_settings(self) -> None:
+        if not self.remember:
+            return
+        store = keys.settings()
+        store.setValue(keys.GEOMETRY, self.saveGeometry())
+        store.setValue(keys.WINDOW_STATE, self.saveState())
+        store.setValue(keys.SPLITTERS, json.dumps([self.main_split.sizes(),
+                                                    self.right_split.sizes()]))
+        store.setValue(keys.TARGET, json.dumps(self.form.state()))
+        path = self.drawer.path
+        store.setValue(keys.LAST_DRAWER, str(path) if path else "")
+        store.sync()
+
+    def finish_startup(self) -> None:
+        """What can wait until the window is on screen: plots, crash recovery, first search."""
+        if self._plots is None:
+            from gui.plots import PlotPanel
+
+            self._plots = PlotPanel()
+            self.plot_area.layout().addWidget(self._plots)
+        if self.remember:
+            self._offer_restore()
+            self.autosave.begin_session()
+            self.autosave_timer.start()
+        self._install_build_actions()
+        self.run_search()
+
+    def _install_build_actions(self) -> None:
+        """Let the build-sheet module add its actions, if it offers them."""
+        try:
+            from gui import sheet_render
+        except ImportError:
+            return
+        install = getattr(sheet_render, "install_window_actions", None)
+        if install is not None:
+            install(self)
+
+    @property
+    def plots(self) -> Any:
+        """The plot panel (created after the window is first shown)."""
+        return self._plots
+
+    # ------------------------------------------------------------ drawer
+    @property
+    def drawer(self) -> Drawer:
+        return self.drawer_model.drawer
+
+    def _attach(self, drawer: Drawer, previous: Drawer | None = None) -> None:
+        if previous is not None:
+            for event in (previous.changed, previous.inserted, previous.removed, previous.reset):
+                event.disconnect(self._drawer_edited)
+            previous.history_changed.disconnect(self._history_changed)
+        for event in (drawer.changed, drawer.inserted, drawer.removed, drawer.reset):
+            event.connect(self._drawer_edited)
+        drawer.history_changed.connect(self._history_changed)
+        self._history_changed()
+
+    def set_drawer(self, drawer: Drawer) -> None:
+        """Show ``drawer`` (open, new, restore) and search it."""
+        previous = self.drawer
+        self.drawer_model.set_drawer(drawer)
+        self._attach(drawer, previous)
+        self.schedule_search()
+
+    def _drawer_edited(self, *args: object) -> None:
+        self.schedule_search()
+
+    def _history_changed(self) -> None:
+        drawer = self.drawer
+        self.undo_action.setEnabled(drawer.can_undo())
+        self.redo_action.setEnabled(drawer.can_redo())
+        self.undo_action.setText(f"&Undo {drawer.undo_text()}".rstrip())
+        self.redo_action.setText(f"&Redo {drawer.redo_text()}".rstrip())
+        name = drawer.path.name if drawer.path else "demo drawer (not saved)" if (
+            drawer is not None and not drawer.path) else ""
+        self.setWindowTitle(f"{name}[*] — Tickbin")
+        self.setWindowModified(drawer.dirty)
+
+    def undo(self) -> None:
+        self.drawer.undo()
+
+    def redo(self) -> None:
+        self.drawer.redo()
+
+    def _focus_filter(self) -> None:
+        self.drawer_panel.text_filter.setFocus()
+        self.drawer_panel.text_filter.selectAll()
+
+    # -- asking the person (tests replace these two)
+    @classmethod
+    def ask(cls, parent: QWidget, title: str, text: str,
+            buttons: QMessageBox.StandardButton,
+            default: QMessageBox.StandardButton) -> QMessageBox.StandardButton:
+        box = QMessageBox(QMessageBox.Icon.Question, title, text, buttons, parent)
+        box.setDefaultButton(default)
+        return QMessageBox.StandardButton(box.exec())
+
+    @classmethod
+    def ask_path(cls, parent: QWidget, title: str, *, save: bool,
+                 start: str = "") -> str | None:
+        if save:
+            path, _ = QFileDialog.getSaveFileName(parent, title, start, CSV_FILTER)
+        else:
+            path, _ = QFileDialog.getOpenFileName(parent, title, start, CSV_FILTER)
+        return path or None
+
+    def tell(self, title: str, text: str) -> None:
+        """An error the person must see (the status bar would be too easy to miss)."""
+        QMessageBox.warning(self, title, text)
+
+    def maybe_save(self) -> bool:
+        """Before the drawer goes away: True when it is saved, discarded or unchanged."""
+        if not self.drawer.dirty:
+            return True
+        b = QMessageBox.StandardButton
+        answer = self.ask(self, "Unsaved changes",
+                          "The drawer has changes that are not saved. Save them?",
+                          b.Save | b.Discard | b.Cancel, b.Save)
+        if answer == b.Save:
+            return self.save()
+        return answer == b.Discard
+
+    def _start_folder(self) -> str:
+        return str(self.drawer.path.parent) if self.drawer.path else str(Path.home())
+
+    def _read(self, path: str) -> Drawer | None:
+        try:
+            return read_drawer(path, strict=False)
+        except DrawerFileError as e:
+            shown = "\n".join(str(p) for p in e.problems[:12])
+            self.tell("Cannot open the drawer", f"{path} cannot be read as a drawer:\n\n{shown}")
+        except TickbinError as e:
+            self.tell("Cannot open the drawer", str(e))
+        return None
+
+    def new_drawer(self) -> None:
+        if self.maybe_save():
+            self.autosave.discard()
+            self.set_drawer(Drawer())
+            self.say("New empty drawer: add parts, a kit or paste a list of values.")
+
+    def open_drawer(self, path: str | None = None) -> None:
+        if not self.maybe_save():
+            return
+        path = path or self.ask_path(self, "Open a drawer", save=False,
+                                     start=self._start_folder())
+        if not path:
+            return
+        drawer = self._read(path)
+        if drawer is not None:
+            self.autosave.discard()
+            self.set_drawer(drawer)
+            bad = len(drawer.problems())
+            self.say(f"Opened {path}" + (f"; {bad} row(s) need fixing (marked ⚠)." if bad
+                                         else "."))
+            self.save_settings()
+
+    def open_demo(self) -> None:
+        if self.maybe_save():
+            self.autosave.discard()
+            self.set_drawer(self._demo())
+            self.say("Demo drawer opened (a copy: Save asks for a file name).")
+
+    def save(self) -> bool:
+        if self.drawer.path is None:
+            return self.save_as()
+        return self._write(self.drawer.path)
+
+    def save_as(self) -> bool:
+        path = self.ask_path(self, "Save the drawer as", save=True, start=self._start_folder())
+        return bool(path) and self._write(Path(path))
+
+    def _write(self, path: Path) -> bool:
+        try:
+            write_drawer(self.drawer, path)
+        except TickbinError as e:
+            self.tell("Not saved", str(e))
+            return False
+        self.drawer_model.refresh_lines()
+        self.autosave.discard()
+        self._history_changed()
+        bad = len(self.drawer.problems())
+        self.say(f"Saved {path}" + (f"; {bad} row(s) still need fixing." if bad else "."))
+        self.save_settings()
+        return True
+
+    def import_csv(self) -> None:
+        path = self.ask_path(self, "Import rows from a drawer file", save=False,
+                             start=self._start_folder())
+        if not path:
+            return
+        other = self._read(path)
+        if other is None:
+            return
+        for column in other.columns:
+            if column not in self.drawer.columns:
+                self.drawer.columns.append(column)
+        self.drawer_model.refresh_columns()
+        rows = [Row(dict(r.cells)) for r in other.rows]
+        self.drawer_panel.add_rows(rows, f"Import {Path(path).name}")
+
+    def export_csv(self) -> None:
+        path = self.ask_path(self, "Export a copy of the drawer", save=True,
+                             start=self._start_folder())
+        if not path:
+            return
+        try:
+            write_text_atomically(path, drawer_csv_text(self.drawer))
+        except TickbinError as e:
+            self.tell("Not exported", str(e))
+            return
+        self.say(f"Exported a copy to {path}.")
+
+    def autosave_now(self) -> None:
+        """Snapshot unsaved edits (the timer calls this every minute)."""
+        if not self.drawer.dirty:
+            return
+        try:
+            self.autosave.save(self.drawer)
+        except TickbinError as e:
+            self.say(f"Autosave failed: {e}")
+
+    def _offer_restore(self) -> None:
+        snapshot = self.autosave.crashed_snapshot()
+        if snapshot is None:
+            return
+        when = time.strftime("%Y-%m-%d %H:%M", time.localtime(snapshot.saved_at))
+        name = snapshot.original.name if snapshot.original else "an unsaved drawer"
+        b = QMessageBox.StandardButton
+        answer = self.ask(self, "Restore unsaved edits?",
+                          f"Tickbin did not close normally last time. Unsaved edits to "
+                          f"{name} were kept at {when}. Restore them?",
+                          b.Yes | b.No, b.Yes)
+        if answer != b.Yes:
+            self.autosave.discard()
+            return
+        base = None
+        if snapshot.original and snapshot.original.is_file():
+            base = self._read(str(snapshot.original))
+        if base is None:
+            base = Drawer(columns=snapshot.drawer.columns)
+        for column in snapshot.drawer.columns:
+            if column not in base.columns:
+                base.columns.append(column)
+        base.replace_rows(snapshot.drawer.rows, "Restore unsaved edits")
+        self.set_drawer(base)
+        self.say("Unsaved edits restored; Undo goes back to the file as saved.")
+
+    # ------------------------------------------------------------ searching
+    def schedule_search(self) -> None:
+        """Search after the person stops typing for a moment."""
+        self.debounce.start()
+
+    def current_target(self) -> Target | None:
+        return self.form.target_value()
+
+    def run_search(self) -> None:
+        self.debounce.stop()
+        target = self.form.target_value()
+        if target is None:
+            self.runner.cancel()
+            self.progress.hide()
+            self._show_result_none("Fix the marked target fields to search.")
+            self.sigSearchDone.emit()
+            return
+        parts = tuple(self.drawer.parts())
+        slow = self.runner.needs_index(target, parts)
+        self.runner.submit(target, parts)
+        self.progress.setValue(0)
+        self.progress.setVisible(True)
+        self.say("Building the parts index…" if slow else "Searching…")
+
+    def _search_progress(self, generation: int, text: str, fraction: float) -> None:
+        self.progress.setValue(round(100 * fraction))
+        self.say(text)
+
+    def _show_result_none(self, why: str) -> None:
+        self._outcome = None
+        self.candidates.set_result([], trim=False)
+        self.notes.setText(why)
+        if self._plots is not None:
+            self._plots.clear(why)
+
+    def _search_failed(self, generation: int, message: str) -> None:
+        self.progress.hide()
+        self.form.show_error(message)
+        self._show_result_none(message)
+        self.say("No search result: see the message under the target form.")
+        self.sigSearchDone.emit()
+
+    def _search_finished(self, outcome: Outcome) -> None:
+        clock = QElapsedTimer()
+        clock.start()
+        self.progress.hide()
+        self.form.show_error("")
+        previous = self.selected_candidate()
+        self._outcome = outcome
+        result = outcome.result
+        target = outcome.target
+        self.candidates.set_result(result.candidates, trim=target.trim,
+                                   accept_pct=None if target.trim else target.accept_pct)
+        notes = list(result.notes)
+        notes += [f"To buy: {s}" for s in getattr(result, "suggestions", []) or []]
+        self.notes.setText("\n".join(notes))
+        self.notes.setVisible(bool(notes))
+        self.last_search_ms = outcome.seconds * 1000
+        count = len(result.candidates)
+        self.timing.setText(f"search {self.last_search_ms:.0f} ms")
+        self.say(f"{count} candidate{'s' if count != 1 else ''} for {target.describe()}"
+                 if count else "No candidate from this drawer; see the notes.")
+        row = 0
+        if previous is not None and previous in result.candidates:
+            row = result.candidates.index(previous)
+        if count:
+            self.select_candidate(row)
+        elif self._plots is not None:
+            self._plots.clear("nothing to show")
+        self._note_time(clock)
+        self.sigSearchDone.emit()
+
+    def _note_time(self, clock: QElapsedTimer) -> None:
+        self._slowest_ms = max(self._slowest_ms, clock.nsecsElapsed() / 1e6)
+
+    @property
+    def slowest_handler_ms(self) -> float:
+        """Longest time a search result took to show (window thread), in ms."""
+        return self._slowest_ms
+
+    def select_candidate(self, row: int) -> None:
+        index = self.candidates.index(row, 0)
+        self.candidate_view.selectionModel().setCurrentIndex(
+            index, QItemSelectionModel.SelectionFlag.ClearAndSelect
+            | QItemSelectionModel.SelectionFlag.Rows)
+        self.candidate_view.scrollTo(index)
+
+    def selected_candidate(self) -> Any:
+        """The chosen core Candidate or TrimCandidate, or None."""
+        index = self.candidate_view.selectionModel().currentIndex()
+        return self.candidates.candidate(index.row()) if index.isValid() else None
+
+    def current_oscillator(self) -> Any:
+        """The oscillator model behind the candidates shown (core.timing.Oscillator)."""
+        return self._outcome.oscillator if self._outcome else None
+
+    def _candidate_chosen(self, *args: object) -> None:
+        candidate = self.selected_candidate()
+        if candidate is None or self._outcome is None or self._plots is None:
+            return
+        from gui.plot_data import draw_candidate
+
+        try:
+            draw_candidate(self._plots, self._outcome, candidate)
+        except TickbinError as e:
+            self._plots.clear(str(e))
+
+    # ------------------------------------------------------------ calibration and help
+    def new_calibration(self) -> None:
+        from gui.calibration_dialog import CalibrationDialog
+
+        dialog = CalibrationDialog(self, self.form.target_value(), self.selected_candidate())
+        if dialog.exec() and dialog.saved_name:
+            self.form.reload_calibrations(select=dialog.saved_name)
+            self.say(f"Calibration “{dialog.saved_name}” saved and selected.")
+
+    def show_safety(self) -> None:
+        QMessageBox.information(self, "Safety notes", SAFETY)
+
+    def show_about(self) -> None:
+        from core import __version__
+
+        QMessageBox.about(self, "About Tickbin",
+                          f"<p><b>Tickbin {__version__}</b></p><p>Picks resistors, pots and "
+                          "capacitors from your own drawer for an RC oscillator, with honest "
+                          "tolerance spread.</p>")
+
+    # ------------------------------------------------------------ closing
+    def closeEvent(self, event: QCloseEvent) -> None:  # noqa: N802
+        if self.remember and not self.maybe_save():
+            event.ignore()
+            return
+        self.runner.cancel()
+        self.runner.wait(3000)
+        self.autosave_timer.stop()
+        self.save_settings()
+        if self.remember:
+            self.autosave.end_session()
+        event.accept()
+
+    def quitting(self) -> None:
+        """The application quits without a close (logout): keep unsaved edits for next time."""
+        if self.remember and self.drawer.dirty:
+            self.autosave_now()
+

@@ -1,0 +1,167 @@
+"""Live plots (pyqtgraph): the waveform, the spread of frequency, the trimmer's curve.
+
+Each method takes plain arrays in SI units computed by core; the items keep
+their data so tests read it back with ``getData()``. pyqtgraph is imported
+only here, and this module is imported only after the window is on screen.
+"""
+
+from __future__ import annotations
+
+import numpy as np
+import pyqtgraph as pg
+from PySide6.QtCore import Qt
+from PySide6.QtGui import QColor, QFont
+from PySide6.QtWidgets import QHBoxLayout, QStackedWidget, QWidget
+
+# Our palette: ink for text and axes, a slate blue and a copper for the two traces,
+# a sage green for "acceptable", a muted plum for thresholds.
+INK = QColor(52, 58, 64)
+GRID = 40
+CAP = QColor(47, 94, 150)
+OUT = QColor(176, 104, 48)
+ACCEPT = QColor(96, 150, 110, 60)
+ACCEPT_EDGE = QColor(96, 150, 110)
+THRESHOLD = QColor(130, 80, 130)
+ENVELOPE = QColor(47, 94, 150, 50)
+
+
+def _plot(title: str, accessible: str) -> pg.PlotWidget:
+    widget = pg.PlotWidget(background="w")
+    widget.setAccessibleName(accessible)
+    item = widget.getPlotItem()
+    item.setTitle(title, color=INK.name(), size="10pt")
+    item.showGrid(x=True, y=True, alpha=GRID / 255)
+    item.setMenuEnabled(False)
+    font = QFont()
+    font.setPointSizeF(max(8.0, font.pointSizeF() * 0.9))
+    for name in ("left", "bottom"):
+        axis = item.getAxis(name)
+        axis.setPen(pg.mkPen(INK))
+        axis.setTextPen(pg.mkPen(INK))
+        axis.setStyle(tickFont=font)
+        axis.label.setFont(font)
+    item.hideButtons()
+    return widget
+
+
+class PlotPanel(QWidget):
+    """Waveform on the left; frequency spread (search) or frequency vs rotation (trim) right."""
+
+    def __init__(self, parent: QWidget | None = None):
+        super().__init__(parent)
+        pg.setConfigOptions(antialias=True)
+        self.waveform = _plot("Capacitor and output", "waveform plot")
+        self.waveform.setLabel("bottom", "Time", units="s")
+        self.waveform.setLabel("left", "Voltage", units="V")
+        legend = self.waveform.getPlotItem().addLegend(offset=(-8, 8), labelTextColor=INK,
+                                                       labelTextSize="8pt")
+        legend.setBrush(pg.mkBrush(255, 255, 255, 200))
+        self.out_curve = self.waveform.plot(pen=pg.mkPen(OUT, width=1.6), name="output")
+        self.cap_curve = self.waveform.plot(pen=pg.mkPen(CAP, width=2.0), name="capacitor")
+        dash = pg.mkPen(THRESHOLD, width=1.2, style=Qt.PenStyle.DashLine)
+        self.vt_plus_line = pg.InfiniteLine(angle=0, pen=dash, label="VT+ {value:.2f} V",
+                                            labelOpts={"position": 0.93, "color": THRESHOLD})
+        self.vt_minus_line = pg.InfiniteLine(angle=0, pen=dash, label="VT− {value:.2f} V",
+                                             labelOpts={"position": 0.93, "color": THRESHOLD})
+        for line in (self.vt_plus_line, self.vt_minus_line):
+            self.waveform.addItem(line)
+
+        self.spread = _plot("Spread over part tolerances", "frequency spread plot")
+        self.spread.setLabel("bottom", "Frequency", units="Hz")
+        self.spread.setLabel("left", "Share of builds", units="%")
+        self.spread.getAxis("left").enableAutoSIPrefix(False)
+        self.accept_region = pg.LinearRegionItem(movable=False, brush=pg.mkBrush(ACCEPT),
+                                                 pen=pg.mkPen(ACCEPT_EDGE))
+        self.spread.addItem(self.accept_region)
+        self.hist_curve = self.spread.plot(stepMode="center", fillLevel=0,
+                                           pen=pg.mkPen(CAP, width=1.2),
+                                           brush=pg.mkBrush(CAP.red(), CAP.green(),
+                                                            CAP.blue(), 110))
+        self.target_line = pg.InfiniteLine(angle=90, pen=pg.mkPen(INK, width=1.5),
+                                           label="target", labelOpts={"position": 0.95,
+                                                                      "color": INK})
+        self.spread.addItem(self.target_line)
+
+        self.rotation = _plot("Frequency against rotation", "trimmer rotation plot")
+        self.rotation.setLabel("bottom", "Rotation (%)")
+        self.rotation.setLabel("left", "Frequency", units="Hz")
+        self.band_region = pg.LinearRegionItem(orientation="horizontal", movable=False,
+                                               brush=pg.mkBrush(ACCEPT),
+                                               pen=pg.mkPen(ACCEPT_EDGE))
+        self.rotation.addItem(self.band_region)
+        self.envelope_low = self.rotation.plot(pen=pg.mkPen(CAP, width=1,
+                                                            style=Qt.PenStyle.DotLine))
+        self.envelope_high = self.rotation.plot(pen=pg.mkPen(CAP, width=1,
+                                                             style=Qt.PenStyle.DotLine))
+        self.envelope_fill = pg.FillBetweenItem(self.envelope_low, self.envelope_high,
+                                                brush=pg.mkBrush(ENVELOPE))
+        self.rotation.addItem(self.envelope_fill)
+        self.rotation_curve = self.rotation.plot(pen=pg.mkPen(CAP, width=2))
+
+        self.right = QStackedWidget()
+        self.right.addWidget(self.spread)
+        self.right.addWidget(self.rotation)
+        layout = QHBoxLayout(self)
+        layout.setContentsMargins(0, 0, 0, 0)
+        layout.setSpacing(8)
+        layout.addWidget(self.waveform, 1)
+        layout.addWidget(self.right, 1)
+        self.clear()
+
+    def clear(self, why: str = "") -> None:
+        """Empty plots (no candidate selected); ``why`` goes in the titles."""
+        for curve in (self.cap_curve, self.out_curve, self.hist_curve, self.rotation_curve,
+                      self.envelope_low, self.envelope_high):
+            curve.setData([], [])
+        for line in (self.vt_plus_line, self.vt_minus_line, self.target_line):
+            line.hide()
+        self.accept_region.hide()
+        self.band_region.hide()
+        title = why or "Select a candidate"
+        self.waveform.setTitle(f"Capacitor and output: {title}", color=INK.name(), size="10pt")
+
+    def show_waveform(self, t_s: np.ndarray, v_cap: np.ndarray, v_out: np.ndarray,
+                      vt_plus_v: float, vt_minus_v: float, title: str) -> None:
+        """Traces over a few periods; t in s, voltages in V; thresholds as dashed lines."""
+        self.cap_curve.setData(t_s, v_cap)
+        self.out_curve.setData(t_s, v_out)
+        # Show first: a hidden line's label does not follow its value.
+        self.vt_plus_line.show()
+        self.vt_minus_line.show()
+        self.vt_plus_line.setValue(vt_plus_v)
+        self.vt_minus_line.setValue(vt_minus_v)
+        self.waveform.setTitle(title, color=INK.name(), size="10pt")
+        self.waveform.getPlotItem().enableAutoRange()
+
+    def show_spread(self, frequencies_hz: np.ndarray, target_hz: float,
+                    accept_hz: tuple[float, float], title: str) -> None:
+        """Histogram of Monte Carlo frequencies (Hz) as percent of builds per bin."""
+        self.right.setCurrentWidget(self.spread)
+        freqs = np.asarray(frequencies_hz, dtype=float)
+        freqs = freqs[np.isfinite(freqs)]
+        if freqs.size == 0:
+            self.hist_curve.setData([], [])
+            return
+        lo = min(freqs.min(), accept_hz[0])
+        hi = max(freqs.max(), accept_hz[1])
+        counts, edges = np.histogram(freqs, bins=60, range=(lo, hi))
+        self.hist_curve.setData(edges, 100.0 * counts / freqs.size)
+        self.target_line.show()
+        self.target_line.setValue(target_hz)
+        self.accept_region.setRegion(accept_hz)
+        self.accept_region.show()
+        self.spread.setTitle(title, color=INK.name(), size="10pt")
+        self.spread.getPlotItem().enableAutoRange()
+
+    def show_rotation(self, rotation_pct: np.ndarray, nominal_hz: np.ndarray,
+                      low_hz: np.ndarray, high_hz: np.ndarray, band_hz: tuple[float, float],
+                      title: str) -> None:
+        """Frequency (Hz) against rotation (%), worst-case envelope shaded, band marked."""
+        self.right.setCurrentWidget(self.rotation)
+        self.rotation_curve.setData(rotation_pct, nominal_hz)
+        self.envelope_low.setData(rotation_pct, low_hz)
+        self.envelope_high.setData(rotation_pct, high_hz)
+        self.band_region.setRegion(band_hz)
+        self.band_region.show()
+        self.rotation.setTitle(title, color=INK.name(), size="10pt")
+        self.rotation.getPlotItem().enableAutoRange()

@@ -1,0 +1,211 @@
+"""Searches off the window's thread: one at a time, the newest wins.
+
+Every request gets a generation number. A request that is superseded before
+it starts is skipped; one that is running stops at its next progress step
+(index building reports progress, see ``core.networks.build_index``); a
+result that arrives late is ignored by the window. Errors come back as a
+message (``TickbinError``: the person's input; anything else: logged, then
+reported), never lost in the thread.
+"""
+
+from __future__ import annotations
+
+import threading
+import time
+from collections import OrderedDict
+from collections.abc import Callable
+from dataclasses import dataclass
+from typing import Any
+
+from PySide6.QtCore import QObject, QRunnable, QThreadPool, Signal
+
+from core.drawer import Part
+from core.errors import TickbinError
+from gui.target_form import Target
+
+TOP = 20
+"""Candidates asked for (the table scrolls)."""
+
+INDEX_CACHE = 6
+"""Drawer indexes kept (per drawer state and network sizes): undo is instant."""
+
+
+class SupersededError(Exception):
+    """A newer request arrived; this one stops quietly."""
+
+
+@dataclass(frozen=True)
+class Outcome:
+    """A finished request: the oscillator model used, core's result, how long it took."""
+
+    generation: int
+    target: Target
+    parts: tuple[Part, ...]
+    oscillator: Any
+    result: Any
+    seconds: float
+
+
+def make_oscillator_for(target: Target) -> Any:
+    """The oscillator model for ``target`` (SetupError when the chip cannot do it)."""
+    from core.timing import make_oscillator
+
+    return make_oscillator(target.circuit, target.family, target.supply_v,
+                           calibration=target.calibration)
+
+
+class _Indexes:
+    """Drawer indexes by (parts, network sizes), shared by requests (guarded by a lock)."""
+
+    def __init__(self) -> None:
+        self._lock = threading.Lock()
+        self._cache: OrderedDict[tuple[Any, ...], Any] = OrderedDict()
+
+    def get(self, parts: tuple[Part, ...], max_resistors: int, max_capacitors: int,
+            step: Callable[[str, float], None]) -> Any:
+        """The index, built with progress reports through ``step`` when not cached."""
+        from core.networks import build_drawer_index
+
+        key = (parts, max_resistors, max_capacitors)
+        with self._lock:
+            if key in self._cache:
+                self._cache.move_to_end(key)
+                return self._cache[key]
+        steps = build_drawer_index(parts, max_resistors, max_capacitors)
+        while True:
+            try:
+                fraction = next(steps)
+            except StopIteration as done:
+                index = done.value
+                break
+            step("Building the parts index…", fraction)
+        with self._lock:
+            self._cache[key] = index
+            while len(self._cache) > INDEX_CACHE:
+                self._cache.popitem(last=False)
+        return index
+
+    def cached(self, parts: tuple[Part, ...], max_resistors: int, max_capacitors: int) -> bool:
+        with self._lock:
+            return (parts, max_resistors, max_capacitors) in self._cache
+
+
+def compute(target: Target, parts: tuple[Part, ...], indexes: _Indexes,
+            step: Callable[[str, float], None]) -> tuple[Any, Any]:
+    """Oscillator model and core's search or trim result for ``target`` over ``parts``."""
+    osc = make_oscillator_for(target)
+    if target.trim:
+        from core.trim import trim
+
+        assert target.band_hz is not None
+        step("Trying pots, resistors and capacitors…", 0.5)
+        result = trim(list(parts), osc, target.band_hz, top=TOP,
+                      max_resistors=target.max_resistors,
+                      max_capacitors=target.max_capacitors)
+        return osc, result
+    from core.search import search
+
+    index = indexes.get(parts, target.max_resistors, target.max_capacitors, step)
+    step("Searching…", 1.0)
+    assert target.target_hz is not None
+    result = search(list(parts), osc, target.target_hz, duty_pct=target.duty_pct,
+                    max_resistors=target.max_resistors, max_capacitors=target.max_capacitors,
+                    accept_pct=target.accept_pct, top=TOP, index=index)
+    return osc, result
+
+
+class _Signals(QObject):
+    progress = Signal(int, str, float)
+    finished = Signal(object)
+    failed = Signal(int, str)
+
+
+class _Job(QRunnable):
+    def __init__(self, runner: SearchRunner, generation: int, target: Target,
+                 parts: tuple[Part, ...]):
+        super().__init__()
+        self.runner, self.generation, self.target, self.parts = runner, generation, target, parts
+        self.signals = runner._signals
+
+    def _step(self, text: str, fraction: float) -> None:
+        if self.runner.generation != self.generation:
+            raise SupersededError
+        self.signals.progress.emit(self.generation, text, fraction)
+
+    def run(self) -> None:
+        if self.runner.generation != self.generation:
+            return
+        started = time.perf_counter()
+        try:
+            osc, result = compute(self.target, self.parts, self.runner._indexes, self._step)
+        except SupersededError:
+            return
+        except TickbinError as e:
+            self.signals.failed.emit(self.generation, str(e))
+            return
+        except Exception as e:
+            from core.locations import append_error_log
+
+            where = append_error_log(e)
+            self.signals.failed.emit(self.generation, f"The search failed: "
+                                     f"{type(e).__name__}: {e} ({where})")
+            return
+        self.signals.finished.emit(Outcome(self.generation, self.target, self.parts, osc,
+                                           result, time.perf_counter() - started))
+
+
+class SearchRunner(QObject):
+    """Runs searches in a one-thread pool; the newest request supersedes older ones.
+
+    Signals: ``sigProgress(generation, text, fraction)``, ``sigFinished(Outcome)``,
+    ``sigFailed(generation, message)``. Only the current generation's signals
+    are passed on.
+    """
+
+    sigProgress = Signal(int, str, float)  # noqa: N815
+    sigFinished = Signal(object)  # noqa: N815
+    sigFailed = Signal(int, str)  # noqa: N815
+
+    def __init__(self, parent: QObject | None = None):
+        super().__init__(parent)
+        self.pool = QThreadPool(self)
+        self.pool.setMaxThreadCount(1)
+        self.generation = 0
+        self._indexes = _Indexes()
+        self._signals = _Signals(self)
+        self._signals.progress.connect(self._on_progress)
+        self._signals.finished.connect(self._on_finished)
+        self._signals.failed.connect(self._on_failed)
+
+    def submit(self, target: Target, parts: tuple[Part, ...]) -> int:
+        """Start a search; any older request still queued or running is superseded."""
+        self.generation += 1
+        self.pool.clear()
+        self.pool.start(_Job(self, self.generation, target, parts))
+        return self.generation
+
+    def cancel(self) -> None:
+        """Supersede whatever is running (the window shows nothing from it)."""
+        self.generation += 1
+        self.pool.clear()
+
+    def needs_index(self, target: Target, parts: tuple[Part, ...]) -> bool:
+        """Whether this request must build a network index first (slow on big drawers)."""
+        if target.trim:
+            return False
+        return not self._indexes.cached(parts, target.max_resistors, target.max_capacitors)
+
+    def wait(self, msecs: int = -1) -> bool:
+        return self.pool.waitForDone(msecs)
+
+    def _on_progress(self, generation: int, text: str, fraction: float) -> None:
+        if generation == self.generation:
+            self.sigProgress.emit(generation, text, fraction)
+
+    def _on_finished(self, outcome: Outcome) -> None:
+        if outcome.generation == self.generation:
+            self.sigFinished.emit(outcome)
+
+    def _on_failed(self, generation: int, message: str) -> None:
+        if generation == self.generation:
+            self.sigFailed.emit(generation, message)

@@ -1,0 +1,367 @@
+"""The target form: which circuit, which chip, what frequency (or band) and how close.
+
+The form only collects text; ``core.units`` parses it. A field that does not
+parse is marked (a warning sign in the field and a red edge) with the reason in
+its tooltip, and the form reports no target until it is fixed.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+from typing import Any, Literal
+
+from PySide6.QtCore import Qt, Signal
+from PySide6.QtWidgets import (
+    QComboBox,
+    QGridLayout,
+    QHBoxLayout,
+    QLabel,
+    QLineEdit,
+    QPushButton,
+    QSpinBox,
+    QWidget,
+)
+
+from core.errors import InputError, TickbinError
+
+Mode = Literal["frequency", "period", "band"]
+
+CIRCUITS = (("Schmitt-trigger inverter", "schmitt"), ("555 astable", "555"))
+MODES: tuple[tuple[str, Mode, str, str], ...] = (
+    ("Frequency", "frequency", "1kHz", "The frequency to reach, e.g. 1kHz, 38k, 440 Hz"),
+    ("Period", "period", "1ms", "The period to reach, e.g. 2ms, 250us"),
+    ("Band (trim)", "band", "900..1100", "A band to cover with a trimmer, e.g. 400..480 "
+     "or 1k..1.2kHz: the search then picks a pot, a fixed resistor and a capacitor"),
+)
+DEFAULT_FAMILY = {"schmitt": "74HC14", "555": "NE555"}
+
+
+@dataclass(frozen=True)
+class Target:
+    """What the person asked for, parsed: SI units (Hz, V, %)."""
+
+    circuit: str
+    family: str
+    supply_v: float
+    mode: Mode
+    target_hz: float | None
+    band_hz: tuple[float, float] | None
+    duty_pct: float | None
+    accept_pct: float
+    max_resistors: int
+    max_capacitors: int
+    calibration: str | None
+
+    @property
+    def trim(self) -> bool:
+        return self.band_hz is not None
+
+    def describe(self) -> str:
+        """Short words for titles and sheets: ``1.00 kHz ±1 %`` or ``band 400 Hz … 480 Hz``."""
+        from core.units import format_frequency
+
+        if self.band_hz is not None:
+            lo, hi = self.band_hz
+            return f"band {format_frequency(lo)} … {format_frequency(hi)}"
+        assert self.target_hz is not None
+        text = f"{format_frequency(self.target_hz)} ±{self.accept_pct:g} %"
+        if self.duty_pct is not None:
+            text += f", duty {self.duty_pct:g} %"
+        return text
+
+
+class TargetForm(QWidget):
+    """Fields for circuit, family, supply, target, duty, accuracy, network size, calibration.
+
+    Signals: ``sigChanged()`` after any edit (the window debounces it),
+    ``sigNewCalibration()`` when the person asks to make a calibration.
+    """
+
+    sigChanged = Signal()  # noqa: N815
+    sigNewCalibration = Signal()  # noqa: N815
+
+    def __init__(self, parent: QWidget | None = None):
+        super().__init__(parent)
+        self._problems: dict[str, str] = {}
+        self._ranges: dict[str, tuple[float, float]] = {}
+
+        self.circuit = QComboBox()
+        for label, key in CIRCUITS:
+            self.circuit.addItem(label, key)
+        self.family = QComboBox()
+        self.family.setMinimumContentsLength(9)
+        self.family.setSizeAdjustPolicy(QComboBox.SizeAdjustPolicy.AdjustToContents)
+        self.supply = QLineEdit("5V")
+        self.supply.setMaximumWidth(self.supply.fontMetrics().horizontalAdvance("M") * 6)
+        self.supply_range = QLabel()
+        self.supply_range.setObjectName("hint")
+        self.mode = QComboBox()
+        for label, key, _, tip in MODES:
+            self.mode.addItem(label, key)
+            self.mode.setItemData(self.mode.count() - 1, tip, Qt.ItemDataRole.ToolTipRole)
+        self.target = QLineEdit("1kHz")
+        self.duty = QLineEdit()
+        self.duty.setPlaceholderText("any")
+        self.accept = QLineEdit("1%")
+        self.max_r = QSpinBox()
+        self.max_r.setRange(1, 3)
+        self.max_r.setValue(2)
+        self.max_r.setSuffix(" resistors")
+        self.max_c = QSpinBox()
+        self.max_c.setRange(1, 3)
+        self.max_c.setValue(2)
+        self.max_c.setSuffix(" capacitors")
+        self.calibration = QComboBox()
+        self.calibration.setMinimumContentsLength(12)
+        self.new_calibration = QPushButton("From a measurement…")
+        self.message = QLabel()
+        self.message.setObjectName("problem")
+        self.message.setWordWrap(True)
+
+        tips = {
+            self.circuit: "The oscillator: an inverter with hysteresis (R from output to "
+                          "input, C to ground), or a 555 timer in astable mode",
+            self.family: "The chip; its thresholds and limits come from the device table",
+            self.supply: "Supply voltage, e.g. 5V or 3.3",
+            self.mode: "Aim at one frequency, a period, or a band to trim over",
+            self.target: MODES[0][3],
+            self.duty: "555 only: wanted share of time high, e.g. 60% (empty: any)",
+            self.accept: "Candidates within this error come first, fewest parts first",
+            self.max_r: "Most resistors combined (series or parallel) for one resistance",
+            self.max_c: "Most capacitors combined (parallel or series) for one capacitance",
+            self.calibration: "Thresholds measured on your own chip (none: the device "
+                              "table's min/typ/max)",
+            self.new_calibration: "Make a calibration from a frequency you measured on the "
+                                  "bench with known R and C",
+        }
+        names = {self.circuit: "circuit", self.family: "family", self.supply: "supply voltage",
+                 self.mode: "target kind", self.target: "target", self.duty: "duty cycle",
+                 self.accept: "acceptable error", self.max_r: "resistors per network",
+                 self.max_c: "capacitors per network", self.calibration: "calibration",
+                 self.new_calibration: "new calibration"}
+        for widget, tip in tips.items():
+            widget.setToolTip(tip)
+            widget.setAccessibleName(names[widget])
+        self._fields: dict[str, QLineEdit] = {"supply": self.supply, "target": self.target,
+                                              "duty": self.duty, "accept": self.accept}
+        self._base_tips = {key: tips[w] for key, w in self._fields.items()}
+
+        grid = QGridLayout(self)
+        grid.setContentsMargins(0, 0, 0, 0)
+        grid.setHorizontalSpacing(8)
+        grid.setVerticalSpacing(6)
+
+        def label(text: str, buddy: QWidget) -> QLabel:
+            lab = QLabel(text)
+            lab.setBuddy(buddy)
+            lab.setAlignment(Qt.AlignmentFlag.AlignRight | Qt.AlignmentFlag.AlignVCenter)
+            return lab
+
+        grid.addWidget(label("&Circuit", self.circuit), 0, 0)
+        grid.addWidget(self.circuit, 0, 1)
+        grid.addWidget(label("&Family", self.family), 0, 2)
+        grid.addWidget(self.family, 0, 3)
+        grid.addWidget(label("&Supply", self.supply), 0, 4)
+        supply_box = QHBoxLayout()
+        supply_box.addWidget(self.supply)
+        supply_box.addWidget(self.supply_range)
+        grid.addLayout(supply_box, 0, 5)
+        grid.addWidget(label("&Target", self.target), 1, 0)
+        target_box = QHBoxLayout()
+        target_box.addWidget(self.mode)
+        target_box.addWidget(self.target, 1)
+        grid.addLayout(target_box, 1, 1)
+        grid.addWidget(label("&Duty", self.duty), 1, 2)
+        grid.addWidget(self.duty, 1, 3)
+        grid.addWidget(label("&Error within", self.accept), 1, 4)
+        grid.addWidget(self.accept, 1, 5)
+        grid.addWidget(label("At &most", self.max_r), 2, 0)
+        network_box = QHBoxLayout()
+        network_box.addWidget(self.max_r)
+        network_box.addWidget(self.max_c)
+        network_box.addStretch(1)
+        grid.addLayout(network_box, 2, 1)
+        grid.addWidget(label("Ca&libration", self.calibration), 2, 2)
+        calibration_box = QHBoxLayout()
+        calibration_box.addWidget(self.calibration, 1)
+        calibration_box.addWidget(self.new_calibration)
+        grid.addLayout(calibration_box, 2, 3, 1, 3)
+        grid.addWidget(self.message, 3, 0, 1, 6)
+        grid.setColumnStretch(1, 3)
+        grid.setColumnStretch(3, 3)
+        grid.setColumnStretch(5, 2)
+
+        self.circuit.currentIndexChanged.connect(self._circuit_changed)
+        self.family.currentIndexChanged.connect(self._family_changed)
+        self.mode.currentIndexChanged.connect(self._mode_changed)
+        for edit in self._fields.values():
+            edit.textChanged.connect(self._edited)
+        for widget in (self.max_r, self.max_c):
+            widget.valueChanged.connect(self._edited)
+        self.calibration.currentIndexChanged.connect(self._edited)
+        self.new_calibration.clicked.connect(self.sigNewCalibration.emit)
+        self._circuit_changed()
+        self.reload_calibrations()
+
+    # -- dependent fields
+    def _circuit_changed(self) -> None:
+        circuit = self.circuit.currentData()
+        previous = self.family.currentText()
+        self.family.blockSignals(True)
+        self.family.clear()
+        self._ranges.clear()
+        try:
+            from core.devices import device_table
+
+            table = device_table()
+            for name in table.families(circuit):
+                family = table.family(name)
+                self._ranges[name] = tuple(family.supply_range_v)  # type: ignore[assignment]
+                lo, hi = family.supply_range_v
+                self.family.addItem(name, name)
+                self.family.setItemData(self.family.count() - 1,
+                                        f"{name}: supply {lo:g} … {hi:g} V",
+                                        Qt.ItemDataRole.ToolTipRole)
+        except TickbinError as e:
+            self._problems["family"] = str(e)
+        wanted = previous if self.family.findText(previous) >= 0 else DEFAULT_FAMILY[circuit]
+        if self.family.findText(wanted) >= 0:
+            self.family.setCurrentText(wanted)
+        self.family.blockSignals(False)
+        self.duty.setEnabled(circuit == "555")
+        self._family_changed()
+
+    def _family_changed(self) -> None:
+        supply = self._ranges.get(self.family.currentText())
+        self.supply_range.setText(f"{supply[0]:g} … {supply[1]:g} V" if supply else "")
+        self.supply_range.setToolTip("Supply range of this family in the device table")
+        self._edited()
+
+    def _mode_changed(self) -> None:
+        _, _, example, tip = MODES[self.mode.currentIndex()]
+        self.target.setPlaceholderText(example)
+        self._base_tips["target"] = tip
+        self.accept.setEnabled(self.mode.currentData() != "band")
+        self._edited()
+
+    def reload_calibrations(self, select: str | None = None) -> None:
+        """Refill the calibration list from the data folder (after one was made)."""
+        current = select or self.calibration.currentData()
+        self.calibration.blockSignals(True)
+        self.calibration.clear()
+        self.calibration.addItem("None (device table)", None)
+        try:
+            from core.calibration import list_calibrations
+
+            for cal in list_calibrations():
+                self.calibration.addItem(f"{cal.name} ({cal.family}, {cal.supply_v:g} V)",
+                                         cal.name)
+        except (TickbinError, OSError, ImportError) as e:
+            self.message.setText(f"Calibrations could not be read: {e}")
+        index = self.calibration.findData(current)
+        self.calibration.setCurrentIndex(max(index, 0))
+        self.calibration.blockSignals(False)
+        if select:
+            self._edited()
+
+    def _edited(self, *args: object) -> None:
+        self.sigChanged.emit()
+
+    # -- reading the form
+    def target_value(self) -> Target | None:
+        """The parsed target, or None (bad fields are marked and explained)."""
+        from core.units import parse_band, parse_percent, parse_quantity, parse_voltage
+
+        problems: dict[str, str] = {}
+        circuit = self.circuit.currentData()
+        mode: Mode = self.mode.currentData()
+
+        def parse(key: str, fn: Any, *args: Any) -> Any:
+            text = self._fields[key].text()
+            try:
+                return fn(text, *args)
+            except InputError as e:
+                problems[key] = e.reason
+                return None
+
+        supply = parse("supply", parse_voltage)
+        supply_range = self._ranges.get(self.family.currentText())
+        if supply is not None and supply_range and not (
+                supply_range[0] <= supply <= supply_range[1]):
+            problems["supply"] = (f"{self.family.currentText()} runs from {supply_range[0]:g} "
+                                  f"to {supply_range[1]:g} V")
+        target_hz = band = None
+        if mode == "band":
+            band = parse("target", parse_band)
+            if circuit != "schmitt" and band is not None:
+                problems["target"] = "trimming a band is offered for the Schmitt inverter"
+        elif mode == "period":
+            period = parse("target", parse_quantity, "period")
+            target_hz = 1.0 / period if period else None
+        else:
+            target_hz = parse("target", parse_quantity, "frequency")
+        duty = None
+        if circuit == "555" and self.duty.text().strip():
+            duty = parse("duty", parse_percent)
+            if duty is not None and not 0 < duty < 100:
+                problems["duty"] = "a duty cycle lies between 0 and 100 %"
+        accept = 1.0
+        if mode != "band":
+            accept = parse("accept", parse_percent) or 1.0
+        if not self.family.currentText():
+            problems["family"] = self._problems.get("family", "no device families found")
+        self._show_problems(problems)
+        if problems:
+            return None
+        return Target(circuit=circuit, family=self.family.currentText(), supply_v=supply,
+                      mode=mode, target_hz=target_hz, band_hz=band, duty_pct=duty,
+                      accept_pct=accept, max_resistors=self.max_r.value(),
+                      max_capacitors=self.max_c.value(),
+                      calibration=self.calibration.currentData())
+
+    def _show_problems(self, problems: dict[str, str]) -> None:
+        for key, edit in self._fields.items():
+            bad = key in problems
+            if edit.property("invalid") != bad:
+                edit.setProperty("invalid", bad)
+                edit.style().unpolish(edit)
+                edit.style().polish(edit)
+            tip = self._base_tips[key]
+            edit.setToolTip(f"⚠ {problems[key]}\n\n{tip}" if bad else tip)
+            edit.setAccessibleDescription(f"problem: {problems[key]}" if bad else "")
+        words = {"supply": "Supply", "target": "Target", "duty": "Duty", "accept": "Error",
+                 "family": "Family"}
+        self.message.setText("  ".join(f"⚠ {words[k]}: {v}" for k, v in problems.items()))
+        self.message.setVisible(bool(problems))
+
+    def show_error(self, text: str) -> None:
+        """A problem found later (no oscillation, supply outside range) shown under the form."""
+        self.message.setText(f"⚠ {text}" if text else "")
+        self.message.setVisible(bool(text))
+
+    # -- remembering the form
+    def state(self) -> dict[str, str]:
+        return {"circuit": self.circuit.currentData(), "family": self.family.currentText(),
+                "supply": self.supply.text(), "mode": self.mode.currentData(),
+                "target": self.target.text(), "duty": self.duty.text(),
+                "accept": self.accept.text(), "max_r": str(self.max_r.value()),
+                "max_c": str(self.max_c.value()),
+                "calibration": self.calibration.currentData() or ""}
+
+    def restore(self, state: dict[str, str]) -> None:
+        """Fill the fields from ``state()`` output (unknown or bad entries are skipped)."""
+        def pick(combo: QComboBox, data: str | None) -> None:
+            index = combo.findData(data)
+            if index >= 0:
+                combo.setCurrentIndex(index)
+
+        pick(self.circuit, state.get("circuit"))
+        pick(self.family, state.get("family"))
+        pick(self.mode, state.get("mode"))
+        for key in ("supply", "target", "duty", "accept"):
+            if key in state:
+                self._fields[key].setText(str(state[key]))
+        for key, spin in (("max_r", self.max_r), ("max_c", self.max_c)):
+            if str(state.get(key, "")).isdigit():
+                spin.setValue(int(state[key]))
+        pick(self.calibration, state.get("calibration") or None)

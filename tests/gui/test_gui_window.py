@@ -1,0 +1,249 @@
+"""The window end to end: edits re-run the search, nothing typed is lost, undo works.
+
+Reference values: the demo drawer (resources/demo_drawer.csv, our own scenario);
+the oscillator numbers themselves are checked in the model tests, here we check
+that the window shows what core computes.
+"""
+
+from __future__ import annotations
+
+import math
+
+import numpy as np
+from conftest import open_window
+from PySide6.QtCore import Qt
+from PySide6.QtWidgets import QMessageBox
+
+from core.drawer import Row, read_drawer
+from core.search import search
+from core.timing import make_oscillator
+from gui.drawer_model import PROBLEM_ROLE
+
+
+def search_done(qtbot, window, action):
+    with qtbot.waitSignal(window.sigSearchDone, timeout=30_000):
+        action()
+
+
+def value_index(window, row):
+    model = window.drawer_model
+    return model.index(row, model.column_of("value"))
+
+
+def test_first_search_matches_core(window):
+    osc = make_oscillator("schmitt", "74HC14", 5.0)
+    expected = search(window.drawer.parts(), osc, 1000.0, top=20)
+    shown = [window.candidates.candidate(i) for i in range(window.candidates.rowCount())]
+    assert [c.values for c in shown] == [c.values for c in expected.candidates]
+    assert window.selected_candidate() is shown[0]
+
+
+def test_editing_a_value_reruns_the_search(qtbot, window):
+    before = window.selected_candidate()
+    used = {p.row for node in before.networks.values() for p in node.parts()}
+    row = min(used)
+    # Change one part the best candidate uses: the candidate list must change.
+    search_done(qtbot, window, lambda: window.drawer_model.setData(value_index(window, row),
+                                                                   "3.9k"))
+    after = [window.candidates.candidate(i) for i in range(window.candidates.rowCount())]
+    assert before not in after
+    assert window.drawer.rows[row].get("value") == "3.9k"
+
+
+def test_bad_value_is_flagged_and_kept_and_undo_restores(qtbot, window):
+    model = window.drawer_model
+    index = value_index(window, 0)
+    original = model.data(index)
+    parts_before = len(window.drawer.parts())
+    search_done(qtbot, window, lambda: model.setData(index, "4k7x"))
+    assert model.data(index) == "4k7x"
+    assert "expected a resistance" in model.data(index, PROBLEM_ROLE)
+    assert "not usable" in model.data(index, Qt.ItemDataRole.ToolTipRole)
+    assert len(window.drawer.parts()) == parts_before - 1
+    assert window.isWindowModified()
+    assert "4k7x" in window.drawer_panel.count_label.text() or "to fix" in (
+        window.drawer_panel.count_label.text())
+    search_done(qtbot, window, window.undo_action.trigger)
+    assert model.data(index) == original
+    assert model.data(index, PROBLEM_ROLE) is None
+    assert not window.isWindowModified()
+    search_done(qtbot, window, window.redo_action.trigger)
+    assert model.data(index) == "4k7x"
+
+
+def test_delete_duplicate_are_single_undo_steps(qtbot, window):
+    panel = window.drawer_panel
+    n = len(window.drawer)
+    panel.select_rows(2, 3)
+    panel.duplicate_action.trigger()
+    assert len(window.drawer) == n + 3
+    panel.select_rows(0, 4)
+    panel.delete_action.trigger()
+    assert len(window.drawer) == n - 1
+    window.undo_action.trigger()
+    window.undo_action.trigger()
+    assert len(window.drawer) == n
+
+
+def test_sort_and_filter(window):
+    panel = window.drawer_panel
+    panel.kind_filter.setCurrentIndex(panel.kind_filter.findData("C"))
+    kinds = {panel.proxy.index(r, 0).data() for r in range(panel.proxy.rowCount())}
+    assert kinds == {"C"}
+    panel.kind_filter.setCurrentIndex(0)
+    window.drawer.set_cell(0, "value", "")  # a bad row sorts to the end
+    panel.sort_action.trigger()
+    parts = window.drawer.parts()
+    order = [(p.kind, p.value) for p in parts]
+    rank = {"R": 0, "P": 1, "C": 2}
+    assert order == sorted(order, key=lambda kv: (rank[kv[0]], kv[1]))
+    assert list(window.drawer.problems()) == [len(window.drawer) - 1]
+
+
+def test_waveform_and_spread_plots_show_core_data(window):
+    plots = window.plots
+    cand = window.selected_candidate()
+    t, v_cap = plots.cap_curve.getData()
+    _, v_out = plots.out_curve.getData()
+    osc = window.current_oscillator()
+    # Three periods of the predicted frequency, capacitor swinging between the thresholds.
+    assert math.isclose(t[-1], 3 / cand.frequency_hz, rel_tol=1e-6)
+    assert v_cap.max() <= osc.vt_plus_v + 0.02 and v_cap.min() >= osc.vt_minus_v - 0.02
+    assert plots.vt_plus_line.value() == osc.vt_plus_v
+    assert set(np.unique(v_out)) <= {osc.device.output_high_v, osc.device.vol_v}
+    edges, share = plots.hist_curve.getData()
+    assert math.isclose(share.sum(), 100.0, rel_tol=1e-9)
+    lo, hi = plots.accept_region.getRegion()
+    assert math.isclose(lo, 990.0) and math.isclose(hi, 1010.0)
+    assert plots.target_line.value() == 1000.0
+    # Worst case spans the Monte Carlo builds (it is every corner's extreme).
+    wc_lo, wc_hi = cand.worst_case_hz
+    assert edges[0] >= wc_lo * 0.999 and edges[-1] <= max(wc_hi, 1010.0) * 1.001
+
+
+def test_selecting_another_candidate_redraws(qtbot, window):
+    first = window.plots.cap_curve.getData()[0][-1]
+    window.select_candidate(3)
+    second = window.plots.cap_curve.getData()[0][-1]
+    assert math.isclose(second, 3 / window.selected_candidate().frequency_hz, rel_tol=1e-6)
+    assert first != second
+
+
+def test_target_form_typing_updates_candidates(qtbot, window):
+    search_done(qtbot, window, lambda: window.form.target.setText("2ms"))
+    best = window.selected_candidate()
+    assert abs(best.frequency_hz - 500.0) / 500.0 < 0.01  # a period of 2 ms is 500 Hz
+
+
+def test_bad_target_field_is_marked_and_searches_nothing(qtbot, window):
+    search_done(qtbot, window, lambda: window.form.supply.setText("9V"))
+    assert window.form.supply.property("invalid") is True
+    assert "74HC14 runs from 2 to 6 V" in window.form.supply.toolTip()
+    assert window.candidates.rowCount() == 0
+    search_done(qtbot, window, lambda: window.form.supply.setText("3.3V"))
+    assert window.candidates.rowCount() > 0
+
+
+def test_555_with_duty(qtbot, window):
+    form = window.form
+    def go():
+        form.circuit.setCurrentIndex(form.circuit.findData("555"))
+        form.duty.setText("60%")
+    search_done(qtbot, window, go)
+    best = window.selected_candidate()
+    assert set(best.values) == {"RA", "RB", "C"}
+    assert window.candidates.headerData(4, Qt.Orientation.Horizontal) == "RA"
+
+
+def test_superseded_search_is_ignored(qtbot, window):
+    window.form.target.setText("3kHz")
+    window.run_search()
+    window.form.target.setText("1.5kHz")
+    search_done(qtbot, window, window.run_search)
+    window.runner.wait(10_000)
+    qtbot.wait(50)
+    assert window.runner.generation >= 2
+    assert abs(window.selected_candidate().frequency_hz - 1500) / 1500 < 0.02
+
+
+def test_worker_error_is_shown_not_lost(qtbot, window, monkeypatch):
+    import gui.search_worker as worker
+
+    def boom(*args, **kwargs):
+        raise RuntimeError("index exploded")
+
+    monkeypatch.setattr(worker, "compute", boom)
+    search_done(qtbot, window, window.run_search)
+    assert "index exploded" in window.form.message.text()
+    assert window.candidates.rowCount() == 0
+
+
+def test_kit_and_paste_rows(qtbot, window):
+    from core.eseries import kit
+    from gui.drawer_panel import KitDialog, paste_rows
+
+    dialog = KitDialog(window)
+    qtbot.addWidget(dialog)
+    dialog.low.setText("1k")
+    dialog.high.setText("10k")
+    rows = dialog.rows()
+    # IEC 60063 E12 over one decade, both ends included: 13 values.
+    assert [r.get("value") for r in rows][:3] == ["1 kΩ", "1.2 kΩ", "1.5 kΩ"]
+    assert len(rows) == len(kit("E12", 1e3, 1e4)) == 13
+    n = len(window.drawer)
+    window.drawer_panel.add_rows(rows, "Add kit")
+    assert len(window.drawer) == n + 13 and not window.drawer.problems()
+    pasted = paste_rows("10k 22k 4k7 100n 1u 2n2 470R 0.1uF 47pF")
+    assert [r.get("kind") for r in pasted] == ["R", "R", "R", "C", "C", "C", "R", "C", "C"]
+
+
+def test_save_open_and_title(qtbot, window, tmp_path, monkeypatch):
+    from gui.main_window import MainWindow
+
+    target = tmp_path / "mine.csv"
+    monkeypatch.setattr(MainWindow, "ask_path", classmethod(lambda *a, **k: str(target)))
+    assert window.drawer.path is None  # the demo is a copy, never the bundled file
+    window.drawer.set_cell(0, "note", "checked")
+    assert window.isWindowModified()
+    assert window.save()
+    assert not window.isWindowModified() and "mine.csv" in window.windowTitle()
+    assert read_drawer(target).rows[0].get("note") == "checked"
+    window.drawer.insert_rows(0, [Row({"kind": "R", "value": "bad", "quantity": "1"})])
+    export = tmp_path / "copy.csv"
+    monkeypatch.setattr(MainWindow, "ask_path", classmethod(lambda *a, **k: str(export)))
+    window.export_csv()
+    assert "bad" in export.read_text() and window.drawer.path == target
+
+
+def test_settings_remember_target_and_drawer(qtbot, answers, tmp_path):
+    first = open_window(qtbot)
+    first.form.target.setText("2.2kHz")
+    first.form.max_r.setValue(3)
+    first.close()
+    second = open_window(qtbot)
+    assert second.form.target.text() == "2.2kHz"
+    assert second.form.max_r.value() == 3
+
+
+def test_crash_leaves_autosave_and_restore_is_offered(qtbot, answers, tmp_path):
+    import shutil
+
+    from core.locations import demo_drawer_path
+
+    mine = tmp_path / "mine.csv"
+    shutil.copy(demo_drawer_path(), mine)
+    crashed = open_window(qtbot, stock=str(mine))
+    crashed.drawer.set_cell(0, "note", "unsaved edit")
+    crashed.autosave_now()
+    # A crash: no closeEvent; the session marker stays behind.
+    crashed.remember = False
+    crashed.close()
+    answers.append(QMessageBox.StandardButton.Yes)
+    restored = open_window(qtbot)
+    assert "Restore unsaved edits?" in answers.asked
+    assert restored.drawer.rows[0].get("note") == "unsaved edit"
+    assert restored.isWindowModified()
+    assert restored.drawer.path == mine
+    restored.undo_action.trigger()  # back to the file as saved
+    assert restored.drawer.rows[0].get("note") == read_drawer(mine).rows[0].get("note")
+    assert not restored.isWindowModified()
