@@ -3,6 +3,8 @@
 from __future__ import annotations
 
 import math
+import tomllib
+from pathlib import Path
 
 import numpy as np
 import pytest
@@ -21,7 +23,9 @@ from core.calibration import (
 from core.errors import InputError, SetupError
 from core.timing import make_oscillator, predict, times
 
-BENCH = {"R": 21.7e3, "C": 1.00e-6}
+REF = tomllib.loads((Path(__file__).parent / "data" / "timing_references.toml").read_text(
+    encoding="utf-8"))["bench_hex_schmitt_5v"]
+BENCH = {"R": REF["r_ohm"], "C": REF["c_f"]}
 
 
 def hc14(supply: float = 5.0):
@@ -32,15 +36,16 @@ def test_bench_calibration_gives_the_known_thresholds():
     # Bench measurement (common practice, no published source): 5 V hex Schmitt
     # inverter, R = 21.7 kΩ, C = 1.00 µF, 63.3 Hz, output high 47 %: calibrating
     # must give thresholds near 2.80 V and 1.90 V.
-    cal = calibrate(hc14(), BENCH, 63.3, 47.0)
+    f, duty = REF["frequency_hz"], REF["duty_pct"]
+    cal = calibrate(hc14(REF["supply_v"]), BENCH, f, duty)
     assert cal.mode == "both"
-    assert cal.vt_plus_v == pytest.approx(2.80, abs=0.03)
-    assert cal.vt_minus_v == pytest.approx(1.90, abs=0.03)
+    assert cal.vt_plus_v == pytest.approx(REF["vt_plus_v"], abs=REF["abs_v"])
+    assert cal.vt_minus_v == pytest.approx(REF["vt_minus_v"], abs=REF["abs_v"])
     osc = make_oscillator("schmitt", "74HC14", 5.0, calibration=cal)
     pred = predict(osc, BENCH)
-    assert pred.frequency_hz == pytest.approx(63.3, rel=1e-9)
-    assert pred.duty_pct == pytest.approx(47.0, abs=1e-7)
-    assert cal.scale == pytest.approx(63.3 / predict(hc14(), BENCH).frequency_hz, rel=1e-12)
+    assert pred.frequency_hz == pytest.approx(f, rel=1e-9)
+    assert pred.duty_pct == pytest.approx(duty, abs=1e-7)
+    assert cal.scale == pytest.approx(f / predict(hc14(), BENCH).frequency_hz, rel=1e-12)
     assert cal.warnings == ()
 
 

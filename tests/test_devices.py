@@ -4,6 +4,7 @@ from __future__ import annotations
 
 import math
 import tomllib
+from pathlib import Path
 
 import pytest
 
@@ -14,6 +15,10 @@ from core.timing import make_oscillator
 
 REQUIRED_FAMILIES = ("74HC14", "74HCT14", "74AHC14", "74LVC14A", "74LS14", "7414",
                      "CD40106B", "CD4093B", "NE555", "TLC555")
+
+
+HC1G14 = tomllib.loads((Path(__file__).parent / "data" / "timing_references.toml").read_text(
+    encoding="utf-8"))["hc1g14_thresholds"]
 
 
 def _raw() -> dict:
@@ -41,12 +46,9 @@ def test_every_entry_names_its_source():
         assert pkg.get("source", "").strip(), name
 
 
-@pytest.mark.parametrize(("supply", "vt_plus", "vt_minus"), [
+@pytest.mark.parametrize(("supply", "vt_plus", "vt_minus"), list(zip(
     # NXP 74HC1G14 data sheet, static characteristics, -40…85 °C (min/typ/max).
-    (2.0, (0.7, 1.09, 1.5), (0.3, 0.60, 0.9)),
-    (4.5, (1.7, 2.36, 3.15), (0.9, 1.53, 2.0)),
-    (6.0, (2.1, 3.12, 4.2), (1.2, 2.08, 2.6)),
-])
+    HC1G14["supplies_v"], HC1G14["vt_plus"], HC1G14["vt_minus"], strict=True)))
 def test_74hc14_thresholds_at_listed_supplies_are_the_datasheet_values(supply, vt_plus,
                                                                        vt_minus):
     d = device_table().family("74HC14").at(supply)

@@ -3,7 +3,9 @@
 from __future__ import annotations
 
 import math
+import tomllib
 from dataclasses import replace
+from pathlib import Path
 
 import numpy as np
 import pytest
@@ -24,6 +26,8 @@ from core.timing import (
 from core.units import Tolerance
 
 RNG_SEED = 20261201
+REF = tomllib.loads((Path(__file__).parent / "data" / "timing_references.toml").read_text(
+    encoding="utf-8"))
 
 
 def hc14(supply: float = 5.0):
@@ -49,8 +53,8 @@ def test_idealised_schmitt_is_exactly_the_charge_equation():
     # Textbook RC fact (e.g. Horowitz & Hill, AoE 3rd ed. §1.4.2): a capacitor
     # charging through R reaches 63.2 % of the step after one time constant and
     # about 99.3 % after five.
-    (0.632, 1.0, 1e-3),
-    (0.993, 5.0, 1e-2),
+    (REF["rc_step"]["one_tau"], 1.0, 1e-3),
+    (REF["rc_step"]["five_tau"], 5.0, 1e-2),
 ])
 def test_textbook_rc_step(share, time_constants, rel):
     osc = hc14().idealised()
@@ -76,16 +80,18 @@ def test_waveform_follows_the_rc_curve():
 def test_rule_of_thumb_for_5v_cmos(family):
     # Rule of thumb of the trade (common practice, no published source): a 5 V CMOS
     # Schmitt-inverter oscillator runs at roughly f ≈ 1.2 … 1.5 / (R C).
+    rule = REF["rule_of_thumb_5v_cmos"]
     osc = make_oscillator("schmitt", family, 5.0)
     for r, c in ((10e3, 1e-6), (100e3, 10e-9), (1e6, 100e-9)):
         t_high, t_low = schmitt_times(osc, r, c)
-        assert 1.2 <= r * c / float(t_high + t_low) <= 1.5
+        assert rule["f_rc_low"] <= r * c / float(t_high + t_low) <= rule["f_rc_high"]
 
 
 # ---------------------------------------------------------------- the bench fact
 
-BENCH = {"R": 21.7e3, "C": 1.00e-6}
-BENCH_HZ = 63.3
+BENCH_REF = REF["bench_hex_schmitt_5v"]
+BENCH = {"R": BENCH_REF["r_ohm"], "C": BENCH_REF["c_f"]}
+BENCH_HZ = BENCH_REF["frequency_hz"]
 
 
 @pytest.mark.parametrize("tolerance", [0.01, 0.05])
@@ -116,7 +122,8 @@ def test_ne555_datasheet_frequency_and_duty_formulas():
     rb = 10 ** rng.uniform(3.3, 6, 40)
     c = 10 ** rng.uniform(-8, -5, 40)
     t_high, t_low = astable_times(osc, ra, rb, c)
-    np.testing.assert_allclose(1 / (t_high + t_low), 1.44 / ((ra + 2 * rb) * c), rtol=0.01)
+    k = REF["ne555_astable"]["frequency_constant"]
+    np.testing.assert_allclose(1 / (t_high + t_low), k / ((ra + 2 * rb) * c), rtol=0.01)
     np.testing.assert_allclose(t_high / (t_high + t_low), (ra + rb) / (ra + 2 * rb),
                                atol=0.005)
 
@@ -124,13 +131,15 @@ def test_ne555_datasheet_frequency_and_duty_formulas():
 def test_tlc555_worked_example():
     # TI TLC555 data sheet, astable example: RA = 5 kΩ, RB = 3 kΩ, C = 0.15 µF;
     # with the datasheet formulas that is 1.44 / (11 kΩ · 0.15 µF) = 873 Hz, 72.7 % high.
+    ex = REF["tlc555_example"]
+    ra, rb, c = ex["ra_ohm"], ex["rb_ohm"], ex["c_f"]
     osc = make_oscillator("555", "TLC555", 5.0)
-    pred = predict(osc, {"RA": 5e3, "RB": 3e3, "C": 0.15e-6})
-    assert pred.frequency_hz == pytest.approx(1.44 / (11e3 * 0.15e-6), rel=0.01)
-    assert pred.duty_pct == pytest.approx(100 * 8 / 11, abs=0.5)
-    assert pred.t_high_s == pytest.approx(0.693 * 8e3 * 0.15e-6, rel=0.01)
+    pred = predict(osc, {"RA": ra, "RB": rb, "C": c})
+    assert pred.frequency_hz == pytest.approx(1.44 / ((ra + 2 * rb) * c), rel=0.01)
+    assert pred.duty_pct == pytest.approx(100 * (ra + rb) / (ra + 2 * rb), abs=0.5)
+    assert pred.t_high_s == pytest.approx(0.693 * (ra + rb) * c, rel=0.01)
     # The discharge transistor (about 14 Ω, fed from RA as well) adds about 1 % to t_low.
-    assert pred.t_low_s == pytest.approx(0.693 * 3e3 * 0.15e-6, rel=0.02)
+    assert pred.t_low_s == pytest.approx(0.693 * rb * c, rel=0.02)
 
 
 def test_diode_steered_555_reaches_any_duty():
