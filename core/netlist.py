@@ -39,8 +39,8 @@ from core.errors import SetupError, TickbinError
 from core.networks import Node
 from core.search import Candidate
 from core.sheet import start_rotation
-from core.timing import Oscillator, predict, waveform
-from core.trim import TrimCandidate, frequency_at_rotation, pot_resistance
+from core.timing import Oscillator, Prediction, predict, waveform
+from core.trim import TrimCandidate, pot_resistance
 from core.units import format_quantity
 
 MEASURES = ("period_s", "frequency_hz", "t_high_s", "duty_pct")
@@ -150,6 +150,28 @@ def _run_lines(period: float, v_start: float, v_mid: float) -> list[str]:
     ]
 
 
+def model_values(osc: Oscillator, candidate: Candidate | TrimCandidate,
+                 rotation_pct: float | None = None) -> tuple[dict[str, float], float, float]:
+    """(model values [Ω, F], pot rotation [%], pot resistance in circuit [Ω]) of a design.
+
+    A trim design's pot sits at ``rotation_pct`` (default: the middle of the
+    band); fixed designs give rotation and pot resistance 0.
+    """
+    if not isinstance(candidate, TrimCandidate):
+        return {k: float(v) for k, v in candidate.values.items()}, 0.0, 0.0
+    rotation = start_rotation(osc, candidate) if rotation_pct is None else float(rotation_pct)
+    share = float(pot_resistance(candidate.networks["P"].value, rotation, candidate.taper))
+    return ({"R": candidate.networks["R"].value + share, "C": candidate.networks["C"].value},
+            rotation, share)
+
+
+def model_prediction(osc: Oscillator, candidate: Candidate | TrimCandidate,
+                     rotation_pct: float | None = None) -> Prediction:
+    """What the timing model predicts for the design the netlist describes."""
+    values, _, _ = model_values(osc, candidate, rotation_pct)
+    return predict(osc, values, diode_steered=bool(getattr(candidate, "diode_steered", False)))
+
+
 def spice_netlist(osc: Oscillator, candidate: Candidate | TrimCandidate,
                   rotation_pct: float | None = None, title: str = "") -> str:
     """The design as a SPICE netlist (text), ready for ``ngspice -b``.
@@ -161,16 +183,8 @@ def spice_netlist(osc: Oscillator, candidate: Candidate | TrimCandidate,
     networks = dict(candidate.networks)
     d = osc.device
     steered = bool(getattr(candidate, "diode_steered", False))
-    share = 0.0
-    if trim:
-        rotation = start_rotation(osc, candidate) if rotation_pct is None else rotation_pct
-        share = float(pot_resistance(networks["P"].value, rotation, candidate.taper))
-        values = {"R": networks["R"].value + share, "C": networks["C"].value}
-        f_model = float(frequency_at_rotation(osc, candidate, rotation))
-    else:
-        values = {k: float(v) for k, v in candidate.values.items()}
-        f_model = float(candidate.frequency_hz)
-    pred = predict(osc, values, diode_steered=steered)
+    values, rotation, share = model_values(osc, candidate, rotation_pct)
+    pred = model_prediction(osc, candidate, rotation_pct)
     _, v_cap, _ = waveform(osc, values, periods=1, points=2, diode_steered=steered)
     v_start = float(v_cap[0])
     circuit = ("555 astable" + (", diode-steered" if steered else "") if osc.circuit == "555"
@@ -186,8 +200,7 @@ def spice_netlist(osc: Oscillator, candidate: Candidate | TrimCandidate,
     ]
     if trim:
         head.append(f"* Pot at {rotation:.1f} % rotation ({candidate.taper} taper): "
-                    f"{_num(share)} ohm in circuit; the model gives {_num(f_model)} Hz there. "
-                    "Edit RP1 to explore the range.")
+                    f"{_num(share)} ohm in circuit. Edit RP1 to explore the range.")
     counters: dict[str, int] = {}
     names = _node_names()
     body = [f"Vsupply vdd 0 DC {_num(d.supply_v)}", "Vone one 0 DC 1"]

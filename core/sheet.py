@@ -478,3 +478,53 @@ def _cautions(osc: Oscillator, take: Iterable[Part], ratings: Mapping[int, str],
     out.append("This sheet does not cover mains-connected designs. For anything connected to "
                "the mains, local codes and licensed practice apply.")
     return out
+
+
+# ---------------------------------------------------------------- taking the parts
+
+@dataclass(frozen=True)
+class Taken:
+    """Parts taken from one stock line."""
+
+    line: int
+    location: str
+    value: str
+    count: int
+    before: int
+    after: int
+
+    def to_json(self) -> dict[str, Any]:
+        return {"line": self.line, "location": self.location, "value": self.value,
+                "count": self.count, "before": self.before, "after": self.after}
+
+
+def take_parts(drawer: Drawer, used: Sheet | Candidate | TrimCandidate) -> list[Taken]:
+    """Lower the drawer's quantities by the parts a build used, as one undo step.
+
+    ``used`` is the build sheet (its timing parts and the decoupling
+    capacitors it found in the drawer) or just a candidate (its networks).
+    Nothing changes unless every line still holds enough: InputError names
+    the line that does not, or that changed since the search. The caller
+    saves the drawer (``core.drawer.write_drawer``).
+    """
+    parts = list(used.take) if isinstance(used, Sheet) else [
+        p for node in used.networks.values() for p in node.parts()]
+    counts = Counter(p.stock_line for p in parts)
+    current = {p.stock_line: p for p in drawer.parts()}
+    plan: list[tuple[Part, int]] = []
+    for line, count in counts.items():
+        wanted = next(p for p in parts if p.stock_line == line)
+        text = _fmt(wanted.value, wanted.kind)
+        have = current.get(line)
+        if have is None or have.kind != wanted.kind or have.value != wanted.value:
+            raise InputError(f"stock line {line} no longer holds the {text} the design uses; "
+                             "the drawer changed since the search: search again")
+        if have.quantity < count:
+            raise InputError(f"stock line {line} ({text}, {have.location or 'no location'}) "
+                             f"has {have.quantity} left; the build uses {count}")
+        plan.append((have, count))
+    with drawer.edit_group("Take parts for the build"):
+        for have, count in plan:
+            drawer.set_cell(have.row, "quantity", str(have.quantity - count))
+    return [Taken(p.stock_line, p.location, _fmt(p.value, p.kind), n, p.quantity,
+                  p.quantity - n) for p, n in plan]

@@ -18,11 +18,11 @@ def open_window(args: argparse.Namespace) -> int:
     return run_window(stock=args.stock, screenshot=args.screenshot)
 
 
-def render_sheet(*args: object, **kwargs: object) -> None:
-    """Draw a build sheet to PDF (gui.sheet_render does the work)."""
+def render_sheet(*args: object, **kwargs: object) -> int:
+    """Draw a build sheet to PDF (gui.sheet_render does the work); returns the page count."""
     from gui.sheet_render import render_sheet_pdf
 
-    render_sheet_pdf(*args, **kwargs)
+    return render_sheet_pdf(*args, **kwargs)  # type: ignore[arg-type]
 
 
 def main() -> None:

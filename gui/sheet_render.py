@@ -19,6 +19,7 @@ from PySide6.QtGui import (
     QColor,
     QFont,
     QFontMetricsF,
+    QGuiApplication,
     QPagedPaintDevice,
     QPageLayout,
     QPageSize,
@@ -68,13 +69,29 @@ def page_size_id(name: str) -> QPageSize.PageSizeId:
         raise InputError("expected A4 or Letter", text=name, what="page size") from None
 
 
+_APP: list[QGuiApplication] = []
+
+
+def _application() -> None:
+    """A Qt application for fonts and painting; from the command line an offscreen one,
+    so a sheet can be made on a machine without a display."""
+    if QGuiApplication.instance() is None:
+        _APP.append(QGuiApplication([sys.argv[0] if sys.argv else "tickbin", "-platform",
+                                     "offscreen"]))
+
+
 def render_sheet_pdf(sheet: Sheet, path: str | Path, page_size: str = "A4") -> int:
     """Write ``sheet`` to a PDF file; returns the number of pages."""
+    _application()
+    size = page_size_id(page_size)
+    target = Path(path)
+    if not target.parent.is_dir():
+        raise TickbinError(f"{path}: no such folder")
     writer = QPdfWriter(str(path))
     writer.setResolution(RESOLUTION_DPI)
     writer.setTitle(sheet.title)
     writer.setCreator("Tickbin")
-    writer.setPageLayout(QPageLayout(QPageSize(page_size_id(page_size)),
+    writer.setPageLayout(QPageLayout(QPageSize(size),
                                      QPageLayout.Orientation.Portrait,
                                      QMarginsF(MARGIN_MM, MARGIN_MM, MARGIN_MM, MARGIN_MM),
                                      QPageLayout.Unit.Millimeter))

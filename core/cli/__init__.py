@@ -15,7 +15,7 @@ from core import __version__
 from core.errors import TickbinError
 
 WindowLauncher = Callable[[argparse.Namespace], int]
-SheetRenderer = Callable[..., None]
+SheetRenderer = Callable[..., int]
 """Draws a ``core.sheet.Sheet`` to a PDF file; supplied by gui (Qt does the drawing)."""
 
 
@@ -27,14 +27,14 @@ class _Parser(argparse.ArgumentParser):
 
 
 def build_parser() -> argparse.ArgumentParser:
-    from core.cli import model_commands, search_commands, stock_commands
+    from core.cli import model_commands, search_commands, sheet_commands, stock_commands
 
     parser = _Parser(prog="tickbin",
                      description="Find the resistors, pots and capacitors in your own drawer "
                      "that make an RC oscillator run at the frequency you need.")
     parser.add_argument("--version", action="version", version=f"tickbin {__version__}")
     commands = parser.add_subparsers(dest="command", metavar="COMMAND", parser_class=_Parser)
-    for module in (stock_commands, model_commands, search_commands):
+    for module in (stock_commands, model_commands, search_commands, sheet_commands):
         module.register(commands)
     window = commands.add_parser("gui", help="open the window (the default)")
     window.add_argument("--stock", metavar="FILE", help="drawer file to open")

@@ -1,0 +1,211 @@
+"""``tickbin sheet`` and ``tickbin netlist``: one chosen design, on paper or for a simulator.
+
+Both take the search options (``--target``) or the trim options (``--band``)
+and ``--pick K`` for the K-th candidate. The PDF is drawn by gui (Qt), which
+main() injects as ``args.render_sheet``; core never imports Qt.
+"""
+
+from __future__ import annotations
+
+import argparse
+from dataclasses import dataclass
+from pathlib import Path
+from typing import Any
+
+from core.cli.circuit_options import oscillator_from_args
+from core.cli.common import add_json_option, emit
+from core.cli.search_commands import add_design_options
+from core.drawer import Drawer, read_drawer, write_drawer, write_text_atomically
+from core.errors import InputError, SetupError, TickbinError
+from core.locations import demo_drawer_path
+from core.netlist import model_prediction, simulate, spice_netlist
+from core.search import Candidate, search
+from core.sheet import build_sheet, take_parts, voltage_ratings
+from core.timing import Oscillator
+from core.trim import TrimCandidate, trim
+from core.units import format_frequency
+
+PAGE_SIZES = ("A4", "Letter")
+
+
+def register(commands: argparse._SubParsersAction) -> None:
+    sheet = commands.add_parser("sheet", help="a build sheet (PDF) for one candidate, to "
+                                "print and take to the bench")
+    add_design_options(sheet)
+    _add_pick(sheet)
+    sheet.add_argument("--out", required=True, metavar="FILE.pdf", help="PDF file to write")
+    sheet.add_argument("--page-size", type=_page_size, default="A4", metavar="A4|Letter",
+                       help="paper size (default A4)")
+    sheet.add_argument("--take", action="store_true",
+                       help="after writing the sheet, take its parts out of the drawer file "
+                       "(lowers the quantities; the previous file is kept as FILE.bak)")
+    add_json_option(sheet)
+    sheet.set_defaults(run=run_sheet)
+
+    net = commands.add_parser("netlist", help="a SPICE netlist of one candidate, to check "
+                              "it in a simulator")
+    add_design_options(net)
+    _add_pick(net)
+    net.add_argument("--out", required=True, metavar="FILE.cir", help="netlist file to write")
+    net.add_argument("--rotation", type=_rotation, metavar="PCT",
+                     help="trim designs: pot rotation to simulate (default: the middle of "
+                     "the band, as on the sheet)")
+    net.add_argument("--simulate", action="store_true",
+                     help="also run it in ngspice (batch mode) and compare with the model")
+    add_json_option(net)
+    net.set_defaults(run=run_netlist)
+
+
+def _add_pick(parser: argparse.ArgumentParser) -> None:
+    parser.add_argument("--pick", type=_pick, default=1, metavar="K",
+                        help="use the K-th candidate of the list (default 1, the best)")
+
+
+def _pick(text: str) -> int:
+    if not (text.strip().isdigit() and int(text) >= 1):
+        raise argparse.ArgumentTypeError("expected a whole number of at least 1")
+    return int(text)
+
+
+def _page_size(text: str) -> str:
+    for name in PAGE_SIZES:
+        if text.strip().lower() == name.lower():
+            return name
+    raise argparse.ArgumentTypeError("expected A4 or Letter")
+
+
+def _rotation(text: str) -> float:
+    try:
+        value = float(text.strip().rstrip("%"))
+    except ValueError:
+        raise argparse.ArgumentTypeError("expected a rotation in percent, 0 to 100") from None
+    if not 0 <= value <= 100:
+        raise argparse.ArgumentTypeError("expected a rotation in percent, 0 to 100")
+    return value
+
+
+@dataclass
+class Design:
+    """The candidate a command works on, with where it came from."""
+
+    osc: Oscillator
+    drawer: Drawer
+    candidate: Candidate | TrimCandidate
+    target: str
+    notes: list[str]
+
+
+def design_from_args(args: argparse.Namespace) -> Design:
+    """Run the search or trim the options describe and pick the ``--pick``-th candidate."""
+    if (args.target is None) == (args.band is None):
+        raise InputError("give --target FREQ (a fixed design) or --band LO..HI (a trim "
+                         "design), not both")
+    osc = oscillator_from_args(args)
+    notes: list[str] = []
+    if args.stock is None:
+        drawer = read_drawer(demo_drawer_path())
+        notes.append("no --stock given: used the bundled demo drawer")
+    else:
+        drawer = read_drawer(Path(args.stock))
+    parts = drawer.parts()
+    top = max(args.top, args.pick)
+    if args.band is not None:
+        lo, hi = args.band
+        result: Any = trim(parts, osc, (lo, hi), top=top, max_resistors=args.max_resistors,
+                           max_capacitors=args.max_capacitors)
+        target = f"{format_frequency(lo)} … {format_frequency(hi)}"
+    else:
+        result = search(parts, osc, args.target, duty_pct=args.duty,
+                        max_resistors=args.max_resistors, max_capacitors=args.max_capacitors,
+                        accept_pct=args.accept, top=top)
+        target = format_frequency(args.target)
+        if args.duty is not None:
+            target += f", {args.duty:g} % duty"
+    notes += result.notes
+    found = result.candidates
+    if not found:
+        raise SetupError(f"no candidate to use: {'; '.join(result.notes)}")
+    if args.pick > len(found):
+        raise InputError(f"--pick {args.pick}: there {'is' if len(found) == 1 else 'are'} "
+                         f"only {len(found)} candidate{'s' if len(found) != 1 else ''}")
+    return Design(osc, drawer, found[args.pick - 1], target, notes)
+
+
+def run_sheet(args: argparse.Namespace) -> int:
+    renderer = getattr(args, "render_sheet", None)
+    if renderer is None:
+        raise TickbinError("PDF output needs Qt (PySide6), which this installation lacks")
+    design = design_from_args(args)
+    if args.take and args.stock is None:
+        raise InputError("--take needs --stock FILE: the bundled demo drawer is not yours "
+                         "to change")
+    drawer = design.drawer
+    sheet = build_sheet(design.osc, design.candidate, design.target, stock=drawer.parts(),
+                        ratings=voltage_ratings(drawer))
+    out = Path(args.out)
+    pages = renderer(sheet, out, page_size=args.page_size)
+    taken = []
+    if args.take:
+        taken = [t.to_json() for t in take_parts(drawer, sheet)]
+        write_drawer(drawer)
+    result = {
+        "out": str(out),
+        "pages": pages,
+        "page_size": args.page_size,
+        "title": sheet.title,
+        "frequency_hz": sheet.frequency_hz,
+        "candidate": design.candidate.to_json(),
+        "parts": sheet.to_json()["parts"],
+        "taken": taken,
+        "notes": design.notes,
+    }
+    return emit(args, result, _sheet_text)
+
+
+def _sheet_text(result: dict[str, Any]) -> str:
+    out = [f"wrote {result['out']} ({result['pages']} page{'s' if result['pages'] != 1 else ''}"
+           f", {result['page_size']}): {result['title']}",
+           f"predicted {format_frequency(result['frequency_hz'])}"]
+    for p in result["parts"]:
+        where = f"{p['location']} (line {p['line']})" if p["line"] is not None else "—"
+        out.append(f"  [ ] {p['refs']:<8} {p['value']:<10} ×{p['quantity']}  {where}")
+    for t in result["taken"]:
+        out.append(f"took {t['count']} × {t['value']} from {t['location'] or 'line'} "
+                   f"(line {t['line']}): {t['before']} → {t['after']} left")
+    out += [f"note: {n}" for n in result["notes"]]
+    return "\n".join(out)
+
+
+def run_netlist(args: argparse.Namespace) -> int:
+    design = design_from_args(args)
+    if args.rotation is not None and not isinstance(design.candidate, TrimCandidate):
+        raise InputError("--rotation applies to trim designs (--band)")
+    text = spice_netlist(design.osc, design.candidate, rotation_pct=args.rotation,
+                         title=f"Tickbin design for {design.target}")
+    out = Path(args.out)
+    write_text_atomically(out, text, backup=False)
+    pred = model_prediction(design.osc, design.candidate, args.rotation)
+    model = {"frequency_hz": pred.frequency_hz, "period_s": pred.period_s,
+             "duty_pct": pred.duty_pct}
+    result: dict[str, Any] = {"out": str(out), "circuit": design.osc.circuit,
+                              "family": design.osc.family.name, "model": model,
+                              "candidate": design.candidate.to_json(), "notes": design.notes}
+    if args.simulate:
+        measured = simulate(text)
+        result["simulated"] = measured
+        result["agreement_pct"] = 100.0 * (measured["period_s"] / pred.period_s - 1.0)
+    return emit(args, result, _netlist_text)
+
+
+def _netlist_text(result: dict[str, Any]) -> str:
+    m = result["model"]
+    out = [f"wrote {result['out']}: {result['family']} {result['circuit']}, model "
+           f"{format_frequency(m['frequency_hz'])}, duty {m['duty_pct']:.1f} %",
+           f"check it: ngspice -b {result['out']}"]
+    if "simulated" in result:
+        s = result["simulated"]
+        out.append(f"ngspice: {format_frequency(s['frequency_hz'])}, duty {s['duty_pct']:.1f} %"
+                   f" (period {result['agreement_pct']:+.3f} % against the model)")
+    out += [f"note: {n}" for n in result["notes"]]
+    return "\n".join(out)
+
