@@ -240,19 +240,31 @@ class NetworkIndex:
             return np.full((len(targets), 0), -1, dtype=np.int64)
         return np.stack(columns, axis=1)
 
-    def group_counts(self, entries: np.ndarray) -> np.ndarray:
-        """(len(entries), groups) int array: how many parts of each group each entry uses."""
-        counts = np.zeros((len(entries), len(self.groups)), dtype=np.int64)
-        rows = np.repeat(np.arange(len(entries)), 3)
-        cols = self.usage[entries].ravel()
-        keep = cols >= 0
-        np.add.at(counts, (rows[keep], cols[keep]), 1)
-        return counts
-
     def overused(self, *entries: np.ndarray) -> np.ndarray:
-        """True where entries used together (e.g. RA and RB) need more of a group than exists."""
-        total = sum(self.group_counts(e) for e in entries)
-        return np.any(total > self.group_quantity[None, :], axis=1)
+        """True where entries used together (e.g. RA and RB) need more of a group than exists.
+
+        Each entry is within stock by itself, so only rows where two of the
+        entries share a group need the full count.
+        """
+        parts = [self.usage[np.asarray(e)] for e in entries]
+        shared = np.zeros(len(parts[0]), dtype=bool)
+        for x in range(len(parts)):
+            for y in range(x + 1, len(parts)):
+                for i in range(3):
+                    for j in range(3):
+                        shared |= (parts[x][:, i] == parts[y][:, j]) & (parts[x][:, i] >= 0)
+        bad = np.zeros(len(shared), dtype=bool)
+        rows = np.flatnonzero(shared)
+        if rows.size:
+            use = np.concatenate([p[rows] for p in parts], axis=1)
+            used = use >= 0
+            quantity = self.group_quantity[np.where(used, use, 0)]
+            over = np.zeros(rows.size, dtype=bool)
+            for k in range(use.shape[1]):
+                times = (use == use[:, k:k + 1]).sum(axis=1)
+                over |= used[:, k] & (times > quantity[:, k])
+            bad[rows] = over
+        return bad
 
     def nodes(self, entries: Iterable[int], taken: Counter[int] | None = None) -> list[Node]:
         """The networks of ``entries`` with concrete stock lines, sharing the quantities.

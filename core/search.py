@@ -40,6 +40,8 @@ NEAR_COPY = 0.02
 DUTY_ACCEPT_POINTS = 2.0
 """A 555 candidate meets a duty target when within this many percentage points."""
 PER_SIDE = 2
+RANK_DEPTH = 200
+"""Ranked combinations per requested candidate kept for the variety pass."""
 """Index neighbours taken on each side of the ideal value, per layer."""
 LN2 = math.log(2.0)
 
@@ -145,14 +147,23 @@ def schmitt_resistance(osc: Oscillator, target_hz: float, c: np.ndarray,
 
 
 def _rank_order(error_pct: np.ndarray, parts: np.ndarray, accept_pct: float,
-                duty_ok: np.ndarray | None = None) -> np.ndarray:
-    """Indices in contract order: within accept by (parts, |error|), then the rest by |error|."""
+                duty_ok: np.ndarray | None = None, keep: int | None = None) -> np.ndarray:
+    """Indices in contract order: within accept by (parts, |error|), then the rest by |error|.
+
+    With ``keep`` only that many leading indices are returned (found by
+    partitioning first, so a million combinations rank in milliseconds).
+    """
     err = np.abs(error_pct)
     within = err <= accept_pct
     if duty_ok is not None:
         within &= duty_ok
-    tier_parts = np.where(within, parts, 0)
-    return np.lexsort((err, tier_parts, ~within))
+    # One float key: hits sort by (parts, |error|) below every miss.
+    span = accept_pct + 1.0
+    key = np.where(within, parts * span + err, (parts.max(initial=0) + 2) * span + err)
+    if keep is not None and keep < len(key):
+        head = np.argpartition(key, keep)[:keep]
+        return head[np.lexsort((err[head], np.where(within, parts, 0)[head], ~within[head]))]
+    return np.lexsort((err, np.where(within, parts, 0), ~within))
 
 
 def _varied(order: np.ndarray, c_entry: np.ndarray, r_values: np.ndarray,
@@ -217,7 +228,7 @@ def search(parts: list[Part], osc: Oscillator, target_hz: float, duty_pct: float
         return SearchResult(target_hz, limits, notes, [])
     if osc.circuit == "555":
         shortlist = _shortlist_555(index, osc, target_hz, duty_pct, max_resistors,
-                                   max_capacitors, limits, notes)
+                                   max_capacitors, limits, notes, top, accept_pct)
     else:
         shortlist = _shortlist_schmitt(index, osc, target_hz, max_resistors, max_capacitors,
                                        limits)
@@ -228,7 +239,8 @@ def search(parts: list[Part], osc: Oscillator, target_hz: float, duty_pct: float
         return SearchResult(target_hz, limits, notes, [],
                             suggest(index, osc, target_hz, accept_pct, limits, max_resistors,
                                     max_capacitors, duty_pct))
-    order = _rank_order(shortlist.error_pct, shortlist.parts, accept_pct, shortlist.duty_ok)
+    order = _rank_order(shortlist.error_pct, shortlist.parts, accept_pct, shortlist.duty_ok,
+                        keep=RANK_DEPTH * top)
     picked = _varied(order, shortlist.entries["C"], shortlist.r_sum, shortlist.c_values, top)
     candidates = [_candidate(index, osc, target_hz, shortlist, i) for i in picked]
     suggestions: list[dict[str, Any]] = []
@@ -288,60 +300,94 @@ def _shortlist_schmitt(index: DrawerIndex, osc: Oscillator, target_hz: float,
                       res.values[re], caps.values[ce])
 
 
-def _astable_ideal(target_hz: float, c: np.ndarray, ratio: float,
-                   diode_steered: bool) -> tuple[np.ndarray, np.ndarray]:
-    """(RA, RB) [Ω] of the ideal astable for frequency, C [F] and RA/RB = ``ratio``.
+def _astable_rb(osc: Oscillator, target_hz: float, ra: np.ndarray, c: np.ndarray,
+                diode: bool) -> np.ndarray:
+    """RB [Ω] giving ``target_hz`` [Hz] with RA [Ω] and C [F] (full model); ≤ 0 or NaN if none.
 
-    References: NE555 datasheet (Texas Instruments SLFS022), astable operation:
-    t_high = ln2 (RA + RB) C, t_low = ln2 RB C; diode-steered: t_high = ln2 RA C.
+    Both time constants are linear in RB and the charge levels depend on RA
+    only, so the period is affine in RB up to the small edge-delay terms: an
+    affine fit through two evaluations and one secant step are exact enough.
     """
-    period = 1.0 / target_hz
-    rb = period / (LN2 * c * (ratio + (1.0 if diode_steered else 2.0)))
-    return ratio * rb, rb
+    want = 1.0 / target_hz
+
+    def period(rb: np.ndarray) -> np.ndarray:
+        t_high, t_low = astable_times(osc, ra, rb, c, diode_steered=diode)
+        return t_high + t_low
+
+    with np.errstate(invalid="ignore", divide="ignore"):
+        rb1 = np.maximum(ra, 1e3)
+        rb2 = 2.0 * rb1
+        p1, p2 = period(rb1), period(rb2)
+        rb3 = rb1 + (want - p1) * (rb2 - rb1) / (p2 - p1)
+        p3 = period(np.where(rb3 > 0, rb3, rb1))
+        return np.where(rb3 > 0, rb3 + (want - p3) * (rb3 - rb2) / (p3 - p2), rb3)
+
+
+def _duty_rb(ra: np.ndarray, duty_pct: float, diode: bool) -> np.ndarray:
+    """RB [Ω] for a duty cycle [%] with RA [Ω] (ideal astable; inf where out of reach).
+
+    References: NE555 data sheet (TI SLFS022), astable: duty = (RA + RB)/(RA + 2 RB);
+    diode-steered (t_high = ln2 RA C): duty = RA / (RA + RB).
+    """
+    d = duty_pct / 100.0
+    with np.errstate(divide="ignore"):
+        if diode:
+            return ra * (1.0 - d) / d
+        return np.where(d > 0.5, ra * (1.0 - d) / max(2.0 * d - 1.0, 1e-12), np.inf)
+
+
+COMBINATION_BUDGET = 2_500_000
+"""Most RA, RB, C combinations one 555 search evaluates (well under a second); larger tiers are
+skipped, with a note."""
 
 
 def _shortlist_555(index: DrawerIndex, osc: Oscillator, target_hz: float,
                    duty_pct: float | None, max_resistors: int, max_capacitors: int,
-                   limits: tuple[float, float], notes: list[str]) -> _Shortlist | None:
+                   limits: tuple[float, float], notes: list[str], top: int,
+                   accept_pct: float) -> _Shortlist | None:
+    """RA, RB, C combinations: for every (RA, C) pair, the RB neighbours that matter.
+
+    Those are the RB values next to the one that hits the frequency and, with a
+    duty target, next to the two that put the duty at the edges of its
+    tolerance. Pairs are taken in tiers of rising part count and the search
+    stops once enough hits are found that no later tier can outrank.
+    """
     res, caps = index.resistors, index.capacitors
-    ce = _capacitor_entries(index, max_capacitors)
-    cv = caps.values[ce]
     diode = duty_pct is not None and duty_pct <= 50.0
-    if duty_pct is None:
-        ratios = np.geomspace(0.02, 20.0, 25)  # natural duty: sweep RA/RB (51 % … 95 %)
-    else:
-        d = duty_pct / 100.0
-        ratios = np.array([d / (1 - d) if diode else (2 * d - 1) / (1 - d)])
-        if diode:
-            notes.append(f"a duty of {duty_pct:g} % needs the diode-steered astable (a diode "
-                         "across RB, or separate charge and discharge diodes): RA sets the "
-                         "high time, RB the low time")
-    blocks = []
-    for ratio in ratios:
-        ra_ideal, rb_ideal = _astable_ideal(target_hz, cv, float(ratio), diode)
-        ra_ideal, rb_ideal = _refine_astable(osc, target_hz, duty_pct, ra_ideal, rb_ideal, cv,
-                                             diode)
-        ra_ideal, rb_ideal = np.clip(ra_ideal, *limits), np.clip(rb_ideal, *limits)
-        na = res.nearest(ra_ideal, max_resistors, 1, *limits)
-        nb = res.nearest(rb_ideal, max_resistors, 1, *limits)
-        ra = np.repeat(na, nb.shape[1], axis=1).ravel()
-        rb = np.tile(nb, (1, na.shape[1])).ravel()
-        cc = np.repeat(ce, na.shape[1] * nb.shape[1])
-        keep = (ra >= 0) & (rb >= 0)
-        blocks.append((ra[keep], rb[keep], cc[keep]))
-    ra, rb, cc = (np.concatenate(x) for x in zip(*blocks, strict=True))
+    if diode:
+        notes.append(f"a duty of {duty_pct:g} % needs the diode-steered astable (a diode "
+                     "across RB): RA sets the high time, RB the low time")
+    r_layers = [(p, s) for p, s in res.layers.items() if p <= max_resistors]
+    c_layers = [(p, s) for p, s in caps.layers.items() if p <= max_capacitors]
+    tiers = sorted(((pa, sa, pc, sc) for pa, sa in r_layers for pc, sc in c_layers),
+                   key=lambda t: (t[0] + t[2], t[0]))
+    budget = COMBINATION_BUDGET
+    per_pair = (1 if duty_pct is None else 3) * len(res.layer_slices(max_resistors)) * 2
+    found: list[tuple[np.ndarray, ...]] = []
+    skipped = False
+    for level in sorted({pa + pc for pa, _, pc, _ in tiers}):
+        for _, sa, _, sc in (t for t in tiers if t[0] + t[2] == level):
+            a_all = np.arange(sa.start, sa.stop)
+            a_all = a_all[(res.values[a_all] >= limits[0]) & (res.values[a_all] <= limits[1])]
+            c_all = np.arange(sc.start, sc.stop)
+            cost = a_all.size * c_all.size * per_pair
+            if cost > budget:
+                skipped = True
+                continue
+            budget -= cost
+            a, cc = (x.ravel() for x in np.meshgrid(a_all, c_all, indexing="ij"))
+            found.append(_rb_neighbours(index, osc, target_hz, duty_pct, diode, a, cc,
+                                        max_resistors, limits))
+        if found and _enough(index, found, target_hz, level + 1, top, accept_pct, duty_pct):
+            break
+    if skipped:
+        notes.append("the drawer is large: some combinations of multi-part RA and C "
+                     "networks were not searched (fewer-part ones were)")
+    if not found:
+        return None
+    ra, rb, cc, f, duty = (np.concatenate(x) for x in zip(*found, strict=True))
     if not ra.size:
         return None
-    # One row per distinct combination, then drop those needing more parts than stocked.
-    combo = np.unique(np.stack([ra, rb, cc], axis=1), axis=0)
-    ra, rb, cc = combo[:, 0], combo[:, 1], combo[:, 2]
-    fits = ~res.overused(ra, rb)
-    ra, rb, cc = ra[fits], rb[fits], cc[fits]
-    f, duty = astable_frequency(osc, res.values[ra], res.values[rb], caps.values[cc], diode)
-    ok = np.isfinite(f)
-    if not ok.any():
-        return None
-    ra, rb, cc, f, duty = ra[ok], rb[ok], cc[ok], f[ok], duty[ok]
     duty_ok = None if duty_pct is None else np.abs(duty - duty_pct) <= DUTY_ACCEPT_POINTS
     return _Shortlist({"RA": ra, "RB": rb, "C": cc}, f, duty,
                       (f - target_hz) / target_hz * 100.0,
@@ -349,22 +395,46 @@ def _shortlist_555(index: DrawerIndex, osc: Oscillator, target_hz: float,
                       res.values[ra] + res.values[rb], caps.values[cc], duty_ok, diode)
 
 
-def _refine_astable(osc: Oscillator, target_hz: float, duty_pct: float | None,
-                    ra: np.ndarray, rb: np.ndarray, c: np.ndarray,
-                    diode: bool) -> tuple[np.ndarray, np.ndarray]:
-    """Correct ideal RA, RB [Ω] with the full model: scale for frequency, shift for duty."""
-    with np.errstate(invalid="ignore", divide="ignore"):
-        for _ in range(2):
-            f, duty = astable_frequency(osc, ra, rb, c, diode)
-            good = np.isfinite(f) & (f > 0)
-            scale = np.where(good, f / target_hz, 1.0)
-            ra, rb = ra * scale, rb * scale
-            if duty_pct is not None:
-                # t_high/t_low grows with RA/RB: nudge RA towards the wanted ratio.
-                want = duty_pct / (100 - duty_pct)
-                have = duty / (100 - duty)
-                ra = np.where(good, ra * np.clip(want / have, 0.5, 2.0), ra)
-    return ra, rb
+def _rb_neighbours(index: DrawerIndex, osc: Oscillator, target_hz: float,
+                   duty_pct: float | None, diode: bool, a: np.ndarray, cc: np.ndarray,
+                   max_resistors: int, limits: tuple[float, float]) -> tuple[np.ndarray, ...]:
+    """(RA, RB, C entries, frequency [Hz], duty [%]) for the RB values that matter."""
+    res, caps = index.resistors, index.capacitors
+    va, vc = res.values[a], caps.values[cc]
+    wanted = [_astable_rb(osc, target_hz, va, vc, diode)]
+    if duty_pct is not None:
+        wanted += [_duty_rb(va, duty_pct + side * DUTY_ACCEPT_POINTS, diode)
+                   for side in (-1.0, 1.0)]
+    # f and duty are monotone in RB, so the two entries bracketing each wanted value suffice.
+    columns = [res.nearest(np.clip(np.nan_to_num(w, nan=limits[0]), *limits), max_resistors,
+                           1, *limits) for w in wanted]
+    # Each row is one (RA, C) pair; drop RB entries listed twice within a row.
+    near = np.sort(np.concatenate(columns, axis=1), axis=1)
+    near[:, 1:][near[:, 1:] == near[:, :-1]] = -1
+    rows, cols = np.nonzero(near >= 0)
+    ra, rb, cc = a[rows], near[rows, cols], cc[rows]
+    fits = ~res.overused(ra, rb)
+    ra, rb, cc = ra[fits], rb[fits], cc[fits]
+    f, duty = astable_frequency(osc, res.values[ra], res.values[rb], caps.values[cc], diode)
+    ok = np.isfinite(f)
+    return ra[ok], rb[ok], cc[ok], f[ok], duty[ok]
+
+
+def _enough(index: DrawerIndex, found: list[tuple[np.ndarray, ...]], target_hz: float,
+            max_parts: int, top: int, accept_pct: float, duty_pct: float | None) -> bool:
+    """True if ``top`` hits with at most ``max_parts`` parts are already known.
+
+    Every pair in a later tier has more parts than that, so it cannot outrank them.
+    """
+    res, caps = index.resistors, index.capacitors
+    count = 0
+    for ra, rb, cc, f, duty in found:
+        hit = np.abs(f - target_hz) <= accept_pct / 100.0 * target_hz
+        if duty_pct is not None:
+            hit &= np.abs(duty - duty_pct) <= DUTY_ACCEPT_POINTS
+        parts = res.part_count[ra].astype(int) + res.part_count[rb] + caps.part_count[cc]
+        count += int(np.count_nonzero(hit & (parts <= max_parts)))
+    return count >= top
 
 
 def _candidate(index: DrawerIndex, osc: Oscillator, target_hz: float, s: _Shortlist,
