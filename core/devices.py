@@ -69,6 +69,7 @@ class _Point:
     vt_plus: Triplet
     vt_minus: Triplet
     hysteresis_min: float
+    hysteresis_max: float
     voh_open: float
     vol_open: float
     r_out_high: float
@@ -103,6 +104,7 @@ class DeviceAtSupply:
     vt_plus: Triplet
     vt_minus: Triplet
     hysteresis_min_v: float
+    hysteresis_max_v: float
     voh_v: float
     vol_v: float
     r_out_high_ohm: float
@@ -175,7 +177,8 @@ class Family:
         p = _interpolate(self.points, supply_v)
         return DeviceAtSupply(
             family=self, supply_v=float(supply_v), vt_plus=p.vt_plus, vt_minus=p.vt_minus,
-            hysteresis_min_v=p.hysteresis_min, voh_v=p.voh_open, vol_v=p.vol_open,
+            hysteresis_min_v=p.hysteresis_min, hysteresis_max_v=p.hysteresis_max,
+            voh_v=p.voh_open, vol_v=p.vol_open,
             r_out_high_ohm=p.r_out_high, r_out_low_ohm=p.r_out_low,
             input_current_a=p.input_current, input_r_ohm=p.input_r,
             input_v_open_v=p.input_v_open, input_capacitance_f=self.input_capacitance_f,
@@ -255,7 +258,8 @@ def _point(family: Mapping[str, Any], entry: Mapping[str, Any], circuit: str,
         trg = _triplet(entry, "trigger_fraction", where)
         return _Point(v=v, vt_plus=tuple(x * v for x in thr),  # type: ignore[arg-type]
                       vt_minus=tuple(x * v for x in trg),  # type: ignore[arg-type]
-                      hysteresis_min=(thr[0] - trg[2]) * v, voh_open=v, vol_open=0.0,
+                      hysteresis_min=(thr[0] - trg[2]) * v, hysteresis_max=math.inf,
+                      voh_open=v, vol_open=0.0,
                       r_out_high=0.0, r_out_low=0.0, input_r=math.inf, input_v_open=0.0,
                       input_current=0.0, delay_lh=delay_lh, delay_hl=delay_hl, r_min=r_min,
                       r_max=r_max, discharge_r=float(entry["discharge_r_ohm"]),
@@ -282,7 +286,8 @@ def _point(family: Mapping[str, Any], entry: Mapping[str, Any], circuit: str,
         input_v_open = vt_plus[1] + (-i_plus) * input_r
         input_current = 0.5 * (i_plus + i_minus)
     point = _Point(v=v, vt_plus=vt_plus, vt_minus=vt_minus,
-                   hysteresis_min=float(entry["hysteresis_min"]), voh_open=voh_open,
+                   hysteresis_min=float(entry["hysteresis_min"]),
+                   hysteresis_max=float(entry.get("hysteresis_max", math.inf)), voh_open=voh_open,
                    vol_open=vol_open, r_out_high=r_high, r_out_low=r_low, input_r=input_r,
                    input_v_open=input_v_open, input_current=input_current, delay_lh=delay_lh,
                    delay_hl=delay_hl, r_min=r_min, r_max=r_max, discharge_r=0.0,
@@ -295,8 +300,8 @@ def _check_point(p: _Point, where: str) -> None:
     problems = []
     if not (p.vol_open < p.vt_minus[0] and p.vt_plus[2] < p.voh_open):
         problems.append("thresholds must lie between the output levels")
-    if p.vt_plus[1] - p.vt_minus[1] < p.hysteresis_min:
-        problems.append("typ thresholds are closer than hysteresis_min")
+    if not p.hysteresis_min <= p.vt_plus[1] - p.vt_minus[1] <= p.hysteresis_max:
+        problems.append("typ thresholds are outside hysteresis_min … hysteresis_max")
     if p.vt_plus[2] - p.vt_minus[0] < p.hysteresis_min or p.hysteresis_min <= 0:
         problems.append("no threshold pair meets hysteresis_min")
     if p.r_out_high < 0 or p.r_out_low < 0 or not p.r_min < p.r_max:
@@ -344,12 +349,14 @@ def _span(name: str, raw: Mapping[str, Any], known: Mapping[str, Family]) -> Fam
         ps = [v.points[k] for v in variants]
         mean = {f.name: sum(getattr(p, f.name) for p in ps) / len(ps)
                 for f in fields(_Point)
-                if f.name not in ("vt_plus", "vt_minus", "hysteresis_min", "source")}
+                if f.name not in ("vt_plus", "vt_minus", "hysteresis_min", "hysteresis_max",
+                                  "source")}
         points.append(_Point(
             **mean,
             vt_plus=_envelope([p.vt_plus for p in ps]),
             vt_minus=_envelope([p.vt_minus for p in ps]),
             hysteresis_min=min(p.hysteresis_min for p in ps),
+            hysteresis_max=max(p.hysteresis_max for p in ps),
             source=f"envelope of {', '.join(v.name for v in variants)}"))
     first = variants[0]
     return Family(name=name, circuit=first.circuit, description=raw.get("description", ""),

@@ -9,7 +9,7 @@ Monte Carlo: part values uniform within their tolerance (manufacturers sort
 parts into tolerance bins, so no central peak is promised); thresholds drawn
 from a triangular distribution over the table's min/typ/max, independently
 (conservative: real VT+ and VT- move together with the process), redrawn
-where they break the guaranteed hysteresis. Draws that do not oscillate
+where they break the guaranteed hysteresis (min and, where listed, max). Draws that do not oscillate
 count as 0 Hz.
 
 References: IEC 60062 (tolerance letters and meaning); the device data
@@ -106,16 +106,16 @@ def draw_thresholds(osc: Oscillator, n: int, rng: np.random.Generator
     d = osc.device
     a = _triangular(rng, d.vt_plus, n)
     b = _triangular(rng, d.vt_minus, n)
-    h = d.hysteresis_min_v if osc.circuit == "schmitt" else 0.0
+    h, h_max = ((d.hysteresis_min_v, d.hysteresis_max_v) if osc.circuit == "schmitt"
+                else (0.0, np.inf))
     for _ in range(50):
-        bad = a - b < h
+        bad = (a - b < h) | (a - b > h_max)
         if not bad.any():
             break
         k = int(bad.sum())
         a[bad] = _triangular(rng, d.vt_plus, k)
         b[bad] = _triangular(rng, d.vt_minus, k)
-    bad = a - b < h
-    b[bad] = a[bad] - h
+    b = np.clip(b, a - h_max, a - h)
     return a, b
 
 

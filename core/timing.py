@@ -106,7 +106,7 @@ class Oscillator:
         """(VT+, VT-) pairs [V] whose extremes bound the frequency over the table's spread.
 
         The feasible thresholds form the box min…max of each, cut by the
-        guaranteed hysteresis VT+ − VT- ≥ hysteresis_min. The period rises with
+        guaranteed hysteresis hysteresis_min ≤ VT+ − VT- ≤ hysteresis_max. The period rises with
         VT+ and falls with VT-, so its extremes lie on the polygon's vertices,
         except the fastest point on the minimum-hysteresis edge, which is where
         the window is centred between the output levels (added explicitly).
@@ -117,16 +117,18 @@ class Oscillator:
         (a_lo, _, a_hi), (b_lo, _, b_hi) = d.vt_plus, d.vt_minus
         if self.circuit == "555":
             return [(a, b) for a in (a_lo, a_hi) for b in (b_lo, b_hi)]
-        h = d.hysteresis_min_v
+        h, h_max = d.hysteresis_min_v, d.hysteresis_max_v
         candidates = [(a, b) for a in (a_lo, a_hi) for b in (b_lo, b_hi)]
-        candidates += [(a_lo, a_lo - h), (b_hi + h, b_hi), (a_hi, a_hi - h), (b_lo + h, b_lo)]
+        for width in (h, h_max) if math.isfinite(h_max) else (h,):
+            candidates += [(a_lo, a_lo - width), (b_hi + width, b_hi), (a_hi, a_hi - width),
+                           (b_lo + width, b_lo)]
         centre = 0.5 * (d.voh_v + d.vol_v + h)
         candidates.append((centre, centre - h))
         eps = 1e-12
         corners: list[tuple[float, float]] = []
         for a, b in candidates:
             inside = (a_lo - eps <= a <= a_hi + eps and b_lo - eps <= b <= b_hi + eps
-                      and a - b >= h - eps)
+                      and h - eps <= a - b <= h_max + eps)
             if inside and all(abs(a - p) > 1e-9 or abs(b - q) > 1e-9 for p, q in corners):
                 corners.append((a, b))
         return corners

@@ -68,6 +68,14 @@ def test_ls14_numbers_and_the_derived_ttl_input_model():
     assert d.voh_v - 0.4e-3 * d.r_out_high_ohm == pytest.approx(3.4)
 
 
+def test_74hc14_hysteresis_window():
+    # NXP 74HC1G14 static characteristics: VH 0.2…1.0 V at 2 V, 0.4…1.4 V at 4.5 V,
+    # 0.6…1.6 V at 6 V.
+    fam = device_table().family("74HC14")
+    window = [(fam.at(v).hysteresis_min_v, fam.at(v).hysteresis_max_v) for v in (2.0, 4.5, 6.0)]
+    assert window == [(0.2, 1.0), (0.4, 1.4), (0.6, 1.6)]
+
+
 def test_hef40106b_datasheet_thresholds():
     # Philips HEF40106B data sheet, DC characteristics: 5/10/15 V.
     fam = device_table().family("HEF40106B")
@@ -144,7 +152,7 @@ def test_every_family_is_physically_consistent_across_its_range(name):
             # Physics: VT+ above VT-, at least the guaranteed hysteresis, within min…max.
             assert a > b
             if fam.circuit == "schmitt":
-                assert a - b >= d.hysteresis_min_v - 1e-9
+                assert d.hysteresis_min_v - 1e-9 <= a - b <= d.hysteresis_max_v + 1e-9
             assert d.vt_plus[0] - 1e-9 <= a <= d.vt_plus[2] + 1e-9
             assert d.vt_minus[0] - 1e-9 <= b <= d.vt_minus[2] + 1e-9
 

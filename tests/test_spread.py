@@ -18,7 +18,7 @@ def _dense_frequencies(osc, values, ranges, n=41):
     d = osc.device
     a, b = np.meshgrid(np.linspace(d.vt_plus[0], d.vt_plus[2], n),
                        np.linspace(d.vt_minus[0], d.vt_minus[2], n))
-    keep = (a - b) >= d.hysteresis_min_v - 1e-12
+    keep = ((a - b) >= d.hysteresis_min_v - 1e-12) & ((a - b) <= d.hysteresis_max_v + 1e-12)
     # ... plus points exactly on the minimum-hysteresis edge, where the fastest builds are.
     edge_b = np.linspace(d.vt_minus[0], d.vt_minus[2], 20 * n)
     edge_a = edge_b + d.hysteresis_min_v
@@ -104,6 +104,11 @@ def test_monte_carlo_thresholds_respect_the_hysteresis():
     a, b = draw_thresholds(osc, 20_000, np.random.default_rng(1))
     d = osc.device
     assert (a - b >= d.hysteresis_min_v - 1e-12).all()
+    hc = make_oscillator("schmitt", "74HC14", 5.0)
+    a2, b2 = draw_thresholds(hc, 20_000, np.random.default_rng(2))
+    # NXP 74HC1G14: hysteresis window (VH min … max) bounds every draw.
+    assert (a2 - b2 <= hc.device.hysteresis_max_v + 1e-12).all()
+    assert (a2 - b2 >= hc.device.hysteresis_min_v - 1e-12).all()
     assert (a >= d.vt_plus[0]).all() and (a <= d.vt_plus[2]).all()
     fixed = make_oscillator("schmitt", "74HC14", 5.0, vt_plus=2.8, vt_minus=1.9)
     a, b = draw_thresholds(fixed, 10, np.random.default_rng(1))
