@@ -64,7 +64,7 @@ def _draw_search(plots: Any, outcome: Outcome, cand: Any) -> None:
 
 
 def _draw_trim(plots: Any, outcome: Outcome, cand: Any) -> None:
-    from core.trim import frequency_at_rotation, rotation_for
+    from core.trim import frequency_at_rotation, pot_resistance, rotation_for
 
     osc, target = outcome.oscillator, outcome.target
     assert target.band_hz is not None
@@ -74,10 +74,12 @@ def _draw_trim(plots: Any, outcome: Outcome, cand: Any) -> None:
     low = frequency_at_rotation(osc, cand, rotation, corner="low")
     high = frequency_at_rotation(osc, cand, rotation, corner="high")
     plots.show_rotation(rotation, nominal, low, high, (lo_band, hi_band),
-                        f"Nominal {format_frequency(cand.range_hz[0])} … "
-                        f"{format_frequency(cand.range_hz[1])}; band shaded")
+                        tuple(cand.rotation_pct),
+                        f"Band shaded; guaranteed {format_frequency(cand.guaranteed_hz[0])}"
+                        f" … {format_frequency(cand.guaranteed_hz[1])}")
     centre = float(np.sqrt(lo_band * hi_band))
     turn = rotation_for(osc, cand, centre)
-    values = {"R": cand.values["R"] + cand.values["P"] * (1 - turn / 100), "C": cand.values["C"]}
+    pot = float(pot_resistance(cand.values["P"], turn, cand.taper))
+    values = {"R": cand.values["R"] + pot, "C": cand.values["C"]}
     _waveform(plots, osc, values, False,
               f"At {turn:.0f} % rotation: {format_frequency(centre)}")

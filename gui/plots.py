@@ -59,10 +59,16 @@ class PlotPanel(QWidget):
         self.out_curve = self.waveform.plot(pen=pg.mkPen(OUT, width=1.6), name="output")
         self.cap_curve = self.waveform.plot(pen=pg.mkPen(CAP, width=2.0), name="capacitor")
         dash = pg.mkPen(THRESHOLD, width=1.2, style=Qt.PenStyle.DashLine)
-        self.vt_plus_line = pg.InfiniteLine(angle=0, pen=dash, label="VT+ {value:.2f} V",
-                                            labelOpts={"position": 0.93, "color": THRESHOLD})
-        self.vt_minus_line = pg.InfiniteLine(angle=0, pen=dash, label="VT− {value:.2f} V",
-                                             labelOpts={"position": 0.93, "color": THRESHOLD})
+        # Labels just above VT+ and just below VT−, on a light backing so traces stay legible.
+        backing = pg.mkBrush(255, 255, 255, 210)
+        self.vt_plus_line = pg.InfiniteLine(
+            angle=0, pen=dash, label="VT+ {value:.2f} V",
+            labelOpts={"position": 0.12, "color": THRESHOLD, "fill": backing,
+                       "anchors": [(0.5, 1.0), (0.5, 1.0)]})
+        self.vt_minus_line = pg.InfiniteLine(
+            angle=0, pen=dash, label="VT− {value:.2f} V",
+            labelOpts={"position": 0.12, "color": THRESHOLD, "fill": backing,
+                       "anchors": [(0.5, 0.0), (0.5, 0.0)]})
         for line in (self.vt_plus_line, self.vt_minus_line):
             self.waveform.addItem(line)
 
@@ -97,6 +103,10 @@ class PlotPanel(QWidget):
                                                 brush=pg.mkBrush(ENVELOPE))
         self.rotation.addItem(self.envelope_fill)
         self.rotation_curve = self.rotation.plot(pen=pg.mkPen(CAP, width=2))
+        turn = pg.mkPen(INK, width=1, style=Qt.PenStyle.DashLine)
+        self.turn_lines = [pg.InfiniteLine(angle=90, pen=turn) for _ in range(2)]
+        for line in self.turn_lines:
+            self.rotation.addItem(line)
 
         self.right = QStackedWidget()
         self.right.addWidget(self.spread)
@@ -115,8 +125,8 @@ class PlotPanel(QWidget):
             curve.setData([], [])
         for line in (self.vt_plus_line, self.vt_minus_line, self.target_line):
             line.hide()
-        self.accept_region.hide()
-        self.band_region.hide()
+        for item in (self.accept_region, self.band_region, *self.turn_lines):
+            item.hide()
         title = why or "Select a candidate"
         self.waveform.setTitle(f"Capacitor and output: {title}", color=INK.name(), size="10pt")
 
@@ -155,13 +165,24 @@ class PlotPanel(QWidget):
 
     def show_rotation(self, rotation_pct: np.ndarray, nominal_hz: np.ndarray,
                       low_hz: np.ndarray, high_hz: np.ndarray, band_hz: tuple[float, float],
-                      title: str) -> None:
-        """Frequency (Hz) against rotation (%), worst-case envelope shaded, band marked."""
+                      band_turns_pct: tuple[float, float], title: str) -> None:
+        """Frequency (Hz) against rotation (%), worst-case envelope shaded, band marked.
+
+        ``band_turns_pct`` are the nominal rotations [%] for the band's two ends
+        (dashed lines); the view centres on the band (scroll out to see all).
+        """
         self.right.setCurrentWidget(self.rotation)
         self.rotation_curve.setData(rotation_pct, nominal_hz)
         self.envelope_low.setData(rotation_pct, low_hz)
         self.envelope_high.setData(rotation_pct, high_hz)
         self.band_region.setRegion(band_hz)
         self.band_region.show()
+        for line, turn in zip(self.turn_lines, band_turns_pct, strict=True):
+            line.show()
+            line.setValue(turn)
         self.rotation.setTitle(title, color=INK.name(), size="10pt")
-        self.rotation.getPlotItem().enableAutoRange()
+        finite = np.concatenate([np.asarray(a, float) for a in (nominal_hz, low_hz, high_hz)])
+        finite = finite[np.isfinite(finite)]
+        top = min(float(finite.max()), 2.0 * band_hz[1]) if finite.size else 2.0 * band_hz[1]
+        self.rotation.setXRange(0.0, 100.0, padding=0.02)
+        self.rotation.setYRange(0.0, top, padding=0.05)

@@ -94,19 +94,18 @@ def compute(target: Target, parts: tuple[Part, ...], indexes: _Indexes,
             step: Callable[[str, float], None]) -> tuple[Any, Any]:
     """Oscillator model and core's search or trim result for ``target`` over ``parts``."""
     osc = make_oscillator_for(target)
+    index = indexes.get(parts, target.max_resistors, target.max_capacitors, step)
+    step("Searching…", 1.0)
     if target.trim:
         from core.trim import trim
 
         assert target.band_hz is not None
-        step("Trying pots, resistors and capacitors…", 0.5)
         result = trim(list(parts), osc, target.band_hz, top=TOP,
                       max_resistors=target.max_resistors,
-                      max_capacitors=target.max_capacitors)
+                      max_capacitors=target.max_capacitors, index=index)
         return osc, result
     from core.search import search
 
-    index = indexes.get(parts, target.max_resistors, target.max_capacitors, step)
-    step("Searching…", 1.0)
     assert target.target_hz is not None
     result = search(list(parts), osc, target.target_hz, duty_pct=target.duty_pct,
                     max_resistors=target.max_resistors, max_capacitors=target.max_capacitors,
@@ -191,8 +190,6 @@ class SearchRunner(QObject):
 
     def needs_index(self, target: Target, parts: tuple[Part, ...]) -> bool:
         """Whether this request must build a network index first (slow on big drawers)."""
-        if target.trim:
-            return False
         return not self._indexes.cached(parts, target.max_resistors, target.max_capacitors)
 
     def wait(self, msecs: int = -1) -> bool:

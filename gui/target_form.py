@@ -92,9 +92,6 @@ class TargetForm(QWidget):
         self.family.setMinimumContentsLength(9)
         self.family.setSizeAdjustPolicy(QComboBox.SizeAdjustPolicy.AdjustToContents)
         self.supply = QLineEdit("5V")
-        self.supply.setMaximumWidth(self.supply.fontMetrics().horizontalAdvance("M") * 6)
-        self.supply_range = QLabel()
-        self.supply_range.setObjectName("hint")
         self.mode = QComboBox()
         for label, key, _, tip in MODES:
             self.mode.addItem(label, key)
@@ -121,8 +118,10 @@ class TargetForm(QWidget):
         tips = {
             self.circuit: "The oscillator: an inverter with hysteresis (R from output to "
                           "input, C to ground), or a 555 timer in astable mode",
-            self.family: "The chip; its thresholds and limits come from the device table",
-            self.supply: "Supply voltage, e.g. 5V or 3.3",
+            self.family: "The chip and its supply range; thresholds and limits come from the "
+                         "device table",
+            self.supply: "Supply voltage, e.g. 5V or 3.3 (the family's range is shown beside "
+                         "its name)",
             self.mode: "Aim at one frequency, a period, or a band to trim over",
             self.target: MODES[0][3],
             self.duty: "555 only: wanted share of time high, e.g. 60% (empty: any)",
@@ -162,10 +161,7 @@ class TargetForm(QWidget):
         grid.addWidget(label("&Family", self.family), 0, 2)
         grid.addWidget(self.family, 0, 3)
         grid.addWidget(label("&Supply", self.supply), 0, 4)
-        supply_box = QHBoxLayout()
-        supply_box.addWidget(self.supply)
-        supply_box.addWidget(self.supply_range)
-        grid.addLayout(supply_box, 0, 5)
+        grid.addWidget(self.supply, 0, 5)
         grid.addWidget(label("&Target", self.target), 1, 0)
         target_box = QHBoxLayout()
         target_box.addWidget(self.mode)
@@ -206,7 +202,7 @@ class TargetForm(QWidget):
     # -- dependent fields
     def _circuit_changed(self) -> None:
         circuit = self.circuit.currentData()
-        previous = self.family.currentText()
+        previous = self.family.currentData()
         self.family.blockSignals(True)
         self.family.clear()
         self._ranges.clear()
@@ -218,23 +214,19 @@ class TargetForm(QWidget):
                 family = table.family(name)
                 self._ranges[name] = tuple(family.supply_range_v)  # type: ignore[assignment]
                 lo, hi = family.supply_range_v
-                self.family.addItem(name, name)
+                self.family.addItem(f"{name}  ({lo:g}–{hi:g} V)", name)
                 self.family.setItemData(self.family.count() - 1,
                                         f"{name}: supply {lo:g} … {hi:g} V",
                                         Qt.ItemDataRole.ToolTipRole)
         except TickbinError as e:
             self._problems["family"] = str(e)
-        wanted = previous if self.family.findText(previous) >= 0 else DEFAULT_FAMILY[circuit]
-        if self.family.findText(wanted) >= 0:
-            self.family.setCurrentText(wanted)
+        wanted = previous if self.family.findData(previous) >= 0 else DEFAULT_FAMILY[circuit]
+        self.family.setCurrentIndex(max(0, self.family.findData(wanted)))
         self.family.blockSignals(False)
         self.duty.setEnabled(circuit == "555")
         self._family_changed()
 
     def _family_changed(self) -> None:
-        supply = self._ranges.get(self.family.currentText())
-        self.supply_range.setText(f"{supply[0]:g} … {supply[1]:g} V" if supply else "")
-        self.supply_range.setToolTip("Supply range of this family in the device table")
         self._edited()
 
     def _mode_changed(self) -> None:
@@ -250,14 +242,17 @@ class TargetForm(QWidget):
         self.calibration.blockSignals(True)
         self.calibration.clear()
         self.calibration.addItem("None (device table)", None)
-        try:
-            from core.calibration import list_calibrations
+        from core.calibration import list_calibrations, load_calibration
 
-            for cal in list_calibrations():
-                self.calibration.addItem(f"{cal.name} ({cal.family}, {cal.supply_v:g} V)",
-                                         cal.name)
-        except (TickbinError, OSError, ImportError) as e:
-            self.message.setText(f"Calibrations could not be read: {e}")
+        for name in list_calibrations():
+            try:
+                cal = load_calibration(name)
+            except TickbinError as e:
+                self.calibration.addItem(f"{name} (unreadable)", name)
+                self.calibration.setItemData(self.calibration.count() - 1, str(e),
+                                             Qt.ItemDataRole.ToolTipRole)
+                continue
+            self.calibration.addItem(f"{name} ({cal.family}, {cal.supply_v:g} V)", name)
         index = self.calibration.findData(current)
         self.calibration.setCurrentIndex(max(index, 0))
         self.calibration.blockSignals(False)
@@ -285,10 +280,11 @@ class TargetForm(QWidget):
                 return None
 
         supply = parse("supply", parse_voltage)
-        supply_range = self._ranges.get(self.family.currentText())
+        family = self.family.currentData()
+        supply_range = self._ranges.get(family)
         if supply is not None and supply_range and not (
                 supply_range[0] <= supply <= supply_range[1]):
-            problems["supply"] = (f"{self.family.currentText()} runs from {supply_range[0]:g} "
+            problems["supply"] = (f"{family} runs from {supply_range[0]:g} "
                                   f"to {supply_range[1]:g} V")
         target_hz = band = None
         if mode == "band":
@@ -308,12 +304,12 @@ class TargetForm(QWidget):
         accept = 1.0
         if mode != "band":
             accept = parse("accept", parse_percent) or 1.0
-        if not self.family.currentText():
+        if not family:
             problems["family"] = self._problems.get("family", "no device families found")
         self._show_problems(problems)
         if problems:
             return None
-        return Target(circuit=circuit, family=self.family.currentText(), supply_v=supply,
+        return Target(circuit=circuit, family=family, supply_v=supply,
                       mode=mode, target_hz=target_hz, band_hz=band, duty_pct=duty,
                       accept_pct=accept, max_resistors=self.max_r.value(),
                       max_capacitors=self.max_c.value(),
@@ -341,7 +337,7 @@ class TargetForm(QWidget):
 
     # -- remembering the form
     def state(self) -> dict[str, str]:
-        return {"circuit": self.circuit.currentData(), "family": self.family.currentText(),
+        return {"circuit": self.circuit.currentData(), "family": self.family.currentData(),
                 "supply": self.supply.text(), "mode": self.mode.currentData(),
                 "target": self.target.text(), "duty": self.duty.text(),
                 "accept": self.accept.text(), "max_r": str(self.max_r.value()),

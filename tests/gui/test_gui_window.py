@@ -247,3 +247,85 @@ def test_crash_leaves_autosave_and_restore_is_offered(qtbot, answers, tmp_path):
     restored.undo_action.trigger()  # back to the file as saved
     assert restored.drawer.rows[0].get("note") == read_drawer(mine).rows[0].get("note")
     assert not restored.isWindowModified()
+
+
+def test_trim_band_shows_rotation_plot(qtbot, window):
+    from core.trim import frequency_at_rotation
+
+    form = window.form
+    def go():
+        form.mode.setCurrentIndex(form.mode.findData("band"))
+        form.target.setText("900..1100")
+    search_done(qtbot, window, go)
+    assert window.candidates.trim and window.candidates.rowCount() > 0
+    plots = window.plots
+    assert plots.right.currentWidget() is plots.rotation
+    cand = window.selected_candidate()
+    osc = window.current_oscillator()
+    rotation, nominal = plots.rotation_curve.getData()
+    assert rotation[0] == 0.0 and rotation[-1] == 100.0
+    np.testing.assert_allclose(nominal, frequency_at_rotation(osc, cand, rotation), rtol=1e-12)
+    _, low = plots.envelope_low.getData()
+    _, high = plots.envelope_high.getData()
+    assert np.all(low <= nominal * (1 + 1e-9)) and np.all(high >= nominal * (1 - 1e-9))
+    assert plots.band_region.getRegion() == (900.0, 1100.0)
+    # The guaranteed band covers 900..1100 Hz: at the extreme corners the pot still spans it.
+    assert np.nanmax(low) >= 1100.0 and np.nanmin(high) <= 900.0
+    # Trim columns name the pot and the rotation at the band's ends.
+    headings = [window.candidates.headerData(c, Qt.Orientation.Horizontal)
+                for c in range(window.candidates.columnCount())]
+    assert "Pot" in headings and "Rotation at band" in headings
+
+
+def test_calibration_dialog_saves_and_selects(qtbot, window, monkeypatch):
+    from core.calibration import list_calibrations, load_calibration
+    from gui.calibration_dialog import CalibrationDialog
+
+    cand = window.selected_candidate()
+    dialog = CalibrationDialog(window, window.form.target_value(), cand)
+    qtbot.addWidget(dialog)
+    assert dialog.fields["R"].text()  # prefilled from the selected candidate
+    # A chip that runs 5 % faster than the table's nominal model predicts.
+    dialog.measured.setText(f"{cand.frequency_hz * 1.05:.6g}Hz")
+    dialog.name.setText("bench-a")
+    dialog.save()
+    assert dialog.saved_name == "bench-a" and "bench-a" in list_calibrations()
+    assert math.isclose(load_calibration("bench-a").scale, 1.05, rel_tol=0.02)
+    search_done(qtbot, window, lambda: window.form.reload_calibrations(select="bench-a"))
+    assert window.current_oscillator().calibration == "bench-a"
+    assert window.current_oscillator().thresholds_given
+
+
+def test_calibration_dialog_keeps_bad_input(qtbot, window):
+    from gui.calibration_dialog import CalibrationDialog
+
+    dialog = CalibrationDialog(window, window.form.target_value(), window.selected_candidate())
+    qtbot.addWidget(dialog)
+    dialog.measured.setText("fast")
+    dialog.save()
+    assert dialog.saved_name is None and "⚠" in dialog.result_label.text()
+    assert dialog.measured.text() == "fast"
+
+
+def test_screenshot_option_writes_a_real_picture(tmp_path):
+    import os
+    import shutil
+    import subprocess
+    import sys
+
+    from PySide6.QtGui import QImage
+
+    shot = tmp_path / "shot.png"
+    tickbin = shutil.which("tickbin")
+    command = ([tickbin] if tickbin else [sys.executable, "-c",
+                                          "from gui.entry import main; main()"])
+    env = dict(os.environ, QT_QPA_PLATFORM="offscreen")
+    done = subprocess.run([*command, "gui", "--screenshot", str(shot)], env=env,
+                          capture_output=True, text=True, timeout=120, check=False)
+    assert done.returncode == 0, done.stderr
+    image = QImage(str(shot))
+    assert image.width() >= 1200 and image.height() >= 750
+    # Not blank: plots and tables give many distinct colours.
+    colours = {image.pixel(x, y) for x in range(0, image.width(), 7)
+               for y in range(0, image.height(), 7)}
+    assert len(colours) > 50

@@ -1,0 +1,109 @@
+"""A small dialog that turns one bench measurement into a saved calibration.
+
+The person built the circuit with known parts, measured its frequency (and
+perhaps its duty); ``core.calibration.calibrate`` finds thresholds that
+reproduce it, and ``save_calibration`` keeps them in the data folder.
+"""
+
+from __future__ import annotations
+
+from typing import Any
+
+from PySide6.QtWidgets import (
+    QDialog,
+    QDialogButtonBox,
+    QFormLayout,
+    QLabel,
+    QLineEdit,
+    QVBoxLayout,
+    QWidget,
+)
+
+from core.errors import InputError, TickbinError
+from gui.target_form import Target
+
+KEYS = {"schmitt": ("R", "C"), "555": ("RA", "RB", "C")}
+
+
+class CalibrationDialog(QDialog):
+    """Fields for the parts used, the measured frequency and duty, and a name."""
+
+    def __init__(self, parent: QWidget | None, target: Target | None, candidate: Any = None):
+        super().__init__(parent)
+        self.setWindowTitle("Calibration from a bench measurement")
+        self.target = target
+        self.saved_name: str | None = None
+        layout = QVBoxLayout(self)
+        intro = QLabel("Build the circuit with parts you know, measure its frequency "
+                       "with a frequency counter or oscilloscope, and enter it here. "
+                       "Tickbin fits the thresholds of <i>your</i> chip.")
+        intro.setWordWrap(True)
+        layout.addWidget(intro)
+        self.buttons = QDialogButtonBox(QDialogButtonBox.StandardButton.Save
+                                        | QDialogButtonBox.StandardButton.Cancel)
+        self.buttons.accepted.connect(self.save)
+        self.buttons.rejected.connect(self.reject)
+        self.result_label = QLabel()
+        self.result_label.setWordWrap(True)
+        self.fields: dict[str, QLineEdit] = {}
+        if target is None:
+            layout.addWidget(QLabel("Fix the target form first: the calibration belongs to "
+                                    "its circuit, family and supply."))
+            self.buttons.button(QDialogButtonBox.StandardButton.Save).setEnabled(False)
+            layout.addWidget(self.buttons)
+            return
+        form = QFormLayout()
+        circuit = "555 astable" if target.circuit == "555" else "Schmitt inverter"
+        form.addRow("Chip", QLabel(f"{target.family} at {target.supply_v:g} V ({circuit})"))
+        values = dict(getattr(candidate, "values", {}) or {})
+        from core.units import format_quantity
+
+        for key in KEYS[target.circuit]:
+            edit = QLineEdit()
+            if key in values:
+                edit.setText(format_quantity(values[key],
+                                             "capacitance" if key == "C" else "resistance", 4))
+            edit.setAccessibleName(f"{key} used")
+            edit.setToolTip("The measured value of the part (a meter reading beats the "
+                            "marking)")
+            self.fields[key] = edit
+            form.addRow(f"{key} used", edit)
+        self.measured = QLineEdit()
+        self.measured.setPlaceholderText("e.g. 1.013kHz")
+        self.measured.setAccessibleName("measured frequency")
+        self.duty = QLineEdit()
+        self.duty.setPlaceholderText("optional, e.g. 47%")
+        self.duty.setAccessibleName("measured duty")
+        self.duty.setToolTip("With the duty both thresholds are fitted; without it their "
+                             "ratio stays as in the table")
+        self.name = QLineEdit(f"my-{target.family.lower()}-{target.supply_v:g}V")
+        self.name.setAccessibleName("calibration name")
+        form.addRow("Measured frequency", self.measured)
+        form.addRow("Measured duty", self.duty)
+        form.addRow("Name", self.name)
+        layout.addLayout(form)
+        layout.addWidget(self.result_label)
+        layout.addWidget(self.buttons)
+        self.resize(440, 0)
+
+    def save(self) -> None:
+        """Fit, save and close; problems stay in the dialog for correction."""
+        assert self.target is not None
+        from core.calibration import calibrate, check_name, save_calibration
+        from core.timing import make_oscillator
+        from core.units import parse_capacitance, parse_frequency, parse_percent, parse_resistance
+
+        try:
+            values = {key: (parse_capacitance if key == "C" else parse_resistance)(edit.text())
+                      for key, edit in self.fields.items()}
+            measured = parse_frequency(self.measured.text())
+            duty = parse_percent(self.duty.text()) if self.duty.text().strip() else None
+            name = check_name(self.name.text().strip())
+            osc = make_oscillator(self.target.circuit, self.target.family, self.target.supply_v)
+            cal = calibrate(osc, values, measured, duty, name=name)
+            save_calibration(cal)
+        except (InputError, TickbinError) as e:
+            self.result_label.setText(f"⚠ {e}")
+            return
+        self.saved_name = name
+        self.accept()
