@@ -30,9 +30,6 @@ DECOUPLING_F = 100e-9
 """Supply decoupling at the chip (common practice, no published source: 100 nF ceramic)."""
 CONTROL_F = 10e-9
 """555 control-voltage pin to ground (NE555 data sheet application circuits: 0.01 µF)."""
-BULK_F = 10e-6
-"""Extra bulk decoupling for the bipolar 555, whose output edges draw current spikes
-(common practice, no published source)."""
 STEERING_DIODE = "1N4148"
 MONTE_CARLO_DRAWS = 10_000
 
@@ -227,14 +224,15 @@ def build_sheet(osc: Oscillator, candidate: Candidate | TrimCandidate, target: s
     rows.append(PartRow("U1", family.description, family.name, "", 1, "", None,
                         package.name))
     support = schematic.support
-    rows.append(_support_row(support["decoupling"], "decoupling, ceramic", DECOUPLING_F,
-                             stock, used, take))
+    around = [_support_row(support["decoupling"], "decoupling, ceramic", DECOUPLING_F, stock,
+                           used, take)]
     if osc.circuit == "555":
-        rows.append(_support_row(support["control"], "control pin, ceramic", CONTROL_F, stock,
-                                 used, take))
+        around.append(_support_row(support["control"], "control pin, ceramic", CONTROL_F,
+                                   stock, used, take))
         if steered:
-            rows.append(PartRow(support["diode"], "small-signal diode", STEERING_DIODE, "", 1,
-                                "", None, "anode to DIS (7), cathode to THR (6)"))
+            around.append(PartRow(support["diode"], "small-signal diode", STEERING_DIODE, "",
+                                  1, "", None, "anode to DIS (7), cathode to THR (6)"))
+    rows += sorted(around, key=lambda r: (r.refs[0], int(r.refs[1:])))
 
     extra = {"diode_steered": True} if steered else {}
     dielectric = _common_dielectric(networks["C"])
@@ -286,7 +284,9 @@ def build_sheet(osc: Oscillator, candidate: Candidate | TrimCandidate, target: s
                    f"{family.supply_range_v[1]:g} V)"),
         ("Thresholds", _threshold_text(osc)),
     ]
-    warnings = list(dict.fromkeys([*prediction.warnings, *candidate.notes]))
+    # A trim candidate's notes restate its rotations, which the adjustment covers.
+    notes = [] if trim else list(candidate.notes)
+    warnings = list(dict.fromkeys([*prediction.warnings, *notes]))
     title = (f"Build sheet: {target} "
              f"{'555 astable' if osc.circuit == '555' else 'Schmitt oscillator'}"
              f"{' with trimmer' if trim else ''}")
@@ -302,7 +302,7 @@ def build_sheet(osc: Oscillator, candidate: Candidate | TrimCandidate, target: s
         frequency_hz=frequency,
         waveform=wave,
         adjustment=adjustment,
-        build_notes=_build_notes(osc, package, networks),
+        build_notes=_build_notes(osc, package, networks, trim),
         warnings=warnings,
         cautions=_cautions(osc, take, ratings or {}, supply),
         take=tuple(take),
@@ -418,7 +418,8 @@ def _threshold_text(osc: Oscillator) -> str:
     return f"{text} (device table, typical)"
 
 
-def _build_notes(osc: Oscillator, package: Any, networks: Mapping[str, Node]) -> list[str]:
+def _build_notes(osc: Oscillator, package: Any, networks: Mapping[str, Node],
+                 trim: bool) -> list[str]:
     """What an experienced builder would tell a newcomer (common practice, no published source)."""
     notes = [n[:1].upper() + n[1:] for n in package.notes]
     if osc.circuit == "555":
@@ -434,9 +435,10 @@ def _build_notes(osc: Oscillator, package: Any, networks: Mapping[str, Node]) ->
             "end straight to the chip's GND pin; route the resistor away from other signals.",
             "Buffer any load through another gate of the same chip (its input on OUT): a "
             "load on the timing output shifts the output levels and with them the frequency.",
-            "Measure at a buffered output, never with a probe on the timing capacitor: "
-            "a probe's 10–15 pF adds to C.",
         ]
+        if not trim:  # the adjustment procedure says where to measure
+            notes.append("Measure at a buffered output, never with a probe on the timing "
+                         "capacitor: a probe's 10–15 pF adds to C.")
     caps = [p for p in networks["C"].parts()]
     if any(p.dielectric in ("x7r", "x5r", "y5v", "z5u") for p in caps):
         notes.append("The timing capacitor is a high-k ceramic (X7R/X5R/Y5V): its value moves "

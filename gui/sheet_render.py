@@ -143,7 +143,7 @@ def _font(size: float, bold: bool = False) -> QFont:
 class _Flow:
     """Blocks from top to bottom in millimetres; a block that does not fit starts a page."""
 
-    BODY, SMALL, HEAD, TITLE = 9.0, 7.5, 11.0, 15.0
+    BODY, SMALL, HEAD, TITLE = 8.5, 7.5, 11.0, 15.0
 
     def __init__(self, painter: QPainter, device: QPagedPaintDevice, sheet: Sheet):
         self.p = painter
@@ -201,13 +201,13 @@ class _Flow:
         self.key_values(s.summary, 34.0)
         self.heading("Schematic")
         self.schematic()
-        self.heading(f"Pin hookup ({s.package})", keep=20)
-        self.table(["Pin", "Function", "Connect to"], [[r.pin, r.function, r.connect]
-                                                      for r in s.pins], [30, 40, None])
         # Keep the parts list on one page with its heading wherever it fits.
         whole = sum(h + 1.6 for h in self.parts_layout()[2])
         self.heading("Parts list", keep=min(whole, self.height - 20.0))
         self.parts()
+        self.heading(f"Pin hookup ({s.package})", keep=20)
+        self.table(["Pin", "Function", "Connect to"], [[r.pin, r.function, r.connect]
+                                                      for r in s.pins], [30, 40, None])
         self.heading("Predicted performance", keep=50)
         self.key_values(s.predictions, 70.0)
         self.plot()
@@ -217,7 +217,7 @@ class _Flow:
         self.heading("Build notes", keep=20)
         self.items(s.build_notes)
         if s.warnings:
-            self.heading("What the model warns about", keep=20)
+            self.heading("Notes from the model", keep=20)
             self.items(s.warnings)
         self.heading("Cautions", keep=30)
         self.items(s.cautions, boxed=True)
@@ -236,13 +236,13 @@ class _Flow:
         self.p.drawLine(QPointF(0, self.y), QPointF(self.width, self.y))
 
     def heading(self, text: str, keep: float = 15.0) -> None:
-        self.y += 3.0
+        self.y += 2.5
         self.need(8.0 + keep)
         h = self.draw_text(0, self.y, self.width, text, _font(self.HEAD, True))
         self.y += h + 0.6
         self.p.setPen(QPen(_GREY, 0.25))
         self.p.drawLine(QPointF(0, self.y), QPointF(self.width, self.y))
-        self.y += 2.0
+        self.y += 1.6
 
     def key_values(self, pairs: Sequence[tuple[str, str]], key_width: float) -> None:
         body, bold = _font(self.BODY), _font(self.BODY, True)
@@ -322,19 +322,19 @@ class _Flow:
         indent = 6.0
         for i, text in enumerate(texts, start=1):
             h = self.text_height(text, self.width - indent - 2.0, body)
-            self.need(h + 1.4)
+            self.need(h + 1.0)
             mark = f"{i}." if numbered else "•"
             if boxed:
                 self.p.fillRect(QRectF(0, self.y - 0.3, 1.2, h + 0.6), Qt.GlobalColor.black)
                 mark = "!"
             self.draw_text(2.0, self.y, indent, mark, _font(self.BODY, boxed))
             self.draw_text(indent + 1.0, self.y, self.width - indent - 2.0, text, body)
-            self.y += h + 1.4
+            self.y += h + 1.0
 
     # -- the waveform
     def plot(self) -> None:
         w = self.sheet.waveform
-        height, left, bottom = 52.0, 13.0, 8.0
+        height, left, bottom = 38.0, 13.0, 8.0
         self.y += 2.0
         self.need(height + 2.0)
         box = QRectF(left, self.y, self.width - left - 2.0, height - bottom)
@@ -384,7 +384,7 @@ class _Flow:
         s = self.sheet.schematic
         x0, y0, x1, y1 = s.bounds()
         unit = min(UNIT_MM, (self.width - 30.0) / max(x1 - x0, 1.0))
-        pad = 4.0  # grid units of room around the geometry for labels and symbols
+        pad = 3.0  # grid units of room around the geometry for labels and symbols
         height = (y1 - y0 + 2 * pad) * unit
         self.need(height)
         ox = (self.width - (x1 - x0) * unit) / 2 - 6.0
