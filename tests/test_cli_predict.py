@@ -137,3 +137,16 @@ def test_calibrate_text_and_measurement_file(tmp_path, capsys):
     bad.write_text("r,c,frequency\n21.7k,1u,\n")
     assert f"{bad}:2" in run_error(capsys, "calibrate", "--family", "74HC14",
                                    "--measurements", str(bad))
+
+
+def test_a_calibration_brings_its_chip_and_supply(capsys):
+    run_json(capsys, "calibrate", "--family", "CD40106B", "--supply", "9V", "--r", "100k",
+             "--c", "10n", "--measured", "1.1k", "--save", "cd9")
+    r = run_json(capsys, "predict", "--calibration", "cd9", "--r", "100k", "--c", "10n")
+    assert (r["family"], r["supply_v"]) == ("CD40106B", 9.0)
+    assert r["frequency_hz"] == pytest.approx(1100.0, rel=1e-6)
+    moved = run_json(capsys, "predict", "--calibration", "cd9", "--supply", "12V", "--r", "100k",
+                     "--c", "10n")
+    assert any("measured at 9 V" in w for w in moved["warnings"])
+    assert "74HC14" in run_error(capsys, "predict", "--calibration", "cd9", "--family",
+                                 "74HC14", "--r", "1k", "--c", "1n")

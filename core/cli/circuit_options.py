@@ -10,6 +10,7 @@ from __future__ import annotations
 
 import argparse
 
+from core.calibration import load_calibration
 from core.cli.common import value_arg
 from core.devices import device_table
 from core.timing import DEFAULT_FAMILY, DEFAULT_STRAY_F, Oscillator, make_oscillator
@@ -25,8 +26,9 @@ def add_circuit_options(parser: argparse.ArgumentParser) -> None:
     group.add_argument("--family", metavar="NAME",
                        help="device table entry, e.g. 74HC14, CD40106B, NE555, TLC555 "
                        f"(default {DEFAULT_FAMILY['schmitt']} or {DEFAULT_FAMILY['555']})")
-    group.add_argument("--supply", type=value_arg("voltage"), default=DEFAULT_SUPPLY_V,
-                       metavar="V", help=f"supply voltage (default {DEFAULT_SUPPLY_V:g} V)")
+    group.add_argument("--supply", type=value_arg("voltage"), metavar="V",
+                       help=f"supply voltage (default {DEFAULT_SUPPLY_V:g} V, or the "
+                       "calibration's)")
     group.add_argument("--vt-plus", type=value_arg("voltage"), metavar="V",
                        help="rising input threshold to use instead of the table's "
                        "(with --vt-minus; no threshold spread then)")
@@ -34,7 +36,7 @@ def add_circuit_options(parser: argparse.ArgumentParser) -> None:
                        help="falling input threshold to use instead of the table's")
     group.add_argument("--calibration", metavar="NAME",
                        help="use the thresholds of a calibration saved with "
-                       "'tickbin calibrate --save NAME'")
+                       "'tickbin calibrate --save NAME' (its chip and supply unless given)")
     group.add_argument("--stray", type=_capacitance_or_zero, default=DEFAULT_STRAY_F,
                        metavar="C", help="stray capacitance at the timing node "
                        f"(default {DEFAULT_STRAY_F * 1e12:g} pF, a breadboard)")
@@ -50,13 +52,18 @@ def _capacitance_or_zero(text: str) -> float:
 
 def oscillator_from_args(args: argparse.Namespace) -> Oscillator:
     """The oscillator the circuit options describe (InputError/SetupError if impossible)."""
-    circuit = args.circuit
-    family_name = args.family
+    circuit, family_name, supply = args.circuit, args.family, args.supply
+    calibration = None
+    if args.calibration is not None:
+        calibration = load_calibration(args.calibration)
+        family_name = family_name or calibration.family
+        supply = supply if supply is not None else calibration.supply_v
     if family_name is None:
         family_name = DEFAULT_FAMILY[circuit or "schmitt"]
     family = device_table().family(family_name)
     if circuit is None:
         circuit = family.circuit
-    return make_oscillator(circuit, family, args.supply, vt_plus=args.vt_plus,
-                           vt_minus=args.vt_minus, calibration=args.calibration,
-                           stray_capacitance_f=args.stray, load_ohm=args.load)
+    return make_oscillator(circuit, family, DEFAULT_SUPPLY_V if supply is None else supply,
+                           vt_plus=args.vt_plus, vt_minus=args.vt_minus,
+                           calibration=calibration, stray_capacitance_f=args.stray,
+                           load_ohm=args.load)
