@@ -150,3 +150,13 @@ def test_a_calibration_brings_its_chip_and_supply(capsys):
     assert any("measured at 9 V" in w for w in moved["warnings"])
     assert "74HC14" in run_error(capsys, "predict", "--calibration", "cd9", "--family",
                                  "74HC14", "--r", "1k", "--c", "1n")
+
+
+def test_devices_lists_the_table(capsys):
+    r = run_json(capsys, "devices")
+    assert [f["family"] for f in r["families"]] == device_table().families()
+    one = run_json(capsys, "devices", "74HC14", "--supply", "4.5V")["families"][0]
+    # NXP 74HC1G14 static characteristics at 4.5 V.
+    assert one["at"][0]["vt_plus_v"] == [1.7, 2.36, 3.15]
+    assert one["pins"]["input"] == 1
+    assert "supply range" in run_error(capsys, "devices", "74HC14", "--supply", "9V")

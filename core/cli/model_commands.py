@@ -4,6 +4,7 @@ from __future__ import annotations
 
 import argparse
 import csv
+import math
 from pathlib import Path
 from typing import Any
 
@@ -16,6 +17,7 @@ from core.calibration import (
 )
 from core.cli.circuit_options import add_circuit_options, oscillator_from_args
 from core.cli.common import add_json_option, emit, value_arg
+from core.devices import device_table
 from core.errors import InputError, TickbinError
 from core.spread import monte_carlo
 from core.timing import Oscillator, default_tolerances, predict
@@ -66,6 +68,14 @@ def register(commands: argparse._SubParsersAction) -> None:
     cal.add_argument("--list", action="store_true", help="list the saved calibrations")
     add_json_option(cal)
     cal.set_defaults(run=run_calibrate)
+
+    dev = commands.add_parser("devices", help="the chips in the device table, with their "
+                              "supply ranges and sources")
+    dev.add_argument("family", nargs="?", help="show one family's numbers at --supply")
+    dev.add_argument("--supply", type=value_arg("voltage"), metavar="V",
+                     help="supply for the family's numbers (default: each listed supply)")
+    add_json_option(dev)
+    dev.set_defaults(run=run_devices)
 
 
 def _add_part_options(parser: argparse.ArgumentParser) -> None:
@@ -254,3 +264,57 @@ def _calibrate_text(r: dict[str, Any]) -> str:
         rows.append("warnings:")
         rows.extend(f"  - {w}" for w in r["warnings"])
     return "\n".join(rows)
+
+
+# ---------------------------------------------------------------- devices
+
+def run_devices(args: argparse.Namespace) -> int:
+    table = device_table()
+    names = [table.family(args.family).name] if args.family else table.families()
+    out = []
+    for name in names:
+        fam = table.family(name)
+        supplies = [args.supply] if args.supply is not None else list(fam.supplies_v)
+        entry: dict[str, Any] = {
+            "family": fam.name, "circuit": fam.circuit, "description": fam.description,
+            "supply_range_v": list(fam.supply_range_v), "package": fam.package.name,
+            "pins": dict(fam.package.pins), "source": fam.source,
+            "span_of": list(fam.span_of)}
+        if args.family:
+            entry["at"] = [_device_json(fam.at(v)) for v in supplies]
+        out.append(entry)
+    return emit(args, {"families": out}, _devices_text)
+
+
+def _device_json(d: Any) -> dict[str, Any]:
+    return {"supply_v": d.supply_v, "vt_plus_v": list(d.vt_plus), "vt_minus_v": list(d.vt_minus),
+            "hysteresis_min_v": d.hysteresis_min_v,
+            "hysteresis_max_v": _finite(d.hysteresis_max_v),
+            "r_out_high_ohm": d.r_out_high_ohm, "r_out_low_ohm": d.r_out_low_ohm,
+            "delay_s": d.delay_s, "r_min_ohm": d.r_min_ohm, "r_max_ohm": d.r_max_ohm,
+            "f_max_hz": _finite(d.f_max_hz), "source": d.source}
+
+
+def _finite(x: float) -> float | None:
+    """JSON has no infinity: an unlisted limit is null."""
+    return x if math.isfinite(x) else None
+
+
+def _devices_text(r: dict[str, Any]) -> str:
+    f = format_quantity
+    rows = []
+    for fam in r["families"]:
+        lo, hi = fam["supply_range_v"]
+        rows.append(f"{fam['family']:<12} {fam['circuit']:<8} {lo:g}–{hi:g} V  "
+                    f"{fam['description']}")
+        for d in fam.get("at", ()):
+            rows.append(f"  at {d['supply_v']:g} V: VT+ {_triplet(d['vt_plus_v'])}, "
+                        f"VT- {_triplet(d['vt_minus_v'])}, R {f(d['r_min_ohm'], 'resistance')}"
+                        f" … {f(d['r_max_ohm'], 'resistance')}, delay {f(d['delay_s'], 'time')}")
+        if fam.get("at"):
+            rows.append(f"  source: {fam['source']}")
+    return "\n".join(rows)
+
+
+def _triplet(values: list[float]) -> str:
+    return "/".join(f"{v:.3g}" for v in values) + " V"
