@@ -57,6 +57,7 @@ class Component:
     a: Point
     b: Point
     wiper: Point | None = None
+    ref: str = ""
 
 
 @dataclass(frozen=True)
@@ -126,6 +127,8 @@ class Schematic:
     """Every network part drawn, in reference order (R1, R2, ... C1, ...)."""
     support: dict[str, str] = field(default_factory=dict)
     """References of the parts around the networks: decoupling, control, diode."""
+    terminals: dict[str, Point] = field(default_factory=dict)
+    """Where the circuit's named nodes are drawn (Schmitt: in, out; 555: vcc, dis, thr)."""
 
     def bounds(self) -> tuple[float, float, float, float]:
         """Geometry bounds (x0, y0, x1, y1) in grid units, text not included."""
@@ -227,7 +230,7 @@ class _Pen:
                 # the part is a variable resistor between pin 1 (a) and the wiper.
                 w = at(s + LEAF / 2, t - 1.6 * grow)
                 corner = at(s + LEAF - 0.3, t - 1.6 * grow)
-                items.append(Component("pot", a, b, wiper=w))
+                items.append(Component("pot", a, b, wiper=w, ref=ref))
                 items.append(Wire((w, corner, at(s + LEAF - 0.3, t))))
                 items.append(Junction(at(s + LEAF - 0.3, t)))
                 items.append(Label(at(s + 0.5, t - 0.4 * grow), "1", "center", "top"))
@@ -237,7 +240,7 @@ class _Pen:
                 polarised = bool(getattr(node.part, "polarised", False))
                 symbol = "resistor" if kind != "C" else \
                     "electrolytic" if polarised else "capacitor"
-                items.append(Component(symbol, a, b))
+                items.append(Component(symbol, a, b, ref=ref))
             mid = s + LEAF / 2
             if axis == "h":
                 if kind == "P":
@@ -347,6 +350,7 @@ def schmitt_schematic(feedback: list[Network], capacitor: Network, *, gate_ref: 
     items.append(Wire(((out_gate, 0.0), (x_out + 4.0, 0.0))))
     items.append(Junction((0.0, 0.0)))
     items.append(Junction((x_out, 0.0)))
+    sheet.terminals.update({"in": (gate_x, 0.0), "out": (out_gate, 0.0)})
     items.append(Terminal((x_out + 4.0, 0.0)))
     items.append(Label((x_out + 4.8, 0.0), "OUT", "right", "middle", "normal"))
     # Timing capacitor to ground.
@@ -371,11 +375,11 @@ def _power_unit(sheet: Schematic, x: float, chip: str, vcc_pin: str, gnd_pin: st
     items.append(Ground((x + 2.5, 6.0)))
     cx = x + 8.0
     items.append(Wire(((x + 2.5, -4.5), (cx, -4.5), (cx, -2.5))))
-    items.append(Component("capacitor", (cx, -2.5), (cx, 2.5)))
+    ref = pen.ref("C")
+    items.append(Component("capacitor", (cx, -2.5), (cx, 2.5), ref=ref))
     items.append(Wire(((cx, 2.5), (cx, 4.5), (x + 2.5, 4.5))))
     items.append(Junction((x + 2.5, -4.5)))
     items.append(Junction((x + 2.5, 4.5)))
-    ref = pen.ref("C")
     sheet.support["decoupling"] = ref
     items.append(Label((cx + 1.2, -0.1), ref, "right", "top"))
     items.append(Label((cx + 1.2, 0.1), decoupling_text, "right", "bottom"))
@@ -405,12 +409,13 @@ def astable_schematic(ra: Network, rb: Network, capacitor: Network, *, pins: dic
     items.append(Ground(c_end))
     items.append(Junction((0.0, y_dis)))
     items.append(Junction((0.0, y_thr)))
+    sheet.terminals.update({"vcc": (0.0, -1.5), "dis": (0.0, y_dis), "thr": (0.0, y_thr)})
     x_pin = reach + 3.0
     if diode_text is not None:
         xd = reach + 1.5
         x_pin = xd + 8.0
         d_end = min(y_dis + LEAF, y_thr)
-        items.append(Component("diode", (xd, y_dis), (xd, d_end)))
+        items.append(Component("diode", (xd, y_dis), (xd, d_end), ref="D1"))
         if d_end < y_thr:
             items.append(Wire(((xd, d_end), (xd, y_thr))))
         items.append(Junction((xd, y_dis)))
@@ -460,9 +465,9 @@ def astable_schematic(ra: Network, rb: Network, capacitor: Network, *, pins: dic
     pin((x_gnd, by1 + 2.0), (x_gnd, by1), "gnd", "center", "top")
     items.append(Ground((x_gnd, by1 + 2.0)))
     pin((x_cv, by1 + 2.0), (x_cv, by1), "ctrl", "center", "top")
-    items.append(Component("capacitor", (x_cv, by1 + 2.0), (x_cv, by1 + 7.0)))
-    items.append(Ground((x_cv, by1 + 7.0)))
     ref = pen.ref("C")
+    items.append(Component("capacitor", (x_cv, by1 + 2.0), (x_cv, by1 + 7.0), ref=ref))
+    items.append(Ground((x_cv, by1 + 7.0)))
     sheet.support["control"] = ref
     items.append(Label((x_cv + 1.2, by1 + 4.4), ref, "right", "top"))
     items.append(Label((x_cv + 1.2, by1 + 4.6), control_text, "right", "bottom"))
@@ -475,9 +480,9 @@ def astable_schematic(ra: Network, rb: Network, capacitor: Network, *, pins: dic
     # Decoupling right at the VCC pin: from the rail's end to ground.
     xd = bx1 + 3.0
     items.append(Wire(((x_rst, rail), (xd, rail), (xd, rail + 1.0))))
-    items.append(Component("capacitor", (xd, rail + 1.0), (xd, rail + 6.0)))
-    items.append(Ground((xd, rail + 6.0)))
     ref = pen.ref("C")
+    items.append(Component("capacitor", (xd, rail + 1.0), (xd, rail + 6.0), ref=ref))
+    items.append(Ground((xd, rail + 6.0)))
     sheet.support["decoupling"] = ref
     items.append(Label((xd + 1.2, rail + 3.4), ref, "right", "top"))
     items.append(Label((xd + 1.2, rail + 3.6), decoupling_text, "right", "bottom"))

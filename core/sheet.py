@@ -85,6 +85,10 @@ class Sheet:
     predictions: list[tuple[str, str]]
     frequency_hz: float
     """The predicted frequency (at the starting rotation for a trim design), Hz."""
+    worst_case_hz: tuple[float, float]
+    """Lowest and highest frequency over every tolerance and threshold corner [Hz]."""
+    interval_95_hz: tuple[float, float]
+    """Where the central 95 % of Monte Carlo builds land [Hz]."""
     waveform: Waveform
     adjustment: list[str]
     build_notes: list[str]
@@ -99,6 +103,8 @@ class Sheet:
             "title": self.title,
             "date": self.date,
             "frequency_hz": self.frequency_hz,
+            "worst_case_hz": list(self.worst_case_hz),
+            "interval_95_hz": list(self.interval_95_hz),
             "parts": [{"refs": r.refs, "what": r.what, "value": r.value,
                        "tolerance": r.tolerance, "quantity": r.quantity,
                        "location": r.location, "line": r.line} for r in self.parts],
@@ -300,6 +306,8 @@ def build_sheet(osc: Oscillator, candidate: Candidate | TrimCandidate, target: s
         parts=rows,
         predictions=predictions,
         frequency_hz=frequency,
+        worst_case_hz=(float(lo), float(hi)),
+        interval_95_hz=(m_lo, m_hi),
         waveform=wave,
         adjustment=adjustment,
         build_notes=_build_notes(osc, package, networks, trim),
