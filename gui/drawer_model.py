@@ -54,8 +54,11 @@ BAD_FOREGROUND = QColor(140, 28, 20)
 class DrawerTableModel(QAbstractTableModel):
     """Rows of the drawer, columns per ``DISPLAY_COLUMNS`` plus the file's own extras."""
 
-    def __init__(self, drawer: Drawer, parent: Any = None):
+    def __init__(self, drawer: Drawer, parent: Any = None, *, checking: bool = True):
         super().__init__(parent)
+        self.checking = checking
+        """False until the window is on screen: checking cells needs the unit registry,
+        which takes longer to build than the window (see ``start_checking``)."""
         self._drawer: Drawer | None = None
         self._columns: list[str] = []
         self._icon: QIcon | None = None
@@ -96,6 +99,14 @@ class DrawerTableModel(QAbstractTableModel):
         if self._by_row[0] is not parts:  # core rebuilds the list after every edit
             self._by_row = (parts, {p.row: p for p in parts})
         return self._by_row[1].get(row)
+
+    def start_checking(self) -> None:
+        """Mark bad cells from now on (called once the unit registry is ready)."""
+        if not self.checking:
+            self.checking = True
+            if self.rowCount():
+                self.dataChanged.emit(self.index(0, 0),
+                                      self.index(self.rowCount() - 1, self.columnCount() - 1))
 
     def column_name(self, column: int) -> str:
         return self._columns[column]
@@ -149,6 +160,8 @@ class DrawerTableModel(QAbstractTableModel):
         return 0 if parent.isValid() else len(self._columns)
 
     def _problem(self, row: int, column: str) -> str | None:
+        if not self.checking:
+            return None
         return self.drawer.problems().get(row, {}).get(column)
 
     def data(self, index: QModelIndex | QPersistentModelIndex,

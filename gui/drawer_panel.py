@@ -340,7 +340,7 @@ class DrawerPanel(QWidget):
 
     def _update_count(self, *args: object) -> None:
         total = len(self.drawer)
-        bad = len(self.drawer.problems())
+        bad = len(self.drawer.problems()) if self.model.checking else 0
         shown = self.proxy.rowCount()
         text = f"{total} rows" if shown == total else f"{shown} of {total} rows"
         if bad:

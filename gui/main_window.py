@@ -102,7 +102,9 @@ class MainWindow(QMainWindow):
         self.startup_seconds: float | None = None
 
         drawer, note = self._initial_drawer(stock)
-        self.drawer_model = DrawerTableModel(drawer, self)
+        self._ready = False  # the unit registry is built in the worker after the window shows
+        self._pending = False
+        self.drawer_model = DrawerTableModel(drawer, self, checking=False)
         self.drawer_panel = DrawerPanel(self.drawer_model)
         self.form = TargetForm()
         self.candidates = CandidatesModel(self)
@@ -344,17 +346,28 @@ class MainWindow(QMainWindow):
 
     def finish_startup(self) -> None:
         """What can wait until the window is on screen: plots, crash recovery, first search."""
-        if self._plots is None:
-            from gui.plots import PlotPanel
-
-            self._plots = PlotPanel()
-            self.plot_area.layout().addWidget(self._plots)
         if self.remember:
             self._offer_restore()
             self.autosave.begin_session()
             self.autosave_timer.start()
         self._install_build_actions()
-        self.run_search()
+        if self._ready:
+            self.run_search()
+        else:
+            self._pending = True
+            self.say("Getting ready…")
+            self.runner.sigReady.connect(self._became_ready)
+            self.runner.warm_up()
+
+    def _became_ready(self) -> None:
+        from gui.plots import PlotPanel
+
+        self._plots = PlotPanel()
+        self.plot_area.layout().addWidget(self._plots)
+        self._ready = True
+        self.drawer_model.start_checking()
+        if self._pending:
+            self.run_search()
 
     def _install_build_actions(self) -> None:
         """Let the build-sheet module add its actions, if it offers them."""
@@ -587,6 +600,9 @@ class MainWindow(QMainWindow):
 
     def run_search(self) -> None:
         self.debounce.stop()
+        if not self._ready:
+            self._pending = True
+            return
         target = self.form.target_value()
         if target is None:
             self.runner.cancel()

@@ -117,6 +117,24 @@ class _Signals(QObject):
     progress = Signal(int, str, float)
     finished = Signal(object)
     failed = Signal(int, str)
+    ready = Signal()
+
+
+class _WarmUp(QRunnable):
+    """Build the unit registry and import the search and plot modules off the window's
+    thread (imports only: the plot widgets are made on the window's thread)."""
+
+    def __init__(self, signals: _Signals):
+        super().__init__()
+        self.signals = signals
+
+    def run(self) -> None:
+        from core import search, spread, timing, trim  # noqa: F401 - imported for later
+        from core.units import registry
+        from gui import plots  # noqa: F401 - pyqtgraph's import is the slow part
+
+        registry()
+        self.signals.ready.emit()
 
 
 class _Job(QRunnable):
@@ -157,13 +175,14 @@ class SearchRunner(QObject):
     """Runs searches in a one-thread pool; the newest request supersedes older ones.
 
     Signals: ``sigProgress(generation, text, fraction)``, ``sigFinished(Outcome)``,
-    ``sigFailed(generation, message)``. Only the current generation's signals
-    are passed on.
+    ``sigFailed(generation, message)``, ``sigReady()`` after ``warm_up``. Only the
+    current generation's signals are passed on.
     """
 
     sigProgress = Signal(int, str, float)  # noqa: N815
     sigFinished = Signal(object)  # noqa: N815
     sigFailed = Signal(int, str)  # noqa: N815
+    sigReady = Signal()  # noqa: N815
 
     def __init__(self, parent: QObject | None = None):
         super().__init__(parent)
@@ -175,6 +194,11 @@ class SearchRunner(QObject):
         self._signals.progress.connect(self._on_progress)
         self._signals.finished.connect(self._on_finished)
         self._signals.failed.connect(self._on_failed)
+        self._signals.ready.connect(self.sigReady)
+
+    def warm_up(self) -> None:
+        """Prepare the slow first-use work in the pool; ``sigReady`` when done."""
+        self.pool.start(_WarmUp(self._signals))
 
     def submit(self, target: Target, parts: tuple[Part, ...]) -> int:
         """Start a search; any older request still queued or running is superseded."""
