@@ -362,7 +362,8 @@ def _shortlist_555(index: DrawerIndex, osc: Oscillator, target_hz: float,
     tiers = sorted(((pa, sa, pc, sc) for pa, sa in r_layers for pc, sc in c_layers),
                    key=lambda t: (t[0] + t[2], t[0]))
     budget = COMBINATION_BUDGET
-    per_pair = (1 if duty_pct is None else 3) * len(res.layer_slices(max_resistors)) * 2
+    targets = 2 * PER_SIDE + 2 + (0 if duty_pct is None else 4)  # see _rb_neighbours
+    per_pair = targets * len(res.layer_slices(max_resistors))
     found: list[tuple[np.ndarray, ...]] = []
     skipped = False
     for level in sorted({pa + pc for pa, _, pc, _ in tiers}):
@@ -401,13 +402,17 @@ def _rb_neighbours(index: DrawerIndex, osc: Oscillator, target_hz: float,
     """(RA, RB, C entries, frequency [Hz], duty [%]) for the RB values that matter."""
     res, caps = index.resistors, index.capacitors
     va, vc = res.values[a], caps.values[cc]
-    wanted = [_astable_rb(osc, target_hz, va, vc, diode)]
+    # The smallest RB allowed too: f peaks at a small RB (see below), so a target out
+    # of reach is missed least there.
+    wanted = [_astable_rb(osc, target_hz, va, vc, diode), np.full(va.shape, limits[0])]
     if duty_pct is not None:
         wanted += [_duty_rb(va, duty_pct + side * DUTY_ACCEPT_POINTS, diode)
                    for side in (-1.0, 1.0)]
-    # f and duty are monotone in RB, so the two entries bracketing each wanted value suffice.
+    # Duty is monotone in RB, so the two entries bracketing its edges suffice; frequency
+    # is not quite (a small RB discharges C below the trigger level during the edge
+    # delay), so the frequency target gets two entries a side.
     columns = [res.nearest(np.clip(np.nan_to_num(w, nan=limits[0]), *limits), max_resistors,
-                           1, *limits) for w in wanted]
+                           PER_SIDE if k == 0 else 1, *limits) for k, w in enumerate(wanted)]
     # Each row is one (RA, C) pair; drop RB entries listed twice within a row.
     near = np.sort(np.concatenate(columns, axis=1), axis=1)
     near[:, 1:][near[:, 1:] == near[:, :-1]] = -1

@@ -140,7 +140,7 @@ def test_first_candidate_is_never_beaten_by_brute_force(target: float, max_r: in
     assert_not_beaten(result.candidates[0], best, 1.0)
 
 
-@settings(max_examples=25, deadline=None)
+@settings(max_examples=25, deadline=None, derandomize=True)
 @given(st.lists(st.tuples(st.sampled_from(E12_R), st.integers(0, 3)), min_size=1, max_size=5),
        st.lists(st.tuples(st.sampled_from(E12_C), st.integers(0, 2)), min_size=1, max_size=3),
        st.floats(1.0, 5.0), st.integers(1, 3), st.integers(1, 2),
@@ -195,7 +195,7 @@ def check_candidate_json(cand: dict[str, Any], parts: list[Part], roles: tuple[s
     assert lo <= cand["frequency_hz"] <= hi
 
 
-@settings(max_examples=25, deadline=None)
+@settings(max_examples=25, deadline=None, derandomize=True)
 @given(st.lists(st.tuples(st.sampled_from(E12_R), st.integers(1, 3)), min_size=1, max_size=6),
        st.lists(st.tuples(st.sampled_from(E12_C), st.integers(1, 3)), min_size=1, max_size=4),
        st.floats(0.5, 5.0), st.integers(1, 3), st.integers(1, 3),
@@ -346,3 +346,59 @@ def test_limits_respected_and_reported() -> None:
                                           "r_max_ohm": osc.device.r_max_ohm}
     assert {c.values["R"] for c in result.candidates} == {10e3}
     assert np.all([c.part_count == 2 for c in result.candidates])
+
+
+def brute_force_best_555(parts: list[Part], osc: Any, target: float, duty: float | None,
+                         max_r: int, accept: float) -> tuple[bool, int, float] | None:
+    """The contract's best over every RA, RB, C combination (plain loops, no engine code)."""
+    res = [p for p in parts if p.kind == "R"]
+    caps = [p for p in parts if p.kind == "C"]
+    r_nets = [n for n in plain_networks(res, max_r) if within_stock(n[1], parts)
+              and osc.device.r_min_ohm <= n[0] <= osc.device.r_max_ohm]
+    c_nets = [n for n in plain_networks(caps, 2) if within_stock(n[1], parts)]
+    diode = duty is not None and duty <= 50
+    best = None
+    for (a, au, an), (b, bu, bn), (c, cu, cn) in itertools.product(r_nets, r_nets, c_nets):
+        if not within_stock(au + bu + cu, parts):
+            continue
+        t_high, t_low = astable_times(osc, a, b, c, diode_steered=diode)
+        f = 1.0 / float(t_high + t_low)
+        if not math.isfinite(f):
+            continue
+        err = abs(f - target) / target * 100
+        hit = err <= accept and (duty is None or abs(100 * float(t_high) * f - duty) <= 2.0)
+        key = (not hit, an + bn + cn if hit else 0, err)
+        if best is None or key < best:
+            best = key
+    return best
+
+
+@settings(max_examples=20, deadline=None, derandomize=True)
+@given(st.lists(st.tuples(st.sampled_from(E12_R), st.integers(1, 3)), min_size=2, max_size=5),
+       st.lists(st.tuples(st.sampled_from(E12_C), st.integers(1, 2)), min_size=1, max_size=3),
+       st.floats(1.0, 4.0), st.integers(1, 2), st.sampled_from([None, 30.0, 70.0]))
+def test_555_brute_force_on_random_drawers(rs: list[tuple[float, int]],
+                                           cs: list[tuple[float, int]], log_target: float,
+                                           max_r: int, duty: float | None) -> None:
+    parts = drawer(rs, cs)
+    osc = make_oscillator("555", "NE555", 9.0)
+    target = 10.0 ** log_target
+    result = search(parts, osc, target, duty_pct=duty, max_resistors=max_r)
+    best = brute_force_best_555(parts, osc, target, duty, max_r, 1.0)
+    assert best is not None and result.candidates
+    first = result.candidates[0]
+    hit = abs(first.error_pct) <= 1.0 and (duty is None or abs(first.duty_pct - duty) <= 2.0)
+    if not best[0]:
+        # A hit exists: the engine's first is a hit with no more parts and, if as few,
+        # no larger error (the same bucket slack as above).
+        assert hit and first.part_count <= best[1]
+        if first.part_count == best[1]:
+            assert abs(first.error_pct) <= best[2] + 0.015
+    elif best[2] <= 20.0:
+        # Misses: the engine looks next to the RB that would hit and at the smallest RB.
+        # Far misses (beyond 20 %) are left out on purpose (when RA and RB compete for
+        # one stock line the engine's closest far miss may be farther), and a near miss
+        # may be 2 % (relative) farther: with RB far below RA the model's frequency peaks
+        # (C is discharged below the trigger level during the edge delay), and an
+        # unreachable target is missed least at that peak, between the two places.
+        assert not hit and abs(first.error_pct) <= best[2] * 1.02 + 0.015
