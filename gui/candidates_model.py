@@ -35,6 +35,30 @@ def where(networks: dict[str, Any]) -> str:
                      for (loc, line), n in sorted(counts.items(), key=lambda kv: kv[0][1]))
 
 
+def parts_list(candidate: Any) -> list[str]:
+    """One line per network: its value, then each part with tolerance, location and line."""
+    from core.units import format_quantity
+
+    lines = []
+    for key, node in candidate.networks.items():
+        counts: Counter[Any] = Counter(node.parts())
+        shown = []
+        for part, n in counts.items():
+            quantity = "capacitance" if part.kind == "C" else "resistance"
+            where_ = part.location or "no location"
+            text = (f"{n} × " if n > 1 else "") + (
+                f"{format_quantity(part.value, quantity)} {part.tolerance} from {where_}, "
+                f"line {part.stock_line}")
+            if part.kind == "P":
+                text += f" ({part.taper})"
+            if part.polarised:
+                text += " — polarised: + lead to the positive side, rating above the supply"
+            shown.append(text)
+        heading = NETWORK_HEADINGS.get(key, key)
+        lines.append(f"{heading} {node.describe()}: " + "; ".join(shown))
+    return lines
+
+
 def _band(lo_hi: Sequence[float]) -> str:
     lo, hi = lo_hi
     return f"{format_frequency(lo)} … {format_frequency(hi)}"

@@ -42,7 +42,7 @@ from core.errors import DrawerFileError, TickbinError
 from core.locations import demo_drawer_path
 from gui import settings as keys
 from gui.autosave import INTERVAL_MS, Autosave
-from gui.candidates_model import CandidatesModel
+from gui.candidates_model import CandidatesModel, parts_list
 from gui.drawer_model import DrawerTableModel
 from gui.drawer_panel import DrawerPanel
 from gui.search_worker import Outcome, SearchRunner
@@ -109,6 +109,10 @@ class MainWindow(QMainWindow):
         self.form = TargetForm()
         self.candidates = CandidatesModel(self)
         self.candidate_view = self._candidate_view()
+        self.details = QLabel()
+        self.details.setWordWrap(True)
+        self.details.setAccessibleName("parts of the selected candidate")
+        self.details.setTextInteractionFlags(Qt.TextInteractionFlag.TextSelectableByMouse)
         self.notes = QLabel()
         self.notes.setObjectName("hint")
         self.notes.setWordWrap(True)
@@ -173,6 +177,7 @@ class MainWindow(QMainWindow):
         layout = QVBoxLayout(candidates_box)
         layout.setContentsMargins(0, 0, 0, 0)
         layout.addWidget(self.candidate_view, 1)
+        layout.addWidget(self.details)
         layout.addWidget(self.notes)
         self.right_split = QSplitter(Qt.Orientation.Vertical)
         self.right_split.addWidget(_section("Target", self.form, "target form"))
@@ -191,7 +196,7 @@ class MainWindow(QMainWindow):
         self.main_split.setStretchFactor(1, 3)
         self.main_split.setChildrenCollapsible(False)
         self.main_split.setSizes([470, 810])
-        self.right_split.setSizes([130, 250, 380])
+        self.right_split.setSizes([130, 290, 340])
         outer = QWidget()
         box = QVBoxLayout(outer)
         box.setContentsMargins(8, 8, 8, 4)
@@ -624,6 +629,7 @@ class MainWindow(QMainWindow):
     def _show_result_none(self, why: str) -> None:
         self._outcome = None
         self.candidates.set_result([], trim=False)
+        self.details.clear()
         self.notes.setText(why)
         if self._plots is not None:
             self._plots.clear(why)
@@ -691,7 +697,11 @@ class MainWindow(QMainWindow):
 
     def _candidate_chosen(self, *args: object) -> None:
         candidate = self.selected_candidate()
-        if candidate is None or self._outcome is None or self._plots is None:
+        if candidate is None or self._outcome is None:
+            self.details.clear()
+            return
+        self.details.setText("\n".join(parts_list(candidate)))
+        if self._plots is None:
             return
         from gui.plot_data import draw_candidate
 

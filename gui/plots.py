@@ -53,11 +53,8 @@ class PlotPanel(QWidget):
         self.waveform = _plot("Capacitor and output", "waveform plot")
         self.waveform.setLabel("bottom", "Time", units="s")
         self.waveform.setLabel("left", "Voltage", units="V")
-        legend = self.waveform.getPlotItem().addLegend(offset=(-8, 8), labelTextColor=INK,
-                                                       labelTextSize="8pt")
-        legend.setBrush(pg.mkBrush(255, 255, 255, 200))
-        self.out_curve = self.waveform.plot(pen=pg.mkPen(OUT, width=1.6), name="output")
-        self.cap_curve = self.waveform.plot(pen=pg.mkPen(CAP, width=2.0), name="capacitor")
+        self.out_curve = self.waveform.plot(pen=pg.mkPen(OUT, width=1.6))
+        self.cap_curve = self.waveform.plot(pen=pg.mkPen(CAP, width=2.0))
         dash = pg.mkPen(THRESHOLD, width=1.2, style=Qt.PenStyle.DashLine)
         # Labels just above VT+ and just below VT−, on a light backing so traces stay legible.
         backing = pg.mkBrush(255, 255, 255, 210)
@@ -140,7 +137,9 @@ class PlotPanel(QWidget):
         self.vt_minus_line.show()
         self.vt_plus_line.setValue(vt_plus_v)
         self.vt_minus_line.setValue(vt_minus_v)
-        self.waveform.setTitle(title, color=INK.name(), size="10pt")
+        key = (f'<span style="color:{CAP.name()}">━ capacitor</span> &nbsp; '
+               f'<span style="color:{OUT.name()}">━ output</span>')
+        self.waveform.setTitle(f"{title} &nbsp; {key}", color=INK.name(), size="10pt")
         self.waveform.getPlotItem().enableAutoRange()
 
     def show_spread(self, frequencies_hz: np.ndarray, target_hz: float,

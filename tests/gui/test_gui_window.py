@@ -329,3 +329,13 @@ def test_screenshot_option_writes_a_real_picture(tmp_path):
     colours = {image.pixel(x, y) for x in range(0, image.width(), 7)
                for y in range(0, image.height(), 7)}
     assert len(colours) > 50
+
+
+def test_selected_candidate_parts_are_spelled_out_with_locations(window):
+    cand = window.selected_candidate()
+    text = window.details.text()
+    for node in cand.networks.values():
+        for part in node.parts():
+            assert f"{part.location}, line {part.stock_line}" in text
+    assert "From the drawer" in [window.candidates.headerData(c, Qt.Orientation.Horizontal)
+                                 for c in range(window.candidates.columnCount())]
