@@ -489,8 +489,9 @@ def parse_drawer_text(text: str, name: str = "<drawer>") -> Drawer:
     header: list[str] | None = None
     rows: list[Row] = []
     try:
+        end = 0
         for record in reader:
-            line = reader.line_num
+            line, end = end + 1, reader.line_num  # a quoted field may span lines
             if not any(cell.strip() for cell in record):
                 continue
             if header is None:
@@ -498,9 +499,12 @@ def parse_drawer_text(text: str, name: str = "<drawer>") -> Drawer:
                           for h in record]
                 missing = [c for c in REQUIRED if c not in header]
                 if missing:
+                    why = ("; an unclosed quote joins the lines from here on"
+                           if any("\n" in h for h in header) else
+                           "; a drawer file needs kind, value and quantity")
                     raise DrawerFileError([LineProblem(
                         name, line, f"header lacks the column{'s' if len(missing) > 1 else ''}"
-                        f" {', '.join(missing)} (needs kind, value, quantity)")])
+                        f" {', '.join(missing)}{why}")])
                 if len(set(header)) != len(header):
                     raise DrawerFileError([LineProblem(name, line,
                                                        "header names a column twice")])
@@ -518,7 +522,9 @@ def parse_drawer_text(text: str, name: str = "<drawer>") -> Drawer:
         raise DrawerFileError([LineProblem(name, reader.line_num, f"CSV: {e}")]) from None
     if problems:
         raise DrawerFileError(problems)
-    assert header is not None
+    if header is None:  # e.g. one unterminated quote swallowed the whole file
+        raise DrawerFileError([LineProblem(name, 1, "no header line with kind,value,quantity "
+                                           "found (an unclosed quote?)")])
     return Drawer(rows, header, delimiter=delimiter)
 
 

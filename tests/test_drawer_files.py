@@ -61,6 +61,7 @@ def test_cp1252_text_is_kept(tmp_path: Path) -> None:
     ("data", "says"),
     [(b"kind,value,quantity\nR,1k,\x00\x01\x02\n", "binary"),
      (b"kind,value\nR,1k\n", "lacks the column quantity"),
+     (b'"kind,value,quantity\nR,1k,1\n', "unclosed quote"),  # found by the CLI fuzz test
      (b"kind,value,quantity\nR,1k,1,2,3\n", "5 fields but the header has 3"),
      (b"kind,value,quantity\nR,1k,3.5\n", "whole number"),
      (b"kind,value,quantity\nR,1k,99999999\n", "not a drawer"),

@@ -72,6 +72,9 @@ def main(argv: Sequence[str] | None = None, window: WindowLauncher | None = None
     except TickbinError as e:
         print(f"tickbin: {e}", file=sys.stderr)
         return 2
+    except BrokenPipeError:  # `tickbin ... | head`: the reader left; not an error of ours
+        sys.stderr.close()
+        return 0
     except KeyboardInterrupt:
         print("tickbin: interrupted", file=sys.stderr)
         return 2
