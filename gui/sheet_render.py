@@ -12,6 +12,7 @@ import math
 import sys
 from collections.abc import Sequence
 from pathlib import Path
+from typing import TYPE_CHECKING
 
 from PySide6.QtCore import QMarginsF, QPointF, QRectF, Qt
 from PySide6.QtGui import (
@@ -58,6 +59,10 @@ def keep_none_alive() -> None:
 
 keep_none_alive()
 
+if TYPE_CHECKING:
+    from PySide6.QtPrintSupport import QPrinter
+    from PySide6.QtWidgets import QWidget
+
 _GREY = QColor(110, 110, 110)
 _LIGHT = QColor(232, 232, 232)
 
@@ -69,15 +74,18 @@ def page_size_id(name: str) -> QPageSize.PageSizeId:
         raise InputError("expected A4 or Letter", text=name, what="page size") from None
 
 
-_APP: list[QGuiApplication] = []
+_APP: list[object] = []
 
 
 def _application() -> None:
     """A Qt application for fonts and painting; from the command line an offscreen one,
-    so a sheet can be made on a machine without a display."""
+    so a sheet can be made on a machine without a display. (A widgets application,
+    so the window or a test can still open dialogs in the same process.)"""
+    from PySide6.QtWidgets import QApplication
+
     if QGuiApplication.instance() is None:
-        _APP.append(QGuiApplication([sys.argv[0] if sys.argv else "tickbin", "-platform",
-                                     "offscreen"]))
+        _APP.append(QApplication([sys.argv[0] if sys.argv else "tickbin", "-platform",
+                                  "offscreen"]))
 
 
 def render_sheet_pdf(sheet: Sheet, path: str | Path, page_size: str = "A4") -> int:
@@ -114,17 +122,31 @@ def render_sheet(sheet: Sheet, device: QPagedPaintDevice) -> int:
         painter.end()
 
 
-def print_sheet(sheet: Sheet, parent: object = None) -> bool:
-    """Show the system print dialog and print ``sheet``; False when cancelled."""
-    from PySide6.QtPrintSupport import QPrintDialog, QPrinter
+class PrintDialog:
+    """The system print dialog, behind one class method so tests can answer it."""
+
+    @classmethod
+    def ask(cls, printer: QPrinter, parent: QWidget | None = None) -> bool:
+        """Let the person choose printer and paper; True when they press Print."""
+        from PySide6.QtPrintSupport import QPrintDialog
+
+        dialog = QPrintDialog(printer, parent)
+        dialog.setWindowTitle("Print build sheet")
+        return dialog.exec() == QPrintDialog.DialogCode.Accepted
+
+
+def print_sheet(sheet: Sheet, parent: QWidget | None = None) -> bool:
+    """Print ``sheet`` through the system print dialog; False when the person cancels.
+
+    For the window's "Print build sheet…" action (``parent``: the main window).
+    """
+    from PySide6.QtPrintSupport import QPrinter
 
     printer = QPrinter(QPrinter.PrinterMode.HighResolution)
     printer.setDocName(sheet.title)
     printer.setPageMargins(QMarginsF(MARGIN_MM, MARGIN_MM, MARGIN_MM, MARGIN_MM),
                            QPageLayout.Unit.Millimeter)
-    dialog = QPrintDialog(printer, parent)
-    dialog.setWindowTitle("Print build sheet")
-    if dialog.exec() != QPrintDialog.DialogCode.Accepted:
+    if not PrintDialog.ask(printer, parent):
         return False
     render_sheet(sheet, printer)
     return True
@@ -363,8 +385,12 @@ class _Flow:
             x = pt(t, 0).x()
             self.p.setPen(QPen(Qt.GlobalColor.black, 0.2))
             self.p.drawLine(QPointF(x, box.bottom()), QPointF(x, box.bottom() + 1.0))
-            self.draw_text(x - 10, box.bottom() + 1.2, 20, format_quantity(t, "time"), small,
-                           Qt.AlignmentFlag.AlignHCenter)
+            label_x = min(max(x - 10, 0.0), self.width - 20.0)  # stay inside the margins
+            align = (Qt.AlignmentFlag.AlignHCenter if label_x == x - 10 else
+                     Qt.AlignmentFlag.AlignLeft if label_x > x - 10 else
+                     Qt.AlignmentFlag.AlignRight)
+            self.draw_text(label_x, box.bottom() + 1.2, 20, format_quantity(t, "time"), small,
+                           align)
             t += step
         for values, pen in ((w.v_out_v, QPen(_GREY, 0.35)),
                             (w.v_cap_v, QPen(Qt.GlobalColor.black, 0.5))):
