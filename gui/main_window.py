@@ -102,6 +102,8 @@ class MainWindow(QMainWindow):
         self.startup_seconds: float | None = None
 
         drawer, note = self._initial_drawer(stock)
+        self.untitled = "demo drawer (a copy)"
+        """Title shown while the drawer has no file."""
         self._ready = False  # the unit registry is built in the worker after the window shows
         self._pending = False
         self.drawer_model = DrawerTableModel(drawer, self, checking=False)
@@ -298,6 +300,8 @@ class MainWindow(QMainWindow):
     # ------------------------------------------------------------ start-up and settings
     def _initial_drawer(self, stock: str | None) -> tuple[Drawer, str]:
         """The drawer to show: ``stock``, else the remembered one, else the demo."""
+        if stock and Path(stock).resolve() == demo_drawer_path().resolve():
+            return self._demo(), "Showing the demo drawer (a copy: Save asks for a name)."
         if stock:
             return read_drawer(stock, strict=False), ""  # errors: the CLI reports and exits
         if self.remember:
@@ -420,8 +424,7 @@ class MainWindow(QMainWindow):
         self.redo_action.setEnabled(drawer.can_redo())
         self.undo_action.setText(f"&Undo {drawer.undo_text()}".rstrip())
         self.redo_action.setText(f"&Redo {drawer.redo_text()}".rstrip())
-        name = drawer.path.name if drawer.path else "demo drawer (not saved)" if (
-            drawer is not None and not drawer.path) else ""
+        name = drawer.path.name if drawer.path else self.untitled
         self.setWindowTitle(f"{name}[*] — Tickbin")
         self.setWindowModified(drawer.dirty)
 
@@ -485,6 +488,7 @@ class MainWindow(QMainWindow):
     def new_drawer(self) -> None:
         if self.maybe_save():
             self.autosave.discard()
+            self.untitled = "new drawer"
             self.set_drawer(Drawer())
             self.say("New empty drawer: add parts, a kit or paste a list of values.")
 
@@ -507,6 +511,7 @@ class MainWindow(QMainWindow):
     def open_demo(self) -> None:
         if self.maybe_save():
             self.autosave.discard()
+            self.untitled = "demo drawer (a copy)"
             self.set_drawer(self._demo())
             self.say("Demo drawer opened (a copy: Save asks for a file name).")
 
@@ -588,6 +593,7 @@ class MainWindow(QMainWindow):
             base = self._read(str(snapshot.original))
         if base is None:
             base = Drawer(columns=snapshot.drawer.columns)
+            self.untitled = "restored drawer (not saved)"
         for column in snapshot.drawer.columns:
             if column not in base.columns:
                 base.columns.append(column)

@@ -339,3 +339,20 @@ def test_selected_candidate_parts_are_spelled_out_with_locations(window):
             assert f"{part.location}, line {part.stock_line}" in text
     assert "From the drawer" in [window.candidates.headerData(c, Qt.Orientation.Horizontal)
                                  for c in range(window.candidates.columnCount())]
+
+
+def test_demo_given_as_stock_is_opened_as_a_copy(qtbot, answers):
+    from core.locations import demo_drawer_path
+
+    window = open_window(qtbot, stock=str(demo_drawer_path()))
+    assert window.drawer.path is None  # Save must never overwrite the bundled demo
+    assert "demo drawer" in window.windowTitle()
+
+
+def test_index_build_reports_progress(qtbot, window):
+    fractions = []
+    window.runner.sigProgress.connect(lambda gen, text, f: fractions.append((text, f)))
+    search_done(qtbot, window, lambda: window.form.max_r.setValue(3))
+    assert any(text.startswith("Building") for text, _ in fractions)
+    steps = [f for text, f in fractions if text.startswith("Building")]
+    assert steps == sorted(steps) and 0 < steps[0] < 1
