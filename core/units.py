@@ -345,6 +345,8 @@ def format_quantity(value: float, quantity: Quantity, digits: int = 3) -> str:
         return f"0 {symbol}"
     exp3 = int(math.floor(math.log10(abs(value)) / 3) * 3)
     exp3 = max(-12, min(9, exp3))
+    if quantity == "frequency" and exp3 < 0:
+        exp3 = 0  # a 1 Hz blink reads as 0.986 Hz on the bench, not 986 mHz
     mantissa = value / 10.0**exp3
     decimals = max(0, digits - 1 - math.floor(math.log10(abs(mantissa))))
     decimals = min(decimals, 20)

@@ -125,7 +125,8 @@ def test_tolerance_text() -> None:
     [(4700, "resistance", "4.7 kΩ"), (100e-9, "capacitance", "100 nF"),
      (38e3, "frequency", "38.0 kHz"), (1e6, "resistance", "1 MΩ"),
      (2.2e-6, "capacitance", "2.2 µF"), (999.9, "resistance", "1 kΩ"),
-     (0.47, "resistance", "470 mΩ"), (63.3, "frequency", "63.3 Hz")],
+     (0.47, "resistance", "470 mΩ"), (63.3, "frequency", "63.3 Hz"),
+     (0.986, "frequency", "0.986 Hz")],
 )
 def test_engineering_format(value: float, quantity: str, text: str) -> None:
     assert format_quantity(value, quantity) == text
