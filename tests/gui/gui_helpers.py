@@ -1,4 +1,10 @@
-"""Window tests: settings in a temporary folder, a fresh window on the demo drawer."""
+"""Window test helpers: settings in a temporary folder, a fresh window on the demo drawer.
+
+Not a conftest.py: pytest registers every conftest as the module ``conftest``,
+so a second one here would shadow tests/conftest.py for ``from conftest import``.
+Test modules load it with ``pytest_plugins = ["gui_helpers"]`` and mark themselves
+``qt_log_ignore(OFFSCREEN_NOISE)``.
+"""
 
 from __future__ import annotations
 
@@ -13,19 +19,18 @@ OFFSCREEN_NOISE = "This plugin does not support propagateSizeHints"
 limits (Qt 6.11); it is about the test platform, not about Tickbin."""
 
 
-def pytest_collection_modifyitems(items: list[pytest.Item]) -> None:
-    for item in items:
-        if "tests/gui/" in item.nodeid.replace("\\", "/"):
-            item.add_marker(pytest.mark.qt_log_ignore(OFFSCREEN_NOISE))
 
 
-@pytest.fixture(autouse=True)
-def private_settings(tmp_path: Path, qapp: object) -> Path:
-    """QSettings go to ``tmp_path`` so tests never read or write the developer's settings."""
+@pytest.fixture
+def private_settings(tmp_path_factory: pytest.TempPathFactory, qapp: object) -> Path:
+    """QSettings go to a temporary folder so tests never touch the developer's settings.
+
+    Window tests use it through ``make_window``; other gui test modules name it in
+    ``pytestmark = [..., pytest.mark.usefixtures("private_settings")]``.
+    """
     from PySide6.QtCore import QSettings
 
-    folder = tmp_path / "settings"
-    folder.mkdir()
+    folder = tmp_path_factory.mktemp("settings")
     for scope in (QSettings.Scope.UserScope, QSettings.Scope.SystemScope):
         QSettings.setPath(QSettings.Format.IniFormat, scope, str(folder))
     return folder
@@ -58,20 +63,24 @@ def answers(monkeypatch: pytest.MonkeyPatch) -> Answers:
     return queue
 
 
-def open_window(qtbot, stock=None, remember=True):
-    """A shown window after its first search."""
+@pytest.fixture
+def make_window(qtbot, answers, private_settings):
+    """``make_window(stock=None)``: a shown window after its first search."""
     from gui.main_window import MainWindow
 
-    window = MainWindow(stock, remember=remember)
-    qtbot.addWidget(window)
-    window.resize(1280, 800)
-    window.show()
-    with qtbot.waitSignal(window.sigSearchDone, timeout=30_000):
-        window.finish_startup()
-    return window
+    def make(stock: str | None = None):
+        window = MainWindow(stock)
+        qtbot.addWidget(window)
+        window.resize(1280, 800)
+        window.show()
+        with qtbot.waitSignal(window.sigSearchDone, timeout=30_000):
+            window.finish_startup()
+        return window
+
+    return make
 
 
 @pytest.fixture
-def window(qtbot, answers):
+def window(make_window):
     """The window on the bundled demo drawer, first search done."""
-    return open_window(qtbot)
+    return make_window()

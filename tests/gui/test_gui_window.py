@@ -10,7 +10,7 @@ from __future__ import annotations
 import math
 
 import numpy as np
-from conftest import open_window
+import pytest
 from PySide6.QtCore import Qt
 from PySide6.QtWidgets import QMessageBox
 
@@ -18,6 +18,11 @@ from core.drawer import Row, read_drawer
 from core.search import search
 from core.timing import make_oscillator
 from gui.drawer_model import PROBLEM_ROLE
+
+pytest_plugins = ["gui_helpers"]  # fixtures: private_settings, answers, make_window, window
+# Qt's offscreen platform warns about size hints for every shown window (not our doing).
+pytestmark = [pytest.mark.qt_log_ignore("This plugin does not support propagateSizeHints"),
+              pytest.mark.usefixtures("private_settings")]
 
 
 def search_done(qtbot, window, action):
@@ -215,31 +220,34 @@ def test_save_open_and_title(qtbot, window, tmp_path, monkeypatch):
     assert "bad" in export.read_text() and window.drawer.path == target
 
 
-def test_settings_remember_target_and_drawer(qtbot, answers, tmp_path):
-    first = open_window(qtbot)
+def test_settings_remember_target_and_drawer(qtbot, answers, make_window, private_settings):
+    from gui.settings import settings
+
+    assert settings().fileName().startswith(str(private_settings))  # never the developer's
+    first = make_window()
     first.form.target.setText("2.2kHz")
     first.form.max_r.setValue(3)
     first.close()
-    second = open_window(qtbot)
+    second = make_window()
     assert second.form.target.text() == "2.2kHz"
     assert second.form.max_r.value() == 3
 
 
-def test_crash_leaves_autosave_and_restore_is_offered(qtbot, answers, tmp_path):
+def test_crash_leaves_autosave_and_restore_is_offered(qtbot, answers, make_window, tmp_path):
     import shutil
 
     from core.locations import demo_drawer_path
 
     mine = tmp_path / "mine.csv"
     shutil.copy(demo_drawer_path(), mine)
-    crashed = open_window(qtbot, stock=str(mine))
+    crashed = make_window(stock=str(mine))
     crashed.drawer.set_cell(0, "note", "unsaved edit")
     crashed.autosave_now()
     # A crash: no closeEvent; the session marker stays behind.
     crashed.remember = False
     crashed.close()
     answers.append(QMessageBox.StandardButton.Yes)
-    restored = open_window(qtbot)
+    restored = make_window()
     assert "Restore unsaved edits?" in answers.asked
     assert restored.drawer.rows[0].get("note") == "unsaved edit"
     assert restored.isWindowModified()
@@ -341,10 +349,10 @@ def test_selected_candidate_parts_are_spelled_out_with_locations(window):
                                  for c in range(window.candidates.columnCount())]
 
 
-def test_demo_given_as_stock_is_opened_as_a_copy(qtbot, answers):
+def test_demo_given_as_stock_is_opened_as_a_copy(qtbot, answers, make_window):
     from core.locations import demo_drawer_path
 
-    window = open_window(qtbot, stock=str(demo_drawer_path()))
+    window = make_window(stock=str(demo_drawer_path()))
     assert window.drawer.path is None  # Save must never overwrite the bundled demo
     assert "demo drawer" in window.windowTitle()
 
