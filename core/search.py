@@ -32,8 +32,17 @@ from core.drawer import Part
 from core.errors import InputError
 from core.eseries import kit
 from core.networks import DrawerIndex, NetworkIndex, Node, drawer_index
-from core.timing import Oscillator, astable_times, predict, schmitt_resistance_for, schmitt_times
-from core.units import Tolerance, format_frequency, format_quantity, format_resistance
+from core.spread import worst_case_hz
+from core.timing import (
+    Oscillator,
+    Prediction,
+    astable_times,
+    practitioner_warnings,
+    schmitt_resistance_for,
+    schmitt_times,
+    times,
+)
+from core.units import format_frequency, format_quantity, format_resistance
 
 NEAR_COPY = 0.02
 """Two candidates whose R and C both agree within this fraction are near-copies."""
@@ -122,11 +131,13 @@ def schmitt_resistance(osc: Oscillator, target_hz: float, c: np.ndarray,
                        clip: bool = False) -> np.ndarray:
     """R [Ω] that gives ``target_hz`` [Hz] with each C [F] (full nominal model); NaN if none.
 
-    The model's inverse (a bisection) runs only where a one-evaluation
-    estimate (f nearly proportional to 1/R) falls within a factor of two of
-    ``limits`` [Ω]: that keeps a search on a full capacitor kit within
-    milliseconds. With ``clip`` the answer is moved into ``limits`` (an
-    unreachable target gives the nearest allowed R, where the closest miss lies).
+    Only capacitors whose one-evaluation estimate (f nearly proportional to
+    1/R) falls within a factor of two of ``limits`` [Ω] are solved: by a few
+    rescaling steps where they converge to 1e-9, else by the model's own
+    inverse (``schmitt_resistance_for``, a bisection). That keeps a search on a
+    full capacitor kit within milliseconds. With ``clip`` the answer is moved
+    into ``limits`` (an unreachable target gives the nearest allowed R, where
+    the closest miss lies).
     """
     c = np.asarray(c, dtype=float)
     r_ref = math.sqrt(limits[0] * limits[1])
@@ -136,8 +147,19 @@ def schmitt_resistance(osc: Oscillator, target_hz: float, c: np.ndarray,
     # NaN at r_ref (a TTL input stopping oscillation) still gets the exact inverse.
     maybe = ~(estimate < 0.5 * limits[0]) & ~(estimate > 2.0 * limits[1])
     out = np.full(c.shape, np.nan)
-    if maybe.any():
-        out[maybe] = schmitt_resistance_for(osc, target_hz, c[maybe])
+    # f is close to proportional to 1/R: a few rescaling steps converge where the model
+    # is smooth; the model's own inverse (a bisection) settles the rest.
+    r = np.where(maybe & np.isfinite(estimate), estimate, np.nan)
+    with np.errstate(invalid="ignore", divide="ignore"):
+        for _ in range(4):
+            f, _ = schmitt_frequency(osc, r, c)
+            r = r * f / target_hz
+        f, _ = schmitt_frequency(osc, r, c)
+        done = np.abs(f / target_hz - 1.0) < 1e-9
+    out[done] = r[done]
+    rest = maybe & ~done
+    if rest.any():
+        out[rest] = schmitt_resistance_for(osc, target_hz, c[rest])
     if clip:
         # No exact answer: the estimate shows the side; no estimate (R too large to
         # oscillate at all) means the smallest allowed R.
@@ -242,7 +264,7 @@ def search(parts: list[Part], osc: Oscillator, target_hz: float, duty_pct: float
     order = _rank_order(shortlist.error_pct, shortlist.parts, accept_pct, shortlist.duty_ok,
                         keep=RANK_DEPTH * top)
     picked = _varied(order, shortlist.entries["C"], shortlist.r_sum, shortlist.c_values, top)
-    candidates = [_candidate(index, osc, target_hz, shortlist, i) for i in picked]
+    candidates = _candidates(index, osc, target_hz, shortlist, picked)
     suggestions: list[dict[str, Any]] = []
     hits = [c for c in candidates if abs(c.error_pct) <= accept_pct]
     if not hits:
@@ -442,31 +464,49 @@ def _enough(index: DrawerIndex, found: list[tuple[np.ndarray, ...]], target_hz: 
     return count >= top
 
 
-def _candidate(index: DrawerIndex, osc: Oscillator, target_hz: float, s: _Shortlist,
-               i: int) -> Candidate:
-    taken: Counter[int] = Counter()
-    networks: dict[str, Node] = {}
-    for role, entries in s.entries.items():
-        net_index: NetworkIndex = index.capacitors if role == "C" else index.resistors
-        (networks[role],) = net_index.nodes([int(entries[i])], taken)
-    values = {role: node.value for role, node in networks.items()}
-    # The networks' value ranges as tolerances, so predict's worst case spans their corners.
-    tolerances = {}
-    for role, node in networks.items():
-        lo, hi = node.value_range()
-        tolerances[role] = Tolerance(1.0 - lo / values[role], hi / values[role] - 1.0)
-    c_parts = networks["C"].parts()
-    dielectric = next((p.dielectric for p in c_parts if p.polarised), c_parts[0].dielectric)
-    prediction = predict(osc, values, tolerances, diode_steered=s.diode_steered,
-                         dielectric=dielectric)
-    notes = list(prediction.warnings)
-    if s.diode_steered:
-        notes.append("diode-steered astable: a diode across RB (anode at pin 7) so RA alone "
-                     "charges C")
-    return Candidate(osc.circuit, values, networks, float(prediction.frequency_hz),
-                     (float(prediction.frequency_hz) - target_hz) / target_hz * 100.0,
-                     float(prediction.duty_pct), prediction.worst_case_hz,
-                     sum(n.part_count for n in networks.values()), s.diode_steered, notes)
+def _candidates(index: DrawerIndex, osc: Oscillator, target_hz: float, s: _Shortlist,
+                picked: list[int]) -> list[Candidate]:
+    """Candidates with concrete stock lines, nominal timing, worst case and warnings.
+
+    The worst case spans every corner of the networks' value ranges and the
+    thresholds, evaluated for all picked candidates at once.
+    """
+    chosen = []
+    for i in picked:
+        taken: Counter[int] = Counter()
+        networks: dict[str, Node] = {}
+        for role, entries in s.entries.items():
+            net_index: NetworkIndex = index.capacitors if role == "C" else index.resistors
+            (networks[role],) = net_index.nodes([int(entries[i])], taken)
+        chosen.append(networks)
+    if not chosen:
+        return []
+    roles = list(chosen[0])
+    values = {r: np.array([n[r].value for n in chosen]) for r in roles}
+    ranges = {r: tuple(np.array(x) for x in zip(*(n[r].value_range() for n in chosen),
+                                                  strict=True)) for r in roles}
+    low, high = worst_case_hz(osc, values, ranges, diode_steered=s.diode_steered)
+    t_high, t_low = times(osc, values, s.diode_steered)
+    out = []
+    for k, networks in enumerate(chosen):
+        period = float(t_high[k] + t_low[k])
+        prediction = Prediction(1.0 / period, period, 100.0 * float(t_high[k]) / period,
+                                float(t_high[k]), float(t_low[k]),
+                                (float(low[k]), float(high[k])))
+        vals = {r: float(values[r][k]) for r in roles}
+        c_parts = networks["C"].parts()
+        dielectric = next((p.dielectric for p in c_parts if p.polarised), c_parts[0].dielectric)
+        notes = practitioner_warnings(osc, vals, prediction, dielectric=dielectric,
+                                      diode_steered=s.diode_steered)
+        if s.diode_steered:
+            notes.append("diode-steered astable: a diode across RB (anode at pin 7) so RA "
+                         "alone charges C")
+        out.append(Candidate(osc.circuit, vals, networks, prediction.frequency_hz,
+                             (prediction.frequency_hz - target_hz) / target_hz * 100.0,
+                             prediction.duty_pct, prediction.worst_case_hz,
+                             sum(n.part_count for n in networks.values()), s.diode_steered,
+                             notes))
+    return out
 
 
 # ---------------------------------------------------------------- what to buy
