@@ -12,10 +12,19 @@ come first, fewest parts first, then smallest |error|; the rest follow by
 and no two with both values within ``NEAR_COPY`` of each other, unless the
 drawer offers too few different builds to fill the list.
 
-555 duty (decision where the issue is silent): with ``--duty`` a candidate
-counts as within accept only if its duty is within ``DUTY_ACCEPT_POINTS``
-percentage points as well. A duty of 50 % or less needs the diode-steered
-astable (the plain one cannot go below 50 % with RA > 0).
+555: for every (RA network, C network) pair the RB neighbours that matter
+are looked up (next to the RB that hits the frequency, the smallest RB, and
+with a duty target the two RB that put the duty at its tolerance edges).
+Pairs are taken in tiers of rising part count, stopping once enough hits are
+known that no later tier could outrank, within ``COMBINATION_BUDGET``.
+Decisions where the issue is silent: with ``--duty`` a candidate counts as
+within accept only if its duty is within ``DUTY_ACCEPT_POINTS`` percentage
+points as well; a duty of 50 % or less uses the diode-steered astable (the
+plain one cannot reach 50 % with RA > 0).
+
+What to buy (``suggest``): when nothing is within accept, the nearest IEC
+60063 values (E12, then E24, then E96) that hit the target together with
+networks already in the drawer.
 """
 
 from __future__ import annotations
@@ -49,9 +58,9 @@ NEAR_COPY = 0.02
 DUTY_ACCEPT_POINTS = 2.0
 """A 555 candidate meets a duty target when within this many percentage points."""
 PER_SIDE = 2
+"""Index neighbours taken on each side of the ideal value, per layer."""
 RANK_DEPTH = 200
 """Ranked combinations per requested candidate kept for the variety pass."""
-"""Index neighbours taken on each side of the ideal value, per layer."""
 LN2 = math.log(2.0)
 
 
@@ -206,7 +215,8 @@ def _varied(order: np.ndarray, c_entry: np.ndarray, r_values: np.ndarray,
         seen_c.add(int(c_entry[i]))
     if len(chosen) < top:
         rank = {int(i): k for k, i in enumerate(order)}
-        rest = [int(i) for i in order if int(i) not in set(chosen)][: top - len(chosen)]
+        taken = set(chosen)
+        rest = [int(i) for i in order if int(i) not in taken][: top - len(chosen)]
         chosen = sorted(chosen + rest, key=rank.__getitem__)
     return chosen
 
@@ -266,11 +276,14 @@ def search(parts: list[Part], osc: Oscillator, target_hz: float, duty_pct: float
     picked = _varied(order, shortlist.entries["C"], shortlist.r_sum, shortlist.c_values, top)
     candidates = _candidates(index, osc, target_hz, shortlist, picked)
     suggestions: list[dict[str, Any]] = []
-    hits = [c for c in candidates if abs(c.error_pct) <= accept_pct]
+    hits = [c for c in candidates if abs(c.error_pct) <= accept_pct and (
+        duty_pct is None or abs(c.duty_pct - duty_pct) <= DUTY_ACCEPT_POINTS)]
     if not hits:
         best = candidates[0]
+        wanted = "" if duty_pct is None else f" at {duty_pct:g} ± {DUTY_ACCEPT_POINTS:g} % duty"
         notes.append(f"nothing in the drawer is within ±{accept_pct:g} % of "
-                     f"{format_frequency(target_hz)}; the closest is {best.error_pct:+.2f} %")
+                     f"{format_frequency(target_hz)}{wanted}; the closest is "
+                     f"{best.error_pct:+.2f} %")
         suggestions = suggest(index, osc, target_hz, accept_pct, limits, max_resistors,
                               max_capacitors, duty_pct)
         if suggestions:
