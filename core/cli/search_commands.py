@@ -171,7 +171,7 @@ def _table(header: list[str], rows: list[list[str]]) -> list[str]:
 
 
 def _device_line(osc: Oscillator) -> str:
-    circuit = "555 astable" if osc.circuit == "555" else "Schmitt-trigger inverter"
+    circuit = "astable" if osc.circuit == "555" else "Schmitt-trigger inverter oscillator"
     return f"{osc.family.name} {circuit} at {osc.device.supply_v:g} V"
 
 
@@ -180,7 +180,7 @@ def _band_text(band: tuple[float, float]) -> str:
 
 
 def _search_text(data: dict[str, Any], result: SearchResult, osc: Oscillator) -> str:
-    out = [f"Target {format_frequency(result.target_hz)} on a {_device_line(osc)}"]
+    out = [f"Target {format_frequency(result.target_hz)}: {_device_line(osc)}"]
     roles = ("RA", "RB", "C") if osc.circuit == "555" else ("R", "C")
     rows = []
     for k, c in enumerate(result.candidates, 1):
@@ -218,7 +218,7 @@ def _notes(notes: list[str]) -> list[str]:
 
 
 def _trim_text(data: dict[str, Any], result: TrimResult, osc: Oscillator) -> str:
-    out = [f"Trim {_band_text(result.band_hz)} on a {_device_line(osc)}"]
+    out = [f"Trim {_band_text(result.band_hz)}: {_device_line(osc)}"]
     rows = []
     for k, c in enumerate(result.candidates, 1):
         p = c.networks["P"].parts()[0]
