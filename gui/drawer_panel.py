@@ -332,7 +332,7 @@ class DrawerPanel(QWidget):
 
     def _set_column_widths(self) -> None:
         em = self.table.fontMetrics().horizontalAdvance("M")
-        widths = {"kind": 3, "value": 6, "tolerance": 5, "quantity": 3, "location": 5,
+        widths = {"kind": 3, "value": 6, "tolerance": 5, "quantity": 4, "location": 5,
                   "taper": 4, "dielectric": 6, "voltage": 5}
         for column in range(self.model.columnCount()):
             name = self.model.column_name(column)

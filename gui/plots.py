@@ -140,7 +140,12 @@ class PlotPanel(QWidget):
         key = (f'<span style="color:{CAP.name()}">━ capacitor</span> &nbsp; '
                f'<span style="color:{OUT.name()}">━ output</span>')
         self.waveform.setTitle(f"{title} &nbsp; {key}", color=INK.name(), size="10pt")
-        self.waveform.getPlotItem().enableAutoRange()
+        # Room above the highest trace and below the lowest for the threshold labels.
+        lo = min(float(np.min(v_cap)), float(np.min(v_out)), vt_minus_v)
+        hi = max(float(np.max(v_cap)), float(np.max(v_out)), vt_plus_v)
+        span = hi - lo or 1.0
+        self.waveform.setXRange(float(t_s[0]), float(t_s[-1]), padding=0.02)
+        self.waveform.setYRange(lo - 0.06 * span, hi + 0.14 * span, padding=0)
 
     def show_spread(self, frequencies_hz: np.ndarray, target_hz: float,
                     accept_hz: tuple[float, float], title: str) -> None:
