@@ -7,7 +7,6 @@ white with grey fills only, so it prints well on any printer.
 
 from __future__ import annotations
 
-import ctypes
 import math
 import sys
 from collections.abc import Sequence
@@ -46,18 +45,6 @@ FONT_FAMILY = "DejaVu Sans"
 
 
 
-def keep_none_alive() -> None:
-    """Work around PySide6 6.12 on Python 3.11: each call of a C++ ``void`` method drops
-    one reference to ``None`` that it never took (the bindings assume Python ≥ 3.12,
-    where ``None`` is immortal). A sheet makes thousands of such painter calls, and
-    ``None``'s count reaching zero aborts the interpreter ("none_dealloc"). Giving
-    ``None`` a huge reference count makes it effectively immortal, as on 3.12.
-    """
-    if sys.version_info < (3, 12) and sys.getrefcount(None) < 1 << 40:
-        ctypes.c_ssize_t.from_address(id(None)).value += 1 << 48
-
-
-keep_none_alive()
 
 if TYPE_CHECKING:
     from PySide6.QtPrintSupport import QPrinter
