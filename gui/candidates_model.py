@@ -25,14 +25,17 @@ NETWORK_HEADINGS = {"R": "Resistor", "RA": "RA", "RB": "RB", "C": "Capacitor",
                     "P": "Pot"}
 
 
+def place(part: Any) -> str:
+    """``B1-06, line 11`` (or just ``line 11`` when the drawer names no location)."""
+    return f"{part.location}, line {part.stock_line}" if part.location else (
+        f"line {part.stock_line}")
+
+
 def where(networks: dict[str, Any]) -> str:
-    """Drawer locations and stock lines of every part: ``B1-06 line 11 ×2, B2-01 line 30``."""
-    counts: Counter[tuple[str, int]] = Counter()
-    for node in networks.values():
-        for part in node.parts():
-            counts[(part.location or "no location", part.stock_line)] += 1
-    return ", ".join(f"{loc} line {line}" + (f" ×{n}" if n > 1 else "")
-                     for (loc, line), n in sorted(counts.items(), key=lambda kv: kv[0][1]))
+    """Where every part lives: ``B1-06, line 11 ×2; B2-01, line 30``."""
+    counts: Counter[Any] = Counter(p for node in networks.values() for p in node.parts())
+    ordered = sorted(counts.items(), key=lambda kv: kv[0].stock_line)
+    return "; ".join(place(p) + (f" ×{n}" if n > 1 else "") for p, n in ordered)
 
 
 def parts_list(candidate: Any) -> list[str]:
@@ -45,10 +48,8 @@ def parts_list(candidate: Any) -> list[str]:
         shown = []
         for part, n in counts.items():
             quantity = "capacitance" if part.kind == "C" else "resistance"
-            where_ = part.location or "no location"
             text = (f"{n} × " if n > 1 else "") + (
-                f"{format_quantity(part.value, quantity)} {part.tolerance} from {where_}, "
-                f"line {part.stock_line}")
+                f"{format_quantity(part.value, quantity)} {part.tolerance} from {place(part)}")
             if part.kind == "P":
                 text += f" ({part.taper})"
             if part.polarised:

@@ -297,6 +297,7 @@ class DrawerPanel(QWidget):
         bar.setContentsMargins(0, 0, 0, 0)
         bar.addWidget(self.kind_filter)
         bar.addWidget(self.text_filter, 1)
+        bar.addWidget(self.count_label)
         buttons = QHBoxLayout()
         buttons.setContentsMargins(0, 0, 0, 0)
         for action in (self.add_action, self.duplicate_action, self.delete_action,
@@ -306,7 +307,6 @@ class DrawerPanel(QWidget):
             button.setToolButtonStyle(Qt.ToolButtonStyle.ToolButtonTextOnly)
             buttons.addWidget(button)
         buttons.addStretch(1)
-        buttons.addWidget(self.count_label)
         layout = QVBoxLayout(self)
         layout.setContentsMargins(0, 0, 0, 0)
         layout.addLayout(bar)

@@ -658,15 +658,18 @@ class MainWindow(QMainWindow):
         target = outcome.target
         self.candidates.set_result(result.candidates, trim=target.trim,
                                    accept_pct=None if target.trim else target.accept_pct)
-        notes = list(result.notes)
-        notes += [f"To buy: {s}" for s in getattr(result, "suggestions", []) or []]
+        notes = list(result.notes)  # core's notes already say what to buy, if anything
         self.notes.setText("\n".join(notes))
         self.notes.setVisible(bool(notes))
         self.last_search_ms = outcome.seconds * 1000
         count = len(result.candidates)
         self.timing.setText(f"search {self.last_search_ms:.0f} ms")
-        self.say(f"{count} candidate{'s' if count != 1 else ''} for {target.describe()}"
-                 if count else "No candidate from this drawer; see the notes.")
+        text = f"{count} candidate{'s' if count != 1 else ''} for {target.describe()}"
+        if count and not target.trim:
+            hits = sum(abs(c.error_pct) <= target.accept_pct for c in result.candidates)
+            text += f" ({hits} within ±{target.accept_pct:g} %)" if hits else (
+                f" (none within ±{target.accept_pct:g} %: see the notes)")
+        self.say(text if count else "No candidate from this drawer; see the notes.")
         row = 0
         if previous is not None and previous in result.candidates:
             row = result.candidates.index(previous)

@@ -364,3 +364,22 @@ def test_index_build_reports_progress(qtbot, window):
     assert any(text.startswith("Building") for text, _ in fractions)
     steps = [f for text, f in fractions if text.startswith("Building")]
     assert steps == sorted(steps) and 0 < steps[0] < 1
+
+
+def test_import_adds_rows_as_one_step_and_keeps_bad_cells(qtbot, window, tmp_path,
+                                                           monkeypatch):
+    from gui.main_window import MainWindow
+
+    other = tmp_path / "other.csv"
+    other.write_text("kind,value,quantity,bin_colour\nR,39k,4,red\nC,33nn,2,blue\n",
+                     encoding="utf-8")
+    monkeypatch.setattr(MainWindow, "ask_path", classmethod(lambda *a, **k: str(other)))
+    n = len(window.drawer)
+    search_done(qtbot, window, window.import_action.trigger)
+    assert len(window.drawer) == n + 2
+    assert window.drawer.rows[n + 1].get("value") == "33nn"  # kept, and marked
+    assert n + 1 in window.drawer.problems()
+    assert "bin_colour" in window.drawer.columns  # the file's own column comes along
+    assert "1 to fix" in window.drawer_panel.count_label.text()
+    window.undo_action.trigger()
+    assert len(window.drawer) == n
