@@ -133,7 +133,9 @@ def _describe(part: Part) -> str:
         return "resistor"
     if part.kind == "P":
         return f"potentiometer, {'log' if part.taper == 'log' else 'linear'}"
-    return f"capacitor, {part.dielectric}" if part.dielectric else "capacitor"
+    d = part.dielectric
+    shown = d.upper() if any(ch.isdigit() for ch in d) else d  # X7R, C0G; film, tantalum
+    return f"capacitor, {shown}" if d else "capacitor"
 
 
 def voltage_ratings(drawer: Drawer) -> dict[int, str]:

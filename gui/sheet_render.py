@@ -512,8 +512,9 @@ class _Schematic:
                                                                          -0.95),
                                               at(mid + gap + 0.25 * self.u, 0.95),
                                               at(mid + gap, 0.95)]))
-                self.f.draw_text(at(mid - gap - 1.8, -1.3).x() - 2, at(mid - gap - 1.8, -1.3).y()
-                                 - 1.5, 4, "+", _font(_Flow.SMALL), Qt.AlignmentFlag.AlignHCenter)
+                plus = at(mid - gap - 1.8, 1.3)  # beside the + plate, away from the labels
+                self.f.draw_text(plus.x() - 2, plus.y() - 1.5, 4, "+", _font(_Flow.SMALL),
+                                 Qt.AlignmentFlag.AlignHCenter)
             else:
                 self.p.drawLine(at(mid + gap, -0.95), at(mid + gap, 0.95))
         elif item.symbol == "diode":
