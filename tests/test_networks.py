@@ -163,7 +163,7 @@ def test_build_reports_progress_and_refuses_silly_sizes() -> None:
     assert len(index_of([], "C", 2)) == 0
 
 
-@settings(max_examples=30, deadline=None)
+@settings(max_examples=30, deadline=None, derandomize=True)
 @given(st.lists(st.tuples(st.floats(1.0, 1e7), st.integers(0, 3)), min_size=1, max_size=7),
        st.integers(1, 3))
 def test_random_drawers_give_sorted_layers_and_true_values(lines: list[tuple[float, int]],
