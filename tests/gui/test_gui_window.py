@@ -383,3 +383,25 @@ def test_import_adds_rows_as_one_step_and_keeps_bad_cells(qtbot, window, tmp_pat
     assert "1 to fix" in window.drawer_panel.count_label.text()
     window.undo_action.trigger()
     assert len(window.drawer) == n
+
+
+def test_candidates_model_passes_qt_model_tester(qtmodeltester, window):
+    qtmodeltester.check(window.candidates, force_py=True)
+
+
+def test_closing_with_unsaved_edits_asks_and_cancel_keeps_everything(qtbot, window, answers):
+    window.drawer.set_cell(0, "note", "not yet saved")
+    answers.append(QMessageBox.StandardButton.Cancel)
+    assert not window.close()
+    assert window.isVisible() and window.drawer.rows[0].get("note") == "not yet saved"
+    assert answers.asked[-1] == "Unsaved changes"
+
+
+def test_autosave_writes_a_snapshot_only_when_dirty(window):
+    snapshot = window.autosave.snapshot
+    window.autosave_now()
+    assert not snapshot.exists()
+    window.drawer.set_cell(1, "value", "bad value kept")
+    window.autosave_now()
+    assert "bad value kept" in snapshot.read_text(encoding="utf-8")
+    assert window.autosave_timer.isActive() and window.autosave_timer.interval() == 60_000
