@@ -18,7 +18,7 @@ from hypothesis import strategies as st
 
 from core.drawer import Part
 from core.errors import InputError
-from core.networks import RESOLUTION, Node, build_index, index_of
+from core.networks import RESOLUTION, Node, build_drawer_index, build_index, index_of
 from core.units import Tolerance
 
 FIVE = Tolerance(0.05, 0.05)
@@ -183,3 +183,20 @@ def test_random_drawers_give_sorted_layers_and_true_values(lines: list[tuple[flo
     v = np.sort(index.values)
     if len(v) > 2:
         assert np.all(v[2:] / v[:-2] - 1 > RESOLUTION * 0.999)
+
+
+def test_drawer_index_progress_and_pots() -> None:
+    parts = [part("R", 1e3, 2), part("R", 2.2e3, 1, line=3), part("C", 1e-9, 2, line=4),
+             part("P", 10e3, 1, line=5), part("P", 10e3, 1, line=6), part("P", 50e3, 0, line=7)]
+    steps = build_drawer_index(parts, 3, 2)
+    fractions = []
+    try:
+        while True:
+            fractions.append(next(steps))
+    except StopIteration as done:
+        index = done.value
+    assert fractions == sorted(fractions) and fractions[0] >= 0 and fractions[-1] == 1.0
+    # Equivalent pots are one choice; a pot with quantity 0 is none.
+    assert [p.stock_line for p in index.pots] == [5]
+    assert index.covers(3, 2) and not index.covers(3, 3)
+    assert len(index.capacitors) == 3  # 1n, 1n + 1n (0.5n), 1n ∥ 1n (2n)
