@@ -10,7 +10,14 @@ from __future__ import annotations
 import re
 from typing import Any
 
-from PySide6.QtCore import QItemSelectionModel, QModelIndex, Qt, Signal
+from PySide6.QtCore import (
+    QAbstractItemModel,
+    QItemSelectionModel,
+    QModelIndex,
+    QPersistentModelIndex,
+    Qt,
+    Signal,
+)
 from PySide6.QtGui import QAction, QKeySequence
 from PySide6.QtWidgets import (
     QAbstractItemView,
@@ -24,6 +31,8 @@ from PySide6.QtWidgets import (
     QLineEdit,
     QPlainTextEdit,
     QSpinBox,
+    QStyledItemDelegate,
+    QStyleOptionViewItem,
     QTableView,
     QToolButton,
     QVBoxLayout,
@@ -206,6 +215,46 @@ class KitDialog(QDialog):
         ok.setEnabled(bool(values))
 
 
+CHOICES = {"kind": ("R", "P", "C"), "taper": ("lin", "log"),
+           "dielectric": ("C0G", "film", "X7R", "X5R", "Y5V", "tantalum", "electrolytic")}
+"""Suggestions offered while editing these columns (any other text may still be typed)."""
+
+
+class ChoiceDelegate(QStyledItemDelegate):
+    """An editable list for columns with a few usual answers; plain text elsewhere."""
+
+    def __init__(self, model: DrawerTableModel, proxy: DrawerFilterProxy, parent: QWidget):
+        super().__init__(parent)
+        self.model, self.proxy = model, proxy
+
+    def _choices(self, index: QModelIndex | QPersistentModelIndex) -> tuple[str, ...]:
+        return CHOICES.get(self.model.column_name(self.proxy.mapToSource(index).column()), ())
+
+    def createEditor(self, parent: QWidget, option: QStyleOptionViewItem,  # noqa: N802
+                     index: QModelIndex | QPersistentModelIndex) -> QWidget:
+        choices = self._choices(index)
+        if not choices:
+            return super().createEditor(parent, option, index)
+        combo = QComboBox(parent)
+        combo.setEditable(True)
+        combo.addItems(list(choices))
+        return combo
+
+    def setEditorData(self, editor: QWidget,  # noqa: N802
+                      index: QModelIndex | QPersistentModelIndex) -> None:
+        if isinstance(editor, QComboBox):
+            editor.setCurrentText(str(index.data(Qt.ItemDataRole.EditRole) or ""))
+        else:
+            super().setEditorData(editor, index)
+
+    def setModelData(self, editor: QWidget, model: QAbstractItemModel,  # noqa: N802
+                     index: QModelIndex | QPersistentModelIndex) -> None:
+        if isinstance(editor, QComboBox):
+            model.setData(index, editor.currentText(), Qt.ItemDataRole.EditRole)
+        else:
+            super().setModelData(editor, model, index)
+
+
 def sorted_rows(model: DrawerTableModel) -> list[Row]:
     """Rows ordered resistors, pots, capacitors, each by value; rows with problems last."""
     order = {"R": 0, "P": 1, "C": 2}
@@ -251,6 +300,7 @@ class DrawerPanel(QWidget):
 
         self.table = QTableView()
         self.table.setModel(self.proxy)
+        self.table.setItemDelegate(ChoiceDelegate(model, self.proxy, self.table))
         self.table.setAccessibleName("parts drawer")
         self.table.setSortingEnabled(True)
         self.table.horizontalHeader().setSortIndicatorClearable(True)

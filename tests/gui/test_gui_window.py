@@ -405,3 +405,38 @@ def test_autosave_writes_a_snapshot_only_when_dirty(window):
     window.autosave_now()
     assert "bad value kept" in snapshot.read_text(encoding="utf-8")
     assert window.autosave_timer.isActive() and window.autosave_timer.interval() == 60_000
+
+
+def test_kind_cell_edits_through_a_list_and_free_text_still_works(qtbot, window):
+    from PySide6.QtWidgets import QComboBox
+
+    panel = window.drawer_panel
+    model = window.drawer_model
+    proxy_index = panel.proxy.mapFromSource(model.index(0, model.column_of("kind")))
+    delegate = panel.table.itemDelegate()
+    editor = delegate.createEditor(panel.table.viewport(), None, proxy_index)
+    assert isinstance(editor, QComboBox) and editor.isEditable()
+    delegate.setEditorData(editor, proxy_index)
+    assert editor.currentText() == "R"
+    editor.setCurrentText("capacitor")  # a longer word is fine too (DESIGN.md)
+    delegate.setModelData(editor, panel.proxy, proxy_index)
+    assert window.drawer.rows[0].get("kind") == "capacitor"
+    editor.deleteLater()
+
+
+def test_typing_into_a_value_cell_like_a_person(qtbot, window):
+    from PySide6.QtWidgets import QApplication, QLineEdit
+
+    panel = window.drawer_panel
+    model = window.drawer_model
+    index = panel.proxy.mapFromSource(model.index(9, model.column_of("value")))
+    panel.table.setFocus()
+    panel.table.setCurrentIndex(index)
+    panel.table.edit(index)
+    editor = QApplication.focusWidget()
+    assert isinstance(editor, QLineEdit)
+    editor.selectAll()
+    qtbot.keyClicks(editor, "8k2")
+    search_done(qtbot, window, lambda: qtbot.keyClick(editor, Qt.Key.Key_Return))
+    assert window.drawer.rows[9].get("value") == "8k2"
+    assert window.drawer.undo_text() == "Edit value"
