@@ -29,7 +29,7 @@ Horowitz & Hill, The Art of Electronics, 3rd ed., §1.2.1 and §1.4.1).
 from __future__ import annotations
 
 from collections import Counter
-from collections.abc import Generator, Iterable
+from collections.abc import Generator, Iterable, Iterator
 from dataclasses import dataclass
 from typing import Any, Literal
 
@@ -307,14 +307,25 @@ def _tree(code: int, leaves: list[Node]) -> Node:
 
 # ---------------------------------------------------------------- building
 
-def _triples(n: int) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
-    """Every i ≤ j ≤ k < n (combinations with repetition), as index arrays."""
+TRIPLE_CHUNK = 1_000_000
+"""Three-part combinations evaluated at once (bounds memory for very large drawers)."""
+
+
+def _triples(n: int) -> Iterator[tuple[np.ndarray, np.ndarray, np.ndarray]]:
+    """Every i ≤ j ≤ k < n (combinations with repetition), in chunks of index arrays."""
     i, j = np.triu_indices(n)
     count = n - j
-    i3, j3 = np.repeat(i, count), np.repeat(j, count)
-    starts = np.cumsum(count) - count
-    k3 = j3 + (np.arange(int(count.sum())) - np.repeat(starts, count))
-    return i3, j3, k3
+    ends = np.cumsum(count)
+    first = 0
+    while first < len(i):
+        last = int(np.searchsorted(ends, ends[first] - count[first] + TRIPLE_CHUNK, "right"))
+        last = max(last, first + 1)
+        ii, jj, cc = i[first:last], j[first:last], count[first:last]
+        i3, j3 = np.repeat(ii, cc), np.repeat(jj, cc)
+        starts = np.cumsum(cc) - cc
+        k3 = j3 + (np.arange(int(cc.sum())) - np.repeat(starts, cc))
+        yield i3, j3, k3
+        first = last
 
 
 def build_index(parts: Iterable[Part], kind: NetworkKind, max_parts: int = 2,
@@ -342,59 +353,66 @@ def build_index(parts: Iterable[Part], kind: NetworkKind, max_parts: int = 2,
         v0, step, buckets = 1.0, 1.0, 1
     winner = np.full(buckets, -1, dtype=np.int64)
     occupied = np.zeros(buckets, dtype=bool)
+    code_table = np.full(buckets, -1, dtype=np.int8)
+    usage_table = np.full((buckets, 3), -1, dtype=np.int16)
     layers: list[tuple[np.ndarray, np.ndarray]] = []  # (topology, usage) per layer, sorted
 
-    def add_layer(use: np.ndarray, blocks: list[tuple[int, tuple[int, ...], Any]]) -> None:
-        """Keep one network per free bucket; ``blocks`` are (code, column order, values()).
-
-        Bucket order is value order, so the kept entries come out sorted.
-        """
+    def scatter(use: np.ndarray, blocks: list[tuple[int, tuple[int, ...], Any]]) -> None:
+        """Put networks into the free buckets; ``blocks`` are (code, column order, values())."""
         winner[:] = -1
         rows = len(use)
         for b, (_, _, values_of) in enumerate(blocks):
             keys = (np.log(values_of() / v0) / step).astype(np.int64)
             free = np.flatnonzero(~occupied[keys])
             winner[keys[free]] = b * rows + free
-        keys_order = np.flatnonzero(winner >= 0)
-        picked = winner[keys_order]
-        block, row = np.divmod(picked, rows)
-        codes = np.array([code for code, _, _ in blocks], dtype=np.int8)
-        usage = np.full((len(picked), 3), -1, dtype=np.int16)
-        for b, (_, order, _) in enumerate(blocks):
+        hit = np.flatnonzero(winner >= 0)
+        block, row = np.divmod(winner[hit], rows)
+        for b, (code, order, _) in enumerate(blocks):
             m = block == b
-            usage[m, : len(order)] = use[row[m]][:, order]
-        occupied[keys_order] = True
-        layers.append((codes[block], usage))
+            code_table[hit[m]] = code
+            usage_table[hit[m], : len(order)] = use[row[m]][:, order]
+
+    def close_layer() -> None:
+        """The layer's entries in bucket order, which is value order; its buckets taken."""
+        keys = np.flatnonzero(code_table >= 0)
+        layers.append((code_table[keys].copy(), usage_table[keys].copy()))
+        occupied[keys] = True
+        code_table[:] = -1
+        usage_table[:] = -1
 
     ser = (lambda x, y: x * y / (x + y)) if harmonic_series else (lambda x, y: x + y)
     par = (lambda x, y: x + y) if harmonic_series else (lambda x, y: x * y / (x + y))
-    add_layer(np.arange(n, dtype=np.int16)[:, None], [(SINGLE, (0,), lambda: gv)])
+    scatter(np.arange(n, dtype=np.int16)[:, None], [(SINGLE, (0,), lambda: gv)])
+    close_layer()
     yield 0.05
     if max_parts >= 2:
         i, j = np.triu_indices(n)
         ok = (i != j) | (gq[i] >= 2)
         use = np.stack([i[ok], j[ok]], axis=1).astype(np.int16)
         a, b = gv[use[:, 0]], gv[use[:, 1]]
-        add_layer(use, [(SERIES2, (0, 1), lambda: ser(a, b)),
-                        (PARALLEL2, (0, 1), lambda: par(a, b))])
+        scatter(use, [(SERIES2, (0, 1), lambda: ser(a, b)),
+                      (PARALLEL2, (0, 1), lambda: par(a, b))])
+        close_layer()
         yield 0.15
     if max_parts >= 3:
-        i, j, k = _triples(n)
-        ok = np.where(i == j, gq[i] >= 2 + (j == k), (j != k) | (gq[j] >= 2))
-        use = np.stack([i[ok], j[ok], k[ok]], axis=1).astype(np.int16)
-        del i, j, k, ok
-        v = [gv[use[:, col]] for col in range(3)]
-        blocks: list[tuple[int, tuple[int, ...], Any]] = [
-            (SERIES3, (0, 1, 2), lambda: ser(ser(v[0], v[1]), v[2])),
-            (PARALLEL3, (0, 1, 2), lambda: par(par(v[0], v[1]), v[2]))]
-        for x, y, z in ((0, 1, 2), (0, 2, 1), (1, 2, 0)):
-            blocks.append((PAR_THEN_SERIES, (x, y, z),
-                           lambda x=x, y=y, z=z: ser(par(v[x], v[y]), v[z])))
-            blocks.append((SER_THEN_PARALLEL, (x, y, z),
-                           lambda x=x, y=y, z=z: par(ser(v[x], v[y]), v[z])))
-        yield 0.3
-        add_layer(use, blocks)
-        del use, v
+        total = n * (n + 1) * (n + 2) // 6
+        done = 0
+        for i, j, k in _triples(n):
+            done += len(i)
+            ok = np.where(i == j, gq[i] >= 2 + (j == k), (j != k) | (gq[j] >= 2))
+            use = np.stack([i[ok], j[ok], k[ok]], axis=1).astype(np.int16)
+            v = [gv[use[:, col]] for col in range(3)]
+            blocks: list[tuple[int, tuple[int, ...], Any]] = [
+                (SERIES3, (0, 1, 2), lambda v=v: ser(ser(v[0], v[1]), v[2])),
+                (PARALLEL3, (0, 1, 2), lambda v=v: par(par(v[0], v[1]), v[2]))]
+            for x, y, z in ((0, 1, 2), (0, 2, 1), (1, 2, 0)):
+                blocks.append((PAR_THEN_SERIES, (x, y, z),
+                               lambda v=v, x=x, y=y, z=z: ser(par(v[x], v[y]), v[z])))
+                blocks.append((SER_THEN_PARALLEL, (x, y, z),
+                               lambda v=v, x=x, y=y, z=z: par(ser(v[x], v[y]), v[z])))
+            scatter(use, blocks)
+            yield 0.15 + 0.75 * done / total
+        close_layer()
     yield 0.9
     topology = np.concatenate([t for t, _ in layers]) if layers else np.zeros(0, np.int8)
     usage = (np.concatenate([u for _, u in layers]) if layers
