@@ -200,3 +200,16 @@ def test_drawer_index_progress_and_pots() -> None:
     assert [p.stock_line for p in index.pots] == [5]
     assert index.covers(3, 2) and not index.covers(3, 3)
     assert len(index.capacitors) == 3  # 1n, 1n + 1n (0.5n), 1n ∥ 1n (2n)
+
+
+def test_chunked_three_part_layer_matches_one_pass(monkeypatch: pytest.MonkeyPatch) -> None:
+    parts = [part("R", v, 3, line=i + 2) for i, v in enumerate(
+        [100.0, 150.0, 220.0, 330.0, 470.0, 680.0, 1e3, 1.5e3, 2.2e3, 3.3e3, 4.7e3, 6.8e3])]
+    whole = index_of(parts, "R", 3)
+    monkeypatch.setattr("core.networks.TRIPLE_CHUNK", 37)
+    chunked = index_of(parts, "R", 3)
+    for p in (1, 2, 3):
+        a, b = whole.values[whole.layers[p]], chunked.values[chunked.layers[p]]
+        assert len(a) == len(b)
+        # The same buckets; a bucket's representative may differ within the resolution.
+        assert np.allclose(a, b, rtol=2 * RESOLUTION, atol=0)
