@@ -133,7 +133,7 @@ def test_unknown_page_size_is_refused(qapp, sheets, tmp_path):
 
 def test_none_survives_a_lifetime_of_sheets(qapp, sheets, tmp_path):
     """PySide6 6.12 on Python 3.11 drops a reference to None per C++ void call made from
-    Python; gui/__init__.py gives None enough references that a million sheets cannot
+    Python; gui/qt_compat.py gives None enough references that a million sheets cannot
     bring its count to zero (the interpreter aborts when it does)."""
     import sys
 
