@@ -115,11 +115,14 @@ class CandidatesModel(QAbstractTableModel):
         self._columns: list[Column] = _search_columns(("R", "C"))
         self._accept_pct: float | None = None
         self.trim = False
+        self.columns_changed = True
+        """Whether the last ``set_result`` changed the columns (views refit them then)."""
 
     def set_result(self, candidates: Sequence[Any], trim: bool,
                    accept_pct: float | None = None) -> None:
         """Show ``candidates`` (core Candidate or TrimCandidate objects)."""
         self.beginResetModel()
+        before = self.headings()
         self._candidates = list(candidates)
         self.trim = trim
         self._accept_pct = accept_pct
@@ -128,7 +131,11 @@ class CandidatesModel(QAbstractTableModel):
         else:
             keys = list(self._candidates[0].networks) if self._candidates else ["R", "C"]
             self._columns = _search_columns(keys)
+        self.columns_changed = self.headings() != before
         self.endResetModel()
+
+    def headings(self) -> list[str]:
+        return [heading for heading, _, _ in self._columns]
 
     def candidate(self, row: int) -> Any:
         return self._candidates[row] if 0 <= row < len(self._candidates) else None
@@ -141,7 +148,7 @@ class CandidatesModel(QAbstractTableModel):
 
     def data(self, index: QModelIndex | QPersistentModelIndex,
              role: int = Qt.ItemDataRole.DisplayRole) -> Any:
-        if not index.isValid() or not self.checkIndex(index):
+        if not index.isValid() or index.row() >= len(self._candidates):
             return None
         cand = self._candidates[index.row()]
         heading, _, fmt = self._columns[index.column()]

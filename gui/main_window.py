@@ -163,11 +163,17 @@ class MainWindow(QMainWindow):
         header = view.horizontalHeader()
         header.setStretchLastSection(True)
         header.setSectionResizeMode(QHeaderView.ResizeMode.Interactive)
+        self._fitted = False
         self.candidates.modelReset.connect(lambda: self._fit_columns(view))
         return view
 
-    @staticmethod
-    def _fit_columns(view: QTableView) -> None:
+    def _fit_columns(self, view: QTableView) -> None:
+        """Fit columns to the first rows of a new kind of result (cheap), then leave them."""
+        if self._fitted and not self.candidates.columns_changed:
+            return
+        if not self.candidates.rowCount():
+            return
+        self._fitted = True
         view.resizeColumnsToContents()
         cap = view.fontMetrics().horizontalAdvance("M") * 18
         for column in range(view.model().columnCount() - 1):
