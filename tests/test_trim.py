@@ -18,6 +18,7 @@ from typing import Any
 import pytest
 from hypothesis import given, settings
 from hypothesis import strategies as st
+from test_search import plain_networks, within_stock  # the plain loops, no engine code
 
 from core.drawer import Part
 from core.errors import InputError
@@ -202,3 +203,53 @@ def test_trim_refuses_the_555_and_bad_bands() -> None:
         trim(parts, make_oscillator("555", "NE555", 9.0), (400.0, 480.0))
     with pytest.raises(InputError):
         trim(parts, make_oscillator("schmitt", "74HC14", 5.0), (480.0, 400.0))
+
+
+@settings(max_examples=25, deadline=None, derandomize=True)
+@given(st.lists(st.tuples(st.sampled_from(kit("E12", 1e3, 1e6)), st.integers(1, 2)),
+                min_size=1, max_size=4),
+       st.lists(st.tuples(st.sampled_from(kit("E6", 1e-9, 10e-6)), st.integers(1, 2)),
+                min_size=1, max_size=3),
+       st.lists(st.tuples(st.sampled_from([10e3, 50e3, 100e3, 500e3, 1e6]), st.just(1),
+                          st.sampled_from(["lin", "log"])), min_size=1, max_size=3),
+       st.floats(1.0, 4.0), st.floats(1.05, 1.6), st.booleans())
+def test_first_trim_design_is_never_beaten_by_brute_force(
+        rs: list[tuple[float, int]], cs: list[tuple[float, int]],
+        ps: list[tuple[float, int, str]], log_lo: float, width: float, given_vt: bool) -> None:
+    parts = drawer(rs, cs, ps)
+    osc = make_oscillator("schmitt", "74HC14", 5.0)
+    if given_vt:
+        osc = osc.with_thresholds(2.8, 1.9)
+    band = (10.0 ** log_lo, 10.0 ** log_lo * width)
+    d = osc.device
+    res = [p for p in parts if p.kind == "R"]
+    caps = [p for p in parts if p.kind == "C"]
+    pots = [p for p in parts if p.kind == "P"]
+    r_nets = [n for n in plain_networks(res, 2)
+              if within_stock(n[1], parts) and d.r_min_ohm <= n[0] <= d.r_max_ohm]
+    c_nets = [n for n in plain_networks(caps, 2) if within_stock(n[1], parts)]
+    corners = osc.threshold_corners()
+    best = None
+    for (rv, _, rn), pot, (cv, _, cn) in itertools.product(r_nets, pots, c_nets):
+        if rv + pot.value > d.r_max_ohm:
+            continue
+        # Every line of one kind shares a tolerance here, so a network's extremes are
+        # its value at that tolerance (series and parallel values scale with the parts).
+        r_rng = (rv * (1 - FIVE.minus), rv * (1 + FIVE.plus))
+        p_rng = (pot.value * (1 - TWENTY.minus), pot.value * (1 + TWENTY.plus))
+        c_rng = (cv * (1 - TEN.minus), cv * (1 + TEN.plus))
+        full = [f_of(osc, r + p, c, vt) for r in r_rng for p in p_rng for c in c_rng
+                for vt in corners]
+        zero = [f_of(osc, r, c, vt) for r in r_rng for c in c_rng for vt in corners]
+        if not all(math.isfinite(x) for x in full + zero):
+            continue
+        if max(full) <= band[0] and min(zero) >= band[1]:
+            key = (f_of(osc, rv, cv) / f_of(osc, rv + pot.value, cv), rn + 1 + cn)
+            best = key if best is None or key < best else best
+    result = trim(parts, osc, band)
+    if best is None:
+        assert result.candidates == []
+        return
+    assert result.candidates, "the brute force found a design the engine missed"
+    first = result.candidates[0]
+    assert first.range_hz[1] / first.range_hz[0] <= best[0] * (1 + 1e-9)
