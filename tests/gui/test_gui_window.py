@@ -440,3 +440,16 @@ def test_typing_into_a_value_cell_like_a_person(qtbot, window):
     search_done(qtbot, window, lambda: qtbot.keyClick(editor, Qt.Key.Key_Return))
     assert window.drawer.rows[9].get("value") == "8k2"
     assert window.drawer.undo_text() == "Edit value"
+
+
+def test_new_empty_drawer_explains_why_there_is_nothing(qtbot, window):
+    search_done(qtbot, window, window.new_action.trigger)
+    assert len(window.drawer) == 0 and window.candidates.rowCount() == 0
+    assert "no resistors" in window.notes.text()
+    assert "new drawer" in window.windowTitle()
+    # Paste a few values and the search finds something at once.
+    from gui.drawer_panel import paste_rows
+
+    search_done(qtbot, window, lambda: window.drawer_panel.add_rows(
+        paste_rows("10k 15k 22k 47n 68n 100n", quantity="2"), "Paste values"))
+    assert window.candidates.rowCount() > 0
