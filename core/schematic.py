@@ -314,7 +314,8 @@ def _maps(networks: list[Network]) -> tuple[dict[int, str], dict[int, str]]:
 
 def schmitt_schematic(feedback: list[Network], capacitor: Network, *, gate_ref: str,
                       input_pin: str, output_pin: str, vcc_pin: str, gnd_pin: str,
-                      supply_text: str, decoupling_text: str) -> Schematic:
+                      supply_text: str, decoupling_text: str,
+                      gate_note: str = "") -> Schematic:
     """Inverter with the feedback networks (in series, output → input) and C to ground.
 
     ``feedback`` is the fixed resistor network, then the pot for a trim design.
@@ -347,6 +348,8 @@ def schmitt_schematic(feedback: list[Network], capacitor: Network, *, gate_ref: 
     items.append(Label((gate_x + 0.5, -0.3), input_pin, "center", "top"))
     items.append(Label((out_gate - 0.5, -0.3), output_pin, "center", "top"))
     items.append(Label((gate_x + GATE / 2 - 0.3, 2.4), gate_ref, "center", "bottom"))
+    if gate_note:  # e.g. a NAND gate's second input tied high
+        items.append(Label((gate_x + GATE / 2 - 0.3, 3.6), gate_note, "center", "bottom"))
     items.append(Wire(((out_gate, 0.0), (x_out + 4.0, 0.0))))
     items.append(Junction((0.0, 0.0)))
     items.append(Junction((x_out, 0.0)))

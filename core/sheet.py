@@ -32,6 +32,8 @@ CONTROL_F = 10e-9
 """555 control-voltage pin to ground (NE555 data sheet application circuits: 0.01 µF)."""
 STEERING_DIODE = "1N4148"
 MONTE_CARLO_DRAWS = 10_000
+CHECK_ROTATIONS = (0.0, 25.0, 50.0, 75.0, 100.0)
+"""Pot rotations [%] whose nominal frequency the trim sheet lists, to find one's place."""
 
 
 @dataclass(frozen=True)
@@ -168,50 +170,39 @@ def _support_row(refs: str, what: str, farads: float, stock: Sequence[Part],
                    part.stock_line)
 
 
-def build_sheet(osc: Oscillator, candidate: Candidate | TrimCandidate, target: str, *,
-                stock: Sequence[Part] = (), ratings: Mapping[int, str] | None = None,
-                today: _dt.date | None = None) -> Sheet:
-    """The build sheet for ``candidate`` on ``osc``.
+def _value_text(part: Part) -> str:
+    return _fmt(part.value, part.kind)
 
-    ``target`` is the person's target as text (``1 kHz``, ``900 Hz … 1.1 kHz``);
-    ``stock`` the drawer's parts, to find the decoupling capacitors in it;
-    ``ratings`` stock line -> voltage rating text (``voltage_ratings``), used
-    to check polarised capacitors against the supply.
-    """
-    trim = isinstance(candidate, TrimCandidate)
-    device = osc.device
-    family = device.family
-    package = family.package
-    supply = device.supply_v
-    supply_text = format_quantity(supply, "voltage")
-    networks: dict[str, Node] = dict(candidate.networks)
-    value_text = lambda part: _fmt(part.value, part.kind)  # noqa: E731
 
+def _schematic(osc: Oscillator, networks: Mapping[str, Node], supply_text: str,
+               steered: bool) -> Schematic:
+    """The circuit drawn from the candidate's networks and the family's package pins."""
+    family = osc.family
+    pins = family.package.pins
     if osc.circuit == "555":
-        pins = {role: str(package.pins[key]) for role, key in
-                (("gnd", "gnd"), ("trig", "trigger"), ("out", "output"), ("reset", "reset"),
-                 ("ctrl", "control"), ("thr", "threshold"), ("dis", "discharge"),
-                 ("vcc", "vcc"))}
-        steered = bool(getattr(candidate, "diode_steered", False))
-        schematic = astable_schematic(
-            Network(networks["RA"], "RA", value_text), Network(networks["RB"], "RB", value_text),
-            Network(networks["C"], "C", value_text), pins=pins, chip=f"U1 {family.name}",
-            supply_text=f"+{supply_text}", decoupling_text=_fmt(DECOUPLING_F, "C"),
-            control_text=_fmt(CONTROL_F, "C"),
+        roles = {"gnd": "gnd", "trig": "trigger", "out": "output", "reset": "reset",
+                 "ctrl": "control", "thr": "threshold", "dis": "discharge", "vcc": "vcc"}
+        return astable_schematic(
+            Network(networks["RA"], "RA", _value_text), Network(networks["RB"], "RB", _value_text),
+            Network(networks["C"], "C", _value_text),
+            pins={role: str(pins[key]) for role, key in roles.items()},
+            chip=f"U1 {family.name}", supply_text=supply_text,
+            decoupling_text=_fmt(DECOUPLING_F, "C"), control_text=_fmt(CONTROL_F, "C"),
             diode_text=STEERING_DIODE if steered else None)
-    else:
-        feedback = [Network(networks["R"], "R", value_text)]
-        if trim:
-            feedback.append(Network(networks["P"], "P", value_text))
-        schematic = schmitt_schematic(
-            feedback, Network(networks["C"], "C", value_text),
-            gate_ref=f"U1a {family.name}", input_pin=str(package.pins["input"]),
-            output_pin=str(package.pins["output"]), vcc_pin=str(package.pins["vcc"]),
-            gnd_pin=str(package.pins["gnd"]), supply_text=f"+{supply_text}",
-            decoupling_text=_fmt(DECOUPLING_F, "C"))
-        steered = False
+    feedback = [Network(networks["R"], "R", _value_text)]
+    if "P" in networks:
+        feedback.append(Network(networks["P"], "P", _value_text))
+    return schmitt_schematic(
+        feedback, Network(networks["C"], "C", _value_text), gate_ref=f"U1a {family.name}",
+        input_pin=str(pins["input"]), output_pin=str(pins["output"]),
+        vcc_pin=str(pins["vcc"]), gnd_pin=str(pins["gnd"]), supply_text=supply_text,
+        decoupling_text=_fmt(DECOUPLING_F, "C"),
+        gate_note=f"NAND: pin {pins['tie_high']} to VCC" if "tie_high" in pins else "")
 
-    # Parts list: one line per stock line used, in schematic order.
+
+def _parts_list(osc: Oscillator, schematic: Schematic, networks: Mapping[str, Node],
+                stock: Sequence[Part], steered: bool) -> tuple[list[PartRow], list[Part]]:
+    """Rows in reference order (one per stock line and role) and the drawer parts used."""
     refs: dict[tuple[int, str], list[str]] = {}
     first: dict[tuple[int, str], Part] = {}
     for placed in schematic.placed:
@@ -229,8 +220,9 @@ def build_sheet(osc: Oscillator, candidate: Candidate | TrimCandidate, target: s
         rows.append(PartRow(", ".join(refs[key]), _describe(part) + role,
                             _fmt(part.value, part.kind), str(part.tolerance), len(refs[key]),
                             part.location or "—", key[0], note))
+    family = osc.family
     rows.append(PartRow("U1", family.description, family.name, "", 1, "", None,
-                        package.name))
+                        family.package.name))
     support = schematic.support
     around = [_support_row(support["decoupling"], "decoupling, ceramic", DECOUPLING_F, stock,
                            used, take)]
@@ -241,6 +233,28 @@ def build_sheet(osc: Oscillator, candidate: Candidate | TrimCandidate, target: s
             around.append(PartRow(support["diode"], "small-signal diode", STEERING_DIODE, "",
                                   1, "", None, "anode to DIS (7), cathode to THR (6)"))
     rows += sorted(around, key=lambda r: (r.refs[0], int(r.refs[1:])))
+    return rows, take
+
+
+def build_sheet(osc: Oscillator, candidate: Candidate | TrimCandidate, target: str, *,
+                stock: Sequence[Part] = (), ratings: Mapping[int, str] | None = None,
+                today: _dt.date | None = None) -> Sheet:
+    """The build sheet for ``candidate`` on ``osc``.
+
+    ``target`` is the person's target as text (``1 kHz``, ``900 Hz … 1.1 kHz``);
+    ``stock`` the drawer's parts, to find the decoupling capacitors in it;
+    ``ratings`` stock line -> voltage rating text (``voltage_ratings``), used
+    to check polarised capacitors against the supply.
+    """
+    trim = isinstance(candidate, TrimCandidate)
+    family = osc.family
+    package = family.package
+    supply = osc.supply_v
+    supply_text = format_quantity(supply, "voltage")
+    networks: dict[str, Node] = dict(candidate.networks)
+    steered = bool(getattr(candidate, "diode_steered", False))
+    schematic = _schematic(osc, networks, f"+{supply_text}", steered)
+    rows, take = _parts_list(osc, schematic, networks, stock, steered)
 
     extra = {"diode_steered": True} if steered else {}
     dielectric = _common_dielectric(networks["C"])
@@ -261,6 +275,11 @@ def build_sheet(osc: Oscillator, candidate: Candidate | TrimCandidate, target: s
                                        "threshold corner)"),
             ("Frequency at the starting position", f"{_hz(frequency)} at {start:.0f} % "
                                                    "rotation"),
+            ("Along the travel (nominal)", ", ".join(
+                f"{x:.0f} %: {_hz(float(f))}" for x, f in zip(
+                    CHECK_ROTATIONS, frequency_at_rotation(osc, candidate,
+                                                           np.array(CHECK_ROTATIONS)),
+                    strict=True))),
         ]
     else:
         model_values = {k: float(v) for k, v in candidate.values.items()}
@@ -314,7 +333,7 @@ def build_sheet(osc: Oscillator, candidate: Candidate | TrimCandidate, target: s
         adjustment=adjustment,
         build_notes=_build_notes(osc, package, networks, trim),
         warnings=warnings,
-        cautions=_cautions(osc, take, ratings or {}, supply),
+        cautions=_cautions(take, ratings or {}, supply),
         take=tuple(take),
     )
 
@@ -459,8 +478,8 @@ def _build_notes(osc: Oscillator, package: Any, networks: Mapping[str, Node],
     return notes
 
 
-def _cautions(osc: Oscillator, take: Iterable[Part], ratings: Mapping[int, str],
-              supply: float) -> list[str]:
+def _cautions(take: Iterable[Part], ratings: Mapping[int, str], supply: float) -> list[str]:
+    """Safety first (common practice, no published source; mains: local codes apply)."""
     out = [
         f"Power the circuit from a low-voltage, current-limited supply: a bench supply set to "
         f"{format_quantity(supply, 'voltage')} with its current limit at about 50 mA, or a "
