@@ -100,6 +100,7 @@ class MainWindow(QMainWindow):
         self._slowest_ms = 0.0
         self.last_search_ms: float | None = None
         self.startup_seconds: float | None = None
+        self._closed = False
 
         drawer, note = self._initial_drawer(stock)
         self.untitled = "demo drawer (a copy)"
@@ -756,10 +757,11 @@ class MainWindow(QMainWindow):
         self.save_settings()
         if self.remember:
             self.autosave.end_session()
+        self._closed = True
         event.accept()
 
     def quitting(self) -> None:
         """The application quits without a close (logout): keep unsaved edits for next time."""
-        if self.remember and self.drawer.dirty:
+        if self.remember and not self._closed and self.drawer.dirty:
             self.autosave_now()
 
