@@ -7,7 +7,6 @@ and the first search come right after, so the window appears quickly.
 from __future__ import annotations
 
 import sys
-import time
 
 from PySide6.QtCore import QEventLoop, Qt, QTimer
 from PySide6.QtGui import QGuiApplication
@@ -62,7 +61,6 @@ def run_window(stock: str | None = None, screenshot: str | None = None) -> int:
     A screenshot run ignores and keeps the remembered settings, so pictures are
     reproducible.
     """
-    started = time.perf_counter()
     app = make_application()
     window = MainWindow(stock, remember=screenshot is None)
     if screenshot:
@@ -70,7 +68,6 @@ def run_window(stock: str | None = None, screenshot: str | None = None) -> int:
     error_hook.install(lambda message: window.tell("Unexpected error", message))
     app.aboutToQuit.connect(window.quitting)
     window.show()
-    window.startup_seconds = time.perf_counter() - started
     QTimer.singleShot(0, window.finish_startup)
     return int(app.exec())
 

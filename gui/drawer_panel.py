@@ -475,6 +475,3 @@ class DrawerPanel(QWidget):
     def sort_drawer(self) -> None:
         self.drawer.replace_rows(sorted_rows(self.model), "Sort by kind and value")
         self.table.horizontalHeader().setSortIndicator(-1, Qt.SortOrder.AscendingOrder)
-
-    def current_source_index(self) -> QModelIndex:
-        return self.proxy.mapToSource(self.table.currentIndex())

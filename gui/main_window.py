@@ -99,7 +99,6 @@ class MainWindow(QMainWindow):
         self._plots: Any = None
         self._slowest_ms = 0.0
         self.last_search_ms: float | None = None
-        self.startup_seconds: float | None = None
         self._closed = False
 
         drawer, note = self._initial_drawer(stock)
