@@ -26,7 +26,7 @@ QFrame#panel { background: #ffffff; border: 1px solid #d8d5cd; border-radius: 6p
 QLabel#heading { font-weight: 600; color: #2e4a4f; padding-bottom: 2px; }
 QLabel#hint { color: #5f6468; }
 QLabel#problem { color: #9c2a1f; }
-QLineEdit[invalid="true"] { border: 1px solid #b3261e; background: #fdeceA; }
+QLineEdit[invalid="true"] { border: 1px solid #b3261e; background: #fdecea; }
 QTableView { gridline-color: #e6e3dc; selection-background-color: #cfe3e1;
              selection-color: #1d2b2d; alternate-background-color: #f8f7f4; }
 QHeaderView::section { background: #ecebe6; color: #3a3f44; border: none;
