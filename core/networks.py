@@ -307,7 +307,7 @@ def _tree(code: int, leaves: list[Node]) -> Node:
 
 # ---------------------------------------------------------------- building
 
-TRIPLE_CHUNK = 1_000_000
+TRIPLE_CHUNK = 300_000
 """Three-part combinations evaluated at once (bounds memory for very large drawers)."""
 
 
@@ -401,6 +401,7 @@ def build_index(parts: Iterable[Part], kind: NetworkKind, max_parts: int = 2,
             done += len(i)
             ok = np.where(i == j, gq[i] >= 2 + (j == k), (j != k) | (gq[j] >= 2))
             use = np.stack([i[ok], j[ok], k[ok]], axis=1).astype(np.int16)
+            del i, j, k, ok
             v = [gv[use[:, col]] for col in range(3)]
             blocks: list[tuple[int, tuple[int, ...], Any]] = [
                 (SERIES3, (0, 1, 2), lambda v=v: ser(ser(v[0], v[1]), v[2])),

@@ -13,6 +13,7 @@ six-part drawer. Nothing is asserted: the figures are for the README.
 from __future__ import annotations
 
 import csv
+import resource
 import statistics
 import subprocess
 import sys
@@ -67,28 +68,30 @@ def best_of(fn: Callable[[], object], n: int) -> tuple[float, float]:
     return min(times), statistics.median(times)
 
 
-def process_time(argv: list[str], n: int = 7) -> tuple[float, int]:
-    """Best wall time [s] of the whole ``tickbin`` process, and its peak RSS [kB].
+def process_time(argv: list[str], n: int = 7) -> tuple[float, float, int]:
+    """Best wall time [s] and CPU time [s] of the whole ``tickbin`` process, peak RSS [kB].
 
-    The best of ``n`` runs, since other work on the machine only ever adds time.
-
-    Peak RSS is read from /proc/self/status (VmHWM): getrusage's ru_maxrss would
-    carry over this benchmark's own size through fork and exec.
+    The best of ``n`` runs, since other work on the machine only ever adds time;
+    CPU time (user + system) is steadier than wall time on a busy machine. Peak
+    RSS is read from /proc/self/status (VmHWM): getrusage's ru_maxrss would carry
+    over this benchmark's own size through fork and exec.
     """
-    times = []
-    peak = 0
+    walls, cpus = [], []
     code = ("import sys\nfrom core.cli import main\nrc = main(sys.argv[1:])\n"
             "hwm = [ln for ln in open('/proc/self/status') if ln.startswith('VmHWM')]\n"
             "sys.stderr.write(hwm[0].split()[1] + '\\n')\nsys.exit(rc)")
     for _ in range(n):
+        before = resource.getrusage(resource.RUSAGE_CHILDREN)
         t = time.perf_counter()
         p = subprocess.run(["tickbin", *argv], capture_output=True, text=True, check=True)
-        times.append(time.perf_counter() - t)
+        walls.append(time.perf_counter() - t)
+        after = resource.getrusage(resource.RUSAGE_CHILDREN)
+        cpus.append(after.ru_utime + after.ru_stime - before.ru_utime - before.ru_stime)
         assert p.stdout.startswith("{")
     p = subprocess.run([sys.executable, "-c", code, *argv], capture_output=True, text=True,
                        check=True)
     peak = int(p.stderr.strip().splitlines()[-1])
-    return min(times), peak
+    return min(walls), min(cpus), peak
 
 
 def main() -> None:
@@ -140,12 +143,14 @@ def main() -> None:
 
         for extra in ([], ["--max-resistors", "3"]):
             args = ["--target", "1k", "--json", *extra]
-            t_kit, rss_kit = process_time(["search", "--stock", str(kit_csv), *args])
-            t_six, rss_six = process_time(["search", "--stock", str(six_csv), *args])
+            t_kit, cpu_kit, rss_kit = process_time(["search", "--stock", str(kit_csv), *args])
+            t_six, cpu_six, rss_six = process_time(["search", "--stock", str(six_csv), *args])
             label = " ".join(extra) or "default networks"
-            print(f"tickbin search process ({label}): kit {t_kit * 1e3:.0f} ms "
-                  f"({rss_kit / 1024:.0f} MB peak RSS), six parts {t_six * 1e3:.0f} ms "
-                  f"({rss_six / 1024:.0f} MB); ratio {t_kit / t_six:.2f}")
+            print(f"tickbin search process ({label}): kit {t_kit * 1e3:.0f} ms wall, "
+                  f"{cpu_kit * 1e3:.0f} ms CPU, {rss_kit / 1024:.0f} MB peak RSS; six parts "
+                  f"{t_six * 1e3:.0f} ms wall, {cpu_six * 1e3:.0f} ms CPU, "
+                  f"{rss_six / 1024:.0f} MB; ratio {t_kit / t_six:.2f} wall, "
+                  f"{cpu_kit / cpu_six:.2f} CPU")
 
 
 if __name__ == "__main__":
