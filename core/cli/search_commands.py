@@ -184,7 +184,7 @@ def _search_text(data: dict[str, Any], result: SearchResult, osc: Oscillator) ->
     roles = ("RA", "RB", "C") if osc.circuit == "555" else ("R", "C")
     rows = []
     for k, c in enumerate(result.candidates, 1):
-        rows.append([str(k), format_frequency(c.frequency_hz, 4), f"{c.error_pct:+.2f} %",
+        rows.append([str(k), format_frequency(c.frequency_hz, 4), _signed_pct(c.error_pct),
                      f"{c.duty_pct:.0f} %", _band_text(c.worst_case_hz), str(c.part_count),
                      *(c.networks[r].describe() for r in roles)])
     if rows:
@@ -202,8 +202,14 @@ def _search_text(data: dict[str, Any], result: SearchResult, osc: Oscillator) ->
             owned = ", ".join(f"{r} = {t}" for r, t in s["with_text"].items())
             out.append(f"  {s['buy']['text']} ({s['buy']['series']}) as {s['buy']['role']}, "
                        f"with {owned}: {format_frequency(s['frequency_hz'], 4)} "
-                       f"({s['error_pct']:+.2f} %)")
+                       f"({_signed_pct(s['error_pct'])})")
     return "\n".join(out)
+
+
+def _signed_pct(x: float) -> str:
+    """``+0.25 %``; an error that rounds to zero shows no sign."""
+    text = f"{x:+.2f}"
+    return f"{'0.00' if text in ('+0.00', '-0.00') else text} %"
 
 
 def _candidate_notes(candidates: list[Candidate]) -> list[str]:
