@@ -321,6 +321,10 @@ class DrawerPanel(QWidget):
 
         self.count_label = QLabel()
         self.count_label.setObjectName("hint")
+        self.count_label.setTextFormat(Qt.TextFormat.RichText)
+        self.count_label.setToolTip("Click “to fix” to show only the rows that need fixing")
+        self.count_label.linkActivated.connect(
+            lambda _: self.kind_filter.setCurrentIndex(self.kind_filter.findData("bad")))
         for signal in (model.modelReset, model.rowsInserted, model.rowsRemoved,
                        model.dataChanged, self.proxy.layoutChanged, self.proxy.rowsInserted,
                        self.proxy.rowsRemoved, self.proxy.modelReset):
@@ -394,7 +398,7 @@ class DrawerPanel(QWidget):
         shown = self.proxy.rowCount()
         text = f"{total} rows" if shown == total else f"{shown} of {total} rows"
         if bad:
-            text += f" · ⚠ {bad} to fix"
+            text += f' · <a href="fix">⚠ {bad} to fix</a>'
         self.count_label.setText(text)
 
     # -- selection helpers

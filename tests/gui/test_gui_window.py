@@ -381,6 +381,8 @@ def test_import_adds_rows_as_one_step_and_keeps_bad_cells(qtbot, window, tmp_pat
     assert n + 1 in window.drawer.problems()
     assert "bin_colour" in window.drawer.columns  # the file's own column comes along
     assert "1 to fix" in window.drawer_panel.count_label.text()
+    window.drawer_panel.count_label.linkActivated.emit("fix")
+    assert window.drawer_panel.proxy.rowCount() == 1  # only the row to fix is shown
     window.undo_action.trigger()
     assert len(window.drawer) == n
 
