@@ -213,13 +213,13 @@ class _Flow:
         self.key_values(s.summary, 34.0)
         self.heading("Schematic")
         self.schematic()
-        # Keep the parts list on one page with its heading wherever it fits.
-        whole = sum(h + 1.6 for h in self.parts_layout()[2])
-        self.heading("Parts list", keep=min(whole, self.height - 20.0))
-        self.parts()
-        self.heading(f"Pin hookup ({s.package})", keep=20)
-        self.table(["Pin", "Function", "Connect to"], [[r.pin, r.function, r.connect]
-                                                      for r in s.pins], [30, 40, None])
+        self.table("Parts list",
+                   ["", "Ref", "Part", "Value", "Tol.", "Qty", "Location", "Line", "Note"],
+                   [["", r.refs, r.what, r.value, r.tolerance, str(r.quantity), r.location,
+                     "" if r.line is None else str(r.line), r.note] for r in s.parts],
+                   [7.0, 14.0, 40.0, 18.0, 13.0, 9.0, 17.0, 10.0, None], tick_boxes=True)
+        self.table(f"Pin hookup ({s.package})", ["Pin", "Function", "Connect to"],
+                   [[r.pin, r.function, r.connect] for r in s.pins], [30, 40, None])
         self.heading("Predicted performance", keep=50)
         self.key_values(s.predictions, 70.0)
         self.plot()
@@ -266,63 +266,35 @@ class _Flow:
             self.draw_text(key_width, self.y, self.width - key_width, value, body)
             self.y += h + 0.8
 
-    def table(self, header: list[str], rows: list[list[str]],
-              widths: list[float | None]) -> None:
+    def table(self, title: str, header: list[str], rows: list[list[str]],
+              widths: list[float | None], tick_boxes: bool = False) -> None:
+        """A titled table, kept on one page with its title wherever it fits.
+
+        ``widths`` in mm, None sharing what is left; ``tick_boxes`` draws an empty
+        box in the first column of every row (ticked off by hand while building).
+        """
         fixed = sum(w for w in widths if w is not None)
         free = [i for i, w in enumerate(widths) if w is None]
         col = [w if w is not None else (self.width - fixed) / len(free) for w in widths]
         body, bold = _font(self.BODY), _font(self.BODY, True)
-
-        def line(cells: list[str], font: QFont, shade: bool) -> None:
-            h = max(self.text_height(c, w - 2.0, font) for c, w in zip(cells, col, strict=True))
-            self.need(h + 1.6)
-            if shade:
-                self.p.fillRect(QRectF(0, self.y, self.width, h + 1.2), _LIGHT)
-            x = 0.0
-            for c, w in zip(cells, col, strict=True):
-                self.draw_text(x + 1.0, self.y + 0.6, w - 2.0, c, font)
-                x += w
-            self.y += h + 1.2
-            self.p.setPen(QPen(_GREY, 0.15))
-            self.p.drawLine(QPointF(0, self.y), QPointF(self.width, self.y))
-            self.y += 0.4
-
-        line(header, bold, True)
-        for r in rows:
-            line(r, body, False)
-
-    def parts_layout(self) -> tuple[list[list[str]], list[float], list[float]]:
-        """Cells (header first), column widths and row heights of the parts list [mm]."""
-        header = ["", "Ref", "Part", "Value", "Tol.", "Qty", "Location", "Line", "Note"]
-        widths = [7.0, 14.0, 40.0, 18.0, 13.0, 9.0, 17.0, 10.0]
-        widths.append(self.width - sum(widths))
-        body, bold = _font(self.BODY), _font(self.BODY, True)
-        rows = [["", r.refs, r.what, r.value, r.tolerance, str(r.quantity), r.location,
-                 "" if r.line is None else str(r.line), r.note] for r in self.sheet.parts]
         cells = [header, *rows]
-        heights = [max(max(self.text_height(c, w - 2.0, bold if i == 0 else body) if c else 0.0
-                           for c, w in zip(row, widths, strict=True)), 4.6 if i else 0.0)
+        heights = [max(max((self.text_height(c, w - 2.0, bold if i == 0 else body)
+                            for c, w in zip(row, col, strict=True) if c), default=0.0),
+                       4.6 if tick_boxes and i else 0.0)
                    for i, row in enumerate(cells)]
-        return cells, widths, heights
-
-    def parts(self) -> None:
-        body, bold = _font(self.BODY), _font(self.BODY, True)
-        cells_all, widths, heights = self.parts_layout()
-        for i, cells in enumerate(cells_all):
-            font = bold if i == 0 else body
-            h = heights[i]
+        self.heading(title, keep=min(sum(h + 1.6 for h in heights), self.height - 20.0))
+        for i, (row, h) in enumerate(zip(cells, heights, strict=True)):
             self.need(h + 1.6)
             if i == 0:
                 self.p.fillRect(QRectF(0, self.y, self.width, h + 1.2), _LIGHT)
-            else:
-                # The tick box: ticked off by hand as each part goes in.
+            elif tick_boxes:
                 self.p.setPen(QPen(Qt.GlobalColor.black, 0.3))
                 self.p.setBrush(Qt.BrushStyle.NoBrush)
                 self.p.drawRect(QRectF(1.5, self.y + 0.6, 3.8, 3.8))
             x = 0.0
-            for c, w in zip(cells, widths, strict=True):
+            for c, w in zip(row, col, strict=True):
                 if c:
-                    self.draw_text(x + 1.0, self.y + 0.6, w - 2.0, c, font)
+                    self.draw_text(x + 1.0, self.y + 0.6, w - 2.0, c, bold if i == 0 else body)
                 x += w
             self.y += h + 1.2
             self.p.setPen(QPen(_GREY, 0.15))
