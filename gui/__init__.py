@@ -1,5 +1,1 @@
-"""Tickbin window."""
-
-from gui.qt_compat import keep_none_alive
-
-keep_none_alive()  # before any Qt call (see gui/qt_compat.py)
+"""Tickbin window: PySide6 and pyqtgraph views over core objects."""

@@ -34,7 +34,6 @@ from core import schematic as sch
 from core.errors import InputError, TickbinError
 from core.sheet import Sheet
 from core.units import format_quantity
-from gui.qt_compat import keep_none_alive
 
 PAGE_SIZES = {"a4": QPageSize.PageSizeId.A4, "letter": QPageSize.PageSizeId.Letter}
 MARGIN_MM = 15.0
@@ -47,7 +46,6 @@ FONT_FAMILY = "DejaVu Sans"
 
 
 
-keep_none_alive()  # also when gui/__init__ did not run (a test tree's gui/ folder shadows it)
 
 if TYPE_CHECKING:
     from PySide6.QtPrintSupport import QPrinter

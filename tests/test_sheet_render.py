@@ -131,13 +131,15 @@ def test_unknown_page_size_is_refused(qapp, sheets, tmp_path):
         render_sheet_pdf(sheets["search"], tmp_path / "x.pdf", "A3")
 
 
-def test_none_survives_a_lifetime_of_sheets(qapp, sheets, tmp_path):
-    """PySide6 6.12 on Python 3.11 drops a reference to None per C++ void call made from
-    Python; gui/qt_compat.py gives None enough references that a million sheets cannot
-    bring its count to zero (the interpreter aborts when it does)."""
+def test_drawing_a_sheet_keeps_none_and_true_alive(qapp, sheets, tmp_path):
+    """PySide6 6.12.0 on Python 3.11 drops a reference to None on every C++ void call
+    and to True on every signal emit; the count reaching zero aborts the interpreter
+    (pyproject.toml excludes that release). A sheet makes thousands of such calls."""
     import sys
 
-    before = sys.getrefcount(None)
-    render_sheet_pdf(sheets["trim"], tmp_path / "x.pdf")
-    lost = before - sys.getrefcount(None)
-    assert sys.getrefcount(None) > 1_000_000 * max(lost, 1)
+    before = sys.getrefcount(None), sys.getrefcount(True)
+    for _ in range(3):
+        render_sheet_pdf(sheets["trim"], tmp_path / "x.pdf")
+    after = sys.getrefcount(None), sys.getrefcount(True)
+    assert after[0] >= before[0] - 50, "the Qt binding is losing references to None"
+    assert after[1] >= before[1] - 50, "the Qt binding is losing references to True"
