@@ -17,6 +17,7 @@ from hypothesis import strategies as st
 
 from core.cli import build_parser, main
 from core.locations import demo_drawer_path
+from gui.entry import render_sheet
 
 DEMO = str(demo_drawer_path())
 SCHMITT = ["--circuit", "schmitt", "--family", "74HC14", "--supply", "5V"]
@@ -28,6 +29,7 @@ BASE: dict[str, list[str]] = {
     "search": ["--stock", DEMO, *SCHMITT, "--target", "1kHz", "--top", "3"],
     "trim": ["--stock", DEMO, *SCHMITT, "--band", "400..480", "--top", "2"],
     "netlist": ["--stock", DEMO, *SCHMITT, "--target", "1kHz"],
+    "sheet": ["--stock", DEMO, *SCHMITT, "--target", "1kHz"],
 }
 
 _junk = st.one_of(
@@ -48,7 +50,7 @@ def _options(command: str) -> list[str]:
 
 def _run(argv: list[str], capsys: pytest.CaptureFixture[str]) -> tuple[int, str, str]:
     try:
-        status = main(argv)
+        status = main(argv, render_sheet=render_sheet)
     except SystemExit as e:  # argparse usage errors
         status = int(e.code or 0)
     out, err = capsys.readouterr()
@@ -56,7 +58,7 @@ def _run(argv: list[str], capsys: pytest.CaptureFixture[str]) -> tuple[int, str,
 
 
 @pytest.mark.parametrize("command", sorted(BASE))
-@settings(max_examples=12, deadline=None,
+@settings(max_examples=25, deadline=None,
           suppress_health_check=[HealthCheck.function_scoped_fixture, HealthCheck.too_slow])
 @given(data=st.data())
 def test_every_option_takes_any_text(command: str, data: st.DataObject,
@@ -69,8 +71,8 @@ def test_every_option_takes_any_text(command: str, data: st.DataObject,
         argv[argv.index(option) + 1] = junk
     else:
         argv += [option, junk]
-    if command == "netlist":
-        argv += ["--out", str(tmp_path / "x.cir")]
+    if command in ("netlist", "sheet"):
+        argv += ["--out", str(tmp_path / ("x.cir" if command == "netlist" else "x.pdf"))]
     status, out, err = _run([*argv, "--json"], capsys)
     assert "Traceback" not in err
     if status == 0:
