@@ -31,6 +31,13 @@ def place(part: Any) -> str:
         f"line {part.stock_line}")
 
 
+def used_rows(candidate: Any) -> dict[int, int]:
+    """How many parts a candidate takes from each drawer row: {row index: count}."""
+    counts: Counter[int] = Counter(p.row for node in candidate.networks.values()
+                                   for p in node.parts())
+    return dict(counts)
+
+
 def where(networks: dict[str, Any]) -> str:
     """Where every part lives: ``B1-06, line 11 ×2; B2-01, line 30``."""
     counts: Counter[Any] = Counter(p for node in networks.values() for p in node.parts())

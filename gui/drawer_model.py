@@ -47,12 +47,21 @@ SORT_ROLE = Qt.ItemDataRole.UserRole + 1
 PROBLEM_ROLE = Qt.ItemDataRole.UserRole + 2
 """Role giving the reason a cell is bad, or None."""
 
+USED_ROLE = Qt.ItemDataRole.UserRole + 3
+"""Role giving how many parts of this row the selected candidate takes (0 if none)."""
+
 BAD_BACKGROUND = QColor(253, 226, 222)
 BAD_FOREGROUND = QColor(140, 28, 20)
+USED_BACKGROUND = QColor(250, 236, 190)
+"""Rows the selected candidate takes parts from: a warm tint, unlike selection or errors."""
 
 
 class DrawerTableModel(QAbstractTableModel):
-    """Rows of the drawer, columns per ``DISPLAY_COLUMNS`` plus the file's own extras."""
+    """Rows of the drawer, columns per ``DISPLAY_COLUMNS`` plus the file's own extras.
+
+    ``set_used`` marks the rows a candidate takes parts from (tinted, the count
+    beside the quantity), so the person sees which bins to open.
+    """
 
     def __init__(self, drawer: Drawer, parent: Any = None, *, checking: bool = True):
         super().__init__(parent)
@@ -63,6 +72,7 @@ class DrawerTableModel(QAbstractTableModel):
         self._columns: list[str] = []
         self._icon: QIcon | None = None
         self._by_row: tuple[object, dict[int, Part]] = (None, {})
+        self._used: dict[int, int] = {}
         self.set_drawer(drawer)
 
     # -- the drawer behind the model
@@ -79,7 +89,22 @@ class DrawerTableModel(QAbstractTableModel):
         self._drawer = drawer
         self._connect(drawer, connect=True)
         self._columns = self._column_list()
+        self._used = {}
         self.endResetModel()
+
+    def set_used(self, used: dict[int, int]) -> None:
+        """Mark rows a candidate uses: {row index: parts taken}; ``{}`` clears the marks."""
+        if used == self._used:
+            return
+        changed = set(self._used) | set(used)
+        self._used = {row: n for row, n in used.items() if 0 <= row < self.rowCount()}
+        last = self.columnCount() - 1
+        for row in sorted(r for r in changed if 0 <= r < self.rowCount()):
+            self.dataChanged.emit(self.index(row, 0), self.index(row, last))
+
+    def used(self, row: int) -> int:
+        """Parts the selected candidate takes from ``row`` (0 when none)."""
+        return self._used.get(row, 0)
 
     def _connect(self, drawer: Drawer, *, connect: bool) -> None:
         pairs = ((drawer.inserting, self._on_inserting), (drawer.inserted, self._on_inserted),
@@ -128,6 +153,7 @@ class DrawerTableModel(QAbstractTableModel):
 
     # -- drawer events -> Qt notifications
     def _on_inserting(self, first: int, count: int) -> None:
+        self._used = {}  # rows shift: the next search result marks them again
         self.beginInsertRows(QModelIndex(), first, first + count - 1)
 
     def _on_inserted(self, first: int, count: int) -> None:
@@ -135,6 +161,7 @@ class DrawerTableModel(QAbstractTableModel):
         self.refresh_lines()
 
     def _on_removing(self, first: int, count: int) -> None:
+        self._used = {}
         self.beginRemoveRows(QModelIndex(), first, first + count - 1)
 
     def _on_removed(self, first: int, count: int) -> None:
@@ -147,6 +174,7 @@ class DrawerTableModel(QAbstractTableModel):
 
     def _on_resetting(self) -> None:
         self.beginResetModel()
+        self._used = {}
 
     def _on_reset(self) -> None:
         self._columns = self._column_list()
@@ -166,25 +194,39 @@ class DrawerTableModel(QAbstractTableModel):
 
     def data(self, index: QModelIndex | QPersistentModelIndex,
              role: int = Qt.ItemDataRole.DisplayRole) -> Any:
-        if not index.isValid() or not self.checkIndex(index):
+        row, col = index.row(), index.column()
+        # A cheap bounds check: data() runs for every cell at every repaint.
+        if not (index.isValid() and 0 <= row < len(self.drawer)
+                and 0 <= col < len(self._columns)):
             return None
-        row, column = index.row(), self._columns[index.column()]
+        column = self._columns[col]
         text = self.drawer.rows[row].get(column)
-        if role in (Qt.ItemDataRole.DisplayRole, Qt.ItemDataRole.EditRole):
+        if role == Qt.ItemDataRole.EditRole:
             return text
+        if role == Qt.ItemDataRole.DisplayRole:
+            used = self._used.get(row)
+            return f"{text}  (use {used})" if used and column == "quantity" else text
         if role == PROBLEM_ROLE:
             return self._problem(row, column)
+        if role == USED_ROLE:
+            return self._used.get(row, 0)
         if role == Qt.ItemDataRole.ToolTipRole:
             problem = self._problem(row, column)
             if problem:
                 shown = f"“{text}”" if text.strip() else "This cell"
                 return f"{shown} is not usable: {problem}"
+            used = self._used.get(row)
+            if used:
+                return (f"The selected candidate takes {used} part{'s' if used > 1 else ''} "
+                        f"from this row")
             return HINTS.get(column)
         if role == Qt.ItemDataRole.AccessibleDescriptionRole:
             problem = self._problem(row, column)
             return f"problem: {problem}" if problem else None
         if role == Qt.ItemDataRole.BackgroundRole:
-            return QBrush(BAD_BACKGROUND) if self._problem(row, column) else None
+            if self._problem(row, column):
+                return QBrush(BAD_BACKGROUND)
+            return QBrush(USED_BACKGROUND) if row in self._used else None
         if role == Qt.ItemDataRole.ForegroundRole:
             return QBrush(BAD_FOREGROUND) if self._problem(row, column) else None
         if role == Qt.ItemDataRole.DecorationRole:
@@ -248,7 +290,7 @@ class DrawerTableModel(QAbstractTableModel):
 
 
 class DrawerFilterProxy(QSortFilterProxyModel):
-    """Filter by kind (``"R"``, ``"P"``, ``"C"``, ``"bad"`` or all) and by text in any cell."""
+    """Filter by kind (``"R"``, ``"P"``, ``"C"``, ``"bad"``, ``"used"`` or all) and by text."""
 
     def __init__(self, parent: Any = None):
         super().__init__(parent)
@@ -258,7 +300,8 @@ class DrawerFilterProxy(QSortFilterProxyModel):
         self.setDynamicSortFilter(True)
 
     def set_kind(self, kind: str) -> None:
-        """``""`` all rows, ``"R"``/``"P"``/``"C"`` one kind, ``"bad"`` rows with problems."""
+        """``""`` all rows, ``"R"``/``"P"``/``"C"`` one kind, ``"bad"`` rows with problems,
+        ``"used"`` the rows the selected candidate takes parts from."""
         self.beginFilterChange()
         self._kind = kind
         self.endFilterChange(QSortFilterProxyModel.Direction.Rows)
@@ -277,6 +320,9 @@ class DrawerFilterProxy(QSortFilterProxyModel):
         row = drawer.rows[source_row]
         if self._kind == "bad":
             if source_row not in drawer.problems():
+                return False
+        elif self._kind == "used":
+            if not model.used(source_row):
                 return False
         elif self._kind:
             part = model.part_at(source_row)

@@ -285,10 +285,13 @@ class DrawerPanel(QWidget):
 
         self.kind_filter = QComboBox()
         for label, kind in (("All parts", ""), ("Resistors", "R"), ("Potentiometers", "P"),
-                            ("Capacitors", "C"), ("Rows to fix", "bad")):
+                            ("Capacitors", "C"), ("Rows to fix", "bad"),
+                            ("Used by the candidate", "used")):
             self.kind_filter.addItem(label, kind)
         self.kind_filter.setAccessibleName("show kind")
-        self.kind_filter.setToolTip("Show one kind of part, or only rows that need fixing")
+        self.kind_filter.setToolTip("Show one kind of part, only rows that need fixing, or "
+                                    "only the rows the selected candidate takes parts from "
+                                    "(tinted, with “use N” beside the quantity)")
         self.kind_filter.currentIndexChanged.connect(
             lambda: self.proxy.set_kind(self.kind_filter.currentData()))
         self.text_filter = QLineEdit()

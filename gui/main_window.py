@@ -10,6 +10,7 @@ from __future__ import annotations
 import contextlib
 import json
 import time
+from collections.abc import Iterator
 from pathlib import Path
 from typing import Any
 
@@ -42,7 +43,7 @@ from core.errors import DrawerFileError, TickbinError
 from core.locations import demo_drawer_path
 from gui import settings as keys
 from gui.autosave import INTERVAL_MS, Autosave
-from gui.candidates_model import CandidatesModel, parts_list
+from gui.candidates_model import CandidatesModel, parts_list, used_rows
 from gui.drawer_model import DrawerTableModel
 from gui.drawer_panel import DrawerPanel
 from gui.search_worker import Outcome, SearchRunner
@@ -119,9 +120,22 @@ class MainWindow(QMainWindow):
         self.notes.setObjectName("hint")
         self.notes.setWordWrap(True)
         self.notes.setTextInteractionFlags(Qt.TextInteractionFlag.TextSelectableByMouse)
+        self.spread_note = QLabel()
+        self.spread_note.setObjectName("advice")
+        self.spread_note.setWordWrap(True)
+        self.spread_note.setTextFormat(Qt.TextFormat.RichText)
+        self.spread_note.setAccessibleName("advice on the spread")
+        self.spread_note.linkActivated.connect(self._advice_link)
+        self.spread_note.hide()
         self.plot_area = QWidget()
         self.plot_area.setMinimumHeight(230)
-        QVBoxLayout(self.plot_area).setContentsMargins(0, 0, 0, 0)
+        plot_layout = QVBoxLayout(self.plot_area)
+        plot_layout.setContentsMargins(0, 0, 0, 0)
+        plot_layout.addWidget(self.spread_note)
+        self._drawing = 0
+        """Generation of the plot drawing in progress (a newer selection supersedes it)."""
+        self._announce = False
+        """Emit sigSearchDone once the plots of the new result are drawn."""
         self.runner = SearchRunner(self)
         self._build_layout()
         self._build_actions()
@@ -365,7 +379,6 @@ class MainWindow(QMainWindow):
             self._offer_restore()
             self.autosave.begin_session()
             self.autosave_timer.start()
-        self._install_build_actions()
         if self._ready:
             self.run_search()
         else:
@@ -375,14 +388,42 @@ class MainWindow(QMainWindow):
             self.runner.warm_up()
 
     def _became_ready(self) -> None:
+        """The worker has imported the slow modules: search, then make the plots in steps."""
         from gui.plots import PlotPanel
 
-        self._plots = PlotPanel()
-        self.plot_area.layout().addWidget(self._plots)
+        self._install_build_actions()
         self._ready = True
         self.drawer_model.start_checking()
         if self._pending:
             self.run_search()
+        panel = PlotPanel()
+        self.plot_area.layout().addWidget(panel, 1)
+        self._in_steps(panel.build_steps(), lambda: self._plots_built(panel))
+
+    def _plots_built(self, panel: Any) -> None:
+        self._plots = panel
+        if self.selected_candidate() is not None:
+            self._candidate_chosen()
+
+    def _in_steps(self, steps: Any, done: Any, generation: int | None = None) -> None:
+        """Run one step of ``steps`` now and the next after the window has painted.
+
+        A timer of 1 ms (not 0) lets Qt's low-priority paint request go first, so
+        every step shows before the next one starts. ``done()`` follows the last
+        step unless a newer drawing (``self._drawing``) has started meanwhile.
+        """
+        if generation is not None and generation != self._drawing:
+            return
+        clock = QElapsedTimer()
+        clock.start()
+        try:
+            next(steps)
+        except StopIteration:
+            done()
+            return
+        finally:
+            self._note_time(clock)
+        QTimer.singleShot(1, lambda: self._in_steps(steps, done, generation))
 
     def _install_build_actions(self) -> None:
         """Let the build-sheet module add its actions, if it offers them."""
@@ -639,12 +680,19 @@ class MainWindow(QMainWindow):
         self.say(text)
 
     def _show_result_none(self, why: str) -> None:
-        self._outcome = None
-        self.candidates.set_result([], trim=False)
+        """No candidates: empty table and plots, and ``why`` under the table (if given)."""
+        self._announce = False
+        self._drawing += 1
+        if why:
+            self._outcome = None
+            self.candidates.set_result([], trim=False)
+            self.notes.setText(why)
+            self.notes.show()
         self.details.clear()
-        self.notes.setText(why)
+        self.spread_note.hide()
+        self.drawer_model.set_used({})
         if self._plots is not None:
-            self._plots.clear(why)
+            self._plots.clear(why or "nothing to show")
 
     def _search_failed(self, generation: int, message: str) -> None:
         self.progress.hide()
@@ -679,12 +727,14 @@ class MainWindow(QMainWindow):
         row = 0
         if previous is not None and previous in result.candidates:
             row = result.candidates.index(previous)
+        self._announce = bool(count)  # sigSearchDone once the plots are drawn
         if count:
             self.select_candidate(row)
-        elif self._plots is not None:
-            self._plots.clear("nothing to show")
+        else:
+            self._show_result_none("")
         self._note_time(clock)
-        self.sigSearchDone.emit()
+        if not self._announce:
+            self.sigSearchDone.emit()
 
     def _note_time(self, clock: QElapsedTimer) -> None:
         self._slowest_ms = max(self._slowest_ms, clock.nsecsElapsed() / 1e6)
@@ -711,19 +761,48 @@ class MainWindow(QMainWindow):
         return self._outcome.oscillator if self._outcome else None
 
     def _candidate_chosen(self, *args: object) -> None:
+        """Show the chosen candidate: its parts in words and in the drawer, its plots."""
         candidate = self.selected_candidate()
+        self._drawing += 1
         if candidate is None or self._outcome is None:
             self.details.clear()
+            self.drawer_model.set_used({})
             return
         self.details.setText("\n".join(parts_list(candidate)))
+        self.drawer_model.set_used(used_rows(candidate))
         if self._plots is None:
-            return
-        from gui.plot_data import draw_candidate
+            return  # drawn once the plots exist (see _plots_built)
+        self._in_steps(self._drawing_steps(self._outcome, candidate), self._plots_drawn,
+                       self._drawing)
+
+    def _drawing_steps(self, outcome: Outcome, candidate: Any) -> Iterator[None]:
+        """Plots one at a time, then the advice on the spread; a model error (a candidate
+        that cannot be drawn) clears the plots instead."""
+        from gui.plot_data import chip_spread_advice, draw_steps
 
         try:
-            draw_candidate(self._plots, self._outcome, candidate)
+            yield from draw_steps(self._plots, outcome, candidate)
+            yield
+            advice = chip_spread_advice(outcome, candidate)
         except TickbinError as e:
             self._plots.clear(str(e))
+            advice = ""
+        self.spread_note.setText(advice)
+        self.spread_note.setVisible(bool(advice))
+
+    def _plots_drawn(self) -> None:
+        if self._announce:
+            self._announce = False
+            self.sigSearchDone.emit()
+
+    def _advice_link(self, link: str) -> None:
+        """The spread advice's links: make a calibration, or search a band to trim."""
+        if link == "calibrate":
+            self.new_calibration()
+        elif link == "trim":
+            target = self.form.target_value()
+            if target is not None and target.target_hz:
+                self.form.trim_around(target.target_hz)
 
     # ------------------------------------------------------------ calibration and help
     def new_calibration(self) -> None:

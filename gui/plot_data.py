@@ -6,6 +6,8 @@ plot panel only draws arrays.
 
 from __future__ import annotations
 
+from collections.abc import Iterator
+from dataclasses import dataclass
 from typing import Any
 
 import numpy as np
@@ -16,6 +18,93 @@ from gui.search_worker import Outcome
 MC_BUILDS = 10_000
 """Simulated builds per histogram (seeded: the same candidate gives the same picture)."""
 ROTATION_POINTS = 101
+CHIP_DOMINATES = 2.0
+"""The chip's thresholds "dominate" when the whole worst-case band is this many times
+wider (on a log scale) than the band the parts alone give (our own rule of thumb)."""
+WIDE_BAND = 1.25
+"""...and the whole band spans at least this ratio high/low (narrower needs no advice)."""
+
+
+@dataclass(frozen=True)
+class ChipSpread:
+    """How much of a candidate's spread is the chip's thresholds rather than the parts.
+
+    ``full_hz`` every corner (parts and thresholds), ``parts_hz`` the parts' corners with
+    the thresholds fixed at the model's nominal ones [Hz]; ``within`` and
+    ``within_known_chip`` the Monte Carlo share of builds inside the acceptance band
+    (0…1) without and with the thresholds fixed.
+    """
+
+    full_hz: tuple[float, float]
+    parts_hz: tuple[float, float]
+    within: float
+    within_known_chip: float
+
+    @property
+    def chip_dominates(self) -> bool:
+        full = self.full_hz[1] / self.full_hz[0] if self.full_hz[0] > 0 else np.inf
+        parts = self.parts_hz[1] / self.parts_hz[0]
+        return bool(full >= WIDE_BAND and np.log(full) >= CHIP_DOMINATES * np.log(parts))
+
+
+def chip_spread(outcome: Outcome, cand: Any) -> ChipSpread | None:
+    """Split a search candidate's spread into chip and parts (None for trim results or
+    when the thresholds are already fixed by a calibration or given values)."""
+    from core.spread import worst_case_hz
+
+    osc, target = outcome.oscillator, outcome.target
+    if target.trim or osc.thresholds_given or target.target_hz is None:
+        return None
+    known = osc.with_thresholds(osc.vt_plus_v, osc.vt_minus_v)
+    ranges = {key: node.value_range() for key, node in cand.networks.items()}
+    parts = worst_case_hz(known, cand.values, ranges, cand.diode_steered)
+    if not parts[0] > 0:
+        return None
+    accept = accept_band(target)
+    return ChipSpread(tuple(cand.worst_case_hz), (float(parts[0]), float(parts[1])),
+                      builds(osc, cand).fraction_within(*accept),
+                      builds(known, cand).fraction_within(*accept))
+
+
+def builds(osc: Any, cand: Any) -> Any:
+    """Monte Carlo of ``MC_BUILDS`` builds of a search candidate (core.spread.MonteCarlo)."""
+    from core.spread import monte_carlo
+
+    return monte_carlo(osc, cand.values, network_tolerances(cand.networks), n=MC_BUILDS,
+                       seed=0, diode_steered=cand.diode_steered)
+
+
+def accept_band(target: Any) -> tuple[float, float]:
+    """The acceptance band [Hz] around a frequency target."""
+    assert target.target_hz is not None
+    f0, share = target.target_hz, target.accept_pct / 100
+    return f0 * (1 - share), f0 * (1 + share)
+
+
+def chip_spread_advice(outcome: Outcome, cand: Any) -> str:
+    """Plain words (rich text with two links, ``calibrate`` and ``trim``) when the chip's
+    threshold range, not the parts, makes most of the spread; else ``""``."""
+    spread = chip_spread(outcome, cand)
+    if spread is None or not spread.chip_dominates:
+        return ""
+    device = outcome.oscillator.device
+    (a_lo, _, a_hi), (b_lo, _, b_hi) = device.vt_plus, device.vt_minus
+    accept = outcome.target.accept_pct
+    return (
+        f"<b>Most of this spread is the chip, not your parts.</b> The {device.family.name} "
+        f"data sheet allows VT+ anywhere from {a_lo:.2f} to {a_hi:.2f} V and VT− from "
+        f"{b_lo:.2f} to {b_hi:.2f} V at {device.supply_v:g} V, so a build may land "
+        f"anywhere in {_band(spread.full_hz)}; your parts alone move it only "
+        f"{_band(spread.parts_hz)}. Of the simulated builds {100 * spread.within:.0f} % land "
+        f"within ±{accept:g} %; with your own chip's thresholds known, about "
+        f"{100 * spread.within_known_chip:.0f} % would. Build it once, measure the frequency and "
+        f'<a href="calibrate">calibrate from that measurement</a>' + (
+            ', or <a href="trim">search a band with a trimmer</a> and tune it in.'
+            if outcome.target.circuit == "schmitt" else "."))
+
+
+def _band(lo_hi: tuple[float, float]) -> str:
+    return f"{format_frequency(lo_hi[0])} … {format_frequency(lo_hi[1])}"
 
 
 def network_tolerances(networks: dict[str, Any]) -> dict[str, Tolerance]:
@@ -28,12 +117,16 @@ def network_tolerances(networks: dict[str, Any]) -> dict[str, Tolerance]:
     return out
 
 
-def draw_candidate(plots: Any, outcome: Outcome, candidate: Any) -> None:
-    """Fill ``plots`` (a ``gui.plots.PlotPanel``) for one search or trim candidate."""
+def draw_steps(plots: Any, outcome: Outcome, candidate: Any) -> Iterator[None]:
+    """Fill ``plots`` (a ``gui.plots.PlotPanel``) for one candidate, one plot per step.
+
+    The window runs the steps from its event loop so each plot is drawn (and
+    painted) in its own short slice instead of one long pause.
+    """
     if outcome.target.trim:
-        _draw_trim(plots, outcome, candidate)
+        yield from _draw_trim(plots, outcome, candidate)
     else:
-        _draw_search(plots, outcome, candidate)
+        yield from _draw_search(plots, outcome, candidate)
 
 
 def _waveform(plots: Any, osc: Any, values: dict[str, float], diode_steered: bool,
@@ -44,26 +137,22 @@ def _waveform(plots: Any, osc: Any, values: dict[str, float], diode_steered: boo
     plots.show_waveform(t, v_cap, v_out, osc.vt_plus_v, osc.vt_minus_v, title)
 
 
-def _draw_search(plots: Any, outcome: Outcome, cand: Any) -> None:
-    from core.spread import monte_carlo
-
+def _draw_search(plots: Any, outcome: Outcome, cand: Any) -> Iterator[None]:
     osc, target = outcome.oscillator, outcome.target
     _waveform(plots, osc, cand.values, cand.diode_steered,
               f"{format_frequency(cand.frequency_hz, 4)}, duty {cand.duty_pct:.1f} %")
-    mc = monte_carlo(osc, cand.values, network_tolerances(cand.networks), n=MC_BUILDS,
-                     seed=0, diode_steered=cand.diode_steered)
-    assert target.target_hz is not None
-    f0, share = target.target_hz, target.accept_pct / 100
-    accept = (f0 * (1 - share), f0 * (1 + share))
+    yield
+    mc = builds(osc, cand)
+    accept = accept_band(target)
     within = mc.fraction_within(*accept)
     title = f"{within:.0%} of {MC_BUILDS:,} simulated builds within ±{target.accept_pct:g} %"
     if mc.stopped_fraction > 0:
         title += f"; {mc.stopped_fraction:.1%} would not oscillate"
     freqs = mc.frequencies_hz
-    plots.show_spread(freqs[freqs > 0], f0, accept, title)
+    plots.show_spread(freqs[freqs > 0], target.target_hz, accept, title)
 
 
-def _draw_trim(plots: Any, outcome: Outcome, cand: Any) -> None:
+def _draw_trim(plots: Any, outcome: Outcome, cand: Any) -> Iterator[None]:
     from core.trim import frequency_at_rotation, pot_resistance, rotation_for
 
     osc, target = outcome.oscillator, outcome.target
@@ -77,6 +166,7 @@ def _draw_trim(plots: Any, outcome: Outcome, cand: Any) -> None:
                         tuple(cand.rotation_pct),
                         f"Band shaded; guaranteed {format_frequency(cand.guaranteed_hz[0])}"
                         f" … {format_frequency(cand.guaranteed_hz[1])}")
+    yield
     centre = float(np.sqrt(lo_band * hi_band))
     turn = rotation_for(osc, cand, centre)
     pot = float(pot_resistance(cand.values["P"], turn, cand.taper))

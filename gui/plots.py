@@ -7,6 +7,8 @@ only here, and this module is imported only after the window is on screen.
 
 from __future__ import annotations
 
+from collections.abc import Iterator
+
 import numpy as np
 import pyqtgraph as pg
 from PySide6.QtCore import Qt
@@ -45,11 +47,33 @@ def _plot(title: str, accessible: str) -> pg.PlotWidget:
 
 
 class PlotPanel(QWidget):
-    """Waveform on the left; frequency spread (search) or frequency vs rotation (trim) right."""
+    """Waveform on the left; frequency spread (search) or frequency vs rotation (trim) right.
+
+    Making a pyqtgraph plot takes about 25 ms here, so ``build_steps()`` makes
+    one per step (the window runs the steps from its event loop) and the trimmer
+    plot waits until a trim result needs it.
+    """
 
     def __init__(self, parent: QWidget | None = None):
         super().__init__(parent)
         pg.setConfigOptions(antialias=True)
+        self.right = QStackedWidget()
+        self._layout = QHBoxLayout(self)
+        self._layout.setContentsMargins(0, 0, 0, 0)
+        self._layout.setSpacing(8)
+
+    def build_steps(self) -> Iterator[None]:
+        """Make the plots one at a time; yields between them, ends empty and ready."""
+        self._make_waveform()
+        self._layout.addWidget(self.waveform, 1)
+        yield
+        self._make_spread()
+        self.right.addWidget(self.spread)
+        self._layout.addWidget(self.right, 1)
+        self._rotation_made = False  # made when a trim result first needs it
+        self.clear()
+
+    def _make_waveform(self) -> None:
         self.waveform = _plot("Capacitor and output", "waveform plot")
         self.waveform.setLabel("bottom", "Time", units="s")
         self.waveform.setLabel("left", "Voltage", units="V")
@@ -69,6 +93,7 @@ class PlotPanel(QWidget):
         for line in (self.vt_plus_line, self.vt_minus_line):
             self.waveform.addItem(line)
 
+    def _make_spread(self) -> None:
         self.spread = _plot("Spread over part tolerances", "frequency spread plot")
         self.spread.setLabel("bottom", "Frequency", units="Hz")
         self.spread.setLabel("left", "Share of builds", units="%")
@@ -85,6 +110,10 @@ class PlotPanel(QWidget):
                                                                       "color": INK})
         self.spread.addItem(self.target_line)
 
+    def _make_rotation(self) -> None:
+        if self._rotation_made:
+            return
+        self._rotation_made = True
         self.rotation = _plot("Frequency against rotation", "trimmer rotation plot")
         self.rotation.setLabel("bottom", "Rotation (%)")
         self.rotation.setLabel("left", "Frequency", units="Hz")
@@ -104,25 +133,18 @@ class PlotPanel(QWidget):
         self.turn_lines = [pg.InfiniteLine(angle=90, pen=turn) for _ in range(2)]
         for line in self.turn_lines:
             self.rotation.addItem(line)
-
-        self.right = QStackedWidget()
-        self.right.addWidget(self.spread)
         self.right.addWidget(self.rotation)
-        layout = QHBoxLayout(self)
-        layout.setContentsMargins(0, 0, 0, 0)
-        layout.setSpacing(8)
-        layout.addWidget(self.waveform, 1)
-        layout.addWidget(self.right, 1)
-        self.clear()
 
     def clear(self, why: str = "") -> None:
         """Empty plots (no candidate selected); ``why`` goes in the titles."""
-        for curve in (self.cap_curve, self.out_curve, self.hist_curve, self.rotation_curve,
-                      self.envelope_low, self.envelope_high):
+        curves = [self.cap_curve, self.out_curve, self.hist_curve]
+        marks = [self.vt_plus_line, self.vt_minus_line, self.target_line, self.accept_region]
+        if self._rotation_made:
+            curves += [self.rotation_curve, self.envelope_low, self.envelope_high]
+            marks += [self.band_region, *self.turn_lines]
+        for curve in curves:
             curve.setData([], [])
-        for line in (self.vt_plus_line, self.vt_minus_line, self.target_line):
-            line.hide()
-        for item in (self.accept_region, self.band_region, *self.turn_lines):
+        for item in marks:
             item.hide()
         title = why or "Select a candidate"
         self.waveform.setTitle(f"Capacitor and output: {title}", color=INK.name(), size="10pt")
@@ -175,6 +197,7 @@ class PlotPanel(QWidget):
         ``band_turns_pct`` are the nominal rotations [%] for the band's two ends
         (dashed lines); the view centres on the band (scroll out to see all).
         """
+        self._make_rotation()
         self.right.setCurrentWidget(self.rotation)
         self.rotation_curve.setData(rotation_pct, nominal_hz)
         self.envelope_low.setData(rotation_pct, low_hz)

@@ -121,8 +121,8 @@ class _Signals(QObject):
 
 
 class _WarmUp(QRunnable):
-    """Build the unit registry and import the search and plot modules off the window's
-    thread (imports only: the plot widgets are made on the window's thread)."""
+    """Build the unit registry and import the search, plot and sheet modules off the
+    window's thread (imports only: the plot widgets are made on the window's thread)."""
 
     def __init__(self, signals: _Signals):
         super().__init__()
@@ -131,7 +131,7 @@ class _WarmUp(QRunnable):
     def run(self) -> None:
         from core import search, spread, timing, trim  # noqa: F401 - imported for later
         from core.units import registry
-        from gui import plots  # noqa: F401 - pyqtgraph's import is the slow part
+        from gui import plots, sheet_render  # noqa: F401 - pyqtgraph's import is the slow part
 
         registry()
         self.signals.ready.emit()

@@ -34,6 +34,9 @@ MODES: tuple[tuple[str, Mode, str, str], ...] = (
      "or 1k..1.2kHz: the search then picks a pot, a fixed resistor and a capacitor"),
 )
 DEFAULT_FAMILY = {"schmitt": "74HC14", "555": "NE555"}
+TRIM_SHARE = 0.05
+"""Half-width of the band offered for trimming around a frequency target (±5 %, our choice:
+wide enough for 5 % parts once the chip is trimmed out, fine enough to set by hand)."""
 
 
 @dataclass(frozen=True)
@@ -329,6 +332,15 @@ class TargetForm(QWidget):
                  "family": "Family"}
         self.message.setText("  ".join(f"⚠ {words[k]}: {v}" for k, v in problems.items()))
         self.message.setVisible(bool(problems))
+
+    def trim_around(self, centre_hz: float, share: float = TRIM_SHARE) -> None:
+        """Switch to a band of ±``share`` (fraction) around ``centre_hz`` [Hz] to trim."""
+        from core.units import format_frequency
+
+        self.circuit.setCurrentIndex(self.circuit.findData("schmitt"))
+        self.mode.setCurrentIndex(self.mode.findData("band"))
+        self.target.setText(f"{format_frequency(centre_hz * (1 - share))}.."
+                            f"{format_frequency(centre_hz * (1 + share))}")
 
     def show_error(self, text: str) -> None:
         """A problem found later (no oscillation, supply outside range) shown under the form."""
