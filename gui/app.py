@@ -53,16 +53,20 @@ def make_application() -> QApplication:
     return app
 
 
-def run_window(stock: str | None = None, screenshot: str | None = None) -> int:
+def run_window(stock: str | None = None, screenshot: str | None = None,
+               target: dict[str, str] | None = None) -> int:
     """Open the window; with ``screenshot``, draw the first result, save a PNG and exit 0.
 
     ``stock`` is a drawer file (errors in it are shown in the table, but a file
     that cannot be read at all raises TickbinError for the command line).
     A screenshot run ignores and keeps the remembered settings, so pictures are
-    reproducible.
+    reproducible; ``target`` fills the target form first (keys of
+    ``TargetForm.state()``, e.g. ``{"mode": "band", "target": "400..480"}``).
     """
     app = make_application()
     window = MainWindow(stock, remember=screenshot is None)
+    if target:
+        window.form.restore(target)
     if screenshot:
         return _screenshot(app, window, screenshot)
     error_hook.install(lambda message: window.tell("Unexpected error", message))

@@ -27,7 +27,7 @@ DISPLAY_COLUMNS = ("kind", "value", "tolerance", "quantity", "location", "taper"
                    "dielectric", "voltage", "note")
 """Columns always shown, in this order; other columns of the file follow them."""
 
-HEADINGS = {"kind": "Kind", "value": "Value", "tolerance": "Tolerance", "quantity": "Qty",
+HEADINGS = {"kind": "Kind", "value": "Value", "tolerance": "Tol.", "quantity": "Qty",
             "location": "Location", "taper": "Taper", "dielectric": "Dielectric",
             "voltage": "Rated V", "note": "Note"}
 HINTS = {

@@ -29,6 +29,7 @@ from PySide6.QtWidgets import (
     QHeaderView,
     QLabel,
     QLineEdit,
+    QMenu,
     QPlainTextEdit,
     QSpinBox,
     QStyledItemDelegate,
@@ -269,6 +270,13 @@ def sorted_rows(model: DrawerTableModel) -> list[Row]:
     return [row for _, row in sorted(enumerate(model.drawer.rows), key=key)]
 
 
+ALWAYS_SHOWN = ("kind", "value", "tolerance", "quantity", "location")
+"""Columns a drawer cannot do without; every other column can be hidden."""
+HIDDEN_BY_DEFAULT = ("taper", "dielectric", "voltage")
+"""Hidden until the person shows them (header menu): few rows use them, and the
+drawer is readable without scrolling sideways. A cell with a problem shows anyway."""
+
+
 class DrawerPanel(QWidget):
     """The parts table with a filter bar and row actions.
 
@@ -319,8 +327,15 @@ class DrawerPanel(QWidget):
         header = self.table.horizontalHeader()
         header.setSectionResizeMode(QHeaderView.ResizeMode.Interactive)
         header.setStretchLastSection(True)
+        header.setContextMenuPolicy(Qt.ContextMenuPolicy.CustomContextMenu)
+        header.customContextMenuRequested.connect(self._column_menu)
+        header.setToolTip("Right-click to show or hide columns")
+        self.hidden: set[str] = set(HIDDEN_BY_DEFAULT)
+        """Columns the person chose not to see (a column with a problem shows anyway)."""
         self._set_column_widths()
         model.modelReset.connect(self._set_column_widths)
+        for signal in (model.dataChanged, model.rowsInserted, model.rowsRemoved):
+            signal.connect(self._apply_hidden)
 
         self.count_label = QLabel()
         self.count_label.setObjectName("hint")
@@ -388,12 +403,47 @@ class DrawerPanel(QWidget):
         return self.model.drawer
 
     def _set_column_widths(self) -> None:
+        """Widths from the font (in widths of "M"), so they hold at any scale."""
         em = self.table.fontMetrics().horizontalAdvance("M")
-        widths = {"kind": 3, "value": 6, "tolerance": 5, "quantity": 4, "location": 5,
-                  "taper": 4, "dielectric": 6, "voltage": 5}
+        header = self.table.horizontalHeader()
+        # The note is last and stretches; a small start keeps it from forcing a scroll bar.
+        widths = {"kind": 2.5, "value": 4.5, "tolerance": 3.5, "quantity": 5.5, "location": 4.5,
+                  "taper": 3, "dielectric": 5, "voltage": 4, "note": 4}
         for column in range(self.model.columnCount()):
             name = self.model.column_name(column)
-            self.table.setColumnWidth(column, int(widths.get(name, 9) * em + 16))
+            heading = str(self.model.headerData(column, Qt.Orientation.Horizontal))
+            room = header.fontMetrics().horizontalAdvance(heading) + 24  # + sort arrow
+            self.table.setColumnWidth(column, max(room, int(widths.get(name, 8) * em + 12)))
+        self._apply_hidden()
+
+    def set_hidden(self, names: set[str]) -> None:
+        """Hide these optional columns (see ``OPTIONAL_COLUMNS``; others stay shown)."""
+        self.hidden = {n for n in names if n not in ALWAYS_SHOWN}
+        self._apply_hidden()
+
+    def _apply_hidden(self, *args: object) -> None:
+        problems = self.drawer.problems() if self.model.checking else {}
+        bad_columns = {name for cells in problems.values() for name in cells}
+        for column in range(self.model.columnCount()):
+            name = self.model.column_name(column)
+            self.table.setColumnHidden(column, name in self.hidden and name not in bad_columns)
+
+    def _column_menu(self, where: Any) -> None:
+        menu = QMenu(self)
+        for column in range(self.model.columnCount()):
+            name = self.model.column_name(column)
+            if name in ALWAYS_SHOWN:
+                continue
+            action = menu.addAction(str(self.model.headerData(
+                column, Qt.Orientation.Horizontal)))
+            action.setCheckable(True)
+            action.setChecked(name not in self.hidden)
+            action.toggled.connect(lambda on, name=name: self.show_column(name, on))
+        menu.popup(self.table.horizontalHeader().mapToGlobal(where))
+
+    def show_column(self, name: str, shown: bool) -> None:
+        """Show or hide an optional column (the window remembers the choice)."""
+        self.set_hidden(self.hidden - {name} if shown else self.hidden | {name})
 
     def _update_count(self, *args: object) -> None:
         total = len(self.drawer)
@@ -428,6 +478,12 @@ class DrawerPanel(QWidget):
         if current.isValid():
             selection.setCurrentIndex(current, QItemSelectionModel.SelectionFlag.NoUpdate)
             self.table.scrollTo(current)
+
+    def scroll_to_row(self, row: int) -> None:
+        """Bring drawer row ``row`` into view (selection and filter stay as they are)."""
+        index = self.proxy.mapFromSource(self.model.index(row, 0))
+        if index.isValid():
+            self.table.scrollTo(index)
 
     # -- row actions (each one undo step in the drawer)
     def add_row(self) -> None:

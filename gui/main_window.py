@@ -355,6 +355,10 @@ class MainWindow(QMainWindow):
                 self.right_split.setSizes([int(x) for x in right])
             except (ValueError, TypeError):
                 pass
+        hidden = store.value(keys.HIDDEN_COLUMNS)
+        if isinstance(hidden, str):
+            with contextlib.suppress(ValueError, TypeError):
+                self.drawer_panel.set_hidden({str(n) for n in json.loads(hidden)})
         fields = store.value(keys.TARGET)
         if isinstance(fields, str):
             with contextlib.suppress(ValueError, TypeError, AttributeError):
@@ -369,6 +373,7 @@ class MainWindow(QMainWindow):
         store.setValue(keys.SPLITTERS, json.dumps([self.main_split.sizes(),
                                                     self.right_split.sizes()]))
         store.setValue(keys.TARGET, json.dumps(self.form.state()))
+        store.setValue(keys.HIDDEN_COLUMNS, json.dumps(sorted(self.drawer_panel.hidden)))
         path = self.drawer.path
         store.setValue(keys.LAST_DRAWER, str(path) if path else "")
         store.sync()
@@ -412,7 +417,7 @@ class MainWindow(QMainWindow):
         every step shows before the next one starts. ``done()`` follows the last
         step unless a newer drawing (``self._drawing``) has started meanwhile.
         """
-        if generation is not None and generation != self._drawing:
+        if self._closed or (generation is not None and generation != self._drawing):
             return
         clock = QElapsedTimer()
         clock.start()
@@ -423,7 +428,7 @@ class MainWindow(QMainWindow):
             return
         finally:
             self._note_time(clock)
-        QTimer.singleShot(1, lambda: self._in_steps(steps, done, generation))
+        QTimer.singleShot(1, self, lambda: self._in_steps(steps, done, generation))
 
     def _install_build_actions(self) -> None:
         """Let the build-sheet module add its actions, if it offers them."""
@@ -575,7 +580,12 @@ class MainWindow(QMainWindow):
         try:
             write_drawer(self.drawer, path)
         except TickbinError as e:
-            self.tell("Not saved", str(e))
+            # The edits stay in the window (still marked unsaved) and in the autosave.
+            self.autosave_now()
+            self.tell("Not saved", f"{e}.\n\nYour edits are still here, not lost: try "
+                      "Save as… to another folder or drive, or free some space and save "
+                      "again.")
+            self.say("Not saved: the edits are kept; see the message.")
             return False
         self.drawer_model.refresh_lines()
         self.autosave.discard()
@@ -769,7 +779,10 @@ class MainWindow(QMainWindow):
             self.drawer_model.set_used({})
             return
         self.details.setText("\n".join(parts_list(candidate)))
-        self.drawer_model.set_used(used_rows(candidate))
+        used = used_rows(candidate)
+        self.drawer_model.set_used(used)
+        if self.candidate_view.hasFocus():  # the person picked it: bring its bins into view
+            self.drawer_panel.scroll_to_row(min(used))
         if self._plots is None:
             return  # drawn once the plots exist (see _plots_built)
         self._in_steps(self._drawing_steps(self._outcome, candidate), self._plots_drawn,

@@ -30,15 +30,11 @@ class ChipSpread:
     """How much of a candidate's spread is the chip's thresholds rather than the parts.
 
     ``full_hz`` every corner (parts and thresholds), ``parts_hz`` the parts' corners with
-    the thresholds fixed at the model's nominal ones [Hz]; ``within`` and
-    ``within_known_chip`` the Monte Carlo share of builds inside the acceptance band
-    (0…1) without and with the thresholds fixed.
+    the thresholds fixed at the model's nominal ones [Hz].
     """
 
     full_hz: tuple[float, float]
     parts_hz: tuple[float, float]
-    within: float
-    within_known_chip: float
 
     @property
     def chip_dominates(self) -> bool:
@@ -60,10 +56,7 @@ def chip_spread(outcome: Outcome, cand: Any) -> ChipSpread | None:
     parts = worst_case_hz(known, cand.values, ranges, cand.diode_steered)
     if not parts[0] > 0:
         return None
-    accept = accept_band(target)
-    return ChipSpread(tuple(cand.worst_case_hz), (float(parts[0]), float(parts[1])),
-                      builds(osc, cand).fraction_within(*accept),
-                      builds(known, cand).fraction_within(*accept))
+    return ChipSpread(tuple(cand.worst_case_hz), (float(parts[0]), float(parts[1])))
 
 
 def builds(osc: Any, cand: Any) -> Any:
@@ -89,15 +82,12 @@ def chip_spread_advice(outcome: Outcome, cand: Any) -> str:
         return ""
     device = outcome.oscillator.device
     (a_lo, _, a_hi), (b_lo, _, b_hi) = device.vt_plus, device.vt_minus
-    accept = outcome.target.accept_pct
     return (
         f"<b>Most of this spread is the chip, not your parts.</b> The {device.family.name} "
-        f"data sheet allows VT+ anywhere from {a_lo:.2f} to {a_hi:.2f} V and VT− from "
+        f"data sheet allows VT+ from {a_lo:.2f} to {a_hi:.2f} V and VT− from "
         f"{b_lo:.2f} to {b_hi:.2f} V at {device.supply_v:g} V, so a build may land "
         f"anywhere in {_band(spread.full_hz)}; your parts alone move it only "
-        f"{_band(spread.parts_hz)}. Of the simulated builds {100 * spread.within:.0f} % land "
-        f"within ±{accept:g} %; with your own chip's thresholds known, about "
-        f"{100 * spread.within_known_chip:.0f} % would. Build it once, measure the frequency and "
+        f"{_band(spread.parts_hz)}. Build it once, measure the frequency and "
         f'<a href="calibrate">calibrate from that measurement</a>' + (
             ', or <a href="trim">search a band with a trimmer</a> and tune it in.'
             if outcome.target.circuit == "schmitt" else "."))
@@ -145,7 +135,8 @@ def _draw_search(plots: Any, outcome: Outcome, cand: Any) -> Iterator[None]:
     mc = builds(osc, cand)
     accept = accept_band(target)
     within = mc.fraction_within(*accept)
-    title = f"{within:.0%} of {MC_BUILDS:,} simulated builds within ±{target.accept_pct:g} %"
+    title = (f"{100 * within:.0f} % of {MC_BUILDS:,} simulated builds within "
+             f"±{target.accept_pct:g} %")
     if mc.stopped_fraction > 0:
         title += f"; {mc.stopped_fraction:.1%} would not oscillate"
     freqs = mc.frequencies_hz

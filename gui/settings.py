@@ -15,6 +15,7 @@ GEOMETRY = "window/geometry"
 WINDOW_STATE = "window/state"
 SPLITTERS = "window/splitters"
 LAST_DRAWER = "drawer/last"
+HIDDEN_COLUMNS = "drawer/hidden_columns"
 TARGET = "target/fields"
 
 
