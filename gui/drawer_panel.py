@@ -381,7 +381,14 @@ class DrawerPanel(QWidget):
         buttons.addStretch(1)
         layout = QVBoxLayout(self)
         layout.setContentsMargins(0, 0, 0, 0)
+        self.empty_hint = QLabel(
+            "Your drawer is empty. Add a part, add a whole kit of standard values, or paste "
+            "a list such as <tt>10k 22k 4k7 100n 1u</tt> (buttons below); File ▸ Open loads "
+            "a drawer file.")
+        self.empty_hint.setObjectName("hint")
+        self.empty_hint.setWordWrap(True)
         layout.addLayout(bar)
+        layout.addWidget(self.empty_hint)
         layout.addWidget(self.table, 1)
         layout.addLayout(buttons)
         self._update_count()
@@ -453,6 +460,7 @@ class DrawerPanel(QWidget):
         if bad:
             text += f' · <a href="fix">⚠ {bad} to fix</a>'
         self.count_label.setText(text)
+        self.empty_hint.setVisible(total == 0)
 
     # -- selection helpers
     def selected_rows(self) -> list[int]:

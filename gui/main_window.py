@@ -8,6 +8,7 @@ them.
 from __future__ import annotations
 
 import contextlib
+import html
 import json
 import time
 from collections.abc import Iterator
@@ -115,7 +116,10 @@ class MainWindow(QMainWindow):
         self.details = QLabel()
         self.details.setWordWrap(True)
         self.details.setAccessibleName("parts of the selected candidate")
-        self.details.setTextInteractionFlags(Qt.TextInteractionFlag.TextSelectableByMouse)
+        self.details.setTextFormat(Qt.TextFormat.RichText)
+        self.details.setTextInteractionFlags(Qt.TextInteractionFlag.TextSelectableByMouse
+                                             | Qt.TextInteractionFlag.LinksAccessibleByMouse)
+        self.details.linkActivated.connect(self._show_used_rows)
         self.notes = QLabel()
         self.notes.setObjectName("hint")
         self.notes.setWordWrap(True)
@@ -676,6 +680,7 @@ class MainWindow(QMainWindow):
             self.runner.cancel()
             self.progress.hide()
             self._show_result_none("Fix the marked target fields to search.")
+            self.say("Fix the marked target fields to search.")
             self.sigSearchDone.emit()
             return
         parts = tuple(self.drawer.parts())
@@ -702,7 +707,7 @@ class MainWindow(QMainWindow):
         self.spread_note.hide()
         self.drawer_model.set_used({})
         if self._plots is not None:
-            self._plots.clear(why or "nothing to show")
+            self._plots.clear("No candidate to show")
 
     def _search_failed(self, generation: int, message: str) -> None:
         self.progress.hide()
@@ -778,7 +783,9 @@ class MainWindow(QMainWindow):
             self.details.clear()
             self.drawer_model.set_used({})
             return
-        self.details.setText("\n".join(parts_list(candidate)))
+        lines = [html.escape(line) for line in parts_list(candidate)]
+        self.details.setText("<br>".join(lines) + ' &nbsp; <a href="used">show just these '
+                             "rows in the drawer</a> (tinted there)")
         used = used_rows(candidate)
         self.drawer_model.set_used(used)
         if self.candidate_view.hasFocus():  # the person picked it: bring its bins into view
@@ -798,8 +805,8 @@ class MainWindow(QMainWindow):
             yield
             advice = chip_spread_advice(outcome, candidate)
         except TickbinError as e:
-            self._plots.clear(str(e))
-            advice = ""
+            self._plots.clear("This candidate cannot be drawn")
+            advice = f"⚠ {e}"
         self.spread_note.setText(advice)
         self.spread_note.setVisible(bool(advice))
 
@@ -807,6 +814,11 @@ class MainWindow(QMainWindow):
         if self._announce:
             self._announce = False
             self.sigSearchDone.emit()
+
+    def _show_used_rows(self, link: str) -> None:
+        panel = self.drawer_panel
+        panel.kind_filter.setCurrentIndex(panel.kind_filter.findData("used"))
+        panel.text_filter.clear()
 
     def _advice_link(self, link: str) -> None:
         """The spread advice's links: make a calibration, or search a band to trim."""

@@ -136,7 +136,7 @@ class PlotPanel(QWidget):
         self.right.addWidget(self.rotation)
 
     def clear(self, why: str = "") -> None:
-        """Empty plots (no candidate selected); ``why`` goes in the titles."""
+        """Empty plots (no candidate selected); ``why`` (a few words) titles the waveform."""
         curves = [self.cap_curve, self.out_curve, self.hist_curve]
         marks = [self.vt_plus_line, self.vt_minus_line, self.target_line, self.accept_region]
         if self._rotation_made:
@@ -146,8 +146,11 @@ class PlotPanel(QWidget):
             curve.setData([], [])
         for item in marks:
             item.hide()
-        title = why or "Select a candidate"
-        self.waveform.setTitle(f"Capacitor and output: {title}", color=INK.name(), size="10pt")
+        self.waveform.setTitle(why or "Select a candidate to see it here", color=INK.name(),
+                               size="10pt")
+        titles = [self.spread] + ([self.rotation] if self._rotation_made else [])
+        for plot in titles:
+            plot.setTitle("", color=INK.name(), size="10pt")
 
     def show_waveform(self, t_s: np.ndarray, v_cap: np.ndarray, v_out: np.ndarray,
                       vt_plus_v: float, vt_minus_v: float, title: str) -> None:

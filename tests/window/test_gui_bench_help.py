@@ -119,3 +119,12 @@ def test_calibrate_link_opens_the_dialog_and_a_calibration_removes_the_advice(
                                cand.frequency_hz * 1.1, None, name="bench-b"))
     search_done(qtbot, window, lambda: window.form.reload_calibrations(select="bench-b"))
     assert not window.spread_note.isVisibleTo(window)
+
+
+def test_details_link_shows_just_the_rows_to_take(qtbot, window):
+    window.details.linkActivated.emit("used")
+    proxy = window.drawer_panel.proxy
+    assert proxy.rowCount() == len(lines_used(window.selected_candidate()))
+    shown = {window.drawer.rows[proxy.mapToSource(proxy.index(r, 0)).row()].line
+             for r in range(proxy.rowCount())}
+    assert shown == set(lines_used(window.selected_candidate()))
