@@ -205,7 +205,7 @@ class DrawerTableModel(QAbstractTableModel):
             return text
         if role == Qt.ItemDataRole.DisplayRole:
             used = self._used.get(row)
-            return f"{text}  (use {used})" if used and column == "quantity" else text
+            return f"{text} (use {used})" if used and column == "quantity" else text
         if role == PROBLEM_ROLE:
             return self._problem(row, column)
         if role == USED_ROLE:

@@ -414,7 +414,7 @@ class DrawerPanel(QWidget):
         em = self.table.fontMetrics().horizontalAdvance("M")
         header = self.table.horizontalHeader()
         # The note is last and stretches; a small start keeps it from forcing a scroll bar.
-        widths = {"kind": 2.5, "value": 4.5, "tolerance": 3.5, "quantity": 5.5, "location": 4.5,
+        widths = {"kind": 2.5, "value": 4.5, "tolerance": 3.5, "quantity": 6, "location": 4.5,
                   "taper": 3, "dielectric": 5, "voltage": 4, "note": 4}
         for column in range(self.model.columnCount()):
             name = self.model.column_name(column)

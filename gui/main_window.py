@@ -784,8 +784,8 @@ class MainWindow(QMainWindow):
             self.drawer_model.set_used({})
             return
         lines = [html.escape(line) for line in parts_list(candidate)]
-        self.details.setText("<br>".join(lines) + ' &nbsp; <a href="used">show just these '
-                             "rows in the drawer</a> (tinted there)")
+        self.details.setText("<br>".join(lines) + ' &nbsp; <a href="used">only these in the '
+                             "drawer</a>")
         used = used_rows(candidate)
         self.drawer_model.set_used(used)
         if self.candidate_view.hasFocus():  # the person picked it: bring its bins into view

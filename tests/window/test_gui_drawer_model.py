@@ -114,3 +114,17 @@ def test_new_rows_show_where_they_will_be_saved():
     assert model.headerData(4, Qt.Orientation.Vertical) == "6"
     assert "not saved" in model.headerData(4, Qt.Orientation.Vertical,
                                            Qt.ItemDataRole.ToolTipRole)
+
+
+def test_model_with_candidate_marks_passes_qt_model_tester(qtmodeltester):
+    from gui.drawer_model import USED_ROLE
+
+    drawer, model = make()
+    model.set_used({0: 1, 2: 2})
+    qtmodeltester.check(model, force_py=True)
+    qty = model.column_of("quantity")
+    assert model.index(2, qty).data() == "5 (use 2)"
+    assert model.index(2, qty).data(Qt.ItemDataRole.EditRole) == "5"
+    assert model.index(1, qty).data(USED_ROLE) == 0
+    drawer.remove_rows([3])  # rows move: the marks go until the next result
+    assert model.index(2, qty).data(USED_ROLE) == 0
