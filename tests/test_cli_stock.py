@@ -27,9 +27,12 @@ def test_check_bad_file_lists_each_line(tmp_path: Path, capsys) -> None:
     p = tmp_path / "bad.csv"
     p.write_text("kind,value,quantity\nR,10k,3\nR,xx,2\nC,1n,-4\n", encoding="utf-8")
     assert main(["stock", "check", str(p)]) == 2
-    err = capsys.readouterr().err.strip().splitlines()
-    assert err[0].startswith(f"{p}:3: value 'xx'")
-    assert err[1].startswith(f"{p}:4: quantity")
+    out, err = capsys.readouterr()
+    # DESIGN.md: one error line on stderr; the full list of bad lines goes to stdout.
+    assert err.count("\n") == 1 and f"{p}:3: value 'xx'" in err and "1 more bad line" in err
+    out = out.strip().splitlines()
+    assert out[0].startswith(f"{p}:3: value 'xx'")
+    assert out[1].startswith(f"{p}:4: quantity")
 
 
 def test_warnings_for_zero_and_duplicate_bins(tmp_path: Path, capsys) -> None:

@@ -53,8 +53,12 @@ def run_check(args: argparse.Namespace) -> int:
     try:
         drawer = read_drawer(args.file)
     except DrawerFileError as e:
-        for problem in e.problems:
-            print(problem, file=sys.stderr)
+        # The contract's one error line on stderr; every bad line on stdout, to fix them all.
+        problems = e.problems
+        report = {"file": str(args.file), "problems": [
+            {"file": p.path, "line": p.line, "reason": p.reason} for p in problems]}
+        emit(args, report, lambda _: "\n".join(str(p) for p in problems))
+        print(f"tickbin: {e}", file=sys.stderr)
         return 2
     parts = drawer.parts()
     lines = Counter(p.kind for p in parts)
