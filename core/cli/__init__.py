@@ -8,6 +8,7 @@ so ``core`` never imports Qt.
 from __future__ import annotations
 
 import argparse
+import os
 import sys
 from collections.abc import Callable, Sequence
 
@@ -28,6 +29,7 @@ class _Parser(argparse.ArgumentParser):
 
 def build_parser() -> argparse.ArgumentParser:
     from core.cli import model_commands, search_commands, sheet_commands, stock_commands
+    from core.cli.common import add_json_option
 
     parser = _Parser(prog="tickbin",
                      description="Find the resistors, pots and capacitors in your own drawer "
@@ -42,6 +44,7 @@ def build_parser() -> argparse.ArgumentParser:
                         help="open the bundled demo drawer (a makerspace parts cabinet)")
     window.add_argument("--screenshot", metavar="FILE.png",
                         help="open, run the first search, save a picture and exit")
+    add_json_option(window)
     window.set_defaults(run=None)
     return parser
 
@@ -58,16 +61,7 @@ def main(argv: Sequence[str] | None = None, window: WindowLauncher | None = None
     args.render_sheet = render_sheet
     try:
         if args.command in (None, "gui"):
-            if args.command is None:
-                args.stock = args.screenshot = None
-                args.demo = False
-            if args.demo:
-                from core.locations import demo_drawer_path
-
-                args.stock = str(demo_drawer_path())
-            if window is None:
-                raise TickbinError("the window is not available in this installation")
-            return window(args)
+            return _run_window(args, window)
         return args.run(args)
     except TickbinError as e:
         print(f"tickbin: {e}", file=sys.stderr)
@@ -80,6 +74,36 @@ def main(argv: Sequence[str] | None = None, window: WindowLauncher | None = None
         return 2
     except Exception as e:  # last line of defence: no traceback for a person
         return _internal_error(e)
+
+
+def _run_window(args: argparse.Namespace, window: WindowLauncher | None) -> int:
+    """``tickbin`` or ``tickbin gui``; with ``--json``, what was opened (and saved) afterwards."""
+    if args.command is None:
+        args.stock = args.screenshot = None
+        args.demo = args.json = False
+    if args.demo:
+        from core.locations import demo_drawer_path
+
+        args.stock = str(demo_drawer_path())
+    if window is None:
+        raise TickbinError("the window is not available in this installation")
+    if _no_display():
+        if not args.screenshot:
+            raise TickbinError("no display to open the window on (DISPLAY is not set); "
+                               "every other command works without one (tickbin --help)")
+        os.environ["QT_QPA_PLATFORM"] = "offscreen"  # a picture needs no screen
+    status = window(args)
+    if status == 0 and args.json:
+        from core.cli.common import emit
+
+        return emit(args, {"stock": args.stock, "screenshot": args.screenshot}, str)
+    return status
+
+
+def _no_display() -> bool:
+    """True on a Linux machine without X11 or Wayland and no Qt platform chosen."""
+    return (sys.platform.startswith("linux") and not os.environ.get("QT_QPA_PLATFORM")
+            and not os.environ.get("DISPLAY") and not os.environ.get("WAYLAND_DISPLAY"))
 
 
 def _internal_error(error: Exception) -> int:
