@@ -271,19 +271,34 @@ def search(parts: list[Part], osc: Oscillator, target_hz: float, duty_pct: float
         return SearchResult(target_hz, limits, notes, [],
                             suggest(index, osc, target_hz, accept_pct, limits, max_resistors,
                                     max_capacitors, duty_pct))
-    order = _rank_order(shortlist.error_pct, shortlist.parts, accept_pct, shortlist.duty_ok,
-                        keep=RANK_DEPTH * top)
-    picked = _varied(order, shortlist.entries["C"], shortlist.r_sum, shortlist.c_values, top)
-    candidates = _candidates(index, osc, target_hz, shortlist, picked)
+    # DESIGN.md: a target nothing in the drawer reaches gives an empty list. It is reached
+    # when builds land on both sides of it (or one within accept); otherwise every build
+    # misses on the same side and the closest is only the drawer's fastest or slowest.
+    err = shortlist.error_pct
+    reached = bool(np.any(err >= -accept_pct) and np.any(err <= accept_pct))
+    candidates: list[Candidate] = []
+    if reached:
+        order = _rank_order(err, shortlist.parts, accept_pct, shortlist.duty_ok,
+                            keep=RANK_DEPTH * top)
+        picked = _varied(order, shortlist.entries["C"], shortlist.r_sum, shortlist.c_values,
+                         top)
+        candidates = _candidates(index, osc, target_hz, shortlist, picked)
     suggestions: list[dict[str, Any]] = []
     hits = [c for c in candidates if abs(c.error_pct) <= accept_pct and (
         duty_pct is None or abs(c.duty_pct - duty_pct) <= DUTY_ACCEPT_POINTS)]
     if not hits:
-        best = candidates[0]
+        closest = int(np.argmin(np.abs(err)))
+        best_error = candidates[0].error_pct if candidates else float(err[closest])
         wanted = "" if duty_pct is None else f" at {duty_pct:g} ± {DUTY_ACCEPT_POINTS:g} % duty"
         notes.append(f"nothing in the drawer is within ±{accept_pct:g} % of "
                      f"{format_frequency(target_hz)}{wanted}; the closest is "
-                     f"{best.error_pct:+.2f} %")
+                     f"{best_error:+.2f} %")
+        if not reached:
+            side = "faster" if best_error > 0 else "slower"
+            notes.append(f"no build from the drawer reaches {format_frequency(target_hz)}: "
+                         f"every one runs {side} (the closest at "
+                         f"{format_frequency(float(shortlist.frequency_hz[closest]))}), so "
+                         "none is listed")
         suggestions = suggest(index, osc, target_hz, accept_pct, limits, max_resistors,
                               max_capacitors, duty_pct)
         if suggestions:
