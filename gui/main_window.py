@@ -398,13 +398,16 @@ class MainWindow(QMainWindow):
 
     def _became_ready(self) -> None:
         """The worker has imported the slow modules: search, then make the plots in steps."""
-        from gui.plots import PlotPanel
-
         self._install_build_actions()
         self._ready = True
         self.drawer_model.start_checking()
         if self._pending:
             self.run_search()
+        QTimer.singleShot(1, self, self._make_plots)  # after this much has been painted
+
+    def _make_plots(self) -> None:
+        from gui.plots import PlotPanel
+
         panel = PlotPanel()
         self.plot_area.layout().addWidget(panel, 1)
         self._in_steps(panel.build_steps(), lambda: self._plots_built(panel))

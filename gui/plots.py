@@ -72,6 +72,7 @@ class PlotPanel(QWidget):
         self._layout.addWidget(self.right, 1)
         self._rotation_made = False  # made when a trim result first needs it
         self.clear()
+        yield  # painted before whatever comes next
 
     def _make_waveform(self) -> None:
         self.waveform = _plot("Capacitor and output", "waveform plot")
