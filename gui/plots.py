@@ -13,7 +13,7 @@ import numpy as np
 import pyqtgraph as pg
 from PySide6.QtCore import Qt
 from PySide6.QtGui import QColor, QFont
-from PySide6.QtWidgets import QHBoxLayout, QStackedWidget, QWidget
+from PySide6.QtWidgets import QGraphicsItem, QHBoxLayout, QStackedWidget, QWidget
 
 # Our palette: ink for text and axes, a slate blue and a copper for the two traces,
 # a sage green for "acceptable", a muted plum for thresholds.
@@ -42,6 +42,9 @@ def _plot(title: str, accessible: str) -> pg.PlotWidget:
         axis.setTextPen(pg.mkPen(INK))
         axis.setStyle(tickFont=font)
         axis.label.setFont(font)
+        # Keep the drawn axis as a pixmap: a new trace then repaints without redrawing
+        # every tick label (the costliest part of a repaint here).
+        axis.setCacheMode(QGraphicsItem.CacheMode.DeviceCoordinateCache)
     item.hideButtons()
     return widget
 
