@@ -66,12 +66,15 @@ class PlotPanel(QWidget):
         self._layout.setSpacing(8)
 
     def build_steps(self) -> Iterator[None]:
-        """Make the plots one at a time; yields between them, ends empty and ready."""
+        """Make the plots one at a time, then show each (its first paint is as slow as
+        making it); yields between steps, ends empty and ready."""
         self._make_waveform()
+        yield
         self._layout.addWidget(self.waveform, 1)
         yield
         self._make_spread()
         self.right.addWidget(self.spread)
+        yield
         self._layout.addWidget(self.right, 1)
         self._rotation_made = False  # made when a trim result first needs it
         self.clear()
