@@ -13,6 +13,7 @@ import sys
 from collections.abc import Callable, Sequence
 
 from core import __version__
+from core.cli.common import one_line, say_error
 from core.errors import TickbinError
 
 WindowLauncher = Callable[[argparse.Namespace], int]
@@ -24,7 +25,7 @@ class _Parser(argparse.ArgumentParser):
     """argparse that reports a usage error on one line and exits with status 2."""
 
     def error(self, message: str) -> None:  # type: ignore[override]
-        self.exit(2, f"{self.prog}: {message} (see {self.prog} --help)\n")
+        self.exit(2, f"{self.prog}: {one_line(message)} (see {self.prog} --help)\n")
 
 
 def build_parser() -> argparse.ArgumentParser:
@@ -64,13 +65,13 @@ def main(argv: Sequence[str] | None = None, window: WindowLauncher | None = None
             return _run_window(args, window)
         return args.run(args)
     except TickbinError as e:
-        print(f"tickbin: {e}", file=sys.stderr)
+        say_error(str(e))
         return 2
     except BrokenPipeError:  # `tickbin ... | head`: the reader left; not an error of ours
         sys.stderr.close()
         return 0
     except KeyboardInterrupt:
-        print("tickbin: interrupted", file=sys.stderr)
+        say_error("interrupted")
         return 2
     except Exception as e:  # last line of defence: no traceback for a person
         return _internal_error(e)
@@ -110,7 +111,7 @@ def _internal_error(error: Exception) -> int:
     from core.locations import append_error_log
 
     where = append_error_log(error)
-    print(f"tickbin: internal error: {type(error).__name__}: {error} ({where})", file=sys.stderr)
+    say_error(f"internal error: {type(error).__name__}: {error} ({where})")
     return 2
 
 

@@ -6,23 +6,71 @@ import argparse
 import json
 import sys
 from collections.abc import Callable
-from typing import Any
+from typing import Any, TypeVar
 
 from core.errors import InputError
-from core.units import Quantity, parse_quantity
+from core.units import Quantity, parse_percent, parse_quantity
+
+T = TypeVar("T")
+
+
+def arg_type(parse: Callable[[str], T], name: str) -> Callable[[str], T]:
+    """An argparse ``type`` from a core parser: its InputError becomes a one-line usage error."""
+
+    def convert(text: str) -> T:
+        try:
+            return parse(text)
+        except InputError as e:
+            raise argparse.ArgumentTypeError(e.reason) from None
+
+    convert.__name__ = name
+    return convert
 
 
 def value_arg(quantity: Quantity) -> Callable[[str], float]:
     """An argparse ``type`` that parses like the drawer file (``21.7k``, ``1u``, ``5V``)."""
+    return arg_type(lambda text: parse_quantity(text, quantity), quantity)
+
+
+def percent_arg(what: str, *, allow_zero: bool = False, below_100: bool = False,
+                up_to_100: bool = False) -> Callable[[str], float]:
+    """An argparse ``type`` for a percentage [%] (``1%``, ``0.5``); optionally under 100."""
 
     def parse(text: str) -> float:
-        try:
-            return parse_quantity(text, quantity)
-        except InputError as e:
-            raise argparse.ArgumentTypeError(e.reason) from None
+        value = parse_percent(text, allow_zero=allow_zero, what=what)
+        if (below_100 and not value < 100) or (up_to_100 and not value <= 100):
+            raise InputError(f"a {what} lies between 0 and 100 %", text=text, what=what)
+        return value
 
-    parse.__name__ = quantity
+    return arg_type(parse, what)
+
+
+def count_arg(low: int = 1, high: int | None = None) -> Callable[[str], int]:
+    """An argparse ``type`` for a whole number from ``low`` (to ``high``)."""
+    expected = (f"expected a whole number from {low} to {high}" if high is not None
+                else f"expected a whole number of at least {low}")
+
+    def parse(text: str) -> int:
+        s = text.strip()
+        if not (s.isascii() and s.isdigit() and low <= int(s)
+                and (high is None or int(s) <= high)):
+            raise argparse.ArgumentTypeError(expected)
+        return int(s)
+
+    parse.__name__ = "count"
     return parse
+
+
+def one_line(text: str) -> str:
+    """``text`` with control characters and line separators (a file name may carry them)
+    shown as escapes, so a message stays one line."""
+    return "".join(ch.encode("unicode_escape").decode("ascii")
+                   if not ch.isprintable() and ch != " " else ch for ch in text)
+
+
+def say_error(message: str) -> None:
+    """The contract's one error line on stderr: ``tickbin: message``."""
+    print(f"tickbin: {one_line(message)}", file=sys.stderr)
 
 
 def add_json_option(parser: argparse.ArgumentParser) -> None:

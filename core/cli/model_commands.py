@@ -5,6 +5,7 @@ from __future__ import annotations
 import argparse
 import csv
 import math
+from collections.abc import Callable
 from pathlib import Path
 from typing import Any
 
@@ -16,7 +17,7 @@ from core.calibration import (
     save_calibration,
 )
 from core.cli.circuit_options import add_circuit_options, oscillator_from_args
-from core.cli.common import add_json_option, emit, value_arg
+from core.cli.common import add_json_option, arg_type, emit, percent_arg, value_arg
 from core.devices import device_table
 from core.errors import InputError, TickbinError
 from core.spread import monte_carlo
@@ -58,7 +59,7 @@ def register(commands: argparse._SubParsersAction) -> None:
     _add_part_options(cal)
     cal.add_argument("--measured", type=value_arg("frequency"), metavar="FREQ",
                      help="the frequency measured on the bench (or its period)")
-    cal.add_argument("--duty", type=_duty, metavar="PCT",
+    cal.add_argument("--duty", type=percent_arg("duty cycle", below_100=True), metavar="PCT",
                      help="the measured share of the period the output is high")
     cal.add_argument("--measurements", metavar="FILE.csv",
                      help="several readings for a least-squares fit: columns r, c (or ra, "
@@ -78,6 +79,10 @@ def register(commands: argparse._SubParsersAction) -> None:
     dev.set_defaults(run=run_devices)
 
 
+def _tolerance(kind: str) -> Callable[[str], Tolerance]:
+    return arg_type(lambda text: parse_tolerance(text, kind), "tolerance")
+
+
 def _add_part_options(parser: argparse.ArgumentParser) -> None:
     parts = parser.add_argument_group("parts")
     parts.add_argument("--r", type=value_arg("resistance"), metavar="R",
@@ -90,26 +95,6 @@ def _add_part_options(parser: argparse.ArgumentParser) -> None:
                        help="555: resistor from discharge (pin 7) to the timing node")
     parts.add_argument("--diode-steered", action="store_true",
                        help="555: a diode across RB (charge through RA only)")
-
-
-def _tolerance(kind: str) -> Any:
-    def parse(text: str) -> Tolerance:
-        try:
-            return parse_tolerance(text, kind)
-        except InputError as e:
-            raise argparse.ArgumentTypeError(e.reason) from None
-    parse.__name__ = "tolerance"
-    return parse
-
-
-def _duty(text: str) -> float:
-    try:
-        value = parse_percent(text, allow_zero=False, what="duty cycle")
-    except InputError as e:
-        raise argparse.ArgumentTypeError(e.reason) from None
-    if not value < 100:
-        raise argparse.ArgumentTypeError("a duty cycle lies between 0 and 100 %")
-    return value
 
 
 def _values(osc: Oscillator, args: argparse.Namespace) -> dict[str, float]:

@@ -13,146 +13,96 @@ from pathlib import Path
 from typing import Any
 
 from core.cli.circuit_options import add_circuit_options, oscillator_from_args
-from core.cli.common import add_json_option, emit, value_arg
-from core.drawer import Part, read_drawer
-from core.errors import InputError
+from core.cli.common import add_json_option, arg_type, count_arg, emit, percent_arg, value_arg
+from core.drawer import Drawer, Part, read_drawer
 from core.locations import demo_drawer_path
 from core.networks import MAX_PARTS, Node
 from core.search import Candidate, SearchResult, search
 from core.timing import Oscillator
 from core.trim import TrimResult, trim
-from core.units import format_frequency, parse_band, parse_percent
+from core.units import format_frequency, parse_band
 
 
 def register(commands: argparse._SubParsersAction) -> None:
-    find = commands.add_parser("search", help="parts from the drawer that reach a target "
-                               "frequency")
-    _add_stock(find)
-    add_circuit_options(find)
-    add_goal_options(find, search_required=True)
-    _add_sizes(find)
-    _add_top(find)
-    add_json_option(find)
-    find.set_defaults(run=run_search)
-
-    band = commands.add_parser("trim", help="a pot, a fixed resistor and a capacitor that "
-                               "cover a band at every tolerance corner")
-    _add_stock(band)
-    add_circuit_options(band)
-    add_goal_options(band, trim_required=True)
-    _add_sizes(band)
-    _add_top(band)
-    add_json_option(band)
-    band.set_defaults(run=run_trim)
+    for name, text, goal, run in (
+            ("search", "parts from the drawer that reach a target frequency",
+             {"search_required": True}, run_search),
+            ("trim", "a pot, a fixed resistor and a capacitor that cover a band at every "
+             "tolerance corner", {"trim_required": True}, run_trim)):
+        parser = commands.add_parser(name, help=text)
+        add_design_options(parser, **goal)
+        add_json_option(parser)
+        parser.set_defaults(run=run)
 
 
-def add_design_options(parser: argparse.ArgumentParser) -> None:
-    """Everything that picks a design, for commands built on one (sheet, netlist).
+def add_design_options(parser: argparse.ArgumentParser, search_required: bool = False,
+                       trim_required: bool = False) -> None:
+    """Everything that picks a design: --stock, the circuit, the goal, network sizes, --top.
 
-    The search options with ``--target``, or the trim options with ``--band``.
+    The goal is the search options with ``--target`` and/or the trim options with
+    ``--band`` (both for commands built on either design: sheet, netlist).
     """
-    _add_stock(parser)
+    parser.add_argument("--stock", metavar="FILE",
+                        help="drawer CSV file (default: the bundled demo drawer)")
     add_circuit_options(parser)
-    add_goal_options(parser)
-    _add_sizes(parser)
-    _add_top(parser)
-
-
-def add_goal_options(parser: argparse.ArgumentParser, search_required: bool = False,
-                     trim_required: bool = False) -> None:
-    """--target, --duty and --accept (search) and/or --band (trim)."""
     if not trim_required:
         parser.add_argument("--target", type=value_arg("frequency"), required=search_required,
                             metavar="FREQ",
                             help="the frequency wanted (1kHz, 38k, or a period such as 2ms)")
-        parser.add_argument("--duty", type=_percent("duty cycle", below_100=True),
+        parser.add_argument("--duty", type=percent_arg("duty cycle", below_100=True),
                             metavar="PCT",
                             help="555 only: share of the period the output is high (default: "
                             "whatever RA and RB give; 50 %% or less uses a steering diode)")
-        parser.add_argument("--accept", type=_percent("acceptable error"), default=1.0,
+        parser.add_argument("--accept", type=percent_arg("acceptable error"), default=1.0,
                             metavar="PCT", help="error that counts as a hit (default 1 %%)")
     if not search_required:
-        parser.add_argument("--band", type=_band, required=trim_required, metavar="LO..HI",
+        parser.add_argument("--band", type=arg_type(parse_band, "band"), required=trim_required,
+                            metavar="LO..HI",
                             help="the band the pot must cover (400..480, 1k..1.2kHz)")
-
-
-def _add_stock(parser: argparse.ArgumentParser) -> None:
-    parser.add_argument("--stock", metavar="FILE",
-                        help="drawer CSV file (default: the bundled demo drawer)")
-
-
-def _add_sizes(parser: argparse.ArgumentParser) -> None:
-    parser.add_argument("--max-resistors", type=_count, default=2, metavar="N",
+    parser.add_argument("--max-resistors", type=count_arg(1, MAX_PARTS), default=2,
+                        metavar="N",
                         help=f"most resistors in one network, 1 to {MAX_PARTS} (default 2)")
-    parser.add_argument("--max-capacitors", type=_count, default=2, metavar="N",
+    parser.add_argument("--max-capacitors", type=count_arg(1, MAX_PARTS), default=2,
+                        metavar="N",
                         help=f"most capacitors in one network, 1 to {MAX_PARTS} (default 2)")
-
-
-def _add_top(parser: argparse.ArgumentParser) -> None:
-    parser.add_argument("--top", type=_positive, default=10, metavar="N",
+    parser.add_argument("--top", type=count_arg(), default=10, metavar="N",
                         help="how many candidates to list (default 10)")
 
 
-def _count(text: str) -> int:
-    if not (text.strip().isdigit() and 1 <= int(text) <= MAX_PARTS):
-        raise argparse.ArgumentTypeError(f"expected a whole number from 1 to {MAX_PARTS}")
-    return int(text)
-
-
-def _positive(text: str) -> int:
-    if not (text.strip().isdigit() and int(text) >= 1):
-        raise argparse.ArgumentTypeError("expected a whole number of at least 1")
-    return int(text)
-
-
-def _percent(what: str, below_100: bool = False) -> Callable[[str], float]:
-    def parse(text: str) -> float:
-        try:
-            value = parse_percent(text, allow_zero=False, what=what)
-        except InputError as e:
-            raise argparse.ArgumentTypeError(e.reason) from None
-        if below_100 and not value < 100:
-            raise argparse.ArgumentTypeError(f"a {what} lies between 0 and 100 %")
-        return value
-
-    parse.__name__ = what
-    return parse
-
-
-def _band(text: str) -> tuple[float, float]:
-    try:
-        return parse_band(text)
-    except InputError as e:
-        raise argparse.ArgumentTypeError(e.reason) from None
-
-
-def _stock(args: argparse.Namespace) -> tuple[list[Part], list[str]]:
-    """The drawer's parts, and a note when the demo drawer stands in for a missing --stock."""
+def read_stock(args: argparse.Namespace) -> tuple[Drawer, list[str]]:
+    """The drawer ``--stock`` names, or the bundled demo drawer and a note saying so."""
     if args.stock is None:
-        return read_drawer(demo_drawer_path()).parts(), [
-            "no --stock given: searched the bundled demo drawer"]
-    return read_drawer(Path(args.stock)).parts(), []
+        return read_drawer(demo_drawer_path()), ["no --stock given: used the bundled demo "
+                                                 "drawer"]
+    return read_drawer(Path(args.stock)), []
+
+
+def find_designs(args: argparse.Namespace, osc: Oscillator, parts: list[Part],
+                 top: int) -> SearchResult | TrimResult:
+    """The trim (``--band``) or search (``--target``) the options describe."""
+    if getattr(args, "band", None) is not None:
+        return trim(parts, osc, args.band, top=top, max_resistors=args.max_resistors,
+                    max_capacitors=args.max_capacitors)
+    return search(parts, osc, args.target, duty_pct=args.duty,
+                  max_resistors=args.max_resistors, max_capacitors=args.max_capacitors,
+                  accept_pct=args.accept, top=top)
 
 
 def run_search(args: argparse.Namespace) -> int:
-    osc = oscillator_from_args(args)
-    parts, notes = _stock(args)
-    result = search(parts, osc, args.target, duty_pct=args.duty,
-                    max_resistors=args.max_resistors, max_capacitors=args.max_capacitors,
-                    accept_pct=args.accept, top=args.top)
-    data = result.to_json()
-    data["notes"] = notes + data["notes"]
-    return emit(args, data, lambda d: _search_text(d, result, osc))
+    return _run_design(args, _search_text)
 
 
 def run_trim(args: argparse.Namespace) -> int:
+    return _run_design(args, _trim_text)
+
+
+def _run_design(args: argparse.Namespace, as_text: Callable[..., str]) -> int:
     osc = oscillator_from_args(args)
-    parts, notes = _stock(args)
-    result = trim(parts, osc, args.band, top=args.top, max_resistors=args.max_resistors,
-                  max_capacitors=args.max_capacitors)
+    drawer, notes = read_stock(args)
+    result = find_designs(args, osc, drawer.parts(), args.top)
     data = result.to_json()
     data["notes"] = notes + data["notes"]
-    return emit(args, data, lambda d: _trim_text(d, result, osc))
+    return emit(args, data, lambda d: as_text(d, result, osc))
 
 
 # ---------------------------------------------------------------- text tables

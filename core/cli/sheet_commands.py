@@ -13,16 +13,15 @@ from pathlib import Path
 from typing import Any
 
 from core.cli.circuit_options import oscillator_from_args
-from core.cli.common import add_json_option, emit
-from core.cli.search_commands import add_design_options
-from core.drawer import Drawer, read_drawer, write_drawer, write_text_atomically
+from core.cli.common import add_json_option, count_arg, emit, percent_arg
+from core.cli.search_commands import add_design_options, find_designs, read_stock
+from core.drawer import Drawer, write_drawer, write_text_atomically
 from core.errors import InputError, SetupError, TickbinError
-from core.locations import demo_drawer_path
 from core.netlist import model_prediction, simulate, spice_netlist
-from core.search import Candidate, search
+from core.search import Candidate
 from core.sheet import build_sheet, take_parts, voltage_ratings
 from core.timing import Oscillator
-from core.trim import TrimCandidate, trim
+from core.trim import TrimCandidate
 from core.units import format_frequency
 
 PAGE_SIZES = ("A4", "Letter")
@@ -47,7 +46,8 @@ def register(commands: argparse._SubParsersAction) -> None:
     add_design_options(net)
     _add_pick(net)
     net.add_argument("--out", required=True, metavar="FILE.cir", help="netlist file to write")
-    net.add_argument("--rotation", type=_rotation, metavar="PCT",
+    net.add_argument("--rotation", metavar="PCT",
+                     type=percent_arg("rotation", allow_zero=True, up_to_100=True),
                      help="trim designs: pot rotation to simulate (default: the middle of "
                      "the band, as on the sheet)")
     net.add_argument("--simulate", action="store_true",
@@ -57,14 +57,8 @@ def register(commands: argparse._SubParsersAction) -> None:
 
 
 def _add_pick(parser: argparse.ArgumentParser) -> None:
-    parser.add_argument("--pick", type=_pick, default=1, metavar="K",
+    parser.add_argument("--pick", type=count_arg(), default=1, metavar="K",
                         help="use the K-th candidate of the list (default 1, the best)")
-
-
-def _pick(text: str) -> int:
-    if not (text.strip().isdigit() and int(text) >= 1):
-        raise argparse.ArgumentTypeError("expected a whole number of at least 1")
-    return int(text)
 
 
 def _page_size(text: str) -> str:
@@ -72,16 +66,6 @@ def _page_size(text: str) -> str:
         if text.strip().lower() == name.lower():
             return name
     raise argparse.ArgumentTypeError("expected A4 or Letter")
-
-
-def _rotation(text: str) -> float:
-    try:
-        value = float(text.strip().rstrip("%"))
-    except ValueError:
-        raise argparse.ArgumentTypeError("expected a rotation in percent, 0 to 100") from None
-    if not 0 <= value <= 100:
-        raise argparse.ArgumentTypeError("expected a rotation in percent, 0 to 100")
-    return value
 
 
 @dataclass
@@ -101,23 +85,11 @@ def design_from_args(args: argparse.Namespace) -> Design:
         raise InputError("give --target FREQ (a fixed design) or --band LO..HI (a trim "
                          "design), not both")
     osc = oscillator_from_args(args)
-    notes: list[str] = []
-    if args.stock is None:
-        drawer = read_drawer(demo_drawer_path())
-        notes.append("no --stock given: used the bundled demo drawer")
-    else:
-        drawer = read_drawer(Path(args.stock))
-    parts = drawer.parts()
-    top = max(args.top, args.pick)
+    drawer, notes = read_stock(args)
+    result = find_designs(args, osc, drawer.parts(), max(args.top, args.pick))
     if args.band is not None:
-        lo, hi = args.band
-        result: Any = trim(parts, osc, (lo, hi), top=top, max_resistors=args.max_resistors,
-                           max_capacitors=args.max_capacitors)
-        target = f"{format_frequency(lo)} … {format_frequency(hi)}"
+        target = f"{format_frequency(args.band[0])} … {format_frequency(args.band[1])}"
     else:
-        result = search(parts, osc, args.target, duty_pct=args.duty,
-                        max_resistors=args.max_resistors, max_capacitors=args.max_capacitors,
-                        accept_pct=args.accept, top=top)
         target = format_frequency(args.target)
         if args.duty is not None:
             target += f", {args.duty:g} % duty"

@@ -3,11 +3,10 @@
 from __future__ import annotations
 
 import argparse
-import sys
 from collections import Counter
 from typing import Any
 
-from core.cli.common import add_json_option, emit
+from core.cli.common import add_json_option, emit, say_error
 from core.drawer import Drawer, Part, read_drawer
 from core.errors import DrawerFileError
 from core.units import format_quantity
@@ -58,7 +57,7 @@ def run_check(args: argparse.Namespace) -> int:
         report = {"file": str(args.file), "problems": [
             {"file": p.path, "line": p.line, "reason": p.reason} for p in problems]}
         emit(args, report, lambda _: "\n".join(str(p) for p in problems))
-        print(f"tickbin: {e}", file=sys.stderr)
+        say_error(str(e))
         return 2
     parts = drawer.parts()
     lines = Counter(p.kind for p in parts)
