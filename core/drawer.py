@@ -90,6 +90,11 @@ class Part:
         return self.kind == "C" and self.dielectric in ELECTROLYTIC
 
     @property
+    def value_range(self) -> tuple[float, float]:
+        """(lowest, highest) value within the tolerance (Ω or F)."""
+        return (self.value * (1 - self.tolerance.minus), self.value * (1 + self.tolerance.plus))
+
+    @property
     def stock_line(self) -> int:
         """The line to name in output: the file's line, or where it will be once saved."""
         return self.line if self.line is not None else self.row + 2

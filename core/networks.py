@@ -29,9 +29,9 @@ Horowitz & Hill, The Art of Electronics, 3rd ed., §1.2.1 and §1.4.1).
 from __future__ import annotations
 
 from collections import Counter
-from collections.abc import Generator, Iterable, Iterator
+from collections.abc import Callable, Generator, Iterable, Iterator
 from dataclasses import dataclass
-from typing import Any, Literal
+from typing import Any, Literal, TypeVar
 
 import numpy as np
 
@@ -40,6 +40,7 @@ from core.errors import InputError
 from core.units import format_quantity
 
 NetworkKind = Literal["R", "C"]
+T = TypeVar("T")
 
 RESOLUTION = 1e-4
 """Relative width of one value bucket: networks closer than this are one entry."""
@@ -95,8 +96,8 @@ class Node:
         Series and parallel values rise with every part, so the extremes are
         all parts low and all parts high.
         """
-        return (self._combine(lambda p: p.value * (1 - p.tolerance.minus)),
-                self._combine(lambda p: p.value * (1 + p.tolerance.plus)))
+        return (self._combine(lambda p: p.value_range[0]),
+                self._combine(lambda p: p.value_range[1]))
 
     def parts(self) -> list[Part]:
         """Every part used, repeated as often as it is used."""
@@ -146,6 +147,30 @@ def group_parts(parts: Iterable[Part], kind: str) -> list[list[Part]]:
             for _, g in sorted(groups.items(), key=lambda kv: kv[0][1:])]
 
 
+def _add(x: Any, y: Any) -> Any:
+    return x + y
+
+
+def _reciprocal_add(x: Any, y: Any) -> Any:
+    return x * y / (x + y)
+
+
+def combiners(kind: str) -> tuple[Callable[[Any, Any], Any], Callable[[Any, Any], Any]]:
+    """(series, parallel) rules for two values of ``kind``: resistances add in series,
+    capacitances in parallel; the other way they add reciprocally (arrays too)."""
+    return (_reciprocal_add, _add) if kind == "C" else (_add, _reciprocal_add)
+
+
+def _group_values(groups: list[list[Part]]) -> np.ndarray:
+    """Nominal value of each group (Ω or F)."""
+    return np.array([g[0].value for g in groups], dtype=float)
+
+
+def _group_quantities(groups: list[list[Part]]) -> np.ndarray:
+    """Parts in stock per group, over its equivalent lines."""
+    return np.array([sum(p.quantity for p in g) for g in groups], dtype=np.int64)
+
+
 def network_values(topology: np.ndarray, usage: np.ndarray, group_values: np.ndarray,
                    kind: str) -> np.ndarray:
     """Values of networks given by topology codes and group indices (Ω or F).
@@ -155,9 +180,7 @@ def network_values(topology: np.ndarray, usage: np.ndarray, group_values: np.nda
     """
     padded = np.append(group_values, np.nan)  # index -1 -> NaN, never used by a topology
     a, b, c = (padded[usage[:, k]] for k in range(3))
-    add = lambda x, y: x + y  # noqa: E731 - the two ways values combine
-    rec = lambda x, y: x * y / (x + y)  # noqa: E731
-    ser, par = (rec, add) if kind == "C" else (add, rec)
+    ser, par = combiners(kind)
     out = np.empty(len(topology))
     for code, fn in ((SINGLE, lambda: a), (SERIES2, lambda: ser(a, b)),
                      (PARALLEL2, lambda: par(a, b)), (SERIES3, lambda: ser(ser(a, b), c)),
@@ -186,11 +209,10 @@ class NetworkIndex:
         self.kind = kind
         self.groups = groups
         self.max_parts = max_parts
-        self.group_values = np.array([g[0].value for g in groups], dtype=float)
-        self.group_lo = np.array([g[0].value * (1 - g[0].tolerance.minus) for g in groups])
-        self.group_hi = np.array([g[0].value * (1 + g[0].tolerance.plus) for g in groups])
-        self.group_quantity = np.array([sum(p.quantity for p in g) for g in groups],
-                                       dtype=np.int64)
+        self.group_values = _group_values(groups)
+        self.group_lo, self.group_hi = (np.array([g[0].value_range[k] for g in groups],
+                                                 dtype=float) for k in (0, 1))
+        self.group_quantity = _group_quantities(groups)
         self.values = values
         self.topology = topology
         self.usage = usage
@@ -213,6 +235,13 @@ class NetworkIndex:
     def layer_slices(self, max_parts: int) -> list[slice]:
         """The layers of networks with 1 … ``max_parts`` parts that this index holds."""
         return [self.layers[p] for p in range(1, min(max_parts, self.max_parts) + 1)]
+
+    def entries(self, max_parts: int, lo: float = 0.0, hi: float = np.inf) -> np.ndarray:
+        """Indices of the networks with 1 … ``max_parts`` parts valued ``lo`` … ``hi``
+        (Ω or F), layer by layer."""
+        return np.concatenate([np.arange(s.start, s.stop)[
+            (self.values[s] >= lo) & (self.values[s] <= hi)]
+            for s in self.layer_slices(max_parts)]).astype(np.int64)
 
     def nearest(self, targets: np.ndarray, max_parts: int, per_side: int = 2,
                 lo: float = 0.0, hi: float = np.inf) -> np.ndarray:
@@ -341,9 +370,7 @@ def build_index(parts: Iterable[Part], kind: NetworkKind, max_parts: int = 2,
                          what="network size")
     groups = group_parts(parts, kind)
     n = len(groups)
-    gv = np.array([g[0].value for g in groups], dtype=float)
-    gq = np.array([sum(p.quantity for p in g) for g in groups], dtype=np.int64)
-    harmonic_series = kind == "C"
+    gv, gq = _group_values(groups), _group_quantities(groups)
     if n:
         # Bucket b holds values in [v0 (1+ρ)^b, v0 (1+ρ)^(b+1)); v0 below anything reachable.
         v0 = gv.min() / (MAX_PARTS + 1)
@@ -380,8 +407,7 @@ def build_index(parts: Iterable[Part], kind: NetworkKind, max_parts: int = 2,
         code_table[:] = -1
         usage_table[:] = -1
 
-    ser = (lambda x, y: x * y / (x + y)) if harmonic_series else (lambda x, y: x + y)
-    par = (lambda x, y: x + y) if harmonic_series else (lambda x, y: x * y / (x + y))
+    ser, par = combiners(kind)
     scatter(np.arange(n, dtype=np.int16)[:, None], [(SINGLE, (0,), lambda: gv)])
     close_layer()
     yield 0.05
@@ -456,26 +482,26 @@ class DrawerIndex:
                 and self.capacitors.max_parts >= max_capacitors)
 
 
+def _rescaled(steps: Generator[float, None, T], start: float,
+              width: float) -> Generator[float, None, T]:
+    """Re-yield ``steps``' progress mapped onto start … start + width; return its result."""
+    while True:
+        try:
+            fraction = next(steps)
+        except StopIteration as done:
+            return done.value
+        yield start + width * fraction
+
+
 def build_drawer_index(parts: Iterable[Part], max_resistors: int = 2, max_capacitors: int = 2
                        ) -> Generator[float, None, DrawerIndex]:
     """``build_index`` for resistors and capacitors, yielding overall progress (0…1)."""
     parts = list(parts)
     # Three-resistor layers dominate the work; weigh the progress accordingly.
     share = 0.9 if max_resistors >= 3 else 0.5
-    steps = build_index(parts, "R", max_resistors)
-    while True:
-        try:
-            yield share * next(steps)
-        except StopIteration as done:
-            resistors = done.value
-            break
-    steps = build_index(parts, "C", max_capacitors)
-    while True:
-        try:
-            yield share + (1 - share) * next(steps)
-        except StopIteration as done:
-            capacitors = done.value
-            break
+    resistors = yield from _rescaled(build_index(parts, "R", max_resistors), 0.0, share)
+    capacitors = yield from _rescaled(build_index(parts, "C", max_capacitors), share,
+                                      1.0 - share)
     pots: dict[tuple[Any, ...], Part] = {}
     for part in parts:
         if part.kind == "P" and part.quantity > 0:

@@ -323,16 +323,11 @@ class _Shortlist:
     diode_steered: bool = False
 
 
-def _capacitor_entries(index: DrawerIndex, max_capacitors: int) -> np.ndarray:
-    caps = index.capacitors
-    return np.concatenate([np.arange(s.start, s.stop) for s in caps.layer_slices(max_capacitors)])
-
-
 def _shortlist_schmitt(index: DrawerIndex, osc: Oscillator, target_hz: float,
                        max_resistors: int, max_capacitors: int,
                        limits: tuple[float, float]) -> _Shortlist | None:
     res, caps = index.resistors, index.capacitors
-    ce = _capacitor_entries(index, max_capacitors)
+    ce = caps.entries(max_capacitors)
     cv = caps.values[ce]
     r_ideal = schmitt_resistance(osc, target_hz, cv, limits, clip=True)
     near = res.nearest(r_ideal, max_resistors, PER_SIDE, *limits)
@@ -582,16 +577,14 @@ def suggest(index: DrawerIndex, osc: Oscillator, target_hz: float, accept_pct: f
     for series in BUY_SERIES:
         options: list[tuple[float, int, dict[str, Any]]] = []
         if osc.circuit == "schmitt" and len(caps):
-            ce = _capacitor_entries(index, max_capacitors)
+            ce = caps.entries(max_capacitors)
             r = schmitt_resistance(osc, target_hz, caps.values[ce], limits)
             buy = _nearest_in_series(r, series, "R")
             buy = np.where((buy >= limits[0]) & (buy <= limits[1]), buy, np.nan)
             f, _ = schmitt_frequency(osc, buy, caps.values[ce])
             options += _options(index, "R", buy, {"C": ce}, f, target_hz, series)
         if osc.circuit == "schmitt" and len(res):
-            re = np.concatenate([np.arange(s.start, s.stop)[
-                (res.values[s] >= limits[0]) & (res.values[s] <= limits[1])]
-                for s in res.layer_slices(max_resistors)])
+            re = res.entries(max_resistors, *limits)
             rv = res.values[re]
             c0 = 1.0 / (target_hz * rv)  # f ≈ 1/(RC) to start; refined with the model
             c = _solve_capacitance(lambda c, rv=rv: schmitt_frequency(osc, rv, c)[0],
@@ -600,9 +593,7 @@ def suggest(index: DrawerIndex, osc: Oscillator, target_hz: float, accept_pct: f
             f, _ = schmitt_frequency(osc, rv, buy)
             options += _options(index, "C", buy, {"R": re}, f, target_hz, series)
         if osc.circuit == "555" and len(res):
-            singles = np.arange(res.layers[1].start, res.layers[1].stop)
-            singles = singles[(res.values[singles] >= limits[0])
-                              & (res.values[singles] <= limits[1])]
+            singles = res.entries(1, *limits)
             ra, rb = (a.ravel() for a in np.meshgrid(singles, singles, indexing="ij"))
             fits = ~res.overused(ra, rb)
             ra, rb = ra[fits], rb[fits]

@@ -208,6 +208,13 @@ class _Node(NamedTuple):
     delay_hl: float
 
 
+def _turning_points(n: _Node) -> tuple[Any, Any]:
+    """(lowest, highest) capacitor voltage [V]: where it turns, an edge delay past VT-/VT+."""
+    v_start = n.v_low + (n.vt_minus - n.v_low) * np.exp(-n.delay_lh / n.tau_low)
+    v_peak = n.v_high - (n.v_high - n.vt_plus) * np.exp(-n.delay_hl / n.tau_high)
+    return v_start, v_peak
+
+
 def _phase_times(n: _Node) -> tuple[np.ndarray, np.ndarray]:
     """Steady-state (t_high, t_low) [s]; NaN where a target does not pass its threshold.
 
@@ -217,8 +224,7 @@ def _phase_times(n: _Node) -> tuple[np.ndarray, np.ndarray]:
     a, b = n.vt_plus, n.vt_minus
     ok = (n.v_high > a) & (n.v_low < b) & (a > b)
     with np.errstate(all="ignore"):
-        v_start = n.v_low + (b - n.v_low) * np.exp(-n.delay_lh / n.tau_low)
-        v_peak = n.v_high - (n.v_high - a) * np.exp(-n.delay_hl / n.tau_high)
+        v_start, v_peak = _turning_points(n)
         t_high = n.tau_high * np.log((n.v_high - v_start) / (n.v_high - a)) + n.delay_hl
         t_low = n.tau_low * np.log((v_peak - n.v_low) / (b - n.v_low)) + n.delay_lh
     return np.where(ok, t_high, np.nan), np.where(ok, t_low, np.nan)
@@ -235,11 +241,22 @@ def _output_sources(osc: Oscillator) -> tuple[float, float, float, float]:
     return voh, roh, vol, rol
 
 
+def _timing_capacitance(osc: Oscillator, c: ArrayLike) -> np.ndarray:
+    """The timing capacitor [F] plus the chip's input and the layout's stray capacitance."""
+    return np.asarray(c, dtype=float) + osc.device.input_capacitance_f + osc.stray_capacitance_f
+
+
+def _thresholds(osc: Oscillator, vt_plus: ArrayLike, vt_minus: ArrayLike) -> tuple[Any, Any]:
+    """(VT+, VT-) [V]: the given arrays, else the oscillator's own."""
+    return (osc.vt_plus_v if vt_plus is None else np.asarray(vt_plus, dtype=float),
+            osc.vt_minus_v if vt_minus is None else np.asarray(vt_minus, dtype=float))
+
+
 def _schmitt_node(osc: Oscillator, r: ArrayLike, c: ArrayLike, vt_plus: ArrayLike = None,
                   vt_minus: ArrayLike = None) -> _Node:
     d = osc.device
     r = np.asarray(r, dtype=float)
-    ct = np.asarray(c, dtype=float) + d.input_capacitance_f + osc.stray_capacitance_f
+    ct = _timing_capacitance(osc, c)
     voh, roh, vol, rol = _output_sources(osc)
     r_high, r_low = r + roh, r + rol
     v_high, v_low = voh, vol
@@ -250,8 +267,7 @@ def _schmitt_node(osc: Oscillator, r: ArrayLike, c: ArrayLike, vt_plus: ArrayLik
         v_low = (vol * ri + vi * r_low) / (r_low + ri)
         r_high = r_high * ri / (r_high + ri)
         r_low = r_low * ri / (r_low + ri)
-    a = osc.vt_plus_v if vt_plus is None else np.asarray(vt_plus, dtype=float)
-    b = osc.vt_minus_v if vt_minus is None else np.asarray(vt_minus, dtype=float)
+    a, b = _thresholds(osc, vt_plus, vt_minus)
     return _Node(a, b, v_high, r_high * ct, v_low, r_low * ct, d.delay_lh_s, d.delay_hl_s)
 
 
@@ -261,7 +277,7 @@ def _astable_node(osc: Oscillator, ra: ArrayLike, rb: ArrayLike, c: ArrayLike,
     d = osc.device
     ra = np.asarray(ra, dtype=float)
     rb = np.asarray(rb, dtype=float)
-    ct = np.asarray(c, dtype=float) + d.input_capacitance_f + osc.stray_capacitance_f
+    ct = _timing_capacitance(osc, c)
     v = d.supply_v
     if diode_steered:
         # Charge through RA and the diode across RB (RB's share of the current neglected).
@@ -272,8 +288,7 @@ def _astable_node(osc: Oscillator, ra: ArrayLike, rb: ArrayLike, c: ArrayLike,
     rd = d.discharge_r_ohm
     v_low = v * rd / (ra + rd)
     r_low = rb + ra * rd / (ra + rd)
-    a = osc.vt_plus_v if vt_plus is None else np.asarray(vt_plus, dtype=float)
-    b = osc.vt_minus_v if vt_minus is None else np.asarray(vt_minus, dtype=float)
+    a, b = _thresholds(osc, vt_plus, vt_minus)
     return _Node(a, b, v_high, r_high * ct, v_low, r_low * ct, d.delay_lh_s, d.delay_hl_s)
 
 
@@ -527,10 +542,8 @@ def waveform(osc: Oscillator, values: Mapping[str, float], periods: int = 3,
     t_high, t_low = (float(t) for t in _phase_times(n))
     if not (math.isfinite(t_high) and math.isfinite(t_low)):
         raise SetupError(why_no_oscillation(osc, vals, diode_steered))
-    a, b = float(n.vt_plus), float(n.vt_minus)
     vh, vl, th, tl = float(n.v_high), float(n.v_low), float(n.tau_high), float(n.tau_low)
-    v_start = vl + (b - vl) * math.exp(-n.delay_lh / tl)
-    v_peak = vh - (vh - a) * math.exp(-n.delay_hl / th)
+    v_start, v_peak = (float(v) for v in _turning_points(n))
     period = t_high + t_low
     t = np.linspace(0.0, periods * period, points)
     phase = np.mod(t, period)

@@ -159,7 +159,7 @@ def trim(parts: list[Part], osc: Oscillator, band_hz: tuple[float, float], top: 
     if missing:
         notes.append(f"the drawer has no {' or '.join(missing)} in stock")
         return TrimResult((lo_band, hi_band), notes, [])
-    ce = np.concatenate([np.arange(s.start, s.stop) for s in caps.layer_slices(max_capacitors)])
+    ce = caps.entries(max_capacitors)
     corners = _corner_oscillators(osc)
     # B: largest fixed R (at its high corner) that still reaches HI at zero rotation with C
     # high and the slowest thresholds; A: total resistance at full rotation (low corners)
@@ -169,8 +169,7 @@ def trim(parts: list[Part], osc: Oscillator, band_hz: tuple[float, float], top: 
     a_need = np.max([schmitt_resistance(o, lo_band, caps.lo[ce], limits) for o in corners],
                     axis=0)
     pot_value = np.array([p.value for p in pots])
-    pot_lo = np.array([p.value * (1 - p.tolerance.minus) for p in pots])
-    pot_hi = np.array([p.value * (1 + p.tolerance.plus) for p in pots])
+    pot_lo, pot_hi = (np.array([p.value_range[k] for p in pots]) for k in (0, 1))
     # Shortlist (pot, capacitor) pairs by the best fineness they could allow.
     spread = float(np.median(res.hi / res.values))
     r_best = np.minimum(b_need / spread, limits[1])  # nominal R just inside the zero-rotation limit

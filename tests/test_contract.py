@@ -22,7 +22,7 @@ from types import SimpleNamespace
 from typing import Any
 
 import pytest
-from test_search import assert_first_or_empty, brute_force_best
+from test_search import assert_first_or_empty, brute_force_best, node_lines, node_value
 from test_trim import check_trim_candidate
 
 from core.drawer import Part
@@ -110,28 +110,6 @@ def is_number(x: Any) -> bool:
 
 
 # ---------------------------------------------------------------- NODE helpers
-
-def node_lines(node: dict[str, Any]) -> list[int]:
-    """Stock lines a NODE uses, once per part, after checking its shape."""
-    assert set(node) in ({"line"}, {"series"}, {"parallel"}), node
-    if "line" in node:
-        assert isinstance(node["line"], int) and not isinstance(node["line"], bool)
-        return [node["line"]]
-    children = node.get("series") or node["parallel"]
-    assert isinstance(children, list) and len(children) >= 2
-    return [line for child in children for line in node_lines(child)]
-
-
-def node_value(node: dict[str, Any], by_line: dict[int, Part]) -> float:
-    """Series resistors add, parallel ones add as conductances; capacitors the other way
-    round (Horowitz & Hill, The Art of Electronics, 3rd ed., §1.2.1 and §1.4.1)."""
-    if "line" in node:
-        return by_line[node["line"]].value
-    kind = by_line[node_lines(node)[0]].kind
-    kids = [node_value(k, by_line) for k in node.get("series") or node["parallel"]]
-    adds = ("series" in node) != (kind == "C")
-    return sum(kids) if adds else 1.0 / sum(1.0 / k for k in kids)
-
 
 def check_networks(cand: dict[str, Any], by_line: dict[int, Part], roles: tuple[str, ...],
                    max_parts: dict[str, int] | None = None) -> Counter[int]:

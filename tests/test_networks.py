@@ -10,6 +10,8 @@ from __future__ import annotations
 
 import math
 from collections import Counter
+from collections.abc import Generator
+from typing import Any
 
 import numpy as np
 import pytest
@@ -148,14 +150,18 @@ def test_overused_counts_across_networks() -> None:
     assert index.overused(a, b).tolist() == [False, True, True]
 
 
-def test_build_reports_progress_and_refuses_silly_sizes() -> None:
-    steps = build_index([part("R", 1e3)], "R", 3)
+def progress_and_result(steps: Generator[float, None, Any]) -> tuple[list[float], Any]:
+    """Every progress fraction a build generator yields, and what it returns."""
     fractions = []
-    try:
-        while True:
+    while True:
+        try:
             fractions.append(next(steps))
-    except StopIteration as done:
-        index = done.value
+        except StopIteration as done:
+            return fractions, done.value
+
+
+def test_build_reports_progress_and_refuses_silly_sizes() -> None:
+    fractions, index = progress_and_result(build_index([part("R", 1e3)], "R", 3))
     assert fractions == sorted(fractions) and fractions[-1] == 1.0
     assert len(index) >= 1
     with pytest.raises(InputError):
@@ -188,13 +194,7 @@ def test_random_drawers_give_sorted_layers_and_true_values(lines: list[tuple[flo
 def test_drawer_index_progress_and_pots() -> None:
     parts = [part("R", 1e3, 2), part("R", 2.2e3, 1, line=3), part("C", 1e-9, 2, line=4),
              part("P", 10e3, 1, line=5), part("P", 10e3, 1, line=6), part("P", 50e3, 0, line=7)]
-    steps = build_drawer_index(parts, 3, 2)
-    fractions = []
-    try:
-        while True:
-            fractions.append(next(steps))
-    except StopIteration as done:
-        index = done.value
+    fractions, index = progress_and_result(build_drawer_index(parts, 3, 2))
     assert fractions == sorted(fractions) and fractions[0] >= 0 and fractions[-1] == 1.0
     # Equivalent pots are one choice; a pot with quantity 0 is none.
     assert [p.stock_line for p in index.pots] == [5]

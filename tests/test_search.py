@@ -200,9 +200,15 @@ def node_value(node: dict[str, Any], by_line: dict[int, Part]) -> float:
 
 
 def node_lines(node: dict[str, Any]) -> list[int]:
+    """Stock lines a contract NODE uses, once per part, after checking its shape
+    (DESIGN.md: ``{"line": N}``, ``{"series": [NODE, ...]}`` or ``{"parallel": [...]}``)."""
+    assert set(node) in ({"line"}, {"series"}, {"parallel"}), node
     if "line" in node:
+        assert isinstance(node["line"], int) and not isinstance(node["line"], bool)
         return [node["line"]]
-    return [line for k in node.get("series") or node["parallel"] for line in node_lines(k)]
+    children = node.get("series") or node["parallel"]
+    assert isinstance(children, list) and len(children) >= 2
+    return [line for k in children for line in node_lines(k)]
 
 
 def check_candidate_json(cand: dict[str, Any], parts: list[Part], roles: tuple[str, ...]) -> None:

@@ -18,7 +18,12 @@ from typing import Any
 import pytest
 from hypothesis import given, settings
 from hypothesis import strategies as st
-from test_search import plain_networks, within_stock  # the plain loops, no engine code
+from test_search import (  # the plain loops and NODE helpers, no engine code
+    node_lines,
+    node_value,
+    plain_networks,
+    within_stock,
+)
 
 from core.drawer import Part
 from core.errors import InputError
@@ -59,17 +64,6 @@ def taper_share(x: float, taper: str) -> float:
     return x if taper == "lin" else (81.0 ** x - 1.0) / 80.0
 
 
-def node_value(node: dict[str, Any], by_line: dict[int, Part]) -> float:
-    if "line" in node:
-        return by_line[node["line"]].value
-    kids = [node_value(k, by_line) for k in node.get("series") or node["parallel"]]
-    first = node
-    while "line" not in first:
-        first = (first.get("series") or first["parallel"])[0]
-    adds = ("series" in node) != (by_line[first["line"]].kind == "C")
-    return sum(kids) if adds else 1.0 / sum(1.0 / k for k in kids)
-
-
 def node_range(node: dict[str, Any], by_line: dict[int, Part]) -> tuple[float, float]:
     """Network value with every part low, and with every part high."""
     def at(side: int) -> dict[int, Part]:
@@ -81,19 +75,13 @@ def node_range(node: dict[str, Any], by_line: dict[int, Part]) -> tuple[float, f
     return node_value(node, at(0)), node_value(node, at(1))
 
 
-def lines_of(node: dict[str, Any]) -> list[int]:
-    if "line" in node:
-        return [node["line"]]
-    return [x for k in node.get("series") or node["parallel"] for x in lines_of(k)]
-
-
 def check_trim_candidate(cand: dict[str, Any], parts: list[Part], osc: Any,
                          band: tuple[float, float]) -> None:
     by_line = {p.stock_line: p for p in parts}
     nets = cand["networks"]
     assert set(nets) == set(cand["values"]) == {"R", "P", "C"}
     assert list(nets["P"]) == ["line"] and by_line[nets["P"]["line"]].kind == "P"
-    used = Counter(lines_of(nets["R"]) + lines_of(nets["P"]) + lines_of(nets["C"]))
+    used = Counter(node_lines(nets["R"]) + node_lines(nets["P"]) + node_lines(nets["C"]))
     assert all(used[line] <= by_line[line].quantity for line in used)
     for role in ("R", "P", "C"):
         assert cand["values"][role] == pytest.approx(node_value(nets[role], by_line), rel=1e-12)
