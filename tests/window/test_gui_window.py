@@ -455,3 +455,21 @@ def test_new_empty_drawer_explains_why_there_is_nothing(qtbot, window):
     search_done(qtbot, window, lambda: window.drawer_panel.add_rows(
         paste_rows("10k 15k 22k 47n 68n 100n", quantity="2"), "Paste values"))
     assert window.candidates.rowCount() > 0
+
+
+def test_plots_are_drawn_one_per_step(window):
+    """Each plot gets its own event-loop turn (the window must not stall ~50 ms)."""
+    from gui.plot_data import draw_steps
+
+    window.select_candidate(4)
+    cand = window.selected_candidate()
+    plots = window.plots
+    window.select_candidate(0)  # back to the first result's candidate, whose spread is shown
+    hist_before = plots.hist_curve.getData()[1].copy()
+    steps = draw_steps(plots, window._outcome, cand)  # ... now step through candidate 4
+    next(steps)
+    assert math.isclose(plots.cap_curve.getData()[0][-1], 3 / cand.frequency_hz, rel_tol=1e-6)
+    np.testing.assert_array_equal(plots.hist_curve.getData()[1], hist_before)
+    with pytest.raises(StopIteration):
+        next(steps)
+    assert not np.array_equal(plots.hist_curve.getData()[1], hist_before)
