@@ -12,7 +12,7 @@ from collections.abc import Iterator
 import numpy as np
 import pyqtgraph as pg
 from PySide6.QtCore import Qt
-from PySide6.QtGui import QColor, QFont
+from PySide6.QtGui import QColor, QFont, QGuiApplication, QPen
 from PySide6.QtWidgets import QGraphicsItem, QHBoxLayout, QStackedWidget, QWidget
 
 # Our palette: ink for text and axes, a slate blue and a copper for the two traces,
@@ -27,6 +27,15 @@ THRESHOLD = QColor(130, 80, 130)
 ENVELOPE = QColor(47, 94, 150, 50)
 
 
+def _pen(color: QColor, width: float = 1.0,
+         style: Qt.PenStyle = Qt.PenStyle.SolidLine) -> QPen:
+    """A pen ``width`` logical pixels wide: pyqtgraph's pens are cosmetic (device pixels),
+    so without this every line would look half as heavy on a 2× screen."""
+    app = QGuiApplication.instance()
+    ratio = app.devicePixelRatio() if isinstance(app, QGuiApplication) else 1.0
+    return pg.mkPen(color, width=width * ratio, style=style)
+
+
 def _plot(title: str, accessible: str) -> pg.PlotWidget:
     widget = pg.PlotWidget(background="w")
     widget.setAccessibleName(accessible)
@@ -38,8 +47,8 @@ def _plot(title: str, accessible: str) -> pg.PlotWidget:
     font.setPointSizeF(max(8.0, font.pointSizeF() * 0.9))
     for name in ("left", "bottom"):
         axis = item.getAxis(name)
-        axis.setPen(pg.mkPen(INK))
-        axis.setTextPen(pg.mkPen(INK))
+        axis.setPen(_pen(INK))
+        axis.setTextPen(_pen(INK))
         axis.setStyle(tickFont=font)
         axis.label.setFont(font)
         # Keep the drawn axis as a pixmap: a new trace then repaints without redrawing
@@ -84,9 +93,9 @@ class PlotPanel(QWidget):
         self.waveform = _plot("Capacitor and output", "waveform plot")
         self.waveform.setLabel("bottom", "Time", units="s")
         self.waveform.setLabel("left", "Voltage", units="V")
-        self.out_curve = self.waveform.plot(pen=pg.mkPen(OUT, width=1.6))
-        self.cap_curve = self.waveform.plot(pen=pg.mkPen(CAP, width=2.0))
-        dash = pg.mkPen(THRESHOLD, width=1.2, style=Qt.PenStyle.DashLine)
+        self.out_curve = self.waveform.plot(pen=_pen(OUT, width=1.6))
+        self.cap_curve = self.waveform.plot(pen=_pen(CAP, width=2.0))
+        dash = _pen(THRESHOLD, width=1.2, style=Qt.PenStyle.DashLine)
         # Labels just above VT+ and just below VT−, on a light backing so traces stay legible.
         backing = pg.mkBrush(255, 255, 255, 210)
         self.vt_plus_line = pg.InfiniteLine(
@@ -106,13 +115,13 @@ class PlotPanel(QWidget):
         self.spread.setLabel("left", "Share of builds", units="%")
         self.spread.getAxis("left").enableAutoSIPrefix(False)
         self.accept_region = pg.LinearRegionItem(movable=False, brush=pg.mkBrush(ACCEPT),
-                                                 pen=pg.mkPen(ACCEPT_EDGE))
+                                                 pen=_pen(ACCEPT_EDGE))
         self.spread.addItem(self.accept_region)
         self.hist_curve = self.spread.plot(stepMode="center", fillLevel=0,
-                                           pen=pg.mkPen(CAP, width=1.2),
+                                           pen=_pen(CAP, width=1.2),
                                            brush=pg.mkBrush(CAP.red(), CAP.green(),
                                                             CAP.blue(), 110))
-        self.target_line = pg.InfiniteLine(angle=90, pen=pg.mkPen(INK, width=1.5),
+        self.target_line = pg.InfiniteLine(angle=90, pen=_pen(INK, width=1.5),
                                            label="target", labelOpts={"position": 0.95,
                                                                       "color": INK})
         self.spread.addItem(self.target_line)
@@ -126,17 +135,17 @@ class PlotPanel(QWidget):
         self.rotation.setLabel("left", "Frequency", units="Hz")
         self.band_region = pg.LinearRegionItem(orientation="horizontal", movable=False,
                                                brush=pg.mkBrush(ACCEPT),
-                                               pen=pg.mkPen(ACCEPT_EDGE))
+                                               pen=_pen(ACCEPT_EDGE))
         self.rotation.addItem(self.band_region)
-        self.envelope_low = self.rotation.plot(pen=pg.mkPen(CAP, width=1,
+        self.envelope_low = self.rotation.plot(pen=_pen(CAP, width=1,
                                                             style=Qt.PenStyle.DotLine))
-        self.envelope_high = self.rotation.plot(pen=pg.mkPen(CAP, width=1,
+        self.envelope_high = self.rotation.plot(pen=_pen(CAP, width=1,
                                                              style=Qt.PenStyle.DotLine))
         self.envelope_fill = pg.FillBetweenItem(self.envelope_low, self.envelope_high,
                                                 brush=pg.mkBrush(ENVELOPE))
         self.rotation.addItem(self.envelope_fill)
-        self.rotation_curve = self.rotation.plot(pen=pg.mkPen(CAP, width=2))
-        turn = pg.mkPen(INK, width=1, style=Qt.PenStyle.DashLine)
+        self.rotation_curve = self.rotation.plot(pen=_pen(CAP, width=2))
+        turn = _pen(INK, width=1, style=Qt.PenStyle.DashLine)
         self.turn_lines = [pg.InfiniteLine(angle=90, pen=turn) for _ in range(2)]
         for line in self.turn_lines:
             self.rotation.addItem(line)
