@@ -41,7 +41,7 @@ from core.search import Candidate
 from core.sheet import start_rotation
 from core.timing import Oscillator, Prediction, predict, waveform
 from core.trim import TrimCandidate, pot_resistance
-from core.units import format_quantity
+from core.units import format_part_value, format_quantity
 
 MEASURES = ("period_s", "frequency_hz", "t_high_s", "duty_pct")
 """The ``.meas`` results the netlist prints (names as in the command-line JSON)."""
@@ -64,7 +64,7 @@ def _elements(node: Node, a: str, b: str, counters: dict[str, int], nodes: Itera
         counters[part.kind] = counters.get(part.kind, 0) + 1
         ref = f"{part.kind}{counters[part.kind]}"
         where = f"line {part.stock_line}" + (f", {part.location}" if part.location else "")
-        text = format_quantity(part.value, "capacitance" if part.kind == "C" else "resistance")
+        text = format_part_value(part.value, part.kind)
         if part.kind == "P":
             return [f"R{ref} {a} {b} {_num(max(pot_ohm, 1e-3))} ; {text} pot at the start "
                     f"rotation, {where}"]

@@ -37,7 +37,7 @@ import numpy as np
 
 from core.drawer import Part
 from core.errors import InputError
-from core.units import format_quantity
+from core.units import format_part_value
 
 NetworkKind = Literal["R", "C"]
 T = TypeVar("T")
@@ -119,8 +119,7 @@ class Node:
     def describe(self, digits: int = 3) -> str:
         """``10 kΩ + 4.7 kΩ``, ``22 nF ∥ 10 nF``, ``(10 kΩ ∥ 10 kΩ) + 4.7 kΩ``."""
         if self.part is not None:
-            quantity = "capacitance" if self.part.kind == "C" else "resistance"
-            return format_quantity(self.part.value, quantity, digits)
+            return format_part_value(self.part.value, self.part.kind, digits)
         sign = " + " if self.series else " ∥ "
         shown = [c.describe(digits) if c.part is not None else f"({c.describe(digits)})"
                  for c in (self.series or self.parallel)]

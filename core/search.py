@@ -51,7 +51,7 @@ from core.timing import (
     schmitt_times,
     times,
 )
-from core.units import format_frequency, format_quantity, format_resistance
+from core.units import format_frequency, format_part_value, format_resistance
 
 NEAR_COPY = 0.02
 """Two candidates whose R and C both agree within this fraction are near-copies."""
@@ -642,11 +642,10 @@ def _options(index: DrawerIndex, kind: str, buy: np.ndarray, owned: dict[str, np
                 (networks[role],) = net_index.nodes([int(entries[i])], taken)
         except InputError:
             continue
-        quantity = "capacitance" if kind == "C" else "resistance"
         role = "C" if kind == "C" else "R"
         out.append((abs(float(error[i])), sum(n.part_count for n in networks.values()), {
             "buy": {"kind": kind, "role": role, "value": float(buy[i]), "series": series,
-                    "text": format_quantity(float(buy[i]), quantity)},
+                    "text": format_part_value(float(buy[i]), kind)},
             "with": {r: n.to_json() for r, n in networks.items()},
             "with_text": {r: n.describe() for r, n in networks.items()},
             "frequency_hz": float(f[i]),

@@ -24,7 +24,14 @@ from core.search import Candidate
 from core.spread import monte_carlo
 from core.timing import Oscillator, predict, waveform
 from core.trim import TrimCandidate, frequency_at_rotation, pot_resistance, rotation_for
-from core.units import Tolerance, format_quantity, parse_voltage
+from core.units import (
+    Tolerance,
+    format_capacitance,
+    format_part_value,
+    format_quantity,
+    format_resistance,
+    parse_voltage,
+)
 
 DECOUPLING_F = 100e-9
 """Supply decoupling at the chip (common practice, no published source: 100 nF ceramic)."""
@@ -115,10 +122,6 @@ class Sheet:
         }
 
 
-def _fmt(value: float, kind: str) -> str:
-    return format_quantity(value, "capacitance" if kind == "C" else "resistance")
-
-
 def _hz(value: float) -> str:
     return format_quantity(value, "frequency")
 
@@ -163,15 +166,15 @@ def _support_row(refs: str, what: str, farads: float, stock: Sequence[Part],
                  used: Counter[int], take: list[Part]) -> PartRow:
     part = _find_in_stock(stock, farads, used)
     if part is None:
-        return PartRow(refs, what, _fmt(farads, "C"), "", 1, "", None, "not in the drawer")
+        return PartRow(refs, what, format_capacitance(farads), "", 1, "", None, "not in the drawer")
     used[part.stock_line] += 1
     take.append(part)
-    return PartRow(refs, what, _fmt(farads, "C"), str(part.tolerance), 1, part.location,
+    return PartRow(refs, what, format_capacitance(farads), str(part.tolerance), 1, part.location,
                    part.stock_line)
 
 
 def _value_text(part: Part) -> str:
-    return _fmt(part.value, part.kind)
+    return format_part_value(part.value, part.kind)
 
 
 def _schematic(osc: Oscillator, networks: Mapping[str, Node], supply_text: str,
@@ -187,7 +190,8 @@ def _schematic(osc: Oscillator, networks: Mapping[str, Node], supply_text: str,
             Network(networks["C"], "C", _value_text),
             pins={role: str(pins[key]) for role, key in roles.items()},
             chip=f"U1 {family.name}", supply_text=supply_text,
-            decoupling_text=_fmt(DECOUPLING_F, "C"), control_text=_fmt(CONTROL_F, "C"),
+            decoupling_text=format_capacitance(DECOUPLING_F),
+            control_text=format_capacitance(CONTROL_F),
             diode_text=STEERING_DIODE if steered else None)
     feedback = [Network(networks["R"], "R", _value_text)]
     if "P" in networks:
@@ -196,7 +200,7 @@ def _schematic(osc: Oscillator, networks: Mapping[str, Node], supply_text: str,
         feedback, Network(networks["C"], "C", _value_text), gate_ref=f"U1a {family.name}",
         input_pin=str(pins["input"]), output_pin=str(pins["output"]),
         vcc_pin=str(pins["vcc"]), gnd_pin=str(pins["gnd"]), supply_text=supply_text,
-        decoupling_text=_fmt(DECOUPLING_F, "C"),
+        decoupling_text=format_capacitance(DECOUPLING_F),
         gate_note=f"NAND: pin {pins['tie_high']} to VCC" if "tie_high" in pins else "")
 
 
@@ -218,7 +222,7 @@ def _parts_list(osc: Oscillator, schematic: Schematic, networks: Mapping[str, No
         note = "; ".join(x for x in ("+ lead to the timing node" if part.polarised else "",
                                      part.note) if x)
         rows.append(PartRow(", ".join(refs[key]), _describe(part) + role,
-                            _fmt(part.value, part.kind), str(part.tolerance), len(refs[key]),
+                            _value_text(part), str(part.tolerance), len(refs[key]),
                             part.location or "—", key[0], note))
     family = osc.family
     rows.append(PartRow("U1", family.description, family.name, "", 1, "", None,
@@ -387,9 +391,10 @@ def _adjustment(osc: Oscillator, candidate: TrimCandidate, start: float, f_start
     taper = (" It is a log-taper pot: the frequency moves slowly near zero rotation and "
              "quickly near full rotation." if candidate.taper == "log" else "")
     return [
-        f"Before fitting {pot_ref} ({_fmt(pot.value, 'P')}), check it with an ohmmeter between "
-        "pin 1 and the wiper (pin 2): the reading should rise as you turn clockwise. If it "
-        "falls, your part is wired the other way round and every direction below swaps.",
+        f"Before fitting {pot_ref} ({format_resistance(pot.value)}), check it with an "
+        "ohmmeter between pin 1 and the wiper (pin 2): the reading should rise as you turn "
+        "clockwise. If it falls, your part is wired the other way round and every direction "
+        "below swaps.",
         f"Set {pot_ref} to about {start:.0f} % of its travel, counted from the pin-1 end "
         "(fully anticlockwise = 0 %; a 25-turn trimmer moves 4 % per turn). A nominal build "
         f"then runs near {_hz(f_start)}, the middle of the band.",
@@ -497,15 +502,15 @@ def _cautions(take: Iterable[Part], ratings: Mapping[int, str], supply: float) -
         except InputError:
             rated = None
         if rated is None:
-            out.append(f"{_fmt(part.value, 'C')} {part.dielectric} ({where}): the drawer gives "
-                       "no voltage rating; read it off the can before fitting it.")
+            out.append(f"{format_capacitance(part.value)} {part.dielectric} ({where}): the "
+                       "drawer gives no voltage rating; read it off the can before fitting it.")
         elif rated < 1.5 * supply:
-            out.append(f"{_fmt(part.value, 'C')} {part.dielectric} ({where}) is rated {text}: "
-                       f"too close to the {format_quantity(supply, 'voltage')} supply; use a "
-                       "higher-rated one.")
+            out.append(f"{format_capacitance(part.value)} {part.dielectric} ({where}) is rated "
+                       f"{text}: too close to the {format_quantity(supply, 'voltage')} supply; "
+                       "use a higher-rated one.")
         else:
-            out.append(f"{_fmt(part.value, 'C')} {part.dielectric} ({where}) is rated {text}: "
-                       "fine for this supply; mind the polarity.")
+            out.append(f"{format_capacitance(part.value)} {part.dielectric} ({where}) is rated "
+                       f"{text}: fine for this supply; mind the polarity.")
     out.append("This sheet does not cover mains-connected designs. For anything connected to "
                "the mains, local codes and licensed practice apply.")
     return out
@@ -545,7 +550,7 @@ def take_parts(drawer: Drawer, used: Sheet | Candidate | TrimCandidate) -> list[
     plan: list[tuple[Part, int]] = []
     for line, count in counts.items():
         wanted = next(p for p in parts if p.stock_line == line)
-        text = _fmt(wanted.value, wanted.kind)
+        text = _value_text(wanted)
         have = current.get(line)
         if have is None or have.kind != wanted.kind or have.value != wanted.value:
             raise InputError(f"stock line {line} no longer holds the {text} the design uses; "
@@ -557,5 +562,5 @@ def take_parts(drawer: Drawer, used: Sheet | Candidate | TrimCandidate) -> list[
     with drawer.edit_group("Take parts for the build"):
         for have, count in plan:
             drawer.set_cell(have.row, "quantity", str(have.quantity - count))
-    return [Taken(p.stock_line, p.location, _fmt(p.value, p.kind), n, p.quantity,
+    return [Taken(p.stock_line, p.location, _value_text(p), n, p.quantity,
                   p.quantity - n) for p, n in plan]

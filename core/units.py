@@ -362,6 +362,11 @@ def format_quantity(value: float, quantity: Quantity, digits: int = 3) -> str:
     return f"{text} {_FORMAT_PREFIX[exp3]}{symbol}"
 
 
+def format_part_value(value: float, kind: str, digits: int = 3) -> str:
+    """A part's value by its kind: ``C`` in farads, ``R`` and ``P`` in ohms."""
+    return format_quantity(value, "capacitance" if kind == "C" else "resistance", digits)
+
+
 def format_resistance(ohms: float, digits: int = 3) -> str:
     return format_quantity(ohms, "resistance", digits)
 

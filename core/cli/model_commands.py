@@ -24,6 +24,7 @@ from core.spread import monte_carlo
 from core.timing import Oscillator, default_tolerances, predict
 from core.units import (
     Tolerance,
+    format_part_value,
     format_quantity,
     parse_capacitance,
     parse_frequency,
@@ -116,7 +117,7 @@ def _threshold_source(osc: Oscillator) -> str:
 
 
 def _describe_values(values: dict[str, float]) -> str:
-    return ", ".join(f"{k} = {format_quantity(v, 'capacitance' if k == 'C' else 'resistance')}"
+    return ", ".join(f"{k} = {format_part_value(v, k)}"
                      for k, v in values.items())
 
 

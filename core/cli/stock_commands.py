@@ -9,7 +9,7 @@ from typing import Any
 from core.cli.common import add_json_option, emit, say_error
 from core.drawer import Drawer, Part, read_drawer
 from core.errors import DrawerFileError
-from core.units import format_quantity
+from core.units import format_part_value
 
 _KIND_NAMES = {"R": "resistors", "P": "potentiometers", "C": "capacitors"}
 
@@ -34,18 +34,14 @@ def stock_warnings(drawer: Drawer) -> list[str]:
                             "it will not be used")
     for (kind, value), locations in bins.items():
         if len(locations) > 1:
-            warnings.append(f"{format_quantity(value, _quantity(kind))} "
+            warnings.append(f"{format_part_value(value, kind)} "
                             f"{_KIND_NAMES[kind][:-1]} in several bins: "
                             f"{', '.join(sorted(locations))}")
     return warnings
 
 
-def _quantity(kind: str) -> Any:
-    return "capacitance" if kind == "C" else "resistance"
-
-
 def _describe(part: Part) -> str:
-    return f"{format_quantity(part.value, _quantity(part.kind))} in {part.location or '?'}"
+    return f"{format_part_value(part.value, part.kind)} in {part.location or '?'}"
 
 
 def run_check(args: argparse.Namespace) -> int:
