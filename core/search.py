@@ -79,9 +79,13 @@ class Candidate:
     error_pct: float
     duty_pct: float
     worst_case_hz: tuple[float, float]
-    part_count: int
     diode_steered: bool = False
     notes: list[str] = field(default_factory=list)
+
+    @property
+    def part_count(self) -> int:
+        """Parts over all the networks (the ranking's "fewest parts")."""
+        return sum(n.part_count for n in self.networks.values())
 
     def to_json(self) -> dict[str, Any]:
         return {
@@ -526,8 +530,7 @@ def _candidates(index: DrawerIndex, osc: Oscillator, target_hz: float, s: _Short
                          "alone charges C")
         out.append(Candidate(osc.circuit, vals, networks, prediction.frequency_hz,
                              (prediction.frequency_hz - target_hz) / target_hz * 100.0,
-                             prediction.duty_pct, prediction.worst_case_hz,
-                             sum(n.part_count for n in networks.values()), s.diode_steered,
+                             prediction.duty_pct, prediction.worst_case_hz, s.diode_steered,
                              notes))
     return out
 

@@ -21,7 +21,7 @@ from __future__ import annotations
 
 import math
 from collections import Counter
-from dataclasses import dataclass, field
+from dataclasses import dataclass, field, replace
 from typing import Any
 
 import numpy as np
@@ -70,9 +70,17 @@ class TrimCandidate:
     guaranteed_hz: tuple[float, float]
     rotation_pct: tuple[float, float]
     resolution_hz_per_pct: float
-    part_count: int
-    taper: str
     notes: list[str] = field(default_factory=list)
+
+    @property
+    def part_count(self) -> int:
+        """Parts over R, P and C (the ranking's "fewest parts")."""
+        return sum(n.part_count for n in self.networks.values())
+
+    @property
+    def taper(self) -> str:
+        """The pot's taper, ``lin`` or ``log``."""
+        return self.networks["P"].parts()[0].taper
 
     def to_json(self) -> dict[str, Any]:
         return {
@@ -234,11 +242,10 @@ def _design(osc: Oscillator, r_node: Node, p_node: Node, c_node: Node,
     pot = p_node.parts()[0]
     values = {"R": r_node.value, "P": pot.value, "C": c_node.value}
     networks = {"R": r_node, "P": p_node, "C": c_node}
-    cand = TrimCandidate(values, networks, range_hz, guaranteed, (0.0, 0.0), 0.0,
-                         r_node.part_count + 1 + c_node.part_count, pot.taper)
-    rot_high, rot_low = (float(x) for x in rotation_for(osc, cand, np.array(band[::-1])))
+    cand = TrimCandidate(values, networks, range_hz, guaranteed, (0.0, 0.0), 0.0)
     centre = 0.5 * (band[0] + band[1])
-    x = float(rotation_for(osc, cand, centre))
+    rot_high, rot_low, x = (float(r) for r in rotation_for(osc, cand, np.array(
+        [band[1], band[0], centre])))
     f_a, f_b = frequency_at_rotation(osc, cand, np.array([max(x - 0.5, 0.0),
                                                           min(x + 0.5, 100.0)]))
     step = min(x + 0.5, 100.0) - max(x - 0.5, 0.0)
@@ -249,8 +256,8 @@ def _design(osc: Oscillator, r_node: Node, p_node: Node, c_node: Node,
     if pot.taper == "log":
         notes.append("log-taper pot: the frequency changes slowly near zero rotation and "
                      "quickly near full rotation")
-    return TrimCandidate(values, networks, range_hz, guaranteed, (rot_high, rot_low),
-                         resolution, cand.part_count, pot.taper, notes)
+    return replace(cand, rotation_pct=(rot_high, rot_low), resolution_hz_per_pct=resolution,
+                   notes=notes)
 
 
 def frequency_at_rotation(osc: Oscillator, candidate: TrimCandidate, rotation_pct: Any,

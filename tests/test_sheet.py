@@ -283,7 +283,7 @@ def test_polarised_timing_capacitor_is_checked_against_its_rating():
     for cap, expect in ((parts[1], "too close"), (parts[2], "no voltage rating")):
         cand = Candidate("schmitt", {"R": 1e4, "C": cap.value},
                          {"R": Node(part=parts[0]), "C": Node(part=cap)}, 1.0, 0.0, 50.0,
-                         (0.9, 1.1), 2)
+                         (0.9, 1.1))
         sheet = build_sheet(osc, cand, "1 Hz", stock=parts, ratings=voltage_ratings(drawer),
                             today=TODAY)
         assert any(expect in c for c in sheet.cautions)
@@ -360,7 +360,7 @@ def test_take_parts_counts_a_line_used_twice():
     r, c = drawer.parts()
     cand = Candidate("schmitt", {"R": 2e4, "C": 1e-7},
                      {"R": Node(series=(Node(part=r), Node(part=r))), "C": Node(part=c)},
-                     1.0, 0.0, 50.0, (0.9, 1.1), 3)
+                     1.0, 0.0, 50.0, (0.9, 1.1))
     taken = take_parts(drawer, cand)
     assert {t.line: (t.count, t.before, t.after) for t in taken} == {2: (2, 9, 7), 3: (1, 8, 7)}
     assert [row.get("quantity") for row in drawer.rows] == ["7", "7"]
