@@ -125,16 +125,18 @@ class SearchResult:
 
 def schmitt_frequency(osc: Oscillator, r: Any, c: Any) -> tuple[np.ndarray, np.ndarray]:
     """Full-model (frequency [Hz], duty [%]) for R [Ω] and C [F] arrays; NaN if no oscillation."""
-    t_high, t_low = schmitt_times(osc, np.asarray(r, float), np.asarray(c, float))
-    period = t_high + t_low
-    return 1.0 / period, 100.0 * t_high / period
+    return _frequency_and_duty(*schmitt_times(osc, np.asarray(r, float), np.asarray(c, float)))
 
 
 def astable_frequency(osc: Oscillator, ra: Any, rb: Any, c: Any,
                       diode_steered: bool) -> tuple[np.ndarray, np.ndarray]:
     """Full-model (frequency [Hz], duty [%]) of the 555 astable for RA, RB [Ω], C [F]."""
-    t_high, t_low = astable_times(osc, np.asarray(ra, float), np.asarray(rb, float),
-                                  np.asarray(c, float), diode_steered=diode_steered)
+    return _frequency_and_duty(*astable_times(osc, np.asarray(ra, float), np.asarray(rb, float),
+                                              np.asarray(c, float), diode_steered=diode_steered))
+
+
+def _frequency_and_duty(t_high: np.ndarray, t_low: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+    """(frequency [Hz], duty [%]) from the output-high and output-low times [s]."""
     period = t_high + t_low
     return 1.0 / period, 100.0 * t_high / period
 
