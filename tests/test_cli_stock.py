@@ -28,11 +28,12 @@ def test_check_bad_file_lists_each_line(tmp_path: Path, capsys) -> None:
     p.write_text("kind,value,quantity\nR,10k,3\nR,xx,2\nC,1n,-4\n", encoding="utf-8")
     assert main(["stock", "check", str(p)]) == 2
     out, err = capsys.readouterr()
-    # DESIGN.md: one error line on stderr; the full list of bad lines goes to stdout.
-    assert err.count("\n") == 1 and f"{p}:3: value 'xx'" in err and "1 more bad line" in err
-    out = out.strip().splitlines()
-    assert out[0].startswith(f"{p}:3: value 'xx'")
-    assert out[1].startswith(f"{p}:4: quantity")
+    # Drawer issue: "bad lines: exit status 2, one line each on stderr as FILE:LINE: reason".
+    err = err.strip().splitlines()
+    assert len(err) == 2
+    assert err[0].startswith(f"{p}:3: value 'xx'")
+    assert err[1].startswith(f"{p}:4: quantity")
+    assert out == ""
 
 
 def test_warnings_for_zero_and_duplicate_bins(tmp_path: Path, capsys) -> None:
