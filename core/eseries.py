@@ -10,8 +10,10 @@ from __future__ import annotations
 
 import math
 from functools import cache
+from typing import Any
 
 import numpy as np
+from numpy.typing import ArrayLike
 
 from core.errors import InputError
 
@@ -69,7 +71,21 @@ def neighbours(value: float, name: str) -> tuple[float, float]:
     return below, above
 
 
-def nearest(value: float, name: str) -> float:
-    """The value of series ``name`` closest to ``value`` on a log scale."""
-    below, above = neighbours(value, name)
-    return below if math.log(value / below) <= math.log(above / value) else above
+def nearest(value: ArrayLike, name: str) -> Any:
+    """The value(s) of series ``name`` closest to ``value`` on a log scale.
+
+    Takes one value or a numpy array (NaN stays NaN); returns the same shape.
+    """
+    x = np.asarray(value, dtype=float)
+    finite = np.isfinite(x) & (x > 0)
+    if not finite.any():
+        if x.ndim == 0:
+            raise InputError("needs a value above zero", what="value", text=str(value))
+        return np.full(x.shape, np.nan)
+    table = _decade_values(name, float(x[finite].min()), float(x[finite].max()))
+    safe = np.where(finite, x, table[1])
+    pos = np.clip(np.searchsorted(table, safe), 1, len(table) - 1)
+    below, above = table[pos - 1], table[pos]
+    out = np.where(np.log(safe / below) <= np.log(above / safe), below, above)
+    out = np.where(finite, out, np.nan)
+    return float(out) if out.ndim == 0 else out

@@ -39,7 +39,7 @@ import numpy as np
 
 from core.drawer import Part
 from core.errors import InputError
-from core.eseries import kit
+from core.eseries import nearest
 from core.networks import DrawerIndex, NetworkIndex, Node, drawer_index
 from core.spread import worst_case_hz
 from core.timing import (
@@ -545,16 +545,6 @@ BUY_RANGE = {"R": (1.0, 10e6), "C": (10e-12, 10e-3)}
 """Values one can buy off the shelf [Ω, F] (common practice, no published source)."""
 
 
-def _nearest_in_series(values: np.ndarray, series: str, kind: str) -> np.ndarray:
-    """Nearest IEC 60063 ``series`` value to each of ``values`` on a log scale (NaN kept)."""
-    table = np.array(kit(series, *BUY_RANGE[kind]))
-    x = np.where(np.isfinite(values), values, table[0])
-    pos = np.clip(np.searchsorted(table, x), 1, len(table) - 1)
-    below, above = table[pos - 1], table[pos]
-    out = np.where(np.log(x / below) <= np.log(above / x), below, above)
-    return np.where(np.isfinite(values), out, np.nan)
-
-
 def _solve_capacitance(frequency: Callable[[np.ndarray], np.ndarray], target_hz: float,
                        c: np.ndarray) -> np.ndarray:
     """C [F] that gives ``target_hz``, from a first guess, f being nearly proportional to 1/C."""
@@ -584,7 +574,7 @@ def suggest(index: DrawerIndex, osc: Oscillator, target_hz: float, accept_pct: f
         if osc.circuit == "schmitt" and len(caps):
             ce = caps.entries(max_capacitors)
             r = schmitt_resistance(osc, target_hz, caps.values[ce], limits)
-            buy = _nearest_in_series(r, series, "R")
+            buy = np.clip(nearest(r, series), *BUY_RANGE["R"])
             buy = np.where((buy >= limits[0]) & (buy <= limits[1]), buy, np.nan)
             f, _ = schmitt_frequency(osc, buy, caps.values[ce])
             options += _options(index, "R", buy, {"C": ce}, f, target_hz, series)
@@ -594,7 +584,7 @@ def suggest(index: DrawerIndex, osc: Oscillator, target_hz: float, accept_pct: f
             c0 = 1.0 / (target_hz * rv)  # f ≈ 1/(RC) to start; refined with the model
             c = _solve_capacitance(lambda c, rv=rv: schmitt_frequency(osc, rv, c)[0],
                                    target_hz, c0)
-            buy = _nearest_in_series(c, series, "C")
+            buy = np.clip(nearest(c, series), *BUY_RANGE["C"])
             f, _ = schmitt_frequency(osc, rv, buy)
             options += _options(index, "C", buy, {"R": re}, f, target_hz, series)
         if osc.circuit == "555" and len(res):
@@ -611,7 +601,7 @@ def suggest(index: DrawerIndex, osc: Oscillator, target_hz: float, accept_pct: f
             c = _solve_capacitance(
                 lambda c, va=va, vb=vb: astable_frequency(osc, va, vb, c, diode)[0],
                 target_hz, c0)
-            buy = _nearest_in_series(c, series, "C")
+            buy = np.clip(nearest(c, series), *BUY_RANGE["C"])
             f, _ = astable_frequency(osc, va, vb, buy, diode)
             options += _options(index, "C", buy, {"RA": ra, "RB": rb}, f, target_hz, series)
         options.sort(key=lambda o: (o[0] > accept_pct, o[1] if o[0] <= accept_pct else 0, o[0]))

@@ -4,6 +4,7 @@ from __future__ import annotations
 
 import math
 
+import numpy as np
 import pytest
 
 from core.errors import InputError
@@ -71,6 +72,13 @@ def test_neighbours_and_nearest() -> None:
     assert nearest(21.7e3, "E24") == 22e3
     assert nearest(1.05e3, "E6") == 1e3
     assert math.isclose(nearest(9.2e-9, "E192"), 9.2e-9)
+
+
+def test_nearest_over_an_array_keeps_nan() -> None:
+    # E24 (IEC 60063): 21.7 k -> 22 k, 1.05 k -> 1.1 k (log midpoint of 1.0 and 1.1 is 1.049).
+    got = nearest(np.array([21.7e3, np.nan, 1.05e3, 47e-9]), "E24")
+    assert got[[0, 2, 3]] == pytest.approx([22e3, 1.1e3, 47e-9])
+    assert np.isnan(got[1])
 
 
 def test_bad_series_name() -> None:
