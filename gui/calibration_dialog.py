@@ -56,13 +56,12 @@ class CalibrationDialog(QDialog):
         circuit = "555 astable" if target.circuit == "555" else "Schmitt inverter"
         form.addRow("Chip", QLabel(f"{target.family} at {target.supply_v:g} V ({circuit})"))
         values = dict(getattr(candidate, "values", {}) or {})
-        from core.units import format_quantity
+        from core.units import format_part_value
 
         for key in KEYS[target.circuit]:
             edit = QLineEdit()
             if key in values:
-                edit.setText(format_quantity(values[key],
-                                             "capacitance" if key == "C" else "resistance", 4))
+                edit.setText(format_part_value(values[key], key[0], 4))
             edit.setAccessibleName(f"{key} used")
             edit.setToolTip("The measured value of the part (a meter reading beats the "
                             "marking)")

@@ -47,16 +47,15 @@ def where(networks: dict[str, Any]) -> str:
 
 def parts_list(candidate: Any) -> list[str]:
     """One line per network: its value, then each part with tolerance, location and line."""
-    from core.units import format_quantity
+    from core.units import format_part_value
 
     lines = []
     for key, node in candidate.networks.items():
         counts: Counter[Any] = Counter(node.parts())
         shown = []
         for part, n in counts.items():
-            quantity = "capacitance" if part.kind == "C" else "resistance"
             text = (f"{n} × " if n > 1 else "") + (
-                f"{format_quantity(part.value, quantity)} {part.tolerance} from {place(part)}")
+                f"{format_part_value(part.value, part.kind)} {part.tolerance} from {place(part)}")
             if part.kind == "P":
                 text += f" ({part.taper})"
             if part.polarised:

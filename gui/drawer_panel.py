@@ -186,19 +186,18 @@ class KitDialog(QDialog):
         return kit(self.series.currentText(), parse(self.low.text()), parse(self.high.text()))
 
     def rows(self) -> list[Row]:
-        from core.units import format_quantity
+        from core.units import format_part_value
 
         kind = self.kind.currentData()
-        quantity = "capacitance" if kind == "C" else "resistance"
         cells = {"kind": kind, "quantity": str(self.quantity.value()),
                  "tolerance": self.tolerance.text().strip(),
                  "location": self.location.text().strip()}
         if kind == "C" and self.dielectric.currentText():
             cells["dielectric"] = self.dielectric.currentText()
-        return [Row({**cells, "value": format_quantity(v, quantity)}) for v in self.values()]
+        return [Row({**cells, "value": format_part_value(v, kind)}) for v in self.values()]
 
     def _update_preview(self) -> None:
-        from core.units import format_quantity
+        from core.units import format_part_value
 
         ok = self.buttons.button(QDialogButtonBox.StandardButton.Ok)
         try:
@@ -207,8 +206,8 @@ class KitDialog(QDialog):
             self.preview.setText(f"⚠ {e}")
             ok.setEnabled(False)
             return
-        quantity = "capacitance" if self.kind.currentData() == "C" else "resistance"
-        shown = [format_quantity(v, quantity) for v in values]
+        kind = self.kind.currentData()
+        shown = [format_part_value(v, kind) for v in values]
         if len(shown) > 8:
             shown = [*shown[:4], "…", *shown[-3:]]
         self.preview.setText(f"{len(values)} values: {', '.join(shown)}" if values
