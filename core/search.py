@@ -540,6 +540,9 @@ def _candidates(index: DrawerIndex, osc: Oscillator, target_hz: float, s: _Short
 # ---------------------------------------------------------------- what to buy
 
 BUY_SERIES = ("E12", "E24", "E96")
+CAPACITOR_SERIES = ("E12", "E24")
+"""Capacitors are sold in E6/E12, film and C0G sometimes in E24; an E96 capacitor is
+rare, so capacitor suggestions stop at E24 (common practice, no published source)."""
 """IEC 60063 series tried in order when suggesting a part to buy."""
 BUY_RANGE = {"R": (1.0, 10e6), "C": (10e-12, 10e-3)}
 """Values one can buy off the shelf [Ω, F] (common practice, no published source)."""
@@ -560,8 +563,9 @@ def suggest(index: DrawerIndex, osc: Oscillator, target_hz: float, accept_pct: f
             duty_pct: float | None = None, count: int = 3) -> list[dict[str, Any]]:
     """Parts to buy (nearest IEC 60063 values) that hit the target with parts already owned.
 
-    Tries E12, then E24, then E96 and keeps the first series that gives a hit
-    within ``accept_pct`` [%]; with no hit in any, the closest E96 proposals.
+    Tries E12, then E24, then E96 (capacitors: E24 at most) and keeps the first
+    series that gives a hit within ``accept_pct`` [%]; with no hit in any, the
+    closest proposals of the last round.
     Schmitt: buy the resistor for an owned capacitor network, or the capacitor
     for an owned resistor network. 555: buy the capacitor for owned single RA
     and RB. Each suggestion names what to buy, what it pairs with, and its error.
@@ -570,6 +574,7 @@ def suggest(index: DrawerIndex, osc: Oscillator, target_hz: float, accept_pct: f
     diode = duty_pct is not None and duty_pct <= 50.0
     best: list[dict[str, Any]] = []
     for series in BUY_SERIES:
+        c_series = series if series in CAPACITOR_SERIES else CAPACITOR_SERIES[-1]
         options: list[tuple[float, int, dict[str, Any]]] = []
         if osc.circuit == "schmitt" and len(caps):
             ce = caps.entries(max_capacitors)
@@ -584,9 +589,9 @@ def suggest(index: DrawerIndex, osc: Oscillator, target_hz: float, accept_pct: f
             c0 = 1.0 / (target_hz * rv)  # f ≈ 1/(RC) to start; refined with the model
             c = _solve_capacitance(lambda c, rv=rv: schmitt_frequency(osc, rv, c)[0],
                                    target_hz, c0)
-            buy = np.clip(nearest(c, series), *BUY_RANGE["C"])
+            buy = np.clip(nearest(c, c_series), *BUY_RANGE["C"])
             f, _ = schmitt_frequency(osc, rv, buy)
-            options += _options(index, "C", buy, {"R": re}, f, target_hz, series)
+            options += _options(index, "C", buy, {"R": re}, f, target_hz, c_series)
         if osc.circuit == "555" and len(res):
             singles = res.entries(1, *limits)
             ra, rb = (a.ravel() for a in np.meshgrid(singles, singles, indexing="ij"))
@@ -601,9 +606,10 @@ def suggest(index: DrawerIndex, osc: Oscillator, target_hz: float, accept_pct: f
             c = _solve_capacitance(
                 lambda c, va=va, vb=vb: astable_frequency(osc, va, vb, c, diode)[0],
                 target_hz, c0)
-            buy = np.clip(nearest(c, series), *BUY_RANGE["C"])
+            buy = np.clip(nearest(c, c_series), *BUY_RANGE["C"])
             f, _ = astable_frequency(osc, va, vb, buy, diode)
-            options += _options(index, "C", buy, {"RA": ra, "RB": rb}, f, target_hz, series)
+            options += _options(index, "C", buy, {"RA": ra, "RB": rb}, f, target_hz,
+                                c_series)
         options.sort(key=lambda o: (o[0] > accept_pct, o[1] if o[0] <= accept_pct else 0, o[0]))
         chosen: list[dict[str, Any]] = []
         seen: set[tuple[str, float]] = set()

@@ -361,6 +361,16 @@ def test_nothing_within_accept_suggests_iec_60063_values() -> None:
     assert abs(result.suggestions[0]["error_pct"]) <= 1.0
 
 
+def test_capacitors_to_buy_stop_at_e24() -> None:
+    # Capacitors are stocked in E6/E12, some film and C0G in E24; E96 capacitors are rare
+    # (common practice, no published source). One 33 kΩ and 100 nF miss 440 Hz by 7 %.
+    parts = drawer([(33e3, 1), (10e3, 2)], [(100e-9, 2)])
+    result = search(parts, make_oscillator("schmitt", "74HC14", 5.0), 440.0)
+    assert result.suggestions
+    for s in result.suggestions:
+        assert s["buy"]["kind"] == "R" or s["buy"]["series"] in ("E12", "E24")
+
+
 def test_empty_drawer_and_impossible_targets_give_notes() -> None:
     osc = make_oscillator("schmitt", "74HC14", 5.0)
     empty = search(drawer([], [(1e-9, 1)]), osc, 1000.0)
