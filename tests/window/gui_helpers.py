@@ -3,7 +3,9 @@
 Not a conftest.py: pytest registers every conftest as the module ``conftest``,
 so a second one here would shadow tests/conftest.py for ``from conftest import``.
 Test modules load it with ``pytest_plugins = ["gui_helpers"]`` and mark themselves
-``qt_log_ignore(OFFSCREEN_NOISE)``.
+``qt_log_ignore(OFFSCREEN_NOISE)``. They import the plain helpers
+(``search_done`` ...) from it too, before pytest loads it as a plugin, so it opts out
+of assertion rewriting (PYTEST_DONT_REWRITE; it holds no asserts).
 """
 
 from __future__ import annotations
@@ -19,6 +21,38 @@ OFFSCREEN_NOISE = "This plugin does not support propagateSizeHints"
 limits (Qt 6.11); it is about the test platform, not about Tickbin."""
 
 
+def search_done(qtbot, window, action) -> None:
+    """Do ``action`` and wait for the search it starts to finish."""
+    with qtbot.waitSignal(window.sigSearchDone, timeout=30_000):
+        action()
+
+
+def search_with(qtbot, window, **fields: str) -> None:
+    """Set target-form fields in the order given and wait for the search they start.
+
+    A combo box is set to the item carrying that data, a line edit to that text.
+    """
+    from PySide6.QtWidgets import QComboBox
+
+    def fill() -> None:
+        for name, value in fields.items():
+            widget = getattr(window.form, name)
+            if isinstance(widget, QComboBox):
+                widget.setCurrentIndex(widget.findData(value))
+            else:
+                widget.setText(value)
+
+    search_done(qtbot, window, fill)
+
+
+def fail_searches(monkeypatch: pytest.MonkeyPatch, error: Exception) -> None:
+    """Make the worker raise ``error`` in every search (``monkeypatch.undo()`` ends it)."""
+    import gui.search_worker as worker
+
+    def boom(*args, **kwargs):
+        raise error
+
+    monkeypatch.setattr(worker, "compute", boom)
 
 
 @pytest.fixture
@@ -73,8 +107,7 @@ def make_window(qtbot, answers, private_settings):
         qtbot.addWidget(window)
         window.resize(1280, 800)
         window.show()
-        with qtbot.waitSignal(window.sigSearchDone, timeout=30_000):
-            window.finish_startup()
+        search_done(qtbot, window, window.finish_startup)
         return window
 
     return make

@@ -12,6 +12,7 @@ import math
 from collections import Counter
 
 import pytest
+from gui_helpers import search_done
 from PySide6.QtCore import Qt
 
 from gui.drawer_model import USED_ROLE
@@ -19,11 +20,6 @@ from gui.drawer_model import USED_ROLE
 pytest_plugins = ["gui_helpers"]  # fixtures: private_settings, answers, make_window, window
 pytestmark = [pytest.mark.qt_log_ignore("This plugin does not support propagateSizeHints"),
               pytest.mark.usefixtures("private_settings")]
-
-
-def search_done(qtbot, window, action):
-    with qtbot.waitSignal(window.sigSearchDone, timeout=30_000):
-        action()
 
 
 def lines_used(candidate) -> Counter:

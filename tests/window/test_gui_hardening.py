@@ -13,6 +13,7 @@ import shutil
 import sys
 
 import pytest
+from gui_helpers import fail_searches, search_done
 from PySide6.QtCore import QTimer
 from PySide6.QtWidgets import QMessageBox
 
@@ -22,11 +23,6 @@ from core.locations import data_dir, demo_drawer_path
 pytest_plugins = ["gui_helpers"]  # fixtures: private_settings, answers, make_window, window
 pytestmark = [pytest.mark.qt_log_ignore("This plugin does not support propagateSizeHints"),
               pytest.mark.usefixtures("private_settings")]
-
-
-def search_done(qtbot, window, action):
-    with qtbot.waitSignal(window.sigSearchDone, timeout=30_000):
-        action()
 
 
 @pytest.fixture
@@ -138,12 +134,7 @@ def test_failed_save_keeps_old_file_edits_and_dirty_marker(qtbot, make_window, m
 
 
 def test_worker_exception_is_caught_logged_and_shown(qtbot, window, monkeypatch):
-    import gui.search_worker as worker
-
-    def boom(*args, **kwargs):
-        raise ZeroDivisionError("index divided by nothing")
-
-    monkeypatch.setattr(worker, "compute", boom)
+    fail_searches(monkeypatch, ZeroDivisionError("index divided by nothing"))
     search_done(qtbot, window, window.run_search)
     assert "index divided by nothing" in window.form.message.text()
     assert "ZeroDivisionError" in (data_dir() / "error.log").read_text(encoding="utf-8")

@@ -11,6 +11,7 @@ import math
 
 import numpy as np
 import pytest
+from gui_helpers import fail_searches, search_done, search_with
 from PySide6.QtCore import Qt
 from PySide6.QtWidgets import QMessageBox
 
@@ -23,11 +24,6 @@ pytest_plugins = ["gui_helpers"]  # fixtures: private_settings, answers, make_wi
 # Qt's offscreen platform warns about size hints for every shown window (not our doing).
 pytestmark = [pytest.mark.qt_log_ignore("This plugin does not support propagateSizeHints"),
               pytest.mark.usefixtures("private_settings")]
-
-
-def search_done(qtbot, window, action):
-    with qtbot.waitSignal(window.sigSearchDone, timeout=30_000):
-        action()
 
 
 def value_index(window, row):
@@ -150,11 +146,7 @@ def test_bad_target_field_is_marked_and_searches_nothing(qtbot, window):
 
 
 def test_555_with_duty(qtbot, window):
-    form = window.form
-    def go():
-        form.circuit.setCurrentIndex(form.circuit.findData("555"))
-        form.duty.setText("60%")
-    search_done(qtbot, window, go)
+    search_with(qtbot, window, circuit="555", duty="60%")
     best = window.selected_candidate()
     assert set(best.values) == {"RA", "RB", "C"}
     assert window.candidates.headerData(4, Qt.Orientation.Horizontal) == "RA"
@@ -172,12 +164,7 @@ def test_superseded_search_is_ignored(qtbot, window):
 
 
 def test_worker_error_is_shown_not_lost(qtbot, window, monkeypatch):
-    import gui.search_worker as worker
-
-    def boom(*args, **kwargs):
-        raise RuntimeError("index exploded")
-
-    monkeypatch.setattr(worker, "compute", boom)
+    fail_searches(monkeypatch, RuntimeError("index exploded"))
     search_done(qtbot, window, window.run_search)
     assert "index exploded" in window.form.message.text()
     assert window.candidates.rowCount() == 0
@@ -260,11 +247,7 @@ def test_crash_leaves_autosave_and_restore_is_offered(qtbot, answers, make_windo
 def test_trim_band_shows_rotation_plot(qtbot, window):
     from core.trim import frequency_at_rotation
 
-    form = window.form
-    def go():
-        form.mode.setCurrentIndex(form.mode.findData("band"))
-        form.target.setText("900..1100")
-    search_done(qtbot, window, go)
+    search_with(qtbot, window, mode="band", target="900..1100")
     assert window.candidates.trim and window.candidates.rowCount() > 0
     plots = window.plots
     assert plots.right.currentWidget() is plots.rotation
