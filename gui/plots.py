@@ -26,6 +26,16 @@ ACCEPT_EDGE = QColor(96, 150, 110)
 THRESHOLD = QColor(130, 80, 130)
 ENVELOPE = QColor(47, 94, 150, 50)
 
+THRESHOLD_LABELS = {
+    # circuit: upper and lower threshold label in the trade's words, and the margin kept
+    # right of the traces for them (a share of the time span; 0: labels near the left).
+    "schmitt": ("VT+ {value:.2f} V", "VT− {value:.2f} V", 0.0),
+    "555": ("threshold\n{value:.2f} V", "trigger\n{value:.2f} V", 0.25),
+}
+"""A Schmitt inverter's output swings rail to rail, so its labels fit just above VT+ and
+below VT−. A 555's output high (about VCC − 1.7 V, 3.3 V at 5 V: NE555 data sheet, from
+memory) sits on its 2/3 VCC threshold, so its labels go beside the traces, on their lines."""
+
 
 def _pen(color: QColor, width: float = 1.0,
          style: Qt.PenStyle = Qt.PenStyle.SolidLine) -> QPen:
@@ -96,16 +106,13 @@ class PlotPanel(QWidget):
         self.out_curve = self.waveform.plot(pen=_pen(OUT, width=1.6))
         self.cap_curve = self.waveform.plot(pen=_pen(CAP, width=2.0))
         dash = _pen(THRESHOLD, width=1.2, style=Qt.PenStyle.DashLine)
-        # Labels just above VT+ and just below VT−, on a light backing so traces stay legible.
+        # Labels on a light backing so traces stay legible; texts and places per circuit
+        # are set in show_waveform (THRESHOLD_LABELS).
         backing = pg.mkBrush(255, 255, 255, 210)
-        self.vt_plus_line = pg.InfiniteLine(
-            angle=0, pen=dash, label="VT+ {value:.2f} V",
-            labelOpts={"position": 0.12, "color": THRESHOLD, "fill": backing,
-                       "anchors": [(0.5, 1.0), (0.5, 1.0)]})
-        self.vt_minus_line = pg.InfiniteLine(
-            angle=0, pen=dash, label="VT− {value:.2f} V",
-            labelOpts={"position": 0.12, "color": THRESHOLD, "fill": backing,
-                       "anchors": [(0.5, 0.0), (0.5, 0.0)]})
+        self.vt_plus_line, self.vt_minus_line = (
+            pg.InfiniteLine(angle=0, pen=dash, label="",
+                            labelOpts={"color": THRESHOLD, "fill": backing})
+            for _ in range(2))
         for line in (self.vt_plus_line, self.vt_minus_line):
             self.waveform.addItem(line)
 
@@ -169,10 +176,19 @@ class PlotPanel(QWidget):
             plot.setTitle("", color=INK.name(), size="10pt")
 
     def show_waveform(self, t_s: np.ndarray, v_cap: np.ndarray, v_out: np.ndarray,
-                      vt_plus_v: float, vt_minus_v: float, title: str) -> None:
-        """Traces over a few periods; t in s, voltages in V; thresholds as dashed lines."""
+                      vt_plus_v: float, vt_minus_v: float, circuit: str, title: str) -> None:
+        """Traces over a few periods; t in s, voltages in V; thresholds as dashed lines,
+        labelled as ``circuit`` ("schmitt" or "555") names them."""
         self.cap_curve.setData(t_s, v_cap)
         self.out_curve.setData(t_s, v_out)
+        upper, lower, margin = THRESHOLD_LABELS[circuit]
+        for line, text, off_line in ((self.vt_plus_line, upper, (0.5, 1.0)),
+                                     (self.vt_minus_line, lower, (0.5, 0.0))):
+            # Beside the traces: centred on the line at the right edge; else just above
+            # VT+ (below VT−) near the left.
+            line.label.anchors = [(1.0, 0.5)] * 2 if margin else [off_line] * 2
+            line.label.setPosition(1.0 if margin else 0.12)
+            line.label.setFormat(text)
         # Show first: a hidden line's label does not follow its value.
         self.vt_plus_line.show()
         self.vt_minus_line.show()
@@ -185,7 +201,8 @@ class PlotPanel(QWidget):
         lo = min(float(np.min(v_cap)), float(np.min(v_out)), vt_minus_v)
         hi = max(float(np.max(v_cap)), float(np.max(v_out)), vt_plus_v)
         span = hi - lo or 1.0
-        self.waveform.setXRange(float(t_s[0]), float(t_s[-1]), padding=0.02)
+        start, end = float(t_s[0]), float(t_s[-1])
+        self.waveform.setXRange(start, end + margin * (end - start), padding=0.02)
         self.waveform.setYRange(lo - 0.06 * span, hi + 0.14 * span, padding=0)
 
     def show_spread(self, frequencies_hz: np.ndarray, target_hz: float,

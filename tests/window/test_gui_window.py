@@ -12,7 +12,7 @@ import math
 import numpy as np
 import pytest
 from gui_helpers import fail_searches, search_done, search_with
-from PySide6.QtCore import Qt
+from PySide6.QtCore import QPointF, Qt
 from PySide6.QtWidgets import QMessageBox
 
 from core.drawer import Row, read_drawer
@@ -150,6 +150,15 @@ def test_555_with_duty(qtbot, window):
     best = window.selected_candidate()
     assert set(best.values) == {"RA", "RB", "C"}
     assert window.candidates.headerData(4, Qt.Orientation.Horizontal) == "RA"
+    # The 555's comparators are its threshold and trigger inputs (NE555 data sheet,
+    # functional description); the labels stand right of the traces, clear of them.
+    plots, osc = window.plots, window.current_oscillator()
+    assert plots.vt_plus_line.label.toPlainText() == f"threshold\n{osc.vt_plus_v:.2f} V"
+    assert plots.vt_minus_line.label.toPlainText() == f"trigger\n{osc.vt_minus_v:.2f} V"
+    t, _ = plots.cap_curve.getData()
+    traces_end = plots.waveform.getViewBox().mapViewToScene(QPointF(t[-1], 0.0)).x()
+    for line in (plots.vt_plus_line, plots.vt_minus_line):
+        assert line.label.sceneBoundingRect().left() > traces_end
 
 
 def test_superseded_search_is_ignored(qtbot, window):
