@@ -8,7 +8,15 @@ from __future__ import annotations
 
 import sys
 
-from PySide6.QtCore import QEventLoop, Qt, QTimer
+from PySide6.QtCore import (
+    QEventLoop,
+    QMessageLogContext,
+    Qt,
+    QTimer,
+    QtMsgType,
+    qFormatLogMessage,
+    qInstallMessageHandler,
+)
 from PySide6.QtGui import QGuiApplication
 from PySide6.QtWidgets import QApplication
 
@@ -38,10 +46,31 @@ QSplitter::handle { background: transparent; }
 """
 
 
+OFFSCREEN_NOISE = "This plugin does not support propagateSizeHints()"
+"""What Qt's offscreen platform says whenever a shown window with a layout gets size
+limits (Qt 6.11): about that platform, not about Tickbin, so it is not passed on."""
+
+
+def _filter_qt_messages() -> None:
+    """Drop OFFSCREEN_NOISE; every other Qt message goes on unchanged (to the handler
+    before ours, or to stderr in Qt's own format when that was Qt's default)."""
+
+    def handler(mode: QtMsgType, context: QMessageLogContext, message: str) -> None:
+        if message == OFFSCREEN_NOISE:
+            return
+        if previous is None:
+            sys.stderr.write(qFormatLogMessage(mode, context, message) + "\n")
+        else:
+            previous(mode, context, message)
+
+    previous = qInstallMessageHandler(handler)
+
+
 def make_application() -> QApplication:
     """The QApplication (created once), with our names and style."""
     app = QApplication.instance()
     if not isinstance(app, QApplication):
+        _filter_qt_messages()
         QGuiApplication.setHighDpiScaleFactorRoundingPolicy(
             Qt.HighDpiScaleFactorRoundingPolicy.PassThrough)
         app = QApplication(sys.argv[:1])

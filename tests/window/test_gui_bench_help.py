@@ -12,14 +12,13 @@ import math
 from collections import Counter
 
 import pytest
-from gui_helpers import search_done
+from gui_helpers import QUIET_OFFSCREEN, search_done
 from PySide6.QtCore import Qt
 
 from gui.drawer_model import USED_ROLE
 
 pytest_plugins = ["gui_helpers"]  # fixtures: private_settings, answers, make_window, window
-pytestmark = [pytest.mark.qt_log_ignore("This plugin does not support propagateSizeHints"),
-              pytest.mark.usefixtures("private_settings")]
+pytestmark = [QUIET_OFFSCREEN, pytest.mark.usefixtures("private_settings")]
 
 
 def lines_used(candidate) -> Counter:

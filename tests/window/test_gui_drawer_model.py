@@ -3,15 +3,14 @@
 from __future__ import annotations
 
 import pytest
+from gui_helpers import QUIET_OFFSCREEN
 from PySide6.QtCore import Qt
 
 from core.drawer import Drawer, Row, parse_drawer_text
 from gui.drawer_model import PROBLEM_ROLE, DrawerFilterProxy, DrawerTableModel
 
 pytest_plugins = ["gui_helpers"]  # fixtures: private_settings, answers, make_window, window
-# Qt's offscreen platform warns about size hints for every shown window (not our doing).
-pytestmark = [pytest.mark.qt_log_ignore("This plugin does not support propagateSizeHints"),
-              pytest.mark.usefixtures("private_settings")]
+pytestmark = [QUIET_OFFSCREEN, pytest.mark.usefixtures("private_settings")]
 
 TEXT = """kind,value,tolerance,quantity,location,note,colour
 R,4k7,5%,10,A1,,brown

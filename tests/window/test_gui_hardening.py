@@ -13,7 +13,7 @@ import shutil
 import sys
 
 import pytest
-from gui_helpers import fail_searches, search_done
+from gui_helpers import QUIET_OFFSCREEN, fail_searches, search_done
 from PySide6.QtCore import QTimer
 from PySide6.QtWidgets import QMessageBox
 
@@ -21,8 +21,7 @@ from core.drawer import Row, read_drawer
 from core.locations import data_dir, demo_drawer_path
 
 pytest_plugins = ["gui_helpers"]  # fixtures: private_settings, answers, make_window, window
-pytestmark = [pytest.mark.qt_log_ignore("This plugin does not support propagateSizeHints"),
-              pytest.mark.usefixtures("private_settings")]
+pytestmark = [QUIET_OFFSCREEN, pytest.mark.usefixtures("private_settings")]
 
 
 @pytest.fixture

@@ -8,6 +8,7 @@ Save As, Undo, Redo, Delete, Find, Print), which follow each desktop's guideline
 from __future__ import annotations
 
 import pytest
+from gui_helpers import QUIET_OFFSCREEN
 from PySide6.QtCore import Qt
 from PySide6.QtGui import QKeySequence
 from PySide6.QtWidgets import QAbstractButton, QComboBox, QLineEdit, QSpinBox, QWidget
@@ -15,8 +16,7 @@ from PySide6.QtWidgets import QAbstractButton, QComboBox, QLineEdit, QSpinBox, Q
 from core.drawer import Row
 
 pytest_plugins = ["gui_helpers"]  # fixtures: private_settings, answers, make_window, window
-pytestmark = [pytest.mark.qt_log_ignore("This plugin does not support propagateSizeHints"),
-              pytest.mark.usefixtures("private_settings")]
+pytestmark = [QUIET_OFFSCREEN, pytest.mark.usefixtures("private_settings")]
 
 
 def column_shown(window, name: str) -> bool:

@@ -8,14 +8,14 @@ from __future__ import annotations
 import subprocess
 from collections import Counter
 
-import pytest
 from conftest import require_tool
+from gui_helpers import QUIET_OFFSCREEN
 from PySide6.QtWidgets import QMessageBox
 
 from core.drawer import read_drawer
 
 pytest_plugins = ["gui_helpers"]
-pytestmark = pytest.mark.qt_log_ignore("This plugin does not support propagateSizeHints")
+pytestmark = QUIET_OFFSCREEN
 
 
 def _menu_texts(window) -> list[str]:
