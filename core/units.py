@@ -2,9 +2,10 @@
 
 Text is matched against our own grammar first (a number, an optional SI
 prefix, an optional unit; or the IEC 60062 letter-for-decimal code; or the
-capacitor three-digit code), so nothing is ever evaluated. pint then only
-turns a recognised ``prefix + unit`` into an SI factor, cached per pair: one
-registry for the whole program, created on first use.
+capacitor three-digit code), so nothing is ever evaluated. The prefix is
+applied exactly in decimal; pint only gives each recognised unit's factor to
+SI base units, cached per unit: one registry for the whole program, created
+on first use.
 
 References: IEC 60062:2016 (letter and digit code for resistors and
 capacitors); BIPM SI Brochure, 9th ed., table 7 (SI prefixes).
@@ -51,8 +52,6 @@ _SYMBOL = {
 }
 _PREFIX_EXP = {"p": -12, "n": -9, "u": -6, "µ": -6, "μ": -6, "m": -3, "": 0,
                "k": 3, "K": 3, "M": 6, "meg": 6, "MEG": 6, "Meg": 6, "G": 9}
-_PINT_PREFIX = {-12: "pico", -9: "nano", -6: "micro", -3: "milli", 0: "",
-                3: "kilo", 6: "mega", 9: "giga"}
 _FORMAT_PREFIX = {-12: "p", -9: "n", -6: "µ", -3: "m", 0: "", 3: "k", 6: "M", 9: "G"}
 
 _NUMBER = r"(?:\d+(?:\.\d*)?|\.\d+)(?:[eE][+-]?\d{1,3})?"
@@ -77,18 +76,16 @@ def registry() -> pint.UnitRegistry:
     return pint.UnitRegistry()
 
 
-@lru_cache(maxsize=64)
-def _si_factor(exponent: int, unit: str) -> float:
-    """SI factor of ``prefix+unit`` with the prefix taken out, from pint once per pair."""
-    ureg = registry()
-    q = ureg.Quantity(1.0, _PINT_PREFIX[exponent] + unit)
-    return float(q.to_base_units().magnitude) / 10.0**exponent
+@cache
+def _unit_factor(unit: str) -> float:
+    """pint's factor from ``unit`` to SI base units, asked once per unit."""
+    return float(registry().Quantity(1.0, unit).to_base_units().magnitude)
 
 
 def _scaled(number: str, exponent: int, quantity: Quantity) -> float:
     """``number`` × 10^exponent in SI, exact in decimal: ``100n`` is 1e-07, not 1.0…01e-07."""
     exact = Decimal(number).scaleb(exponent)
-    return float(exact) * round(_si_factor(exponent, _UNITS[quantity][0]), 12)
+    return float(exact) * _unit_factor(_UNITS[quantity][0])
 
 
 def _clean(text: str, what: str) -> str:
