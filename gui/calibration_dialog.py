@@ -1,7 +1,7 @@
 """A small dialog that turns one bench measurement into a saved calibration.
 
 The person built the circuit with known parts, measured its frequency (and
-perhaps its duty); ``core.calibration.calibrate`` finds thresholds that
+perhaps its duty); ``core.model.calibration.calibrate`` finds thresholds that
 reproduce it, and ``save_calibration`` keeps them in the data folder.
 """
 
@@ -88,8 +88,8 @@ class CalibrationDialog(QDialog):
     def save(self) -> None:
         """Fit, save and close; problems stay in the dialog for correction."""
         assert self.target is not None
-        from core.calibration import calibrate, check_name, save_calibration
-        from core.timing import make_oscillator
+        from core.model.calibration import calibrate, check_name, save_calibration
+        from core.model.timing import make_oscillator
         from core.units import parse_capacitance, parse_frequency, parse_percent, parse_resistance
 
         try:

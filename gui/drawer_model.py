@@ -1,4 +1,4 @@
-"""The drawer as a Qt table: an adapter over ``core.drawer.Drawer``, holding no data.
+"""The drawer as a Qt table: an adapter over ``core.parts.drawer.Drawer``, holding no data.
 
 Every read goes to the drawer's rows, every edit to ``Drawer.set_cell`` (so it
 lands in the drawer's undo history), and the drawer's events become the
@@ -21,7 +21,7 @@ from PySide6.QtCore import (
 from PySide6.QtGui import QBrush, QColor, QIcon
 from PySide6.QtWidgets import QApplication, QStyle
 
-from core.drawer import Drawer, Part
+from core.parts.drawer import Drawer, Part
 
 DISPLAY_COLUMNS = ("kind", "value", "tolerance", "quantity", "location", "taper",
                    "dielectric", "voltage", "note")

@@ -1,6 +1,6 @@
 """The drawer editor: the parts table with its filter bar, row actions, kit and paste dialogs.
 
-Every change goes through ``core.drawer.Drawer`` (one undo step per action,
+Every change goes through ``core.parts.drawer.Drawer`` (one undo step per action,
 multi-row actions grouped); this module only arranges widgets around the
 table model.
 """
@@ -40,8 +40,8 @@ from PySide6.QtWidgets import (
     QWidget,
 )
 
-from core.drawer import Drawer, Row
 from core.errors import InputError
+from core.parts.drawer import Drawer, Row
 from gui.drawer_model import DrawerFilterProxy, DrawerTableModel
 
 _CAPACITOR_TOKEN = re.compile(r"(?:f|[pnuµμ]\d*f?)$", re.IGNORECASE)
@@ -126,7 +126,7 @@ class KitDialog(QDialog):
 
     def __init__(self, parent: QWidget | None = None):
         super().__init__(parent)
-        from core.eseries import SERIES
+        from core.parts.eseries import SERIES
 
         self.setWindowTitle("Add a kit of standard values")
         self.kind = QComboBox()
@@ -179,7 +179,7 @@ class KitDialog(QDialog):
 
     def values(self) -> list[float]:
         """The kit's values (Ω or F); InputError when the range does not parse."""
-        from core.eseries import kit
+        from core.parts.eseries import kit
         from core.units import parse_capacitance, parse_resistance
 
         parse = parse_capacitance if self.kind.currentData() == "C" else parse_resistance

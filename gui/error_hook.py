@@ -11,7 +11,7 @@ import sys
 from collections.abc import Callable
 from types import TracebackType
 
-from core.locations import append_error_log
+from core.storage.locations import append_error_log
 
 Notify = Callable[[str], None]
 

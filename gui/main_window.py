@@ -32,7 +32,8 @@ from PySide6.QtWidgets import (
     QWidget,
 )
 
-from core.drawer import (
+from core.errors import DrawerFileError, TickbinError
+from core.parts.drawer import (
     Drawer,
     Row,
     drawer_csv_text,
@@ -40,8 +41,7 @@ from core.drawer import (
     write_drawer,
     write_text_atomically,
 )
-from core.errors import DrawerFileError, TickbinError
-from core.locations import demo_drawer_path
+from core.storage.locations import demo_drawer_path
 from gui import settings as keys
 from gui.autosave import INTERVAL_MS, Autosave
 from gui.candidates_model import CandidatesModel, parts_list, used_rows
@@ -775,7 +775,7 @@ class MainWindow(QMainWindow):
         return self.candidates.candidate(index.row()) if index.isValid() else None
 
     def current_oscillator(self) -> Any:
-        """The oscillator model behind the candidates shown (core.timing.Oscillator)."""
+        """The oscillator model behind the candidates shown (core.model.timing.Oscillator)."""
         return self._outcome.oscillator if self._outcome else None
 
     def _candidate_chosen(self, *args: object) -> None:

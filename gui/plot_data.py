@@ -46,7 +46,7 @@ class ChipSpread:
 def chip_spread(outcome: Outcome, cand: Any) -> ChipSpread | None:
     """Split a search candidate's spread into chip and parts (None for trim results or
     when the thresholds are already fixed by a calibration or given values)."""
-    from core.spread import worst_case_hz
+    from core.model.spread import worst_case_hz
 
     osc, target = outcome.oscillator, outcome.target
     if target.trim or osc.thresholds_given or target.target_hz is None:
@@ -60,8 +60,8 @@ def chip_spread(outcome: Outcome, cand: Any) -> ChipSpread | None:
 
 
 def builds(osc: Any, cand: Any) -> Any:
-    """Monte Carlo of ``MC_BUILDS`` builds of a search candidate (core.spread.MonteCarlo)."""
-    from core.spread import monte_carlo
+    """Monte Carlo of ``MC_BUILDS`` builds of a search candidate (core.model.spread.MonteCarlo)."""
+    from core.model.spread import monte_carlo
 
     return monte_carlo(osc, cand.values, network_tolerances(cand.networks), n=MC_BUILDS,
                        seed=0, diode_steered=cand.diode_steered)
@@ -121,7 +121,7 @@ def draw_steps(plots: Any, outcome: Outcome, candidate: Any) -> Iterator[None]:
 
 def _waveform(plots: Any, osc: Any, values: dict[str, float], diode_steered: bool,
               title: str) -> None:
-    from core.timing import waveform
+    from core.model.timing import waveform
 
     t, v_cap, v_out = waveform(osc, values, periods=3, diode_steered=diode_steered)
     plots.show_waveform(t, v_cap, v_out, osc.vt_plus_v, osc.vt_minus_v, osc.circuit, title)
@@ -144,7 +144,7 @@ def _draw_search(plots: Any, outcome: Outcome, cand: Any) -> Iterator[None]:
 
 
 def _draw_trim(plots: Any, outcome: Outcome, cand: Any) -> Iterator[None]:
-    from core.trim import frequency_at_rotation, pot_resistance, rotation_for
+    from core.design.trim import frequency_at_rotation, pot_resistance, rotation_for
 
     osc, target = outcome.oscillator, outcome.target
     assert target.band_hz is not None

@@ -2,7 +2,7 @@
 
 Every request gets a generation number. A request that is superseded before
 it starts is skipped; one that is running stops at its next progress step
-(index building reports progress, see ``core.networks.build_index``); a
+(index building reports progress, see ``core.parts.networks.build_index``); a
 result that arrives late is ignored by the window. Errors come back as a
 message (``TickbinError``: the person's input; anything else: logged, then
 reported), never lost in the thread.
@@ -19,8 +19,8 @@ from typing import Any
 
 from PySide6.QtCore import QObject, QRunnable, QThreadPool, Signal
 
-from core.drawer import Part
 from core.errors import TickbinError
+from core.parts.drawer import Part
 from gui.target_form import Target
 
 TOP = 20
@@ -48,7 +48,7 @@ class Outcome:
 
 def make_oscillator_for(target: Target) -> Any:
     """The oscillator model for ``target`` (SetupError when the chip cannot do it)."""
-    from core.timing import make_oscillator
+    from core.model.timing import make_oscillator
 
     return make_oscillator(target.circuit, target.family, target.supply_v,
                            calibration=target.calibration)
@@ -64,7 +64,7 @@ class _Indexes:
     def get(self, parts: tuple[Part, ...], max_resistors: int, max_capacitors: int,
             step: Callable[[str, float], None]) -> Any:
         """The index, built with progress reports through ``step`` when not cached."""
-        from core.networks import build_drawer_index
+        from core.parts.networks import build_drawer_index
 
         key = (parts, max_resistors, max_capacitors)
         with self._lock:
@@ -97,14 +97,14 @@ def compute(target: Target, parts: tuple[Part, ...], indexes: _Indexes,
     index = indexes.get(parts, target.max_resistors, target.max_capacitors, step)
     step("Searching…", 1.0)
     if target.trim:
-        from core.trim import trim
+        from core.design.trim import trim
 
         assert target.band_hz is not None
         result = trim(list(parts), osc, target.band_hz, top=TOP,
                       max_resistors=target.max_resistors,
                       max_capacitors=target.max_capacitors, index=index)
         return osc, result
-    from core.search import search
+    from core.design.search import search
 
     assert target.target_hz is not None
     result = search(list(parts), osc, target.target_hz, duty_pct=target.duty_pct,
@@ -129,7 +129,8 @@ class _WarmUp(QRunnable):
         self.signals = signals
 
     def run(self) -> None:
-        from core import search, spread, timing, trim  # noqa: F401 - imported for later
+        from core.design import search, trim  # noqa: F401 - imported for later
+        from core.model import spread, timing  # noqa: F401
         from core.units import registry
         from gui import plots, sheet_render  # noqa: F401 - pyqtgraph's import is the slow part
 
@@ -161,7 +162,7 @@ class _Job(QRunnable):
             self.signals.failed.emit(self.generation, str(e))
             return
         except Exception as e:
-            from core.locations import append_error_log
+            from core.storage.locations import append_error_log
 
             where = append_error_log(e)
             self.signals.failed.emit(self.generation, f"The search failed: "

@@ -1,4 +1,4 @@
-"""Draws a ``core.sheet.Sheet`` on paper: a PDF file or the system printer.
+"""Draws a ``core.output.sheet.Sheet`` on paper: a PDF file or the system printer.
 
 All content comes from core; this module only lays it out top to bottom,
 breaking pages between blocks, and draws the schematic primitives. Black on
@@ -30,9 +30,9 @@ from PySide6.QtGui import (
     QPolygonF,
 )
 
-from core import schematic as sch
 from core.errors import InputError, TickbinError
-from core.sheet import Sheet
+from core.output import schematic as sch
+from core.output.sheet import Sheet
 from core.units import format_quantity
 
 PAGE_SIZES = {"a4": QPageSize.PageSizeId.A4, "letter": QPageSize.PageSizeId.Letter}

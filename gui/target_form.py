@@ -210,7 +210,7 @@ class TargetForm(QWidget):
         self.family.clear()
         self._ranges.clear()
         try:
-            from core.devices import device_table
+            from core.model.devices import device_table
 
             table = device_table()
             for name in table.families(circuit):
@@ -245,7 +245,7 @@ class TargetForm(QWidget):
         self.calibration.blockSignals(True)
         self.calibration.clear()
         self.calibration.addItem("None (device table)", None)
-        from core.calibration import list_calibrations, load_calibration
+        from core.model.calibration import list_calibrations, load_calibration
 
         for name in list_calibrations():
             try:

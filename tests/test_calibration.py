@@ -9,7 +9,8 @@ from pathlib import Path
 import numpy as np
 import pytest
 
-from core.calibration import (
+from core.errors import InputError, SetupError
+from core.model.calibration import (
     Measurement,
     _residuals,
     calibrate,
@@ -20,8 +21,7 @@ from core.calibration import (
     load_calibration,
     save_calibration,
 )
-from core.errors import InputError, SetupError
-from core.timing import make_oscillator, predict, times
+from core.model.timing import make_oscillator, predict, times
 
 REF = tomllib.loads((Path(__file__).parent / "data" / "timing_references.toml").read_text(
     encoding="utf-8"))["bench_hex_schmitt_5v"]

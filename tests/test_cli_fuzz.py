@@ -16,7 +16,7 @@ from hypothesis import HealthCheck, given, settings
 from hypothesis import strategies as st
 
 from core.cli import build_parser, main
-from core.locations import demo_drawer_path
+from core.storage.locations import demo_drawer_path
 from gui.entry import render_sheet
 
 DEMO = str(demo_drawer_path())

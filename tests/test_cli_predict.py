@@ -8,7 +8,7 @@ import math
 import pytest
 
 from core.cli import main
-from core.devices import device_table
+from core.model.devices import device_table
 
 PREDICT_KEYS = {"frequency_hz", "period_s", "duty_pct", "t_high_s", "t_low_s", "worst_case_hz"}
 CALIBRATE_KEYS = {"scale", "vt_plus_v", "vt_minus_v"}

@@ -8,7 +8,7 @@ import sys
 from pathlib import Path
 
 from core.cli import main
-from core.locations import demo_drawer_path
+from core.storage.locations import demo_drawer_path
 
 
 def run(*argv: str, cwd: Path | None = None) -> subprocess.CompletedProcess[str]:
@@ -60,6 +60,6 @@ def test_installed_program_finds_its_resources_from_elsewhere(tmp_path: Path) ->
     version = run("--version", cwd=tmp_path)
     assert version.returncode == 0 and version.stdout.startswith("tickbin ")
     probe = subprocess.run([sys.executable, "-c",
-                            "from core.locations import demo_drawer_path as p; print(p())"],
+                            "from core.storage.locations import demo_drawer_path as p; print(p())"],
                            capture_output=True, text=True, cwd=tmp_path, timeout=60)
     assert Path(probe.stdout.strip()).is_file()

@@ -4,7 +4,7 @@ Every check runs the console script in a subprocess from a temporary folder,
 exactly as the contract spells the command, and reads only what it prints.
 Drawers are our own invented ones (written here as CSV) and the bundled demo.
 Where the expected answer needs the timing model (the brute-force ranking and
-the trim corners), the test evaluates ``core.timing`` directly, never the
+the trim corners), the test evaluates ``core.model.timing`` directly, never the
 search or trim code. Outside sources are named beside each check.
 """
 
@@ -25,9 +25,9 @@ import pytest
 from test_search import assert_first_or_empty, brute_force_best, node_lines, node_value
 from test_trim import check_trim_candidate
 
-from core.drawer import Part
-from core.locations import demo_drawer_path
-from core.timing import make_oscillator
+from core.model.timing import make_oscillator
+from core.parts.drawer import Part
+from core.storage.locations import demo_drawer_path
 from core.units import Tolerance
 
 TICKBIN = shutil.which("tickbin") or str(Path(sys.executable).with_name("tickbin"))
@@ -367,7 +367,7 @@ def test_search_555_duty_and_every_option(tmp_path: Path) -> None:
 
 
 def test_search_on_the_demo_drawer(tmp_path: Path) -> None:
-    from core.drawer import read_drawer
+    from core.parts.drawer import read_drawer
 
     parts = read_drawer(DEMO).parts()
     data = run_json(tmp_path, "search", "--stock", DEMO, *SCHMITT, "--target", "1kHz")
@@ -414,7 +414,7 @@ def test_trim_contract_with_given_thresholds(tmp_path: Path) -> None:
 
 
 def test_trim_on_the_demo_drawer_with_the_table_spread(tmp_path: Path) -> None:
-    from core.drawer import read_drawer
+    from core.parts.drawer import read_drawer
 
     parts = read_drawer(DEMO).parts()
     by_line = {p.stock_line: p for p in parts}

@@ -8,10 +8,10 @@ from pathlib import Path
 
 import pytest
 
-from core.devices import device_table, load_device_table
 from core.errors import InputError, SetupError, TickbinError
-from core.locations import resource
-from core.timing import make_oscillator
+from core.model.devices import device_table, load_device_table
+from core.model.timing import make_oscillator
+from core.storage.locations import resource
 
 REQUIRED_FAMILIES = ("74HC14", "74HCT14", "74AHC14", "74LVC14A", "74LS14", "7414",
                      "CD40106B", "CD4093B", "NE555", "TLC555")

@@ -8,7 +8,8 @@ import pytest
 from hypothesis import HealthCheck, given, settings
 from hypothesis import strategies as st
 
-from core.drawer import (
+from core.errors import DrawerFileError
+from core.parts.drawer import (
     Drawer,
     Row,
     cell_problems,
@@ -17,8 +18,7 @@ from core.drawer import (
     read_drawer,
     write_drawer,
 )
-from core.errors import DrawerFileError
-from core.locations import demo_drawer_path
+from core.storage.locations import demo_drawer_path
 
 
 def write(tmp_path: Path, text: str, name: str = "drawer.csv") -> Path:

@@ -11,9 +11,16 @@ import pytest
 from hypothesis import HealthCheck, given, settings
 from hypothesis import strategies as st
 
-import core.drawer as drawer_module
-from core.drawer import MAX_LINE_CHARS, Drawer, Row, parse_drawer_text, read_drawer, write_drawer
+import core.parts.drawer as drawer_module
 from core.errors import DrawerFileError, TickbinError
+from core.parts.drawer import (
+    MAX_LINE_CHARS,
+    Drawer,
+    Row,
+    parse_drawer_text,
+    read_drawer,
+    write_drawer,
+)
 
 PLAIN = "kind,value,quantity,location\nR,4k7,3,A1\nC,100n,2,B2\n"
 

@@ -8,7 +8,7 @@ import numpy as np
 import pytest
 
 from core.errors import InputError
-from core.eseries import kit, nearest, neighbours, series_values
+from core.parts.eseries import kit, nearest, neighbours, series_values
 
 # IEC 60063:2015 table 1, E24 column.
 E24 = [1.0, 1.1, 1.2, 1.3, 1.5, 1.6, 1.8, 2.0, 2.2, 2.4, 2.7, 3.0, 3.3, 3.6, 3.9, 4.3, 4.7,

@@ -13,12 +13,12 @@ import subprocess
 import pytest
 from conftest import require_tool
 
-from core.drawer import Part, read_drawer
-from core.locations import demo_drawer_path
-from core.netlist import model_prediction, simulate, spice_netlist
-from core.search import search
-from core.timing import make_oscillator
-from core.trim import trim
+from core.design.search import search
+from core.design.trim import trim
+from core.model.timing import make_oscillator
+from core.output.netlist import model_prediction, simulate, spice_netlist
+from core.parts.drawer import Part, read_drawer
+from core.storage.locations import demo_drawer_path
 
 pytestmark = pytest.mark.spice
 

@@ -18,9 +18,9 @@ import pytest
 from hypothesis import given, settings
 from hypothesis import strategies as st
 
-from core.drawer import Part
 from core.errors import InputError
-from core.networks import RESOLUTION, Node, build_drawer_index, build_index, index_of
+from core.parts.drawer import Part
+from core.parts.networks import RESOLUTION, Node, build_drawer_index, build_index, index_of
 from core.units import Tolerance
 
 FIVE = Tolerance(0.05, 0.05)
@@ -206,7 +206,7 @@ def test_chunked_three_part_layer_matches_one_pass(monkeypatch: pytest.MonkeyPat
     parts = [part("R", v, 3, line=i + 2) for i, v in enumerate(
         [100.0, 150.0, 220.0, 330.0, 470.0, 680.0, 1e3, 1.5e3, 2.2e3, 3.3e3, 4.7e3, 6.8e3])]
     whole = index_of(parts, "R", 3)
-    monkeypatch.setattr("core.networks.TRIPLE_CHUNK", 37)
+    monkeypatch.setattr("core.parts.networks.TRIPLE_CHUNK", 37)
     chunked = index_of(parts, "R", 3)
     for p in (1, 2, 3):
         a, b = whole.values[whole.layers[p]], chunked.values[chunked.layers[p]]

@@ -18,11 +18,11 @@ import pytest
 from hypothesis import given, settings
 from hypothesis import strategies as st
 
-from core.drawer import Part
-from core.eseries import kit
-from core.networks import RESOLUTION
-from core.search import search
-from core.timing import astable_times, make_oscillator, predict, schmitt_times
+from core.design.search import search
+from core.model.timing import astable_times, make_oscillator, predict, schmitt_times
+from core.parts.drawer import Part
+from core.parts.eseries import kit
+from core.parts.networks import RESOLUTION
 from core.units import Tolerance, format_frequency
 
 FIVE = Tolerance(0.05, 0.05)
@@ -348,7 +348,7 @@ def test_nothing_within_accept_suggests_iec_60063_values() -> None:
         series = s["buy"]["series"]
         kind = s["buy"]["kind"]
         lo, hi = (1.0, 10e6) if kind == "R" else (10e-12, 10e-3)
-        # IEC 60063:2015 table values (core.eseries reproduces the tables).
+        # IEC 60063:2015 table values (core.parts.eseries reproduces the tables).
         assert any(math.isclose(s["buy"]["value"], v, rel_tol=1e-9) for v in kit(series, lo, hi))
         r = s["buy"]["value"] if kind == "R" else 10e3
         c = s["buy"]["value"] if kind == "C" else 1e-9

@@ -9,8 +9,8 @@ from typing import Any
 import pytest
 
 from core.cli import main
-from core.drawer import read_drawer
-from core.locations import demo_drawer_path
+from core.parts.drawer import read_drawer
+from core.storage.locations import demo_drawer_path
 
 DEMO = str(demo_drawer_path())
 NODE_KEYS = ({"line"}, {"series"}, {"parallel"})

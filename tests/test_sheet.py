@@ -19,15 +19,15 @@ import pytest
 from hypothesis import given, settings
 from hypothesis import strategies as st
 
-from core import schematic as sch
-from core.drawer import Part, parse_drawer_text, read_drawer, write_drawer
+from core.design.search import Candidate, search
+from core.design.trim import frequency_at_rotation, trim
 from core.errors import InputError
-from core.locations import demo_drawer_path
-from core.networks import Node
-from core.search import Candidate, search
-from core.sheet import build_sheet, start_rotation, take_parts, voltage_ratings
-from core.timing import make_oscillator
-from core.trim import frequency_at_rotation, trim
+from core.model.timing import make_oscillator
+from core.output import schematic as sch
+from core.output.sheet import build_sheet, start_rotation, take_parts, voltage_ratings
+from core.parts.drawer import Part, parse_drawer_text, read_drawer, write_drawer
+from core.parts.networks import Node
+from core.storage.locations import demo_drawer_path
 from core.units import Tolerance, format_frequency, format_quantity
 
 TODAY = dt.date(2026, 12, 1)

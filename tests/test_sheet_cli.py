@@ -12,8 +12,8 @@ import pytest
 from conftest import require_tool
 
 import core.cli
-from core.drawer import read_drawer
-from core.locations import demo_drawer_path
+from core.parts.drawer import read_drawer
+from core.storage.locations import demo_drawer_path
 from gui.entry import render_sheet
 
 

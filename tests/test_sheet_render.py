@@ -16,12 +16,12 @@ import numpy as np
 import pytest
 from conftest import require_tool
 
-from core.drawer import read_drawer
-from core.locations import demo_drawer_path
-from core.search import search
-from core.sheet import Sheet, build_sheet
-from core.timing import make_oscillator
-from core.trim import trim
+from core.design.search import search
+from core.design.trim import trim
+from core.model.timing import make_oscillator
+from core.output.sheet import Sheet, build_sheet
+from core.parts.drawer import read_drawer
+from core.storage.locations import demo_drawer_path
 from core.units import format_frequency
 from gui.sheet_render import MARGIN_MM, PrintDialog, print_sheet, render_sheet_pdf
 

@@ -5,9 +5,9 @@ from __future__ import annotations
 import numpy as np
 import pytest
 
-from core.drawer import DEFAULT_TOLERANCE, DIELECTRIC_TOLERANCE
-from core.spread import draw_thresholds, monte_carlo, worst_case_hz
-from core.timing import default_tolerances, frequency, make_oscillator, predict
+from core.model.spread import draw_thresholds, monte_carlo, worst_case_hz
+from core.model.timing import default_tolerances, frequency, make_oscillator, predict
+from core.parts.drawer import DEFAULT_TOLERANCE, DIELECTRIC_TOLERANCE
 from core.units import Tolerance
 
 VALUES = {"R": 21.7e3, "C": 1e-6}

@@ -12,10 +12,10 @@ import pytest
 from hypothesis import given, settings
 from hypothesis import strategies as st
 
-from core.devices import device_table
 from core.errors import InputError, SetupError
-from core.spread import worst_case_hz
-from core.timing import (
+from core.model.devices import device_table
+from core.model.spread import worst_case_hz
+from core.model.timing import (
     astable_times,
     make_oscillator,
     predict,

@@ -13,7 +13,7 @@ from collections.abc import Callable
 import numpy as np
 import pytest
 
-from core.timing import astable_times, make_oscillator, schmitt_times
+from core.model.timing import astable_times, make_oscillator, schmitt_times
 
 integrate = pytest.importorskip("scipy.integrate")
 

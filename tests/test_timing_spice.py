@@ -15,7 +15,7 @@ import subprocess
 import pytest
 from conftest import require_tool
 
-from core.timing import make_oscillator, schmitt_times
+from core.model.timing import make_oscillator, schmitt_times
 
 pytestmark = pytest.mark.spice
 

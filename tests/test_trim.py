@@ -25,11 +25,11 @@ from test_search import (  # the plain loops and NODE helpers, no engine code
     within_stock,
 )
 
-from core.drawer import Part
+from core.design.trim import frequency_at_rotation, pot_resistance, rotation_for, trim
 from core.errors import InputError
-from core.eseries import kit
-from core.timing import make_oscillator, schmitt_times
-from core.trim import frequency_at_rotation, pot_resistance, rotation_for, trim
+from core.model.timing import make_oscillator, schmitt_times
+from core.parts.drawer import Part
+from core.parts.eseries import kit
 from core.units import Tolerance
 
 FIVE = Tolerance(0.05, 0.05)

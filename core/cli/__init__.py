@@ -18,7 +18,7 @@ from core.errors import TickbinError
 
 WindowLauncher = Callable[[argparse.Namespace], int]
 SheetRenderer = Callable[..., int]
-"""Draws a ``core.sheet.Sheet`` to a PDF file; supplied by gui (Qt does the drawing)."""
+"""Draws a ``core.output.sheet.Sheet`` to a PDF file; supplied by gui (Qt does the drawing)."""
 
 
 class _Parser(argparse.ArgumentParser):
@@ -83,7 +83,7 @@ def _run_window(args: argparse.Namespace, window: WindowLauncher | None) -> int:
         args.stock = args.screenshot = None
         args.demo = args.json = False
     if args.demo:
-        from core.locations import demo_drawer_path
+        from core.storage.locations import demo_drawer_path
 
         args.stock = str(demo_drawer_path())
     if window is None:
@@ -108,7 +108,7 @@ def _no_display() -> bool:
 
 
 def _internal_error(error: Exception) -> int:
-    from core.locations import append_error_log
+    from core.storage.locations import append_error_log
 
     where = append_error_log(error)
     say_error(f"internal error: {type(error).__name__}: {error} ({where})")

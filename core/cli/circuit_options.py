@@ -2,7 +2,7 @@
 
 ``add_circuit_options(parser)`` adds --circuit, --family, --supply, --vt-plus,
 --vt-minus, --calibration, --stray and --load; ``oscillator_from_args(args)``
-turns them into a ``core.timing.Oscillator`` (predict, calibrate, search, trim,
+turns them into a ``core.model.timing.Oscillator`` (predict, calibrate, search, trim,
 sheet and netlist all use it).
 """
 
@@ -10,10 +10,10 @@ from __future__ import annotations
 
 import argparse
 
-from core.calibration import load_calibration
 from core.cli.common import value_arg
-from core.devices import device_table
-from core.timing import DEFAULT_FAMILY, DEFAULT_STRAY_F, Oscillator, make_oscillator
+from core.model.calibration import load_calibration
+from core.model.devices import device_table
+from core.model.timing import DEFAULT_FAMILY, DEFAULT_STRAY_F, Oscillator, make_oscillator
 
 DEFAULT_SUPPLY_V = 5.0
 

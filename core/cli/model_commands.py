@@ -9,19 +9,19 @@ from collections.abc import Callable
 from pathlib import Path
 from typing import Any
 
-from core.calibration import (
+from core.cli.circuit_options import add_circuit_options, oscillator_from_args
+from core.cli.common import add_json_option, arg_type, emit, percent_arg, value_arg
+from core.errors import InputError, TickbinError
+from core.model.calibration import (
     Calibration,
     Measurement,
     fit,
     list_calibrations,
     save_calibration,
 )
-from core.cli.circuit_options import add_circuit_options, oscillator_from_args
-from core.cli.common import add_json_option, arg_type, emit, percent_arg, value_arg
-from core.devices import device_table
-from core.errors import InputError, TickbinError
-from core.spread import monte_carlo
-from core.timing import Oscillator, default_tolerances, predict
+from core.model.devices import device_table
+from core.model.spread import monte_carlo
+from core.model.timing import Oscillator, default_tolerances, predict
 from core.units import (
     Tolerance,
     format_part_value,

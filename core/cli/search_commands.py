@@ -14,12 +14,12 @@ from typing import Any
 
 from core.cli.circuit_options import add_circuit_options, oscillator_from_args
 from core.cli.common import add_json_option, arg_type, count_arg, emit, percent_arg, value_arg
-from core.drawer import Drawer, Part, read_drawer
-from core.locations import demo_drawer_path
-from core.networks import MAX_PARTS, Node
-from core.search import Candidate, SearchResult, search
-from core.timing import Oscillator
-from core.trim import TrimResult, trim
+from core.design.search import Candidate, SearchResult, search
+from core.design.trim import TrimResult, trim
+from core.model.timing import Oscillator
+from core.parts.drawer import Drawer, Part, read_drawer
+from core.parts.networks import MAX_PARTS, Node
+from core.storage.locations import demo_drawer_path
 from core.units import format_frequency, parse_band
 
 

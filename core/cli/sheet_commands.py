@@ -15,13 +15,13 @@ from typing import Any
 from core.cli.circuit_options import oscillator_from_args
 from core.cli.common import add_json_option, count_arg, emit, percent_arg
 from core.cli.search_commands import add_design_options, find_designs, read_stock
-from core.drawer import Drawer, write_drawer, write_text_atomically
+from core.design.search import Candidate
+from core.design.trim import TrimCandidate
 from core.errors import InputError, SetupError, TickbinError
-from core.netlist import model_prediction, simulate, spice_netlist
-from core.search import Candidate
-from core.sheet import build_sheet, take_parts, voltage_ratings
-from core.timing import Oscillator
-from core.trim import TrimCandidate
+from core.model.timing import Oscillator
+from core.output.netlist import model_prediction, simulate, spice_netlist
+from core.output.sheet import build_sheet, take_parts, voltage_ratings
+from core.parts.drawer import Drawer, write_drawer, write_text_atomically
 from core.units import format_frequency
 
 PAGE_SIZES = ("A4", "Letter")

@@ -8,8 +8,8 @@ from collections import Counter
 from typing import Any
 
 from core.cli.common import add_json_option, emit, one_line
-from core.drawer import Drawer, Part, read_drawer
 from core.errors import DrawerFileError
+from core.parts.drawer import Drawer, Part, read_drawer
 from core.units import format_part_value
 
 _KIND_NAMES = {"R": "resistors", "P": "potentiometers", "C": "capacitors"}

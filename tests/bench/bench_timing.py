@@ -10,8 +10,8 @@ from collections.abc import Callable
 
 import numpy as np
 
-from core.spread import monte_carlo, worst_case_hz
-from core.timing import (
+from core.model.spread import monte_carlo, worst_case_hz
+from core.model.timing import (
     astable_times,
     make_oscillator,
     predict,

@@ -23,7 +23,7 @@ SHOTS = {
 
 CHILD = """
 import json, sys
-from core.locations import demo_drawer_path
+from core.storage.locations import demo_drawer_path
 from gui.app import run_window
 sys.exit(run_window(str(demo_drawer_path()), sys.argv[1], json.loads(sys.argv[2])))
 """

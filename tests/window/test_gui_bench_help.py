@@ -60,7 +60,7 @@ def test_rows_of_the_selected_candidate_are_marked_with_counts(qtbot, window):
 
 def test_marks_go_when_rows_move_and_come_back_with_the_next_result(qtbot, window):
     model = window.drawer_model
-    from core.drawer import Row
+    from core.parts.drawer import Row
 
     search_done(qtbot, window, lambda: window.drawer.insert_rows(
         0, [Row({"kind": "R", "value": "1M", "quantity": "1"})]))
@@ -102,7 +102,7 @@ def test_trim_link_searches_a_band_around_the_target(qtbot, window):
 
 def test_calibrate_link_opens_the_dialog_and_a_calibration_removes_the_advice(
         qtbot, window, monkeypatch):
-    from core.calibration import calibrate, save_calibration
+    from core.model.calibration import calibrate, save_calibration
     from gui.calibration_dialog import CalibrationDialog
 
     opened = []

@@ -1,4 +1,4 @@
-"""The drawer table model: a faithful adapter over core.drawer.Drawer."""
+"""The drawer table model: a faithful adapter over core.parts.drawer.Drawer."""
 
 from __future__ import annotations
 
@@ -6,7 +6,7 @@ import pytest
 from gui_helpers import QUIET_OFFSCREEN
 from PySide6.QtCore import Qt
 
-from core.drawer import Drawer, Row, parse_drawer_text
+from core.parts.drawer import Drawer, Row, parse_drawer_text
 from gui.drawer_model import PROBLEM_ROLE, DrawerFilterProxy, DrawerTableModel
 
 pytest_plugins = ["gui_helpers"]  # fixtures: private_settings, answers, make_window, window

@@ -6,7 +6,7 @@ import sys
 
 import pytest
 
-from core.locations import data_dir
+from core.storage.locations import data_dir
 from gui import error_hook
 
 

@@ -12,7 +12,7 @@ from conftest import require_tool
 from gui_helpers import QUIET_OFFSCREEN
 from PySide6.QtWidgets import QMessageBox
 
-from core.drawer import read_drawer
+from core.parts.drawer import read_drawer
 
 pytest_plugins = ["gui_helpers"]
 pytestmark = QUIET_OFFSCREEN

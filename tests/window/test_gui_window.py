@@ -15,9 +15,9 @@ from gui_helpers import QUIET_OFFSCREEN, fail_searches, search_done, search_with
 from PySide6.QtCore import QPointF, Qt
 from PySide6.QtWidgets import QMessageBox
 
-from core.drawer import Row, read_drawer
-from core.search import search
-from core.timing import make_oscillator
+from core.design.search import search
+from core.model.timing import make_oscillator
+from core.parts.drawer import Row, read_drawer
 from gui.drawer_model import PROBLEM_ROLE
 
 pytest_plugins = ["gui_helpers"]  # fixtures: private_settings, answers, make_window, window
@@ -178,7 +178,7 @@ def test_worker_error_is_shown_not_lost(qtbot, window, monkeypatch):
 
 
 def test_kit_and_paste_rows(qtbot, window):
-    from core.eseries import kit
+    from core.parts.eseries import kit
     from gui.drawer_panel import KitDialog, paste_rows
 
     dialog = KitDialog(window)
@@ -230,7 +230,7 @@ def test_settings_remember_target_and_drawer(qtbot, answers, make_window, privat
 def test_crash_leaves_autosave_and_restore_is_offered(qtbot, answers, make_window, tmp_path):
     import shutil
 
-    from core.locations import demo_drawer_path
+    from core.storage.locations import demo_drawer_path
 
     mine = tmp_path / "mine.csv"
     shutil.copy(demo_drawer_path(), mine)
@@ -252,7 +252,7 @@ def test_crash_leaves_autosave_and_restore_is_offered(qtbot, answers, make_windo
 
 
 def test_trim_band_shows_rotation_plot(qtbot, window):
-    from core.trim import frequency_at_rotation
+    from core.design.trim import frequency_at_rotation
 
     search_with(qtbot, window, mode="band", target="900..1100")
     assert window.candidates.trim and window.candidates.rowCount() > 0
@@ -276,7 +276,7 @@ def test_trim_band_shows_rotation_plot(qtbot, window):
 
 
 def test_calibration_dialog_saves_and_selects(qtbot, window, monkeypatch):
-    from core.calibration import list_calibrations, load_calibration
+    from core.model.calibration import list_calibrations, load_calibration
     from gui.calibration_dialog import CalibrationDialog
 
     cand = window.selected_candidate()
@@ -341,7 +341,7 @@ def test_selected_candidate_parts_are_spelled_out_with_locations(window):
 
 
 def test_demo_given_as_stock_is_opened_as_a_copy(qtbot, answers, make_window):
-    from core.locations import demo_drawer_path
+    from core.storage.locations import demo_drawer_path
 
     window = make_window(stock=str(demo_drawer_path()))
     assert window.drawer.path is None  # Save must never overwrite the bundled demo

@@ -28,7 +28,7 @@ GATE = 7.0
 
 
 class NetworkNode(Protocol):
-    """What the layout needs of ``core.networks.Node``."""
+    """What the layout needs of ``core.parts.networks.Node``."""
 
     part: object | None
     series: tuple[NetworkNode, ...]

@@ -26,11 +26,11 @@ from typing import Any
 
 import numpy as np
 
-from core.drawer import Part
+from core.design.search import PER_SIDE, schmitt_frequency, schmitt_resistance
 from core.errors import InputError
-from core.networks import DrawerIndex, Node, drawer_index, single
-from core.search import PER_SIDE, schmitt_frequency, schmitt_resistance
-from core.timing import Oscillator, schmitt_resistance_for
+from core.model.timing import Oscillator, schmitt_resistance_for
+from core.parts.drawer import Part
+from core.parts.networks import DrawerIndex, Node, drawer_index, single
 from core.units import format_frequency
 
 LOG_TAPER_BASE = 81.0

@@ -35,8 +35,8 @@ from typing import Any, Literal, TypeVar
 
 import numpy as np
 
-from core.drawer import Part
 from core.errors import InputError
+from core.parts.drawer import Part
 from core.units import format_part_value
 
 NetworkKind = Literal["R", "C"]

@@ -399,6 +399,6 @@ def load_device_table(text: str) -> DeviceTable:
 @cache
 def device_table() -> DeviceTable:
     """The bundled device table, read once."""
-    from core.locations import resource
+    from core.storage.locations import resource
 
     return load_device_table(resource("devices.toml").read_text(encoding="utf-8"))

@@ -35,12 +35,12 @@ from collections.abc import Iterator, Mapping
 from pathlib import Path
 
 from core import __version__
+from core.design.search import Candidate
+from core.design.trim import TrimCandidate, pot_resistance
 from core.errors import SetupError, TickbinError
-from core.networks import Node
-from core.search import Candidate
-from core.sheet import start_rotation
-from core.timing import Oscillator, Prediction, predict, waveform
-from core.trim import TrimCandidate, pot_resistance
+from core.model.timing import Oscillator, Prediction, predict, waveform
+from core.output.sheet import start_rotation
+from core.parts.networks import Node
 from core.units import format_part_value, format_quantity
 
 MEASURES = ("period_s", "frequency_hz", "t_high_s", "duty_pct")

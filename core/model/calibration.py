@@ -7,10 +7,10 @@ Several measurements are fitted by least squares on the logarithms of the
 measured times (t_high and t_low where the duty is known, else the period).
 
 Calibrations are named and saved as small JSON files in
-``core.locations.data_dir() / "calibrations"``; ``--calibration NAME`` (and the
-window) use them through ``core.timing.make_oscillator``.
+``core.storage.locations.data_dir() / "calibrations"``; ``--calibration NAME`` (and the
+window) use them through ``core.model.timing.make_oscillator``.
 
-References: the charge equations of core.timing; K. Levenberg (1944) and
+References: the charge equations of core.model.timing; K. Levenberg (1944) and
 D. Marquardt (1963) for the damped Gauss-Newton step.
 """
 
@@ -31,8 +31,8 @@ from core.errors import InputError, SetupError, TickbinError
 from core.units import format_quantity
 
 if TYPE_CHECKING:
-    from core.devices import DeviceAtSupply
-    from core.timing import Oscillator
+    from core.model.devices import DeviceAtSupply
+    from core.model.timing import Oscillator
 
 FORMAT_VERSION = 1
 _NAME = re.compile(r"^[A-Za-z0-9][A-Za-z0-9_.-]{0,63}$")
@@ -110,7 +110,7 @@ class Calibration:
 def _residuals(osc: Oscillator, measurements: Sequence[Measurement], vt_plus: float,
                vt_minus: float) -> np.ndarray:
     """Log misfits of the measured times (t_high, t_low where the duty is known, else T)."""
-    from core.timing import times
+    from core.model.timing import times
 
     out = []
     for m in measurements:
@@ -171,7 +171,7 @@ def fit(osc: Oscillator, measurements: Sequence[Measurement],
     oscillator's VT+/VT- ratio is kept. Raises SetupError when no thresholds
     between the output levels come close (the parts or reading are likely wrong).
     """
-    from core.timing import check_values, frequency
+    from core.model.timing import check_values, frequency
 
     if not measurements:
         raise InputError("a calibration needs at least one measurement")
@@ -238,7 +238,7 @@ def calibrate(osc: Oscillator, values: Mapping[str, float], measured_hz: float,
 # ---------------------------------------------------------------- files
 
 def calibrations_dir() -> Path:
-    from core.locations import data_dir
+    from core.storage.locations import data_dir
 
     path = data_dir() / "calibrations"
     path.mkdir(parents=True, exist_ok=True)
@@ -259,7 +259,7 @@ def _path(name: str) -> Path:
 
 def save_calibration(cal: Calibration, name: str | None = None) -> Path:
     """Write ``cal`` under ``name`` (or its own name); returns the file written."""
-    from core.drawer import write_text_atomically
+    from core.parts.drawer import write_text_atomically
 
     name = name or cal.name
     if not name:

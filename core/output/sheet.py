@@ -16,14 +16,14 @@ from typing import Any
 
 import numpy as np
 
-from core.drawer import Drawer, Part
+from core.design.search import Candidate
+from core.design.trim import TrimCandidate, frequency_at_rotation, pot_resistance, rotation_for
 from core.errors import InputError
-from core.networks import Node
-from core.schematic import Network, Schematic, astable_schematic, schmitt_schematic
-from core.search import Candidate
-from core.spread import monte_carlo
-from core.timing import Oscillator, predict, waveform
-from core.trim import TrimCandidate, frequency_at_rotation, pot_resistance, rotation_for
+from core.model.spread import monte_carlo
+from core.model.timing import Oscillator, predict, waveform
+from core.output.schematic import Network, Schematic, astable_schematic, schmitt_schematic
+from core.parts.drawer import Drawer, Part
+from core.parts.networks import Node
 from core.units import (
     Tolerance,
     format_capacitance,
@@ -541,7 +541,7 @@ def take_parts(drawer: Drawer, used: Sheet | Candidate | TrimCandidate) -> list[
     capacitors it found in the drawer) or just a candidate (its networks).
     Nothing changes unless every line still holds enough: InputError names
     the line that does not, or that changed since the search. The caller
-    saves the drawer (``core.drawer.write_drawer``).
+    saves the drawer (``core.parts.drawer.write_drawer``).
     """
     parts = list(used.take) if isinstance(used, Sheet) else [
         p for node in used.networks.values() for p in node.parts()]

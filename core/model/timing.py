@@ -36,12 +36,12 @@ from typing import TYPE_CHECKING, Any, NamedTuple
 
 import numpy as np
 
-from core.devices import Circuit, DeviceAtSupply, Family, device_table
 from core.errors import InputError, SetupError
+from core.model.devices import Circuit, DeviceAtSupply, Family, device_table
 from core.units import Tolerance, format_quantity
 
 if TYPE_CHECKING:
-    from core.calibration import Calibration
+    from core.model.calibration import Calibration
 
 DEFAULT_STRAY_F = 5e-12
 """Stray capacitance at the timing node on a breadboard or perfboard [F]
@@ -177,7 +177,7 @@ def make_oscillator(circuit: str, family: str | Family, supply_v: float,
     if calibration is not None:
         if vt_plus is not None:
             raise InputError("give thresholds or a calibration, not both")
-        from core.calibration import Calibration, load_calibration
+        from core.model.calibration import Calibration, load_calibration
 
         cal = calibration if isinstance(calibration, Calibration) else load_calibration(
             calibration)
@@ -404,8 +404,8 @@ def check_values(osc: Oscillator, values: Mapping[str, float]) -> dict[str, floa
 
 
 def default_tolerances(osc: Oscillator, dielectric: str = "") -> dict[str, Tolerance]:
-    """Tolerances when none are given: the drawer's defaults (core.drawer)."""
-    from core.drawer import DEFAULT_TOLERANCE, DIELECTRIC_TOLERANCE
+    """Tolerances when none are given: the drawer's defaults (core.parts.drawer)."""
+    from core.parts.drawer import DEFAULT_TOLERANCE, DIELECTRIC_TOLERANCE
 
     tol = {k: DEFAULT_TOLERANCE["R"] for k in VALUE_KEYS[osc.circuit] if k != "C"}
     tol["C"] = DIELECTRIC_TOLERANCE.get(dielectric, DIELECTRIC_TOLERANCE[""])
@@ -422,7 +422,7 @@ def predict(osc: Oscillator, values: Mapping[str, float],
     capacitor's by ``dielectric``). Raises SetupError when the nominal circuit
     will not oscillate, saying why.
     """
-    from core.spread import worst_case_hz
+    from core.model.spread import worst_case_hz
 
     vals = check_values(osc, values)
     t_high, t_low = (float(t) for t in times(osc, vals, diode_steered))
@@ -474,7 +474,7 @@ whichever is greater (common practice, from the usual data-sheet formula)."""
 def practitioner_warnings(osc: Oscillator, values: Mapping[str, float], pred: Prediction, *,
                           dielectric: str = "", diode_steered: bool = False) -> list[str]:
     """What an experienced builder would point out about this circuit."""
-    from core.drawer import ELECTROLYTIC
+    from core.parts.drawer import ELECTROLYTIC
 
     d, name = osc.device, osc.family.name
     fq = format_quantity

@@ -24,7 +24,7 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from core.timing import Oscillator, frequency
+from core.model.timing import Oscillator, frequency
 from core.units import Tolerance
 
 

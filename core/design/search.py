@@ -37,12 +37,9 @@ from typing import Any
 
 import numpy as np
 
-from core.drawer import Part
 from core.errors import InputError
-from core.eseries import nearest
-from core.networks import DrawerIndex, NetworkIndex, Node, drawer_index
-from core.spread import worst_case_hz
-from core.timing import (
+from core.model.spread import worst_case_hz
+from core.model.timing import (
     Oscillator,
     Prediction,
     astable_times,
@@ -51,6 +48,9 @@ from core.timing import (
     schmitt_times,
     times,
 )
+from core.parts.drawer import Part
+from core.parts.eseries import nearest
+from core.parts.networks import DrawerIndex, NetworkIndex, Node, drawer_index
 from core.units import format_frequency, format_part_value, format_resistance
 
 NEAR_COPY = 0.02

@@ -1,0 +1,1 @@
+"""Model: the chips' data, the oscillator physics, spread over tolerances, and calibration."""
