@@ -3,9 +3,12 @@
 Text is matched against our own grammar first (a number, an optional SI
 prefix, an optional unit; or the IEC 60062 letter-for-decimal code; or the
 capacitor three-digit code), so nothing is ever evaluated. The prefix is
-applied exactly in decimal; pint only gives each recognised unit's factor to
-SI base units, cached per unit: one registry for the whole program, created
-on first use.
+applied exactly in decimal. The units people type most (Ω, F, Hz, s, V, A)
+are SI base units with a factor of exactly 1, so they need no unit library;
+pint is loaded only for the others (minutes, hours, beats or turns per
+minute) and gives each one's factor to SI base units, cached per unit: one
+registry for the whole program, created on first use (building it takes
+about 0.4 s).
 
 References: IEC 60062:2016 (letter and digit code for resistors and
 capacitors); BIPM SI Brochure, 9th ed., table 7 (SI prefixes).
@@ -30,16 +33,16 @@ Quantity = Literal["resistance", "capacitance", "frequency", "period", "voltage"
 MAX_TEXT = 40
 """Longest value text accepted; anything longer is junk, not a part value."""
 
-# Canonical unit per physical quantity, as pint spells it, and the unit words a
-# person may type for it (lower-cased lookups; "R" is the IEC 60062 ohm marker).
-_UNITS: dict[Quantity, tuple[str, tuple[str, ...]]] = {
-    "resistance": ("ohm", ("ω", "ohm", "ohms", "r")),
-    "capacitance": ("farad", ("f",)),
-    "frequency": ("hertz", ("hz",)),
-    "period": ("second", ("s", "sec")),
-    "time": ("second", ("s", "sec")),
-    "voltage": ("volt", ("v",)),
-    "current": ("ampere", ("a",)),
+# The words a person may type for each quantity's SI base unit (lower-cased lookups;
+# "R" is the IEC 60062 ohm marker). Each is the SI unit itself: factor exactly 1.
+_UNITS: dict[Quantity, tuple[str, ...]] = {
+    "resistance": ("ω", "ohm", "ohms", "r"),
+    "capacitance": ("f",),
+    "frequency": ("hz",),
+    "period": ("s", "sec"),
+    "time": ("s", "sec"),
+    "voltage": ("v",),
+    "current": ("a",),
 }
 _SYMBOL = {
     "resistance": "Ω",
@@ -49,6 +52,14 @@ _SYMBOL = {
     "time": "s",
     "voltage": "V",
     "current": "A",
+}
+# Units for slow things (issue 14): what a person types -> the unit pint converts.
+# A revolution or a beat is one cycle, so rpm and bpm are counted per minute (pint's own
+# "rpm" is an angular velocity, 2π rad/min, not a frequency).
+_SLOW_UNITS: dict[str, tuple[Quantity, str]] = {
+    **dict.fromkeys(("min", "mins", "minute", "minutes"), ("period", "minute")),
+    **dict.fromkeys(("h", "hr", "hrs", "hour", "hours"), ("period", "hour")),
+    **dict.fromkeys(("bpm", "rpm", "/min"), ("frequency", "1 / minute")),
 }
 _PREFIX_EXP = {"p": -12, "n": -9, "u": -6, "µ": -6, "μ": -6, "m": -3, "": 0,
                "k": 3, "K": 3, "M": 6, "meg": 6, "MEG": 6, "Meg": 6, "G": 9}
@@ -64,6 +75,7 @@ _LETTER = re.compile(
 )
 _LETTER_EXP_RES = {"R": 0, "r": 0, "K": 3, "k": 3, "M": 6, "G": 9}
 _LETTER_EXP_CAP = {"p": -12, "n": -9, "u": -6, "µ": -6, "μ": -6, "m": -3}
+_SLOW = re.compile(rf"^(?P<num>{_NUMBER})\s*(?P<unit>[a-zA-Z/]+)$")
 _CAP_CODE = re.compile(r"^(?P<sig>\d{2})(?P<exp>\d)$")
 _CONTROL = re.compile(r"[\x00-\x1f\x7f]")
 
@@ -82,10 +94,29 @@ def _unit_factor(unit: str) -> float:
     return float(registry().Quantity(1.0, unit).to_base_units().magnitude)
 
 
-def _scaled(number: str, exponent: int, quantity: Quantity) -> float:
-    """``number`` × 10^exponent in SI, exact in decimal: ``100n`` is 1e-07, not 1.0…01e-07."""
-    exact = Decimal(number).scaleb(exponent)
-    return float(exact) * _unit_factor(_UNITS[quantity][0])
+def _scaled(number: str, exponent: int) -> float:
+    """``number`` × 10^exponent, exact in decimal: ``100n`` is 1e-07, not 1.0…01e-07.
+
+    Every unit in ``_UNITS`` is an SI base unit (factor exactly 1).
+    """
+    return float(Decimal(number).scaleb(exponent))
+
+
+def _slow_unit(s: str, quantity: Quantity) -> float | None:
+    """``2min``, ``0.5 h``, ``120bpm``, ``30rpm`` as SI (s or Hz), or None if not such a unit.
+
+    A period unit where a frequency is asked is handled by the caller (the
+    frequency is the period's reciprocal).
+    """
+    m = _SLOW.match(s)
+    if not m or m["unit"].lower() not in _SLOW_UNITS:
+        return None
+    unit_quantity, pint_unit = _SLOW_UNITS[m["unit"].lower()]
+    if quantity == "time":
+        quantity = "period"
+    if unit_quantity != quantity:
+        return None
+    return float(Decimal(m["num"])) * _unit_factor(pint_unit)
 
 
 def _clean(text: str, what: str) -> str:
@@ -106,11 +137,11 @@ def _clean(text: str, what: str) -> str:
 
 
 def _unit_ok(unit: str, quantity: Quantity) -> bool:
-    return unit == "" or unit.lower() in _UNITS[quantity][1]
+    return unit == "" or unit.lower() in _UNITS[quantity]
 
 
 def _which_quantity(unit: str) -> str | None:
-    for q, (_, words) in _UNITS.items():
+    for q, words in _UNITS.items():
         if unit.lower() in words:
             return q
     return None
@@ -128,9 +159,9 @@ def _expected(quantity: Quantity) -> str:
     examples = {
         "resistance": "4.7k, 4k7, 470R, 1M0 or 22 kΩ",
         "capacitance": "100n, 0.1uF, 2n2, 4u7 or the code 104",
-        "frequency": "38k, 1 kHz, 440Hz (or a period such as 2ms)",
-        "period": "2ms, 0.5 s or 250us",
-        "time": "2ms, 0.5 s or 250us",
+        "frequency": "38k, 1 kHz, 440Hz, 120bpm (or a period such as 2ms or 2min)",
+        "period": "2ms, 0.5 s, 250us or 2min",
+        "time": "2ms, 0.5 s, 250us or 2min",
         "voltage": "5V, 3.3 or 12 V",
         "current": "1mA, 10uA",
     }
@@ -166,6 +197,10 @@ def _parse_cached(text: str, quantity: Quantity) -> float:
 
 
 def _parse_one(s: str, text: str, quantity: Quantity, *, bare_number: bool = True) -> float:
+    if quantity in ("frequency", "period", "time"):
+        slow = _slow_unit(s, quantity)
+        if slow is not None:
+            return _finish(slow, text, quantity)
     m = _PLAIN.match(s)
     if m:
         unit = m["unit"]
@@ -189,14 +224,14 @@ def _parse_one(s: str, text: str, quantity: Quantity, *, bare_number: bool = Tru
                              "or a three-digit code (104)", text=text, what=quantity)
         if not bare_number and prefix == "" and unit == "":
             raise InputError(_expected(quantity), text=text, what=quantity)
-        return _finish(_scaled(m["num"], _PREFIX_EXP[prefix], quantity), text, quantity)
+        return _finish(_scaled(m["num"], _PREFIX_EXP[prefix]), text, quantity)
     m = _LETTER.match(s)
     if m and m["int"] + m["frac"] and _unit_ok(m["unit"], quantity):
         table = _LETTER_EXP_RES if quantity == "resistance" else (
             _LETTER_EXP_CAP if quantity == "capacitance" else None)
         if table and m["letter"] in table:
             number = f"{m['int'] or '0'}.{m['frac']}"
-            return _finish(_scaled(number, table[m["letter"]], quantity), text, quantity)
+            return _finish(_scaled(number, table[m["letter"]]), text, quantity)
     raise InputError(_expected(quantity), text=text, what=quantity)
 
 

@@ -3,6 +3,8 @@
 from __future__ import annotations
 
 import math
+import subprocess
+import sys
 
 import pytest
 from hypothesis import given
@@ -163,3 +165,34 @@ def test_band_and_percent() -> None:
     with pytest.raises(InputError):
         parse_percent("-3")
     assert parse_frequency("1MHz") == 1e6
+
+
+# BIPM SI Brochure, 9th ed., table 8 (non-SI units accepted for use with the SI):
+# 1 min = 60 s, 1 h = 3600 s. Beats and revolutions per minute count one cycle each
+# (common practice, no published source): 120 bpm = 2 Hz, 30 rpm = 0.5 Hz.
+@pytest.mark.parametrize(
+    ("text", "quantity", "si"),
+    [("2min", "period", 120.0), ("0.5h", "period", 1800.0), ("1 hour", "time", 3600.0),
+     ("2min", "frequency", 1 / 120.0), ("0.5h", "frequency", 1 / 1800.0),
+     ("120bpm", "frequency", 2.0), ("30rpm", "frequency", 0.5), ("30 RPM", "frequency", 0.5)],
+)
+def test_periods_and_frequencies_of_slow_things(text: str, quantity: str, si: float) -> None:
+    assert parse_quantity(text, quantity) == pytest.approx(si, rel=1e-12)  # type: ignore[arg-type]
+
+
+def test_slow_units_stay_with_their_quantity() -> None:
+    for text, quantity in (("2min", "resistance"), ("120bpm", "period"), ("1h", "voltage")):
+        with pytest.raises(InputError):
+            parse_quantity(text, quantity)  # type: ignore[arg-type]
+
+
+def test_the_common_units_need_no_unit_library() -> None:
+    # Building pint's registry costs about 0.4 s; Ω, F, Hz, s, V and A are SI base units
+    # (factor 1), so parsing them must not load pint.
+    code = ("import sys\nfrom core.units import parse_quantity\n"
+            "for t, q in (('4k7', 'resistance'), ('100nF', 'capacitance'), ('38kHz', "
+            "'frequency'), ('2ms', 'frequency'), ('5V', 'voltage'), ('1mA', 'current')):\n"
+            "    parse_quantity(t, q)\n"
+            "assert 'pint' not in sys.modules\n"
+            "parse_quantity('2min', 'period')\nassert 'pint' in sys.modules\n")
+    subprocess.run([sys.executable, "-c", code], check=True)
