@@ -60,8 +60,14 @@ def test_a_node_is_one_part_or_several_children() -> None:
 
 
 def _plain_networks(values: list[float], quantities: list[int], kind: str,
-                    max_parts: int) -> list[tuple[float, int]]:
-    """Every (value, parts) the drawer can make, by nested loops (no engine code)."""
+                    max_parts: int, polarised: list[bool] | None = None
+                    ) -> list[tuple[float, int]]:
+    """Every (value, parts) the drawer can make, by nested loops (no engine code).
+
+    ``polarised`` marks electrolytic lines: no series join may hold one (issue 11 §3,
+    common practice, no published source).
+    """
+    pol = polarised or [False] * len(values)
     def ser(x: float, y: float) -> float:
         return x * y / (x + y) if kind == "C" else x + y
 
@@ -78,7 +84,8 @@ def _plain_networks(values: list[float], quantities: list[int], kind: str,
             for b in range(n):
                 use = Counter([a, b])
                 if all(quantities[g] >= m for g, m in use.items()):
-                    out.append((ser(values[a], values[b]), 2))
+                    if not (pol[a] or pol[b]):
+                        out.append((ser(values[a], values[b]), 2))
                     out.append((par(values[a], values[b]), 2))
     if max_parts >= 3:
         for a in range(n):
@@ -88,9 +95,11 @@ def _plain_networks(values: list[float], quantities: list[int], kind: str,
                     if not all(quantities[g] >= m for g, m in use.items()):
                         continue
                     x, y, z = values[a], values[b], values[c]
-                    for v in (ser(ser(x, y), z), par(par(x, y), z), ser(par(x, y), z),
-                              par(ser(x, y), z)):
-                        out.append((v, 3))
+                    out.append((par(par(x, y), z), 3))
+                    if not (pol[a] or pol[b]):
+                        out.append((par(ser(x, y), z), 3))
+                    if not (pol[a] or pol[b] or pol[c]):
+                        out += [(ser(ser(x, y), z), 3), (ser(par(x, y), z), 3)]
     return out
 
 
@@ -213,3 +222,61 @@ def test_chunked_three_part_layer_matches_one_pass(monkeypatch: pytest.MonkeyPat
         assert len(a) == len(b)
         # The same buckets; a bucket's representative may differ within the resolution.
         assert np.allclose(a, b, rtol=2 * RESOLUTION, atol=0)
+
+
+def _series_holds_polarised(node: Node) -> bool:
+    """True if any series join of the tree has an electrolytic or tantalum part in it."""
+    if node.part is not None:
+        return False
+    if node.series and any(p.polarised for p in node.parts()):
+        return True
+    return any(_series_holds_polarised(c) for c in (*node.series, *node.parallel))
+
+
+@pytest.mark.parametrize("max_parts", [2, 3])
+def test_polarised_capacitors_are_never_in_series(max_parts: int) -> None:
+    # Issue 11 §3 (common practice, no published source): two capacitors in series
+    # share DC by leakage, so an electrolytic one may sit reversed; in parallel it may.
+    lines = [(1e-6, 2, "electrolytic"), (100e-9, 2, "film"), (47e-9, 2, "x7r"),
+             (10e-6, 1, "tantalum")]
+    parts = [Part("C", v, FIVE, q, dielectric=d, line=i + 2)
+             for i, (v, q, d) in enumerate(lines)]
+    index = index_of(parts, "C", max_parts)
+    nodes = [index.nodes([e])[0] for e in range(len(index))]
+    assert not any(_series_holds_polarised(n) for n in nodes)
+    # Still every practical network is there (plain loops with the same rule).
+    values = [v for v, _, _ in lines]
+    for value, count in _plain_networks(values, [q for _, q, _ in lines], "C", max_parts,
+                                        [d in ("electrolytic", "tantalum") for *_, d in lines]):
+        near = np.flatnonzero(np.abs(index.values / value - 1) <= 2 * RESOLUTION)
+        assert near.size, f"{value} ({count} parts) missing"
+    # 1 µF electrolytic ∥ 100 nF film is practical and kept; 1 µF in series with 100 nF
+    # (90.9 nF) is not, and no other network lands there.
+    assert np.isclose(index.values, 1.1e-6, rtol=RESOLUTION, atol=0).any()
+    assert not np.isclose(index.values, 1e-6 * 100e-9 / 1.1e-6, rtol=RESOLUTION, atol=0).any()
+
+
+def test_the_steadiest_network_of_a_value_wins_its_bucket() -> None:
+    # Issue 11 §3: of two equally good builds prefer the stable dielectric and the
+    # smaller spread. Dielectric classes (EIA-198): C0G/film steadier than X7R.
+    one = Tolerance(0.01, 0.01)
+    ten = Tolerance(0.10, 0.10)
+    resistors = [part("R", 15e3, 1, line=2), part("R", 15e3, 1, line=3, tolerance=one),
+                 part("R", 150e3, 1, line=4, tolerance=one), part("R", 150e3, 1, line=5)]
+    index = index_of(resistors, "R", 2)
+    for value, lines in ((15e3, [3]), (150e3, [4]), (165e3, [3, 4])):
+        (entry,) = np.flatnonzero(np.isclose(index.values, value, rtol=1e-9))
+        (node,) = index.nodes([int(entry)])
+        assert sorted(p.stock_line for p in node.parts()) == lines
+        # 1 % parts only: the network spreads ±1 % (series values scale with the parts).
+        assert index.hi[entry] / index.values[entry] == pytest.approx(1.01, rel=1e-12)
+    caps = [Part("C", 100e-9, FIVE, 3, dielectric="x7r", line=2),
+            Part("C", 100e-9, ten, 3, dielectric="film", line=3),
+            Part("C", 100e-9, FIVE, 3, dielectric="y5v", line=4)]
+    index = index_of(caps, "C", 3)
+    # The class comes before the spread: a 10 % film beats a 5 % X7R at every size.
+    assert {p.dielectric for e in range(len(index)) for p in index.nodes([e])[0].parts()} == {
+        "film"}
+    assert index.stability.max() == 0
+    steadier = index.steadiness(np.arange(len(index)))
+    assert steadier == pytest.approx(np.full(len(index), 0.2), rel=1e-12)

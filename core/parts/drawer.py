@@ -62,6 +62,42 @@ DIELECTRIC_TOLERANCE: dict[str, Tolerance] = {
     "": Tolerance(0.20, 0.20),
 }
 ELECTROLYTIC = frozenset({"electrolytic", "tantalum"})
+DIELECTRIC_STABILITY: dict[str, int] = {
+    "c0g": 0, "np0": 0, "film": 0, "x7r": 1, "x5r": 2, "y5v": 3, "z5u": 3, "": 3,
+    "tantalum": 4, "electrolytic": 5}
+"""How well a capacitor holds its value over temperature, voltage and age, steadiest 0.
+
+Class 1 ceramics (C0G/NP0) and film drift little; X7R, X5R and Y5V/Z5U lose
+more with each step down (EIA-198 temperature characteristics: X7R ±15 %
+over −55…125 °C, X5R ±15 % over −55…85 °C, Y5V +22/−82 % over −30…85 °C);
+an unmarked ceramic is assumed as poor as Y5V; tantalum and aluminium
+electrolytics leak and age most (common practice, no published source).
+"""
+_DIELECTRIC_WORDS = {"elko": "electrolytic", "elcap": "electrolytic", "alu": "electrolytic",
+                     "aluminium": "electrolytic", "aluminum": "electrolytic"}
+
+
+def dielectric_name(text: str) -> str:
+    """A dielectric as the drawer spells it (``C0G``, ``X7R``, ``elko``) in our lower-case name."""
+    name = text.strip().lower().replace("-", "")
+    return _DIELECTRIC_WORDS.get(name, name)
+
+
+def parse_dielectrics(text: str) -> frozenset[str]:
+    """``film,c0g`` -> the dielectric names it allows (C0G and NP0 are one class)."""
+    names = {dielectric_name(word) for word in text.split(",") if word.strip()}
+    bad = sorted(n for n in names if n not in DIELECTRIC_TOLERANCE or not n)
+    if bad or not names:
+        raise InputError("expected dielectrics separated by commas: C0G, NP0, film, X7R, X5R, "
+                         "Y5V, Z5U, tantalum, electrolytic", text=text, what="dielectric")
+    if names & {"c0g", "np0"}:
+        names |= {"c0g", "np0"}
+    return frozenset(names)
+
+
+def with_dielectrics(parts: Iterable[Part], allowed: frozenset[str] | None) -> list[Part]:
+    """``parts`` without the capacitors whose dielectric is not ``allowed`` (None: all)."""
+    return [p for p in parts if allowed is None or p.kind != "C" or p.dielectric in allowed]
 
 
 @dataclass(frozen=True)
@@ -159,9 +195,7 @@ def _parse_row(row: Row, index: int) -> tuple[Part | None, dict[str, str]]:
         quantity = parse_quantity_count(row.get("quantity"))
     except InputError as e:
         problems["quantity"] = e.reason
-    dielectric = row.get("dielectric").strip().lower().replace("-", "")
-    if dielectric in ("elko", "elcap", "alu", "aluminium", "aluminum"):
-        dielectric = "electrolytic"
+    dielectric = dielectric_name(row.get("dielectric"))
     if kind == "C" and dielectric not in DIELECTRIC_TOLERANCE:
         problems["dielectric"] = ("expected C0G, NP0, film, X7R, X5R, Y5V, Z5U, tantalum "
                                   "or electrolytic")

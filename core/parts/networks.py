@@ -20,6 +20,12 @@ Decisions:
 * A network never needs more of a group than the drawer holds (quantity rule
   within one network); across the networks of one candidate the search checks
   it with ``NetworkIndex.overused``.
+* Only practical networks: a polarised capacitor (electrolytic, tantalum) is
+  never in series with another capacitor (``may_join``).
+* Where networks of one part count share a bucket, the steadiest wins:
+  the best dielectric class of its worst capacitor, then the smallest
+  relative spread (``steadiness``), so a 1 % line is not hidden behind a 5 %
+  line of the same value.
 
 References: series resistance adds, parallel conductance adds; capacitance
 adds in parallel and its reciprocal adds in series (any circuits textbook, e.g.
@@ -36,7 +42,7 @@ from typing import Any, Literal, TypeVar
 import numpy as np
 
 from core.errors import InputError
-from core.parts.drawer import Part
+from core.parts.drawer import DIELECTRIC_STABILITY, Part
 from core.units import format_part_value
 
 NetworkKind = Literal["R", "C"]
@@ -146,6 +152,32 @@ def group_parts(parts: Iterable[Part], kind: str) -> list[list[Part]]:
             for _, g in sorted(groups.items(), key=lambda kv: kv[0][1:])]
 
 
+def may_join(kind: str, in_series: bool, polarised_x: np.ndarray,
+             polarised_y: np.ndarray) -> np.ndarray:
+    """Whether two networks (True where one holds a polarised capacitor) may be joined.
+
+    Capacitors in series share their DC voltage by their leakage currents, not
+    by design, so a polarised one can end up reversed at the inner node, where
+    no "+ lead to the timing node" rule reaches (common practice, no published
+    source). In parallel, every + lead sits on the same node.
+    """
+    banned = (polarised_x | polarised_y) if kind == "C" and in_series else False
+    return ~np.broadcast_to(banned, np.broadcast(polarised_x, polarised_y).shape)
+
+
+def _practical(kind: str, code: int, polarised: list[np.ndarray]) -> np.ndarray:
+    """``may_join`` applied to every join of a topology; ``polarised`` per leaf, in order."""
+    if code in (SINGLE, PARALLEL2, PARALLEL3):
+        return np.ones(len(polarised[0]), dtype=bool)
+    a, b = polarised[0], polarised[1]
+    if code == SERIES2:
+        return may_join(kind, True, a, b)
+    # SERIES3: (a, b) in series, then c; PAR_THEN_SERIES: (a ∥ b) then c in series;
+    # SER_THEN_PARALLEL: (a, b) in series, c across them.
+    inner = may_join(kind, code != PAR_THEN_SERIES, a, b)
+    return inner & may_join(kind, code != SER_THEN_PARALLEL, a | b, polarised[2])
+
+
 def _add(x: Any, y: Any) -> Any:
     return x + y
 
@@ -163,6 +195,19 @@ def combiners(kind: str) -> tuple[Callable[[Any, Any], Any], Callable[[Any, Any]
 def _group_values(groups: list[list[Part]]) -> np.ndarray:
     """Nominal value of each group (Ω or F)."""
     return np.array([g[0].value for g in groups], dtype=float)
+
+
+def _group_stability(groups: list[list[Part]]) -> np.ndarray:
+    """Dielectric class of each group (0 steadiest, ``DIELECTRIC_STABILITY``); resistors 0."""
+    return np.array([DIELECTRIC_STABILITY.get(g[0].dielectric, 0) if g[0].kind == "C" else 0
+                     for g in groups], dtype=float)
+
+
+def steadiness(stability: np.ndarray, lo: np.ndarray, hi: np.ndarray,
+               values: np.ndarray) -> np.ndarray:
+    """How far a network may stray, lower is better: 10 × the dielectric class of its
+    worst capacitor (0 for resistors) plus its relative spread (hi − lo) / value."""
+    return 10.0 * stability + (hi - lo) / values
 
 
 def _group_quantities(groups: list[list[Part]]) -> np.ndarray:
@@ -198,7 +243,8 @@ class NetworkIndex:
     Arrays (one entry per network, layer by layer: all single parts, then all
     pairs, then all triples; sorted by value within a layer):
     ``values`` (Ω or F), ``lo``/``hi`` (value at the parts' tolerance
-    extremes), ``topology`` (codes above), ``usage`` (int16, group index per
+    extremes), ``stability`` (dielectric class of the worst capacitor, 0 for
+    resistors), ``topology`` (codes above), ``usage`` (int16, group index per
     part, -1 padded). ``layers[p]`` is the slice of ``p``-part networks.
     """
 
@@ -217,6 +263,8 @@ class NetworkIndex:
         self.usage = usage
         self.lo = network_values(topology, usage, self.group_lo, kind)
         self.hi = network_values(topology, usage, self.group_hi, kind)
+        self.stability = np.append(_group_stability(groups), 0.0)[usage].max(axis=1,
+                                                                             initial=0.0)
         self.part_count = _PART_COUNT[topology]
         starts = [0, *layer_ends[:-1]]
         self.layers = {p + 1: slice(s, e) for p, (s, e) in enumerate(zip(starts, layer_ends,
@@ -228,8 +276,13 @@ class NetworkIndex:
     @property
     def nbytes(self) -> int:
         """Memory held by the index arrays (bytes)."""
-        return sum(a.nbytes for a in (self.values, self.lo, self.hi, self.topology,
+        return sum(a.nbytes for a in (self.values, self.lo, self.hi, self.stability, self.topology,
                                       self.usage, self.part_count))
+
+    def steadiness(self, entries: np.ndarray) -> np.ndarray:
+        """``steadiness`` of each entry (lower is steadier): the ranking's tie-break."""
+        return steadiness(self.stability[entries], self.lo[entries], self.hi[entries],
+                          self.values[entries])
 
     def layer_slices(self, max_parts: int) -> list[slice]:
         """The layers of networks with 1 … ``max_parts`` parts that this index holds."""
@@ -383,13 +436,33 @@ def build_index(parts: Iterable[Part], kind: NetworkKind, max_parts: int = 2,
     usage_table = np.full((buckets, 3), -1, dtype=np.int16)
     layers: list[tuple[np.ndarray, np.ndarray]] = []  # (topology, usage) per layer, sorted
 
+    polarised = np.array([g[0].polarised for g in groups], dtype=bool)
+    stability = _group_stability(groups)
+    lo_hi = [np.array([g[0].value_range[k] for g in groups], dtype=float) for k in (0, 1)]
+    prefer = n > 1 and (np.ptp(stability) > 0 or np.ptp((lo_hi[1] - lo_hi[0]) / gv) > 0)
+    best = np.full(buckets if prefer else 0, np.inf)  # steadiness of each bucket's winner
+
     def scatter(use: np.ndarray, blocks: list[tuple[int, tuple[int, ...], Any]]) -> None:
-        """Put networks into the free buckets; ``blocks`` are (code, column order, values())."""
+        """Put practical networks into the free buckets, the steadiest where they meet;
+        ``blocks`` are (code, column order, values())."""
         winner[:] = -1
         rows = len(use)
-        for b, (_, _, values_of) in enumerate(blocks):
-            keys = (np.log(values_of() / v0) / step).astype(np.int64)
-            free = np.flatnonzero(~occupied[keys])
+        for b, (code, order, values_of) in enumerate(blocks):
+            values = values_of()
+            keys = (np.log(values / v0) / step).astype(np.int64)
+            ok = ~occupied[keys]
+            if polarised.any():
+                ok &= _practical(kind, code, [polarised[use[:, k]] for k in order])
+            free = np.flatnonzero(ok)
+            if prefer:
+                leaves = np.full((free.size, 3), -1, dtype=np.int16)
+                leaves[:, : len(order)] = use[free][:, order]
+                codes = np.full(free.size, code)
+                score = steadiness(stability[leaves[:, : len(order)]].max(axis=1),
+                                   *(network_values(codes, leaves, x, kind) for x in lo_hi),
+                                   values[free])
+                np.minimum.at(best, keys[free], score)
+                free = free[score <= best[keys[free]]]
             winner[keys[free]] = b * rows + free
         hit = np.flatnonzero(winner >= 0)
         block, row = np.divmod(winner[hit], rows)
@@ -403,6 +476,7 @@ def build_index(parts: Iterable[Part], kind: NetworkKind, max_parts: int = 2,
         keys = np.flatnonzero(code_table >= 0)
         layers.append((code_table[keys].copy(), usage_table[keys].copy()))
         occupied[keys] = True
+        best[:] = np.inf
         code_table[:] = -1
         usage_table[:] = -1
 
