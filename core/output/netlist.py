@@ -31,6 +31,7 @@ import re
 import shutil
 import subprocess
 import tempfile
+import unicodedata
 from collections.abc import Iterator, Mapping
 from pathlib import Path
 
@@ -252,11 +253,25 @@ def spice_netlist(osc: Oscillator, candidate: Candidate | TrimCandidate,
         body += _delay_and_output(osc, d.voh_v, d.vol_v, d.r_out_high_ohm, d.r_out_low_ohm,
                                   extra)
         v_mid = 0.5 * (d.voh_v + d.vol_v)
-    text = "\n".join([*head, *body, *_run_lines(pred.period_s, v_start, v_mid)]) + "\n"
-    return text.translate(_ASCII)  # plain ASCII: every SPICE reads it
+    lines = [*head, *body, *_run_lines(pred.period_s, v_start, v_mid)]
+    return "\n".join(spice_text(line) for line in lines) + "\n"
 
 
 _ASCII = str.maketrans({"Ω": "ohm", "µ": "u", "−": "-", "…": "...", "∥": "||"})
+
+
+def spice_text(line: str) -> str:
+    """One netlist line as printable ASCII, the one way any text enters a netlist.
+
+    A drawer location may hold line breaks: copied raw into a comment they would start
+    new cards (``.control`` / ``shell`` runs programs in ngspice). Letters lose their
+    accents (NFKD); every other character outside printable ASCII (C0 and C1 controls,
+    DEL, NEL, U+2028/2029 ...) is written as a visible escape such as ``\\n``, so the
+    line stays one line for every SPICE and the comment stays readable.
+    """
+    folded = unicodedata.normalize("NFKD", line.translate(_ASCII))
+    return "".join(ch if " " <= ch <= "~" else "" if unicodedata.combining(ch)
+                   else ch.encode("unicode_escape").decode("ascii") for ch in folded)
 
 
 def simulate(netlist: str, ngspice: str | None = None, timeout_s: float = 120.0

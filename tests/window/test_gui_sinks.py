@@ -1,0 +1,29 @@
+"""The window's sinks with hostile drawer text: the exported netlist and the PDF sheet."""
+
+from __future__ import annotations
+
+from conftest import require_tool
+from gui_helpers import QUIET_OFFSCREEN
+from test_sinks import assert_inert_netlist, hostile_drawer, run_ngspice  # noqa: F401
+
+pytest_plugins = ["gui_helpers"]
+pytestmark = QUIET_OFFSCREEN
+
+
+def test_window_netlist_export_runs_no_drawer_text(make_window, hostile_drawer, tmp_path,
+                                                   monkeypatch):
+    from gui.sheet_actions import SheetActions
+
+    drawer_path, marker = hostile_drawer
+    window = make_window(str(drawer_path))
+    assert window.selected_candidate() is not None
+    out = tmp_path / "window.cir"
+    monkeypatch.setattr(SheetActions, "ask_path", classmethod(lambda *a, **k: str(out)))
+    window.sheet_actions.netlist_action.trigger()
+    text = out.read_text(encoding="ascii")
+    assert "A1" in text
+    assert_inert_netlist(text)
+    require_tool("ngspice")
+    run = run_ngspice(out)
+    assert run.returncode == 0, run.stderr
+    assert not marker.exists()
