@@ -39,15 +39,20 @@ def write_drawer_rows(path, rows: list[list[str]]) -> None:
         csv.writer(f).writerows([["kind", "value", "quantity", "location", "note"], *rows])
 
 
-@pytest.fixture
-def hostile_drawer(tmp_path):
-    """A drawer whose only resistor sits at the hostile location (so every design uses it)."""
+def make_hostile_drawer(tmp_path) -> tuple:
+    """(drawer file, marker file): the only resistor sits at the hostile location, so
+    every design uses it; the marker appears if ngspice ever runs the location."""
     marker = tmp_path / "x"
     path = tmp_path / "drawer.csv"
     write_drawer_rows(path, [["R", "10k", "10", hostile_location(str(marker)),
                               "\x1b]0;owned\x07"],
                              ["C", "100n", "5", "B2\x1b[2J\x9b31m", ""]])
     return path, marker
+
+
+@pytest.fixture
+def hostile_drawer(tmp_path):
+    return make_hostile_drawer(tmp_path)
 
 
 def assert_inert_netlist(text: str) -> None:

@@ -4,17 +4,16 @@ from __future__ import annotations
 
 from conftest import require_tool
 from gui_helpers import QUIET_OFFSCREEN
-from test_sinks import assert_inert_netlist, hostile_drawer, run_ngspice  # noqa: F401
+from test_sinks import assert_inert_netlist, make_hostile_drawer, run_ngspice
 
 pytest_plugins = ["gui_helpers"]
 pytestmark = QUIET_OFFSCREEN
 
 
-def test_window_netlist_export_runs_no_drawer_text(make_window, hostile_drawer, tmp_path,
-                                                   monkeypatch):
+def test_window_netlist_export_runs_no_drawer_text(make_window, tmp_path, monkeypatch):
     from gui.sheet_actions import SheetActions
 
-    drawer_path, marker = hostile_drawer
+    drawer_path, marker = make_hostile_drawer(tmp_path)
     window = make_window(str(drawer_path))
     assert window.selected_candidate() is not None
     out = tmp_path / "window.cir"
