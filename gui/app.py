@@ -83,21 +83,23 @@ def make_application() -> QApplication:
 
 
 def run_window(stock: str | None = None, screenshot: str | None = None,
-               target: dict[str, str] | None = None) -> int:
+               target: dict[str, str] | None = None,
+               size: tuple[int, int] | None = None) -> int:
     """Open the window; with ``screenshot``, draw the first result, save a PNG and exit 0.
 
     ``stock`` is a drawer file (errors in it are shown in the table, but a file
     that cannot be read at all raises TickbinError for the command line).
     A screenshot run ignores and keeps the remembered settings, so pictures are
     reproducible; ``target`` fills the target form first (keys of
-    ``TargetForm.state()``, e.g. ``{"mode": "band", "target": "400..480"}``).
+    ``TargetForm.state()``, e.g. ``{"mode": "band", "target": "400..480"}``);
+    ``size`` is the picture's (width, height) in pixels.
     """
     app = make_application()
     window = MainWindow(stock, remember=screenshot is None)
     if target:
         window.form.restore(target)
     if screenshot:
-        return _screenshot(app, window, screenshot)
+        return _screenshot(app, window, screenshot, size or SCREENSHOT_SIZE)
     error_hook.install(lambda message: window.tell("Unexpected error", message))
     app.aboutToQuit.connect(window.quitting)
     window.show()
@@ -105,8 +107,9 @@ def run_window(stock: str | None = None, screenshot: str | None = None,
     return int(app.exec())
 
 
-def _screenshot(app: QApplication, window: MainWindow, path: str) -> int:
-    window.resize(*SCREENSHOT_SIZE)
+def _screenshot(app: QApplication, window: MainWindow, path: str,
+                size: tuple[int, int]) -> int:
+    window.resize(*size)
     window.show()
     loop = QEventLoop()
     window.sigSearchDone.connect(loop.quit)
@@ -115,6 +118,10 @@ def _screenshot(app: QApplication, window: MainWindow, path: str) -> int:
     loop.exec()
     app.processEvents()
     picture = window.grab()
+    if (picture.width(), picture.height()) != size:
+        raise TickbinError(f"the window cannot be drawn at {size[0]}x{size[1]}: its smallest "
+                           f"size is {window.minimumSizeHint().width()}x"
+                           f"{window.minimumSizeHint().height()}")
     if not picture.save(path, "PNG"):
         raise TickbinError(f"{path}: the screenshot could not be written")
     window.close()

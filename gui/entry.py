@@ -13,9 +13,12 @@ import core.cli
 
 
 def open_window(args: argparse.Namespace) -> int:
+    from gui.platform_check import check_window_platform
+
+    check_window_platform(picture_only=bool(args.screenshot))
     from gui.app import run_window
 
-    return run_window(stock=args.stock, screenshot=args.screenshot)
+    return run_window(stock=args.stock, screenshot=args.screenshot, size=args.size)
 
 
 def render_sheet(*args: object, **kwargs: object) -> int:

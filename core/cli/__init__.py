@@ -30,7 +30,7 @@ class _Parser(argparse.ArgumentParser):
 
 def build_parser() -> argparse.ArgumentParser:
     from core.cli import model_commands, search_commands, sheet_commands, stock_commands
-    from core.cli.common import add_json_option
+    from core.cli.common import add_json_option, size_arg
 
     parser = _Parser(prog="tickbin",
                      description="Find the resistors, pots and capacitors in your own drawer "
@@ -45,6 +45,8 @@ def build_parser() -> argparse.ArgumentParser:
                         help="open the bundled demo drawer (a makerspace parts cabinet)")
     window.add_argument("--screenshot", metavar="FILE.png",
                         help="open, run the first search, save a picture and exit")
+    window.add_argument("--size", metavar="WxH", type=size_arg,
+                        help="with --screenshot: the picture's size in pixels (e.g. 1024x700)")
     add_json_option(window)
     window.set_defaults(run=None)
     return parser
@@ -80,12 +82,14 @@ def main(argv: Sequence[str] | None = None, window: WindowLauncher | None = None
 def _run_window(args: argparse.Namespace, window: WindowLauncher | None) -> int:
     """``tickbin`` or ``tickbin gui``; with ``--json``, what was opened (and saved) afterwards."""
     if args.command is None:
-        args.stock = args.screenshot = None
+        args.stock = args.screenshot = args.size = None
         args.demo = args.json = False
     if args.demo:
         from core.storage.locations import demo_drawer_path
 
         args.stock = str(demo_drawer_path())
+    if args.size and not args.screenshot:
+        raise TickbinError("--size sets the picture's size; give it with --screenshot FILE.png")
     if window is None:
         raise TickbinError("the window is not available in this installation")
     if _no_display():

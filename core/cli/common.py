@@ -45,6 +45,16 @@ def percent_arg(what: str, *, allow_zero: bool = False, below_100: bool = False,
     return arg_type(parse, what)
 
 
+def size_arg(text: str) -> tuple[int, int]:
+    """An argparse ``type`` for a picture size ``WxH`` in pixels (each 200 to 8000)."""
+    width, sep, height = text.strip().lower().partition("x")
+    if not (sep and width.isascii() and width.isdigit() and height.isascii()
+            and height.isdigit() and 200 <= int(width) <= 8000 and 200 <= int(height) <= 8000):
+        raise argparse.ArgumentTypeError("expected WIDTHxHEIGHT in pixels, each 200 to 8000, "
+                                         "e.g. 1024x700")
+    return int(width), int(height)
+
+
 def count_arg(low: int = 1, high: int | None = None) -> Callable[[str], int]:
     """An argparse ``type`` for a whole number from ``low`` (to ``high``)."""
     expected = (f"expected a whole number from {low} to {high}" if high is not None
