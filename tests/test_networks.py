@@ -126,6 +126,86 @@ def test_index_reaches_every_network_of_a_small_drawer(kind: str, max_parts: int
         assert all(used[p.stock_line] <= p.quantity for p in parts)
 
 
+def _plain_line_networks(lines: list[tuple[float, float, int]], kind: str,
+                         max_parts: int) -> set[tuple[float, int]]:
+    """Every (value, parts) from concrete lines (value, tolerance, quantity), by plain loops
+    over the lines: the index before it pooled tolerance grades worked this way."""
+    values = [v for v, _, _ in lines]
+    quantities = [q for _, _, q in lines]
+    return {(round(v, 9 - math.floor(math.log10(v))), p)
+            for v, p in _plain_networks(values, quantities, kind, max_parts)}
+
+
+GRADED = [(100.0, 0.01, 1), (100.0, 0.05, 1), (220.0, 0.05, 2), (470.0, 0.001, 1),
+          (470.0, 0.02, 2), (1000.0, 0.05, 1), (3300.0, 0.01, 1), (3300.0, 0.05, 1)]
+
+
+@pytest.mark.parametrize("kind", ["R", "C"])
+@pytest.mark.parametrize("look_up", [False, True])
+def test_index_over_distinct_values_equals_the_plain_set(kind: str, look_up: bool,
+                                                         monkeypatch: pytest.MonkeyPatch
+                                                         ) -> None:
+    # Tolerance grades of one value pool into one group; the networks are the same set
+    # of (value, parts) as plain loops over the concrete lines give, whether the
+    # three-part layer is enumerated or looked up from the two-part one.
+    scale = 1.0 if kind == "R" else 1e-12
+    lines = [(v * scale, t, q) for v, t, q in GRADED]
+    parts = [part(kind, v, q, line=i + 2, tolerance=Tolerance(t, t))
+             for i, (v, t, q) in enumerate(lines)]
+    monkeypatch.setattr("core.parts.networks._enumeration_cheaper", lambda *_: not look_up)
+    index = index_of(parts, kind, 3)  # type: ignore[arg-type]
+    assert len(index.groups) == 5
+    plain = _plain_line_networks(lines, kind, 3)
+    for value, count in plain:
+        near = np.flatnonzero(np.abs(index.values / value - 1) <= 2 * RESOLUTION)
+        assert near.size and index.part_count[near].min() <= count, (value, count)
+    for entry in range(len(index)):
+        (node,) = index.nodes([entry])
+        v = node.value
+        assert (round(v, 9 - math.floor(math.log10(v))), node.part_count) in plain
+        assert v == pytest.approx(index.values[entry], rel=1e-12)
+        # Closest tolerance first: the index's extremes are those of the lines handed out.
+        assert node.value_range() == pytest.approx((index.lo[entry], index.hi[entry]),
+                                                   rel=1e-12)
+        used = Counter(p.stock_line for p in node.parts())
+        assert all(used[p.stock_line] <= p.quantity for p in parts)
+
+
+def test_two_networks_never_overuse_a_line() -> None:
+    # overused() against a plain count of the concrete lines two networks take.
+    parts = [part("R", v, q, line=i + 2, tolerance=Tolerance(t, t))
+             for i, (v, t, q) in enumerate(GRADED)]
+    index = index_of(parts, "R", 3)
+    rng = np.random.default_rng(7)
+    a, b = (rng.integers(0, len(index), 3000) for _ in range(2))
+    flagged = index.overused(a, b)
+    for x, y, bad in zip(a, b, flagged, strict=True):
+        taken: Counter[int] = Counter()
+        index.nodes([int(x)], taken)
+        try:
+            index.nodes([int(y)], taken)
+            fits = True
+        except InputError:
+            fits = False
+        assert bad == (not fits)
+
+
+def test_a_huge_drawer_is_bounded_and_says_what_it_skipped(
+        monkeypatch: pytest.MonkeyPatch) -> None:
+    # Issue 10: the work of every search is bounded by design; what is skipped is said.
+    monkeypatch.setattr("core.parts.networks.PAIR_LIMIT", 45)  # ten of the values
+    monkeypatch.setattr("core.parts.networks.THREE_PART_BUDGET", 1000)
+    parts = [part("R", 100.0 * 1.05 ** k, 3, line=k + 2) for k in range(40)]
+    index = index_of(parts, "R", 3)
+    assert any("even spread of 9 of them" in n for n in index.notes)
+    assert any("three-part networks" in n and "work limit" in n for n in index.notes)
+    pairs = index.usage[index.layers[2]][:, :2]
+    assert len(np.unique(pairs)) <= 9
+    for entry in range(len(index)):
+        (node,) = index.nodes([entry])
+        assert node.value == pytest.approx(index.values[entry], rel=1e-12)
+
+
 def test_equivalent_lines_pool_their_quantity_and_lines_are_shared_out() -> None:
     # Two bins of one 10 kΩ each: 10k + 10k is possible, from both lines.
     parts = [part("R", 10e3, 1, line=2), part("R", 10e3, 1, line=5)]

@@ -255,7 +255,7 @@ def search(parts: list[Part], osc: Oscillator, target_hz: float, duty_pct: float
     limits = (float(device.r_min_ohm), float(device.r_max_ohm))
     notes = [f"resistor networks limited to {format_resistance(limits[0])} … "
              f"{format_resistance(limits[1])} for {device.family.name} at "
-             f"{device.supply_v:g} V"]
+             f"{device.supply_v:g} V", *index.notes]
     if target_hz > device.f_max_hz:
         notes.append(f"{format_frequency(target_hz)} is above what the {device.family.name} "
                      f"does well (about {format_frequency(device.f_max_hz)}, where the "

@@ -160,7 +160,8 @@ def trim(parts: list[Part], osc: Oscillator, band_hz: tuple[float, float], top: 
     limits = (float(device.r_min_ohm), float(device.r_max_ohm))
     notes = [f"{format_frequency(lo_band)} … {format_frequency(hi_band)} must be reachable at "
              "every tolerance corner" + ("" if osc.thresholds_given else
-                                         " and threshold corner of the device table")]
+                                         " and threshold corner of the device table"),
+             *index.notes]
     res, caps, pots = index.resistors, index.capacitors, index.pots
     missing = [w for w, have in (("potentiometers", pots), ("fixed resistors", len(res)),
                                  ("capacitors", len(caps))) if not have]

@@ -7,11 +7,17 @@ with ``numpy.searchsorted`` instead of enumerating combinations.
 
 Decisions:
 
-* Equivalent lines (same kind, value, tolerance, dielectric) are one *group*
-  whose quantity is the sum of the lines; the index is built over groups and a
-  network's parts are handed out to concrete lines only when a candidate is
-  shown (``NetworkIndex.nodes``). So two bins of 10 kΩ never give two copies
-  of every network.
+* Lines alike for a network (same kind, value and dielectric, any tolerance)
+  are one *group* whose quantity is the sum of the lines; the index is built
+  over these distinct values and a network's parts are handed out to concrete
+  lines, closest tolerance first, only when a candidate is shown
+  (``NetworkIndex.nodes``). So two bins of 10 kΩ, or one value in six
+  tolerance grades, never multiply the networks.
+* Three-part networks are every triple while the distinct values are few;
+  otherwise each one is a two-part network plus a part in series or in
+  parallel, found by sorted look-ups for the buckets still free. Pairs and
+  look-ups have fixed limits, so a huge drawer costs bounded work and memory
+  and the index's ``notes`` say what was left out.
 * Values that agree within ``RESOLUTION`` (relative, 0.01 %: far inside any
   resistor's or capacitor's tolerance) are one entry; the network with the
   fewest parts is kept. This bounds the three-resistor layer of a full E24 kit
@@ -20,6 +26,7 @@ Decisions:
 * A network never needs more of a group than the drawer holds (quantity rule
   within one network); across the networks of one candidate the search checks
   it with ``NetworkIndex.overused``.
+
 * Only practical networks: a polarised capacitor (electrolytic, tantalum) is
   never in series with another capacitor (``may_join``).
 * Where networks of one part count share a bucket, the steadiest wins:
@@ -34,6 +41,7 @@ Horowitz & Hill, The Art of Electronics, 3rd ed., §1.2.1 and §1.4.1).
 
 from __future__ import annotations
 
+import math
 from collections import Counter
 from collections.abc import Callable, Generator, Iterable, Iterator
 from dataclasses import dataclass
@@ -139,16 +147,25 @@ def single(part: Part) -> Node:
 # ---------------------------------------------------------------- the index
 
 def _group_key(part: Part) -> tuple[Any, ...]:
-    return (part.kind, part.value, part.tolerance.minus, part.tolerance.plus, part.dielectric)
+    """Lines alike for a network: kind, value and dielectric (tolerance grades pool)."""
+    return (part.kind, part.value, part.dielectric)
+
+
+def _closest_first(part: Part) -> tuple[float, float, int]:
+    tol = part.tolerance
+    return (max(tol.minus, tol.plus), tol.minus + tol.plus, part.stock_line)
 
 
 def group_parts(parts: Iterable[Part], kind: str) -> list[list[Part]]:
-    """Lines of ``kind`` with stock, grouped when equivalent; groups sorted by value."""
+    """Lines of ``kind`` with stock, one group per value and dielectric; groups sorted by value.
+
+    A group's lines are in the order they are handed out: closest tolerance first.
+    """
     groups: dict[tuple[Any, ...], list[Part]] = {}
     for part in parts:
         if part.kind == kind and part.quantity > 0:
             groups.setdefault(_group_key(part), []).append(part)
-    return [sorted(g, key=lambda p: p.stock_line)
+    return [sorted(g, key=_closest_first)
             for _, g in sorted(groups.items(), key=lambda kv: kv[0][1:])]
 
 
@@ -211,19 +228,59 @@ def steadiness(stability: np.ndarray, lo: np.ndarray, hi: np.ndarray,
 
 
 def _group_quantities(groups: list[list[Part]]) -> np.ndarray:
-    """Parts in stock per group, over its equivalent lines."""
+    """Parts in stock per group, over its lines."""
     return np.array([sum(p.quantity for p in g) for g in groups], dtype=np.int64)
 
 
-def network_values(topology: np.ndarray, usage: np.ndarray, group_values: np.ndarray,
-                   kind: str) -> np.ndarray:
-    """Values of networks given by topology codes and group indices (Ω or F).
+def _part_ranges(groups: list[list[Part]]) -> tuple[np.ndarray, np.ndarray]:
+    """(low, high) value [Ω or F] of the first, second and third part a network takes from
+    each group, shape (groups, 3): the lines are handed out closest tolerance first."""
+    lo, hi = np.ones((len(groups), MAX_PARTS)), np.ones((len(groups), MAX_PARTS))
+    for g, lines in enumerate(groups):
+        units = [p for p in lines for _ in range(min(p.quantity, MAX_PARTS))][:MAX_PARTS]
+        units += [units[-1]] * (MAX_PARTS - len(units))
+        lo[g], hi[g] = zip(*(p.value_range for p in units), strict=True)
+    return lo, hi
 
-    ``group_values`` may be nominal values or tolerance extremes; both series
-    and parallel combinations rise with every part, so extremes map to extremes.
+
+def _ranks(usage: np.ndarray) -> np.ndarray:
+    """For each part of a network, how many earlier parts come from the same group."""
+    ranks = np.zeros(usage.shape, dtype=np.int64)
+    for k in range(1, usage.shape[1]):
+        ranks[:, k] = (usage[:, :k] == usage[:, k:k + 1]).sum(axis=1)
+    return ranks
+
+
+def _value_table(groups: list[list[Part]]) -> np.ndarray:
+    """Nominal value of every part a network takes from each group, shape (groups, 3)."""
+    return np.repeat(_group_values(groups)[:, None], MAX_PARTS, axis=1)
+
+
+def _slots(table: np.ndarray, usage: np.ndarray) -> np.ndarray:
+    """Each part's value from ``table`` (groups × 3: by how many parts of its group came
+    before it in the network), NaN where there is no part."""
+    used = usage >= 0
+    return np.where(used, table[np.where(used, usage, 0), _ranks(usage)], np.nan)
+
+
+def within_stock(usage: np.ndarray, quantity: np.ndarray) -> np.ndarray:
+    """True where no group is used more often than it has parts (usage -1 = no part)."""
+    used = usage >= 0
+    have = quantity[np.where(used, usage, 0)]
+    ok = np.ones(len(usage), dtype=bool)
+    for k in range(usage.shape[1]):
+        ok &= ~used[:, k] | ((usage == usage[:, k:k + 1]).sum(axis=1) <= have[:, k])
+    return ok
+
+
+def network_values(topology: np.ndarray, slots: np.ndarray, kind: str) -> np.ndarray:
+    """Values of networks given by topology codes and each part's value (Ω or F).
+
+    ``slots`` (networks × 3, NaN where unused) may hold nominal values or
+    tolerance extremes; both series and parallel combinations rise with every
+    part, so extremes map to extremes.
     """
-    padded = np.append(group_values, np.nan)  # index -1 -> NaN, never used by a topology
-    a, b, c = (padded[usage[:, k]] for k in range(3))
+    a, b, c = slots[:, 0], slots[:, 1], slots[:, 2]
     ser, par = combiners(kind)
     out = np.empty(len(topology))
     for code, fn in ((SINGLE, lambda: a), (SERIES2, lambda: ser(a, b)),
@@ -233,7 +290,8 @@ def network_values(topology: np.ndarray, usage: np.ndarray, group_values: np.nda
                      (SER_THEN_PARALLEL, lambda: par(ser(a, b), c))):
         m = topology == code
         if m.any():
-            out[m] = fn()[m]
+            with np.errstate(invalid="ignore"):
+                out[m] = fn()[m]
     return out
 
 
@@ -243,26 +301,28 @@ class NetworkIndex:
     Arrays (one entry per network, layer by layer: all single parts, then all
     pairs, then all triples; sorted by value within a layer):
     ``values`` (Ω or F), ``lo``/``hi`` (value at the parts' tolerance
-    extremes), ``stability`` (dielectric class of the worst capacitor, 0 for
-    resistors), ``topology`` (codes above), ``usage`` (int16, group index per
-    part, -1 padded). ``layers[p]`` is the slice of ``p``-part networks.
+    extremes, with each group's closest-tolerance lines used first),
+    ``stability`` (dielectric class of the worst capacitor, 0 for resistors),
+    ``topology`` (codes above), ``usage`` (int16, group index per part, -1
+    padded). ``layers[p]`` is the slice of ``p``-part networks. ``notes`` say
+    what a very large drawer left out (see ``PAIR_LIMIT``, ``THREE_PART_BUDGET``).
     """
 
-    def __init__(self, kind: NetworkKind, groups: list[list[Part]], values: np.ndarray,
-                 topology: np.ndarray, usage: np.ndarray, layer_ends: list[int],
-                 max_parts: int):
+    def __init__(self, kind: NetworkKind, groups: list[list[Part]], topology: np.ndarray,
+                 usage: np.ndarray, layer_ends: list[int], max_parts: int,
+                 notes: list[str] | None = None):
         self.kind = kind
         self.groups = groups
         self.max_parts = max_parts
+        self.notes = list(notes or [])
         self.group_values = _group_values(groups)
-        self.group_lo, self.group_hi = (np.array([g[0].value_range[k] for g in groups],
-                                                 dtype=float) for k in (0, 1))
         self.group_quantity = _group_quantities(groups)
-        self.values = values
         self.topology = topology
         self.usage = usage
-        self.lo = network_values(topology, usage, self.group_lo, kind)
-        self.hi = network_values(topology, usage, self.group_hi, kind)
+        self.values = network_values(topology, _slots(_value_table(groups), usage), kind)
+        part_lo, part_hi = _part_ranges(groups)
+        self.lo = network_values(topology, _slots(part_lo, usage), kind)
+        self.hi = network_values(topology, _slots(part_hi, usage), kind)
         self.stability = np.append(_group_stability(groups), 0.0)[usage].max(axis=1,
                                                                              initial=0.0)
         self.part_count = _PART_COUNT[topology]
@@ -276,8 +336,8 @@ class NetworkIndex:
     @property
     def nbytes(self) -> int:
         """Memory held by the index arrays (bytes)."""
-        return sum(a.nbytes for a in (self.values, self.lo, self.hi, self.stability, self.topology,
-                                      self.usage, self.part_count))
+        return sum(a.nbytes for a in (self.values, self.lo, self.hi, self.stability,
+                                      self.topology, self.usage, self.part_count))
 
     def steadiness(self, entries: np.ndarray) -> np.ndarray:
         """``steadiness`` of each entry (lower is steadier): the ranking's tie-break."""
@@ -338,13 +398,7 @@ class NetworkIndex:
         rows = np.flatnonzero(shared)
         if rows.size:
             use = np.concatenate([p[rows] for p in parts], axis=1)
-            used = use >= 0
-            quantity = self.group_quantity[np.where(used, use, 0)]
-            over = np.zeros(rows.size, dtype=bool)
-            for k in range(use.shape[1]):
-                times = (use == use[:, k:k + 1]).sum(axis=1)
-                over |= used[:, k] & (times > quantity[:, k])
-            bad[rows] = over
+            bad[rows] = ~within_stock(use, self.group_quantity)
         return bad
 
     def nodes(self, entries: Iterable[int], taken: Counter[int] | None = None) -> list[Node]:
@@ -389,7 +443,17 @@ def _tree(code: int, leaves: list[Node]) -> Node:
 # ---------------------------------------------------------------- building
 
 TRIPLE_CHUNK = 300_000
-"""Three-part combinations evaluated at once (bounds memory for very large drawers)."""
+"""Three-part combinations evaluated at once (bounds memory)."""
+
+PAIR_LIMIT = 2_000_000
+"""Most pairs of values combined into two-part networks per kind (about 2,000 distinct
+values); a larger drawer pairs an even spread of its values, and the index says so."""
+
+THREE_PART_BUDGET = 40_000_000
+"""Most three-part evaluations per kind (values of triples, or look-ups into the two-part
+networks; about a second); beyond it the three-part layer stops, and the index says so."""
+
+_KIND_WORD = {"R": "resistor", "C": "capacitor"}
 
 
 def _triples(n: int) -> Iterator[tuple[np.ndarray, np.ndarray, np.ndarray]]:
@@ -409,6 +473,159 @@ def _triples(n: int) -> Iterator[tuple[np.ndarray, np.ndarray, np.ndarray]]:
         first = last
 
 
+class _Buckets:
+    """One network per value bucket: bucket b holds [v0 (1+ρ)^b, v0 (1+ρ)^(b+1)).
+
+    Layers are filled in order of part count and a bucket taken by a closed
+    layer stays taken, so the fewest parts win; within a layer the steadiest
+    network wins (``steadiness``), else the first put there. Only practical
+    networks go in (``may_join``).
+    """
+
+    def __init__(self, groups: list[list[Part]], kind: str, resolution: float):
+        values = _group_values(groups)
+        self.kind = kind
+        if len(values):
+            self.v0 = float(values.min()) / (MAX_PARTS + 1)  # below anything reachable
+            self.step = math.log1p(resolution)
+            count = int(math.log(values.max() * (MAX_PARTS + 1) / self.v0) / self.step) + 2
+        else:
+            self.v0, self.step, count = 1.0, 1.0, 1
+        self.taken = np.zeros(count, dtype=bool)
+        self.code = np.full(count, -1, dtype=np.int8)
+        self.usage = np.full((count, MAX_PARTS), -1, dtype=np.int16)
+        self._winner = np.zeros(count, dtype=np.int64)
+        self.layers: list[tuple[np.ndarray, np.ndarray]] = []  # (topology, usage), by value
+        self._polarised = np.array([g[0].polarised for g in groups], dtype=bool)
+        self._stability = _group_stability(groups)
+        self._ranges = _part_ranges(groups)
+        spread = (self._ranges[1][:, 0] - self._ranges[0][:, 0]) / values
+        self._prefer = len(values) > 1 and bool(np.ptp(self._stability) > 0
+                                                or np.ptp(spread) > 0)
+        self._best = np.full(count if self._prefer else 0, np.inf)  # each winner's steadiness
+
+    def key(self, values: np.ndarray) -> np.ndarray:
+        return (np.log(values / self.v0) / self.step).astype(np.int64)
+
+    def edges(self, keys: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+        """(low, high) value of each bucket."""
+        return self.v0 * np.exp(keys * self.step), self.v0 * np.exp((keys + 1) * self.step)
+
+    def free(self, keys: np.ndarray) -> np.ndarray:
+        """Buckets no network has reached yet."""
+        return ~self.taken[keys] & (self.code[keys] < 0)
+
+    def put(self, values: np.ndarray, code: int, usage: np.ndarray) -> None:
+        """Networks (their values, topology ``code``, group per part) into the buckets."""
+        keys = self.key(values)
+        ok = ~self.taken[keys]
+        if not self._prefer:
+            ok &= self.code[keys] < 0
+        if self._polarised.any():
+            ok &= _practical(self.kind, code, [self._polarised[usage[:, k]]
+                                               for k in range(usage.shape[1])])
+        rows = np.flatnonzero(ok)
+        if self._prefer:
+            use = np.full((rows.size, MAX_PARTS), -1, dtype=np.int16)
+            use[:, : usage.shape[1]] = usage[rows]
+            codes = np.full(rows.size, code)
+            score = steadiness(self._stability[usage[rows]].max(axis=1),
+                               *(network_values(codes, _slots(t, use), self.kind)
+                                 for t in self._ranges), values[rows])
+            np.minimum.at(self._best, keys[rows], score)
+            rows = rows[score <= self._best[keys[rows]]]
+        self._winner[keys[rows]] = rows
+        rows = rows[self._winner[keys[rows]] == rows]
+        self.code[keys[rows]] = code
+        self.usage[keys[rows], : usage.shape[1]] = usage[rows]
+
+    def close_layer(self) -> None:
+        """The layer's networks in bucket order, which is value order; its buckets taken."""
+        keys = np.flatnonzero(self.code >= 0)
+        self.layers.append((self.code[keys], self.usage[keys]))
+        self.taken[keys] = True
+        self.code[keys] = -1
+        self.usage[keys] = -1
+        self._best[:] = np.inf
+
+
+def _spread(n: int, pairs: int) -> np.ndarray:
+    """Indices of an even spread of ``n`` sorted values small enough for ``pairs`` pairs."""
+    keep = min(n, int((math.isqrt(8 * pairs + 1) - 1) // 2))
+    return np.unique(np.linspace(0, n - 1, keep).round().astype(np.int64))
+
+
+def _enumerate_triples(buckets: _Buckets, gv: np.ndarray, gq: np.ndarray,
+                       kind: str) -> Iterator[float]:
+    """Every triple of groups in every three-part shape (cheap while groups are few)."""
+    n = len(gv)
+    ser, par = combiners(kind)
+    total, done = n * (n + 1) * (n + 2) // 6, 0
+    for i, j, k in _triples(n):
+        done += len(i)
+        use = np.stack([i, j, k], axis=1).astype(np.int16)
+        use = use[within_stock(use, gq)]
+        v = [gv[use[:, col]] for col in range(3)]
+        buckets.put(ser(ser(v[0], v[1]), v[2]), SERIES3, use)
+        buckets.put(par(par(v[0], v[1]), v[2]), PARALLEL3, use)
+        for x, y, z in ((0, 1, 2), (0, 2, 1), (1, 2, 0)):
+            order = use[:, [x, y, z]]
+            buckets.put(ser(par(v[x], v[y]), v[z]), PAR_THEN_SERIES, order)
+            buckets.put(par(ser(v[x], v[y]), v[z]), SER_THEN_PARALLEL, order)
+        yield done / total
+
+
+def _look_up_triples(buckets: _Buckets, gv: np.ndarray, gq: np.ndarray, kind: str,
+                     pairs: dict[int, tuple[np.ndarray, np.ndarray]],
+                     free: np.ndarray, budget: int) -> Generator[float, None, int]:
+    """Fill free buckets with a two-part network and one more part, by sorted look-ups.
+
+    Every three-part network is a two-part one (``pairs``: code -> sorted
+    values, their groups) with a part ``c`` in series or in parallel. For each
+    part and each bucket still free, the two-part value that would land there
+    is looked up in the sorted values. Returns the number of parts tried as
+    ``c`` (all of them unless ``budget`` look-ups ran out first).
+    """
+    series, parallel = combiners(kind)
+    t_lo, t_hi = buckets.edges(free)
+    shapes = {(SERIES2, True): SERIES3, (PARALLEL2, True): PAR_THEN_SERIES,
+              (SERIES2, False): SER_THEN_PARALLEL, (PARALLEL2, False): PARALLEL3}
+    for c, vc in enumerate(gv):
+        for outer_series in (True, False):
+            outer = series if outer_series else parallel
+            # Adding c raises the value; adding it reciprocally keeps it below c.
+            if outer is _add:
+                rows = np.arange(int(np.searchsorted(t_lo, vc, "right")), len(free))
+            else:
+                rows = np.arange(int(np.searchsorted(t_hi, vc, "left")))
+            rows = rows[buckets.free(free[rows])]
+            budget -= 2 * len(rows)
+            if budget < 0:
+                return c
+            lo, hi = t_lo[rows], t_hi[rows]
+            want = (lo - vc, hi - vc) if outer is _add else (lo * vc / (vc - lo),
+                                                              hi * vc / (vc - hi))
+            for pair_code, (values, groups) in pairs.items():
+                first, stop = (np.searchsorted(values, w) for w in want)
+                found = np.flatnonzero(stop > first)
+                # Either end of the range of fitting pairs, whichever leaves c in stock.
+                pick = first[found]
+                short = gq[c] < 1 + (groups[pick] == c).sum(axis=1)
+                pick[short] = stop[found[short]] - 1
+                pick = pick[gq[c] >= 1 + (groups[pick] == c).sum(axis=1)]
+                use = np.concatenate([groups[pick], np.full((len(pick), 1), c, np.int16)],
+                                     axis=1)
+                buckets.put(outer(values[pick], vc), shapes[(pair_code, outer_series)], use)
+        yield (c + 1) / len(gv)
+    return len(gv)
+
+
+def _enumeration_cheaper(triple_values: int, look_ups: int) -> bool:
+    """Enumerate all triples when that is less work than the look-ups (few distinct values
+    spread far apart), and within the budget."""
+    return triple_values <= min(look_ups, THREE_PART_BUDGET)
+
+
 def build_index(parts: Iterable[Part], kind: NetworkKind, max_parts: int = 2,
                 resolution: float = RESOLUTION) -> Generator[float, None, NetworkIndex]:
     """Build the index of ``kind`` networks with up to ``max_parts`` parts, step by step.
@@ -416,6 +633,11 @@ def build_index(parts: Iterable[Part], kind: NetworkKind, max_parts: int = 2,
     A generator (the window runs it in a worker and shows progress): it yields
     the fraction done (0…1) and returns the ``NetworkIndex``. Use
     ``NetworkIndex`` via ``index_of`` when no progress is wanted.
+
+    Work and memory are bounded whatever the drawer: each layer holds at most
+    one network per bucket, at most ``PAIR_LIMIT`` pairs of values are
+    combined, and the three-part layer is enumerated over all triples while
+    they are few, else filled by look-ups within ``THREE_PART_BUDGET``.
     """
     if not 1 <= max_parts <= MAX_PARTS:
         raise InputError(f"networks may have 1 to {MAX_PARTS} parts", text=str(max_parts),
@@ -423,104 +645,55 @@ def build_index(parts: Iterable[Part], kind: NetworkKind, max_parts: int = 2,
     groups = group_parts(parts, kind)
     n = len(groups)
     gv, gq = _group_values(groups), _group_quantities(groups)
-    if n:
-        # Bucket b holds values in [v0 (1+ρ)^b, v0 (1+ρ)^(b+1)); v0 below anything reachable.
-        v0 = gv.min() / (MAX_PARTS + 1)
-        step = np.log1p(resolution)
-        buckets = int(np.log(gv.max() * (MAX_PARTS + 1) / v0) / step) + 2
-    else:
-        v0, step, buckets = 1.0, 1.0, 1
-    winner = np.full(buckets, -1, dtype=np.int64)
-    occupied = np.zeros(buckets, dtype=bool)
-    code_table = np.full(buckets, -1, dtype=np.int8)
-    usage_table = np.full((buckets, 3), -1, dtype=np.int16)
-    layers: list[tuple[np.ndarray, np.ndarray]] = []  # (topology, usage) per layer, sorted
-
-    polarised = np.array([g[0].polarised for g in groups], dtype=bool)
-    stability = _group_stability(groups)
-    lo_hi = [np.array([g[0].value_range[k] for g in groups], dtype=float) for k in (0, 1)]
-    prefer = n > 1 and (np.ptp(stability) > 0 or np.ptp((lo_hi[1] - lo_hi[0]) / gv) > 0)
-    best = np.full(buckets if prefer else 0, np.inf)  # steadiness of each bucket's winner
-
-    def scatter(use: np.ndarray, blocks: list[tuple[int, tuple[int, ...], Any]]) -> None:
-        """Put practical networks into the free buckets, the steadiest where they meet;
-        ``blocks`` are (code, column order, values())."""
-        winner[:] = -1
-        rows = len(use)
-        for b, (code, order, values_of) in enumerate(blocks):
-            values = values_of()
-            keys = (np.log(values / v0) / step).astype(np.int64)
-            ok = ~occupied[keys]
-            if polarised.any():
-                ok &= _practical(kind, code, [polarised[use[:, k]] for k in order])
-            free = np.flatnonzero(ok)
-            if prefer:
-                leaves = np.full((free.size, 3), -1, dtype=np.int16)
-                leaves[:, : len(order)] = use[free][:, order]
-                codes = np.full(free.size, code)
-                score = steadiness(stability[leaves[:, : len(order)]].max(axis=1),
-                                   *(network_values(codes, leaves, x, kind) for x in lo_hi),
-                                   values[free])
-                np.minimum.at(best, keys[free], score)
-                free = free[score <= best[keys[free]]]
-            winner[keys[free]] = b * rows + free
-        hit = np.flatnonzero(winner >= 0)
-        block, row = np.divmod(winner[hit], rows)
-        for b, (code, order, _) in enumerate(blocks):
-            m = block == b
-            code_table[hit[m]] = code
-            usage_table[hit[m], : len(order)] = use[row[m]][:, order]
-
-    def close_layer() -> None:
-        """The layer's entries in bucket order, which is value order; its buckets taken."""
-        keys = np.flatnonzero(code_table >= 0)
-        layers.append((code_table[keys].copy(), usage_table[keys].copy()))
-        occupied[keys] = True
-        best[:] = np.inf
-        code_table[:] = -1
-        usage_table[:] = -1
-
-    ser, par = combiners(kind)
-    scatter(np.arange(n, dtype=np.int16)[:, None], [(SINGLE, (0,), lambda: gv)])
-    close_layer()
+    buckets = _Buckets(groups, kind, resolution)
+    notes: list[str] = []
+    word = _KIND_WORD[kind]
+    buckets.put(gv, SINGLE, np.arange(n, dtype=np.int16)[:, None])
+    buckets.close_layer()
     yield 0.05
     if max_parts >= 2:
-        i, j = np.triu_indices(n)
-        ok = (i != j) | (gq[i] >= 2)
-        use = np.stack([i[ok], j[ok]], axis=1).astype(np.int16)
+        members = _spread(n, PAIR_LIMIT)
+        if len(members) < n:
+            notes.append(f"{n:,} {word} values: two- and three-part networks are made from "
+                         f"an even spread of {len(members):,} of them")
+        i, j = (members[x] for x in np.triu_indices(len(members)))
+        use = np.stack([i, j], axis=1).astype(np.int16)
+        use = use[within_stock(use, gq)]
+        del i, j
+        ser, par = combiners(kind)
         a, b = gv[use[:, 0]], gv[use[:, 1]]
-        scatter(use, [(SERIES2, (0, 1), lambda: ser(a, b)),
-                      (PARALLEL2, (0, 1), lambda: par(a, b))])
-        close_layer()
+        pair_values = {SERIES2: ser(a, b), PARALLEL2: par(a, b)}
+        del a, b
+        for code, values in pair_values.items():
+            buckets.put(values, code, use)
+        buckets.close_layer()
         yield 0.15
-    if max_parts >= 3:
-        total = n * (n + 1) * (n + 2) // 6
-        done = 0
-        for i, j, k in _triples(n):
-            done += len(i)
-            ok = np.where(i == j, gq[i] >= 2 + (j == k), (j != k) | (gq[j] >= 2))
-            use = np.stack([i[ok], j[ok], k[ok]], axis=1).astype(np.int16)
-            del i, j, k, ok
-            v = [gv[use[:, col]] for col in range(3)]
-            blocks: list[tuple[int, tuple[int, ...], Any]] = [
-                (SERIES3, (0, 1, 2), lambda v=v: ser(ser(v[0], v[1]), v[2])),
-                (PARALLEL3, (0, 1, 2), lambda v=v: par(par(v[0], v[1]), v[2]))]
-            for x, y, z in ((0, 1, 2), (0, 2, 1), (1, 2, 0)):
-                blocks.append((PAR_THEN_SERIES, (x, y, z),
-                               lambda v=v, x=x, y=y, z=z: ser(par(v[x], v[y]), v[z])))
-                blocks.append((SER_THEN_PARALLEL, (x, y, z),
-                               lambda v=v, x=x, y=y, z=z: par(ser(v[x], v[y]), v[z])))
-            scatter(use, blocks)
-            yield 0.15 + 0.75 * done / total
-        close_layer()
+    if max_parts >= 3 and n:
+        m = len(members)
+        lowest, highest = buckets.key(np.array([gv.min() / MAX_PARTS, gv.max() * MAX_PARTS]))
+        free = lowest + np.flatnonzero(buckets.free(np.arange(lowest, highest + 1)))
+        triples = 8 * (m * (m + 1) * (m + 2) // 6)
+        if _enumeration_cheaper(triples, 4 * n * len(free)):
+            steps: Generator[float, None, Any] = _enumerate_triples(buckets, gv, gq, kind)
+            yield from _rescaled(steps, 0.15, 0.75)
+        else:
+            pairs = {}
+            for code, values in pair_values.items():
+                order = np.argsort(values)
+                pairs[code] = (values[order], use[order])
+            del pair_values
+            tried = yield from _rescaled(_look_up_triples(buckets, gv, gq, kind, pairs, free,
+                                                          THREE_PART_BUDGET), 0.15, 0.75)
+            if tried < n:
+                notes.append(f"{n:,} {word} values: three-part networks were looked for with "
+                             f"{tried:,} of them as the third part (work limit)")
+        buckets.close_layer()
     yield 0.9
-    topology = np.concatenate([t for t, _ in layers]) if layers else np.zeros(0, np.int8)
-    usage = (np.concatenate([u for _, u in layers]) if layers
-             else np.zeros((0, 3), dtype=np.int16))
-    layer_ends = list(np.cumsum([len(t) for t, _ in layers]))
-    values = network_values(topology, usage, gv, kind)
-    index = NetworkIndex(kind, groups, values, topology, usage, [int(e) for e in layer_ends],
-                         max_parts)
+    layers = buckets.layers
+    topology = np.concatenate([t for t, _ in layers])
+    usage = np.concatenate([u for _, u in layers])
+    layer_ends = [int(e) for e in np.cumsum([len(t) for t, _ in layers])]
+    index = NetworkIndex(kind, groups, topology, usage, layer_ends, max_parts, notes)
     yield 1.0
     return index
 
@@ -548,6 +721,11 @@ class DrawerIndex:
     resistors: NetworkIndex
     capacitors: NetworkIndex
     pots: tuple[Part, ...]
+
+    @property
+    def notes(self) -> list[str]:
+        """What a very large drawer's networks left out (empty for ordinary drawers)."""
+        return [*self.resistors.notes, *self.capacitors.notes]
 
     def covers(self, max_resistors: int, max_capacitors: int) -> bool:
         """True if this index holds networks as large as a search asks for."""
