@@ -1,14 +1,16 @@
-"""Shared test set-up: offscreen Qt, a private data folder, outside tools."""
+"""Shared test set-up: offscreen Qt and a private data folder. Shared helpers live in
+tests/support (this folder is on sys.path because it holds this conftest)."""
 
 from __future__ import annotations
 
 import os
-import shutil
 
 import pytest
 
 # Must happen before anything imports Qt.
 os.environ.setdefault("QT_QPA_PLATFORM", "offscreen")
+# The helpers assert; have pytest explain their failures as it does in test modules.
+pytest.register_assert_rewrite("support")
 
 
 @pytest.fixture(autouse=True)
@@ -17,12 +19,3 @@ def private_data_dir(tmp_path_factory: pytest.TempPathFactory,
     """Calibrations, autosave and logs go to a temporary folder, never the developer's."""
     monkeypatch.setenv("TICKBIN_DATA_DIR", str(tmp_path_factory.mktemp("tickbin-data")))
 
-
-def require_tool(name: str) -> str:
-    """Path of an outside program; in CI its absence fails the test, elsewhere it skips."""
-    path = shutil.which(name)
-    if path is None:
-        if os.environ.get("CI"):
-            pytest.fail(f"{name} is not installed; .ci/run should have installed it")
-        pytest.skip(f"{name} not installed (Debian package; .ci/run installs it)")
-    return path

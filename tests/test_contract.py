@@ -22,8 +22,9 @@ from types import SimpleNamespace
 from typing import Any
 
 import pytest
-from test_search import assert_first_or_empty, brute_force_best, node_lines, node_value
-from test_trim import check_trim_candidate
+from support.brute_force import assert_first_or_empty, brute_force_best
+from support.nodes import node_lines, node_value
+from support.trim_checks import check_trim_candidate
 
 from core.model.timing import make_oscillator
 from core.parts.drawer import Part

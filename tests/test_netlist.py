@@ -11,7 +11,7 @@ import re
 import subprocess
 
 import pytest
-from conftest import require_tool
+from support.tools import require_tool
 
 from core.design.search import search
 from core.design.trim import trim

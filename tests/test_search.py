@@ -17,12 +17,20 @@ import numpy as np
 import pytest
 from hypothesis import given, settings
 from hypothesis import strategies as st
+from support.brute_force import (
+    Best,
+    assert_first_or_empty,
+    brute_force_best,
+    plain_networks,
+    reaches,
+    within_stock,
+)
+from support.nodes import node_lines, node_value
 
 from core.design.search import search
 from core.model.timing import astable_times, make_oscillator, predict, schmitt_times
 from core.parts.drawer import Part
 from core.parts.eseries import kit
-from core.parts.networks import RESOLUTION
 from core.units import Tolerance, format_frequency
 
 FIVE = Tolerance(0.05, 0.05)
@@ -42,115 +50,17 @@ def drawer(resistors: list[tuple[float, int]], capacitors: list[tuple[float, int
     return parts
 
 
-# ---------------------------------------------------------------- independent brute force
-
-def plain_networks(lines: list[Part], max_parts: int) -> list[tuple[float, Counter[int], int]]:
-    """Every (value, stock lines used, part count) by nested loops over the lines.
-
-    Series resistors add, parallel ones add as conductances; capacitors the
-    other way round (Horowitz & Hill §1.2.1, §1.4.1). Shares no engine code.
-    """
-    def ser(k: str, x: float, y: float) -> float:
-        return x * y / (x + y) if k == "C" else x + y
-
-    def par(k: str, x: float, y: float) -> float:
-        return x + y if k == "C" else x * y / (x + y)
-
-    out = []
-    for a in lines:
-        out.append((a.value, Counter([a.stock_line]), 1))
-    if max_parts >= 2:
-        for a in lines:
-            for b in lines:
-                k = a.kind
-                use = Counter([a.stock_line, b.stock_line])
-                out.append((ser(k, a.value, b.value), use, 2))
-                out.append((par(k, a.value, b.value), use, 2))
-    if max_parts >= 3:
-        for a in lines:
-            for b in lines:
-                for c in lines:
-                    k, x, y, z = a.kind, a.value, b.value, c.value
-                    use = Counter([a.stock_line, b.stock_line, c.stock_line])
-                    for v in (ser(k, ser(k, x, y), z), par(k, par(k, x, y), z),
-                              ser(k, par(k, x, y), z), par(k, ser(k, x, y), z)):
-                        out.append((v, use, 3))
-    return out
 
 
-def within_stock(use: Counter[int], parts: list[Part]) -> bool:
-    quantity = {p.stock_line: p.quantity for p in parts}
-    return all(quantity[line] >= n for line, n in use.items())
 
 
-Best = tuple[bool, int, float]
-"""The contract's ranking key: (outside accept, parts if inside, |error| in %)."""
 
 
-def brute_force_best(parts: list[Part], osc: Any, target: float, max_r: int, max_c: int,
-                     accept: float) -> tuple[Best | None, bool]:
-    """The contract's best over every combination, and whether the target is reached.
-
-    Reached: some build lands within accept, or builds land on both sides of the
-    target (DESIGN.md: a target nothing in the drawer reaches gives an empty list).
-    """
-    res = [p for p in parts if p.kind == "R" and p.quantity > 0]
-    caps = [p for p in parts if p.kind == "C" and p.quantity > 0]
-    r_nets = [n for n in plain_networks(res, max_r) if within_stock(n[1], parts)
-              and osc.device.r_min_ohm <= n[0] <= osc.device.r_max_ohm]
-    c_nets = [n for n in plain_networks(caps, max_c) if within_stock(n[1], parts)]
-    best = None
-    signed = []
-    for (rv, ru, rn), (cv, cu, cn) in itertools.product(r_nets, c_nets):
-        if not within_stock(ru + cu, parts):
-            continue
-        t_high, t_low = schmitt_times(osc, rv, cv)
-        f = 1.0 / float(t_high + t_low)
-        if not math.isfinite(f):
-            continue
-        signed.append((f - target) / target * 100)
-        err = abs(signed[-1])
-        key = (err > accept, rn + cn if err <= accept else 0, err)
-        if best is None or key < best:
-            best = key
-    return best, reaches(signed, accept)
 
 
-def reaches(signed_errors: list[float], accept: float) -> bool:
-    """Builds within accept, or on both sides of the target (errors in %)."""
-    return (any(e >= -accept for e in signed_errors)
-            and any(e <= accept for e in signed_errors))
 
 
-def assert_first_or_empty(result: Any, best: Best | None, reached: bool, accept: float) -> None:
-    """An unreached target lists nothing and says so; else the first is never beaten."""
-    if best is None or not reached:
-        assert result.candidates == [] and result.notes
-        if best is not None:
-            assert any("no build from the drawer reaches" in n for n in result.notes)
-        return
-    assert result.candidates
-    assert_not_beaten(result.candidates[0], best, accept)
 
-
-def assert_not_beaten(first: Any, best: tuple[bool, int, float], accept: float) -> None:
-    """The engine's first candidate against the brute force's best, contract order.
-
-    Slack: the index keeps one network per 0.01 % value bucket (RESOLUTION), so
-    a merged twin may be off by that much in frequency.
-    """
-    outside, parts, err = best
-    slack = 100 * 1.5 * RESOLUTION * (1 + err / 100)
-    mine = abs(first.error_pct)
-    if not outside and err <= accept - slack:
-        assert mine <= accept
-        assert first.part_count <= parts
-        if first.part_count == parts:
-            assert mine <= err + slack
-    elif outside and err > accept + slack:
-        assert mine <= err + slack
-    else:  # brute best sits on the accept boundary: either tier is fair
-        assert mine <= max(err, accept) + slack
 
 
 SMALL = drawer([(1e3, 2), (2.2e3, 1), (4.7e3, 3), (15e3, 1), (68e3, 2), (330e3, 1)],
@@ -189,26 +99,8 @@ def test_brute_force_on_random_drawers(rs: list[tuple[float, int]],
 
 # ---------------------------------------------------------------- properties
 
-def node_value(node: dict[str, Any], by_line: dict[int, Part]) -> float:
-    """A contract NODE's value, recomputed here (Horowitz & Hill §1.2.1, §1.4.1)."""
-    if "line" in node:
-        return by_line[node["line"]].value
-    kids = [node_value(k, by_line) for k in node.get("series") or node["parallel"]]
-    kind = by_line[node_lines(node)[0]].kind
-    adds = ("series" in node) != (kind == "C")
-    return sum(kids) if adds else 1.0 / sum(1.0 / k for k in kids)
 
 
-def node_lines(node: dict[str, Any]) -> list[int]:
-    """Stock lines a contract NODE uses, once per part, after checking its shape
-    (DESIGN.md: ``{"line": N}``, ``{"series": [NODE, ...]}`` or ``{"parallel": [...]}``)."""
-    assert set(node) in ({"line"}, {"series"}, {"parallel"}), node
-    if "line" in node:
-        assert isinstance(node["line"], int) and not isinstance(node["line"], bool)
-        return [node["line"]]
-    children = node.get("series") or node["parallel"]
-    assert isinstance(children, list) and len(children) >= 2
-    return [line for k in children for line in node_lines(k)]
 
 
 def check_candidate_json(cand: dict[str, Any], parts: list[Part], roles: tuple[str, ...]) -> None:

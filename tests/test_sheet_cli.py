@@ -9,7 +9,7 @@ import subprocess
 import sys
 
 import pytest
-from conftest import require_tool
+from support.tools import require_tool
 
 import core.cli
 from core.parts.drawer import read_drawer

@@ -14,7 +14,7 @@ from pathlib import Path
 
 import numpy as np
 import pytest
-from conftest import require_tool
+from support.tools import require_tool
 
 from core.design.search import search
 from core.design.trim import trim

@@ -13,7 +13,7 @@ import re
 import subprocess
 
 import pytest
-from conftest import require_tool
+from support.tools import require_tool
 
 from core.model.timing import make_oscillator, schmitt_times
 

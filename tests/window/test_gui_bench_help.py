@@ -12,12 +12,12 @@ import math
 from collections import Counter
 
 import pytest
-from gui_helpers import QUIET_OFFSCREEN, search_done
 from PySide6.QtCore import Qt
+from support.gui_helpers import QUIET_OFFSCREEN, search_done
 
 from gui.drawer_model import USED_ROLE
 
-pytest_plugins = ["gui_helpers"]  # fixtures: private_settings, answers, make_window, window
+pytest_plugins = ["support.gui_helpers"]  # fixtures: private_settings, answers, make_window, window
 pytestmark = [QUIET_OFFSCREEN, pytest.mark.usefixtures("private_settings")]
 
 

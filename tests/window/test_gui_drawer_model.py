@@ -3,13 +3,13 @@
 from __future__ import annotations
 
 import pytest
-from gui_helpers import QUIET_OFFSCREEN
 from PySide6.QtCore import Qt
+from support.gui_helpers import QUIET_OFFSCREEN
 
 from core.parts.drawer import Drawer, Row, parse_drawer_text
 from gui.drawer_model import PROBLEM_ROLE, DrawerFilterProxy, DrawerTableModel
 
-pytest_plugins = ["gui_helpers"]  # fixtures: private_settings, answers, make_window, window
+pytest_plugins = ["support.gui_helpers"]  # fixtures: private_settings, answers, make_window, window
 pytestmark = [QUIET_OFFSCREEN, pytest.mark.usefixtures("private_settings")]
 
 TEXT = """kind,value,tolerance,quantity,location,note,colour

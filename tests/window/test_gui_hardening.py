@@ -13,14 +13,14 @@ import shutil
 import sys
 
 import pytest
-from gui_helpers import QUIET_OFFSCREEN, fail_searches, search_done
 from PySide6.QtCore import QTimer
 from PySide6.QtWidgets import QMessageBox
+from support.gui_helpers import QUIET_OFFSCREEN, fail_searches, search_done
 
 from core.parts.drawer import Row, read_drawer
 from core.storage.locations import data_dir, demo_drawer_path
 
-pytest_plugins = ["gui_helpers"]  # fixtures: private_settings, answers, make_window, window
+pytest_plugins = ["support.gui_helpers"]  # fixtures: private_settings, answers, make_window, window
 pytestmark = [QUIET_OFFSCREEN, pytest.mark.usefixtures("private_settings")]
 
 

@@ -8,14 +8,14 @@ Save As, Undo, Redo, Delete, Find, Print), which follow each desktop's guideline
 from __future__ import annotations
 
 import pytest
-from gui_helpers import QUIET_OFFSCREEN
 from PySide6.QtCore import Qt
 from PySide6.QtGui import QKeySequence
 from PySide6.QtWidgets import QAbstractButton, QComboBox, QLineEdit, QSpinBox, QWidget
+from support.gui_helpers import QUIET_OFFSCREEN
 
 from core.parts.drawer import Row
 
-pytest_plugins = ["gui_helpers"]  # fixtures: private_settings, answers, make_window, window
+pytest_plugins = ["support.gui_helpers"]  # fixtures: private_settings, answers, make_window, window
 pytestmark = [QUIET_OFFSCREEN, pytest.mark.usefixtures("private_settings")]
 
 

@@ -8,13 +8,13 @@ from __future__ import annotations
 import subprocess
 from collections import Counter
 
-from conftest import require_tool
-from gui_helpers import QUIET_OFFSCREEN
 from PySide6.QtWidgets import QMessageBox
+from support.gui_helpers import QUIET_OFFSCREEN
+from support.tools import require_tool
 
 from core.parts.drawer import read_drawer
 
-pytest_plugins = ["gui_helpers"]
+pytest_plugins = ["support.gui_helpers"]
 pytestmark = QUIET_OFFSCREEN
 
 

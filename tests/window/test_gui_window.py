@@ -11,16 +11,16 @@ import math
 
 import numpy as np
 import pytest
-from gui_helpers import QUIET_OFFSCREEN, fail_searches, search_done, search_with
 from PySide6.QtCore import QPointF, Qt
 from PySide6.QtWidgets import QMessageBox
+from support.gui_helpers import QUIET_OFFSCREEN, fail_searches, search_done, search_with
 
 from core.design.search import search
 from core.model.timing import make_oscillator
 from core.parts.drawer import Row, read_drawer
 from gui.drawer_model import PROBLEM_ROLE
 
-pytest_plugins = ["gui_helpers"]  # fixtures: private_settings, answers, make_window, window
+pytest_plugins = ["support.gui_helpers"]  # fixtures: private_settings, answers, make_window, window
 pytestmark = [QUIET_OFFSCREEN, pytest.mark.usefixtures("private_settings")]
 
 

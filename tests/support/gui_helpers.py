@@ -1,11 +1,8 @@
 """Window test helpers: settings in a temporary folder, a fresh window on the demo drawer.
 
-Not a conftest.py: pytest registers every conftest as the module ``conftest``,
-so a second one here would shadow tests/conftest.py for ``from conftest import``.
-Test modules load it with ``pytest_plugins = ["gui_helpers"]`` and mark themselves
-``QUIET_OFFSCREEN``. They import the plain helpers (``search_done`` ...) from it too,
-before pytest loads it as a plugin, so it opts out of assertion rewriting
-(PYTEST_DONT_REWRITE; it holds no asserts).
+Window test modules load the fixtures with ``pytest_plugins = ["support.gui_helpers"]``,
+mark themselves ``QUIET_OFFSCREEN`` and import the plain helpers (``search_done`` ...)
+from here.
 """
 
 from __future__ import annotations
