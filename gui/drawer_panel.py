@@ -313,6 +313,8 @@ class DrawerPanel(QWidget):
         self.table.setItemDelegate(ChoiceDelegate(model, self.proxy, self.table))
         self.table.setAccessibleName("parts drawer")
         self.table.setSortingEnabled(True)
+        # Tab leaves the table for the next panel; arrow keys move between cells.
+        self.table.setTabKeyNavigation(False)
         self.table.horizontalHeader().setSortIndicatorClearable(True)
         self.table.horizontalHeader().setSortIndicator(-1, Qt.SortOrder.AscendingOrder)
         self.table.setSelectionBehavior(QAbstractItemView.SelectionBehavior.SelectRows)

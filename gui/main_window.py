@@ -55,15 +55,13 @@ DEBOUNCE_MS = 250
 
 CSV_FILTER = "Drawer files (*.csv *.txt);;All files (*)"
 
-SAFETY = (
-    "<p><b>Before you build</b></p><ul>"
-    "<li>Use a current-limited, low-voltage bench supply (for example 5 V, limit "
-    "around 50 mA) while you try the circuit.</li>"
-    "<li>Electrolytic and tantalum capacitors are polarised: the + lead goes to the "
-    "more positive node, and the rated voltage must be well above the supply.</li>"
-    "<li>Keep the supply inside the chip's range shown in the target form.</li>"
-    "<li>Nothing here is meant for mains-connected equipment: for that, follow your "
-    "local codes and licensed practice.</li></ul>")
+def _unique(keys: list[QKeySequence]) -> list[QKeySequence]:
+    """Key sequences without repeats, first one first."""
+    seen: list[QKeySequence] = []
+    for key in keys:
+        if not key.isEmpty() and key not in seen:
+            seen.append(key)
+    return seen
 
 
 def _section(title: str, body: QWidget, name: str) -> QFrame:
@@ -102,6 +100,7 @@ class MainWindow(QMainWindow):
         self._slowest_ms = 0.0
         self.last_search_ms: float | None = None
         self._closed = False
+        self._help: Any = None
 
         drawer, note = self._initial_drawer(stock)
         self.untitled = "demo drawer (a copy)"
@@ -177,6 +176,7 @@ class MainWindow(QMainWindow):
         view.setEditTriggers(QAbstractItemView.EditTrigger.NoEditTriggers)
         view.setAlternatingRowColors(True)
         view.setWordWrap(False)
+        view.setTabKeyNavigation(False)
         view.verticalHeader().setDefaultSectionSize(view.fontMetrics().height() + 8)
         header = view.horizontalHeader()
         header.setStretchLastSection(True)
@@ -263,7 +263,11 @@ class MainWindow(QMainWindow):
             file_menu.addSeparator() if action is None else file_menu.addAction(action)
 
         self.undo_action = self._action("&Undo", self.undo, std.Undo)
-        self.redo_action = self._action("&Redo", self.redo, std.Redo)
+        self.redo_action = self._action("&Redo", self.redo)
+        # Ctrl+Shift+Z and Ctrl+Y both redo, whatever the platform's own default is.
+        self.redo_action.setShortcuts(_unique([*QKeySequence.keyBindings(std.Redo),
+                                               QKeySequence("Ctrl+Shift+Z"),
+                                               QKeySequence("Ctrl+Y")]))
         self.find_action = self._action("&Find in drawer", self._focus_filter, std.Find,
                                         "Filter the drawer by text")
         panel = self.drawer_panel
@@ -284,7 +288,10 @@ class MainWindow(QMainWindow):
         self.build_menu.addSeparator()
 
         help_menu = self.menuBar().addMenu("&Help")
-        help_menu.addAction(self._action("&Safety notes", self.show_safety, std.HelpContents))
+        self.help_action = self._action("Tickbin &help", self.show_help, std.HelpContents,
+                                        "How to use the window, the words it uses, safety")
+        help_menu.addAction(self.help_action)
+        help_menu.addAction(self._action("&Safety notes", self.show_safety))
         help_menu.addAction(self._action("&About Tickbin", self.show_about))
 
         self.toolbar = self.addToolBar("Main")
@@ -841,7 +848,17 @@ class MainWindow(QMainWindow):
             self.form.reload_calibrations(select=dialog.saved_name)
             self.say(f"Calibration “{dialog.saved_name}” saved and selected.")
 
+    def show_help(self) -> None:
+        from gui.help_dialog import HelpDialog
+
+        if self._help is None:
+            self._help = HelpDialog(self)
+        self._help.show()
+        self._help.activateWindow()
+
     def show_safety(self) -> None:
+        from gui.help_dialog import SAFETY
+
         QMessageBox.information(self, "Safety notes", SAFETY)
 
     def show_about(self) -> None:
