@@ -8,13 +8,13 @@ that Tab moves focus between controls while the arrow keys move inside a table.
 from __future__ import annotations
 
 import pytest
-from gui_helpers import QUIET_OFFSCREEN
 from PySide6.QtCore import Qt
 from PySide6.QtGui import QKeySequence
+from support.gui_helpers import QUIET_OFFSCREEN
 
 from gui.help_dialog import GLOSSARY, help_html
 
-pytest_plugins = ["gui_helpers"]  # fixtures: private_settings, answers, make_window, window
+pytest_plugins = ["support.gui_helpers"]  # fixtures: private_settings, answers, make_window, window
 pytestmark = [QUIET_OFFSCREEN, pytest.mark.usefixtures("private_settings")]
 
 
