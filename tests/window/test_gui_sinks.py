@@ -2,11 +2,11 @@
 
 from __future__ import annotations
 
-from conftest import require_tool
-from gui_helpers import QUIET_OFFSCREEN
-from test_sinks import assert_inert_netlist, make_hostile_drawer, run_ngspice
+from support.gui_helpers import QUIET_OFFSCREEN
+from support.sinks import assert_inert_netlist, make_hostile_drawer, run_ngspice
+from support.tools import require_tool
 
-pytest_plugins = ["gui_helpers"]
+pytest_plugins = ["support.gui_helpers"]
 pytestmark = QUIET_OFFSCREEN
 
 
