@@ -235,6 +235,29 @@ def test_resistance_for_inverts_the_model(freq, c, family):
     assert 1 / float(t_high + t_low) == pytest.approx(freq, rel=1e-8)
 
 
+@pytest.mark.parametrize("family", ["74HC14", "CD40106B", "74LVC14A"])
+def test_resistance_for_agrees_with_scipy_brentq(family):
+    # Reference: scipy.optimize.brentq on the same model's period, solved per value; the
+    # vectorised bracketed secant must land on the same R within 1e-9.
+    from scipy.optimize import brentq
+
+    fam = device_table().family(family)
+    osc = make_oscillator("schmitt", fam, fam.supplies_v[0])
+    rng = np.random.default_rng(3)
+    freq, c = 10 ** rng.uniform(0, 5, 40), 10 ** rng.uniform(-10, -5, 40)
+    r = schmitt_resistance_for(osc, freq, c)
+    for f, cap, got in zip(freq, c, r, strict=True):
+        def excess(log_r, f=f, cap=cap):
+            t_high, t_low = schmitt_times(osc, math.exp(log_r), cap)
+            return math.log(float(t_high + t_low) * f)
+
+        if excess(0.0) >= 0 or excess(math.log(1e10)) <= 0:
+            assert math.isnan(got)
+            continue
+        want = math.exp(brentq(excess, 0.0, math.log(1e10), xtol=1e-14, rtol=1e-15))
+        assert got == pytest.approx(want, rel=1e-9)
+
+
 def test_resistance_for_is_vectorised():
     osc = hc14()
     c = np.array([1e-9, 10e-9, 100e-9])

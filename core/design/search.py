@@ -149,7 +149,7 @@ def schmitt_resistance(osc: Oscillator, target_hz: float, c: np.ndarray,
     Only capacitors whose one-evaluation estimate (f nearly proportional to
     1/R) falls within a factor of two of ``limits`` [Ω] are solved: by a few
     rescaling steps where they converge to 1e-9, else by the model's own
-    inverse (``schmitt_resistance_for``, a bisection). That keeps a search on a
+    inverse (``schmitt_resistance_for``, a bracketed secant). That keeps a search on a
     full capacitor kit within milliseconds. With ``clip`` the answer is moved
     into ``limits`` (an unreachable target gives the nearest allowed R, where
     the closest miss lies).
@@ -163,7 +163,7 @@ def schmitt_resistance(osc: Oscillator, target_hz: float, c: np.ndarray,
     maybe = ~(estimate < 0.5 * limits[0]) & ~(estimate > 2.0 * limits[1])
     out = np.full(c.shape, np.nan)
     # f is close to proportional to 1/R: a few rescaling steps converge where the model
-    # is smooth; the model's own inverse (a bisection) settles the rest.
+    # is smooth; the model's own inverse settles the rest.
     r = np.where(maybe & np.isfinite(estimate), estimate, np.nan)
     with np.errstate(invalid="ignore", divide="ignore"):
         for _ in range(4):
