@@ -68,3 +68,101 @@ def test_netlist_simulate_runs_no_drawer_text(hostile_drawer, tmp_path, capsys):
     run = run_ngspice(cir)  # the README's way: ngspice -b on the exported file
     assert run.returncode == 0, run.stderr
     assert not marker.exists()
+
+
+# ---------------------------------------------------------------- terminal
+
+# Escape sequences a terminal acts on (ECMA-48: CSI and OSC; OSC 52 writes the clipboard
+# in xterm), the 8-bit CSI, DEL, a carriage return that overwrites the line, a line
+# break, LINE SEPARATOR and a right-to-left override (Unicode bidi control).
+TERMINAL_HOSTILE = ["A1\x1b[31mred\x1b[0m", "A2\x1b]52;c;ZWNobyBvd25lZA==\x07", "A3\x9b2J\x7f",
+                    "A4\roverwritten\nnote: forged", "A5\u2028next\u202egnp"]
+
+ESCAPED = {"A1\\x1b[31mred\\x1b[0m", "A2\\x1b]52;c;ZWNobyBvd25lZA==\\x07", "A3\\x9b2J\\x7f",
+           "A4\\roverwritten\\nnote:", "A5\\u2028next\\u202egnp"}
+
+
+def assert_terminal_safe(text: str) -> None:
+    """Only printable characters and the program's own line breaks reach the terminal."""
+    bad = {ch for ch in text if ch != "\n" and not ch.isprintable()}
+    assert not bad, sorted(bad)
+    assert not any(line.startswith("note: forged") for line in text.splitlines())
+
+
+@pytest.fixture
+def terminal_drawer(tmp_path):
+    """Every location and note hostile; a quantity-0 line so ``stock check`` names one."""
+    path = tmp_path / "drawer.csv"
+    rows = [["R", "10k", "10", TERMINAL_HOSTILE[0], TERMINAL_HOSTILE[1]],
+            ["R", "2.2k", "10", TERMINAL_HOSTILE[1], ""],
+            ["P", "10k", "2", TERMINAL_HOSTILE[2], ""],
+            ["C", "100n", "5", TERMINAL_HOSTILE[3], TERMINAL_HOSTILE[4]],
+            ["C", "220n", "5", TERMINAL_HOSTILE[2], ""],
+            ["C", "22n", "0", TERMINAL_HOSTILE[4], ""],
+            ["C", "22n", "3", TERMINAL_HOSTILE[2], ""]]
+    write_drawer_rows(path, rows)
+    return path
+
+
+@pytest.mark.parametrize("argv", [
+    ["search", "--target", "1kHz"],
+    ["trim", "--band", "900..1100"],
+    ["stock", "check"],
+    ["stock", "check", "--json"],
+])
+def test_terminal_output_escapes_drawer_text(terminal_drawer, capsys, argv):
+    if argv[0] == "stock":
+        argv = [*argv, str(terminal_drawer)]
+    else:
+        argv = [*argv, "--stock", str(terminal_drawer)]
+    code, out, err = _tickbin(capsys, *argv)
+    assert code == 0, err
+    assert_terminal_safe(out)
+    if "--json" in argv:  # still JSON, and it reads back to the drawer's own text
+        assert any(TERMINAL_HOSTILE[4] in w for w in json.loads(out)["warnings"])
+    else:
+        assert ESCAPED & set(out.split()), out  # the locations are shown, escaped
+
+
+def test_sheet_text_escapes_drawer_text(qapp, terminal_drawer, capsys, tmp_path):
+    from gui.entry import render_sheet
+
+    argv = ["sheet", "--stock", str(terminal_drawer), "--target", "1kHz", "--out",
+            str(tmp_path / "s.pdf"), "--take"]
+    code = core.cli.main(argv, render_sheet=render_sheet)
+    out, err = capsys.readouterr()
+    assert code == 0, err
+    assert "took" in out
+    assert_terminal_safe(out)
+
+
+def test_saved_calibration_names_are_listed_escaped(capsys):
+    from core.model.calibration import calibrations_dir
+
+    folder = calibrations_dir()
+    folder.mkdir(parents=True, exist_ok=True)
+    (folder / "bench\x1b]0;owned\x07.json").write_text("{}", encoding="utf-8")
+    code, out, err = _tickbin(capsys, "calibrate", "--list")
+    assert code == 0, err
+    assert "bench" in out
+    assert_terminal_safe(out)
+
+
+def test_predict_text_escapes_a_calibration_file(capsys):
+    """A calibration file edited by hand (or shared) names itself; predict prints it."""
+    from core.model.calibration import calibrations_dir
+
+    code, out, err = _tickbin(capsys, "calibrate", "--family", "74HC14", "--supply", "5V",
+                              "--r", "10k", "--c", "100n", "--measured", "760Hz", "--save",
+                              "bench", "--json")
+    assert code == 0, err
+    path = calibrations_dir() / "bench.json"
+    data = json.loads(path.read_text(encoding="utf-8"))
+    data["name"] = "bench" + TERMINAL_HOSTILE[1]
+    data["warnings"] = [TERMINAL_HOSTILE[3]]
+    path.write_text(json.dumps(data), encoding="utf-8")
+    code, out, err = _tickbin(capsys, "predict", "--family", "74HC14", "--supply", "5V",
+                              "--r", "10k", "--c", "100n", "--calibration", "bench")
+    assert code == 0, err
+    assert "bench" in out
+    assert_terminal_safe(out)

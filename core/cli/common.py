@@ -5,6 +5,7 @@ from __future__ import annotations
 import argparse
 import json
 import sys
+import unicodedata
 from collections.abc import Callable
 from typing import Any, TypeVar
 
@@ -71,11 +72,30 @@ def count_arg(low: int = 1, high: int | None = None) -> Callable[[str], int]:
     return parse
 
 
+def _shown(ch: str) -> str:
+    """``ch`` as a terminal may print it: control characters (C0, C1, DEL), line and
+    paragraph separators and format characters (bidi overrides) become escapes."""
+    if ch.isprintable() or unicodedata.category(ch) == "Zs":
+        return ch
+    return ch.encode("unicode_escape").decode("ascii")
+
+
 def one_line(text: str) -> str:
-    """``text`` with control characters and line separators (a file name may carry them)
-    shown as escapes, so a message stays one line."""
-    return "".join(ch.encode("unicode_escape").decode("ascii")
-                   if not ch.isprintable() and ch != " " else ch for ch in text)
+    """``text`` with control characters and line separators (a file name or a drawer cell
+    may carry them) shown as escapes, so it stays one line and never drives the terminal."""
+    return "".join(map(_shown, text))
+
+
+def _one_line_strings(data: Any) -> Any:
+    """``data`` with every string in it made ``one_line``: a cell's line break cannot
+    forge a line of the text output."""
+    if isinstance(data, str):
+        return one_line(data)
+    if isinstance(data, dict):
+        return {k: _one_line_strings(v) for k, v in data.items()}
+    if isinstance(data, list | tuple):
+        return [_one_line_strings(v) for v in data]
+    return data
 
 
 def say_error(message: str) -> None:
@@ -90,10 +110,17 @@ def add_json_option(parser: argparse.ArgumentParser) -> None:
 
 def emit(args: argparse.Namespace, result: dict[str, Any],
          as_text: Callable[[dict[str, Any]], str]) -> int:
-    """Print ``result`` as JSON (``--json``) or as readable text; return the exit status."""
+    """Print ``result`` as JSON (``--json``) or as readable text; return the exit status.
+
+    The one way results reach the terminal: whatever a drawer cell or file name holds
+    is printed escaped, never as a control sequence.
+    """
     if getattr(args, "json", False):
-        json.dump(result, sys.stdout, ensure_ascii=False, allow_nan=False)
-        sys.stdout.write("\n")
+        # JSON escapes C0 controls itself; C1, DEL and U+2028/2029 it leaves raw.
+        text = json.dumps(result, ensure_ascii=False, allow_nan=False)
+        sys.stdout.write("".join(ch if _shown(ch) == ch else json.dumps(ch)[1:-1]
+                                 for ch in text) + "\n")
     else:
-        sys.stdout.write(as_text(result).rstrip("\n") + "\n")
+        text = as_text(_one_line_strings(result)).rstrip("\n")
+        sys.stdout.write("\n".join(map(one_line, text.split("\n"))) + "\n")
     return 0

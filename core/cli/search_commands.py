@@ -13,7 +13,15 @@ from pathlib import Path
 from typing import Any
 
 from core.cli.circuit_options import add_circuit_options, oscillator_from_args
-from core.cli.common import add_json_option, arg_type, count_arg, emit, percent_arg, value_arg
+from core.cli.common import (
+    add_json_option,
+    arg_type,
+    count_arg,
+    emit,
+    one_line,
+    percent_arg,
+    value_arg,
+)
 from core.design.search import Candidate, SearchResult, search
 from core.design.trim import TrimResult, trim
 from core.model.timing import Oscillator
@@ -109,7 +117,7 @@ def _run_design(args: argparse.Namespace, as_text: Callable[..., str]) -> int:
 
 def where(node: Node) -> str:
     """Drawer locations of a network's parts: ``B1-06 ×2 (line 11), B2-04 (line 35)``."""
-    used = Counter((p.location or "no location", p.stock_line) for p in node.parts())
+    used = Counter((one_line(p.location) or "no location", p.stock_line) for p in node.parts())
     return ", ".join(f"{loc}{f' ×{n}' if n > 1 else ''} (line {line})"
                      for (loc, line), n in used.items())
 
