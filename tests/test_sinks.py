@@ -11,7 +11,12 @@ from __future__ import annotations
 import json
 
 import pytest
-from support.sinks import assert_inert_netlist, make_hostile_drawer, run_ngspice
+from support.sinks import (
+    assert_inert_netlist,
+    make_hostile_drawer,
+    run_ngspice,
+    write_drawer_rows,
+)
 from support.tools import require_tool
 
 import core.cli
