@@ -5,6 +5,7 @@ from __future__ import annotations
 import numpy as np
 import pytest
 
+from core.model.leakage import node_current_corners
 from core.model.spread import draw_thresholds, monte_carlo, worst_case_hz
 from core.model.timing import default_tolerances, frequency, make_oscillator, predict
 from core.parts.drawer import DEFAULT_TOLERANCE, DIELECTRIC_TOLERANCE
@@ -25,9 +26,15 @@ def _dense_frequencies(osc, values, ranges, n=41):
     on_edge = (edge_a >= d.vt_plus[0]) & (edge_a <= d.vt_plus[2])
     a = np.concatenate([a[keep], edge_a[on_edge]])
     b = np.concatenate([b[keep], edge_b[on_edge]])
-    grids = np.meshgrid(*[np.linspace(*ranges[k], 5) for k in values], indexing="ij")
-    vals = {k: g.reshape(-1, 1) for k, g in zip(values, grids, strict=True)}
-    return frequency(osc, vals, False, a[None, :], b[None, :]).ravel()
+    # ... and the node currents over their whole ranges (leakage, 3 x 3 levels).
+    i_high, i_low = node_current_corners(d)
+    currents = np.meshgrid(np.linspace(i_high.min(), i_high.max(), 3),
+                           np.linspace(i_low.min(), i_low.max(), 3))
+    grids = np.meshgrid(*[np.linspace(*ranges[k], 5) for k in values], *currents,
+                        indexing="ij")
+    vals = {k: g.reshape(-1, 1) for k, g in zip(values, grids, strict=False)}
+    i_h, i_l = (g.reshape(-1, 1) for g in grids[len(values):])
+    return frequency(osc, vals, False, a[None, :], b[None, :], i_h, i_l).ravel()
 
 
 @pytest.mark.parametrize(("family", "supply"), [("74HC14", 5.0), ("CD40106B", 10.0),

@@ -38,6 +38,7 @@ from typing import Any
 import numpy as np
 
 from core.errors import InputError
+from core.model.leakage import network_leakage_a
 from core.model.spread import worst_case_hz
 from core.model.timing import (
     Oscillator,
@@ -514,7 +515,9 @@ def _candidates(index: DrawerIndex, osc: Oscillator, target_hz: float, s: _Short
     values = {r: np.array([n[r].value for n in chosen]) for r in roles}
     ranges = {r: tuple(np.array(x) for x in zip(*(n[r].value_range() for n in chosen),
                                                   strict=True)) for r in roles}
-    low, high = worst_case_hz(osc, values, ranges, diode_steered=s.diode_steered)
+    leakage = np.array([network_leakage_a(n["C"], osc.supply_v) for n in chosen])
+    low, high = worst_case_hz(osc, values, ranges, diode_steered=s.diode_steered,
+                              capacitor_leakage_a=leakage)
     t_high, t_low = times(osc, values, s.diode_steered)
     out = []
     for k, networks in enumerate(chosen):

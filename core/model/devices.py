@@ -95,8 +95,11 @@ class DeviceAtSupply:
     behind ``r_out_low_ohm`` when low. A TTL input is a Thevenin source too:
     ``input_v_open_v`` behind ``input_r_ohm`` (infinite for CMOS);
     ``input_current_a`` is the datasheet's current at the thresholds (mean,
-    negative = out of the pin). For a 555, ``voh_v`` is the supply (RA's end),
-    ``discharge_r_ohm`` the pin-7 transistor.
+    negative = out of the pin); ``input_leakage_a`` a CMOS input's leakage
+    limit (either sign). For a 555, ``voh_v`` is the supply (RA's end),
+    ``discharge_r_ohm`` the pin-7 transistor, ``threshold_current_a`` and
+    ``trigger_current_a`` the comparator input currents (typ, max) [A]: into
+    pin 6, out of pin 2 (zero where the table lists none: CMOS timers' pA).
     """
 
     family: Family
@@ -114,6 +117,8 @@ class DeviceAtSupply:
     input_v_open_v: float
     input_capacitance_f: float
     input_leakage_a: float
+    threshold_current_a: tuple[float, float]
+    trigger_current_a: tuple[float, float]
     delay_lh_s: float
     delay_hl_s: float
     r_min_ohm: float
@@ -156,6 +161,8 @@ class Family:
     r_range_source: str
     points: tuple[_Point, ...] = field(repr=False)
     span_of: tuple[str, ...] = ()
+    threshold_current_a: tuple[float, float] = (0.0, 0.0)
+    trigger_current_a: tuple[float, float] = (0.0, 0.0)
 
     def __str__(self) -> str:
         return self.name
@@ -182,7 +189,9 @@ class Family:
             r_out_high_ohm=p.r_out_high, r_out_low_ohm=p.r_out_low,
             input_current_a=p.input_current, input_r_ohm=p.input_r,
             input_v_open_v=p.input_v_open, input_capacitance_f=self.input_capacitance_f,
-            input_leakage_a=self.input_leakage_a, delay_lh_s=p.delay_lh,
+            input_leakage_a=self.input_leakage_a,
+            threshold_current_a=self.threshold_current_a,
+            trigger_current_a=self.trigger_current_a, delay_lh_s=p.delay_lh,
             delay_hl_s=p.delay_hl, r_min_ohm=p.r_min, r_max_ohm=p.r_max,
             discharge_r_ohm=p.discharge_r, output_high_v=p.voh_open - p.output_high_drop,
             source=p.source)
@@ -335,7 +344,19 @@ def _family(name: str, raw: Mapping[str, Any], packages: Mapping[str, Any]) -> F
                   package=_package(packages, raw["package"], name),
                   input_capacitance_f=float(raw.get("input_capacitance_f", 0.0)),
                   input_leakage_a=float(raw.get("input_leakage_a", 0.0)),
-                  r_range_source=raw.get("r_range_source", ""), points=points)
+                  r_range_source=raw.get("r_range_source", ""), points=points,
+                  threshold_current_a=_typ_max(raw, "threshold_current_a", name),
+                  trigger_current_a=_typ_max(raw, "trigger_current_a", name))
+
+
+def _typ_max(raw: Mapping[str, Any], key: str, where: str) -> tuple[float, float]:
+    """A [typ, max] pair (absent: none listed, taken as zero)."""
+    value = raw.get(key, (0.0, 0.0))
+    if (not isinstance(value, list | tuple) or len(value) != 2
+            or not all(isinstance(x, int | float) for x in value)
+            or not 0 <= value[0] <= value[1]):
+        raise TickbinError(f"devices.toml: {where}: {key} must be [typ, max], 0 <= typ <= max")
+    return float(value[0]), float(value[1])
 
 
 def _span(name: str, raw: Mapping[str, Any], known: Mapping[str, Family]) -> Family:
@@ -365,8 +386,14 @@ def _span(name: str, raw: Mapping[str, Any], known: Mapping[str, Family]) -> Fam
                   source=raw.get("source", ""), package=first.package,
                   input_capacitance_f=max(v.input_capacitance_f for v in variants),
                   input_leakage_a=max(v.input_leakage_a for v in variants),
+                  threshold_current_a=_widest([v.threshold_current_a for v in variants]),
+                  trigger_current_a=_widest([v.trigger_current_a for v in variants]),
                   r_range_source=first.r_range_source, points=tuple(points),
                   span_of=tuple(v.name for v in variants))
+
+
+def _widest(pairs: list[tuple[float, float]]) -> tuple[float, float]:
+    return max(p[0] for p in pairs), max(p[1] for p in pairs)
 
 
 def _envelope(triplets: list[Triplet]) -> Triplet:

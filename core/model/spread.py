@@ -2,8 +2,10 @@
 
 Worst case: every corner of the part-value ranges (tolerances may be
 asymmetric) against every threshold corner of the chip (see
-``Oscillator.threshold_corners``). The frequency is monotonic in each part
-value, so the corners bound it.
+``Oscillator.threshold_corners``) and the two leakage corners of the timing
+node (see ``core.model.leakage``). The frequency is monotonic in each part
+value and node current, so the corners bound it. A corner that does not
+oscillate makes the band start at 0 Hz.
 
 Monte Carlo: part values uniform within their tolerance (manufacturers sort
 parts into tolerance bins, so no central peak is promised); thresholds drawn
@@ -24,23 +26,29 @@ from dataclasses import dataclass
 
 import numpy as np
 
+from core.model.leakage import node_current_corners
 from core.model.timing import Oscillator, frequency
 from core.units import Tolerance
 
 
 def worst_case_hz(osc: Oscillator, values: Mapping[str, float | np.ndarray],
                   ranges: Mapping[str, tuple[float | np.ndarray, float | np.ndarray]],
-                  diode_steered: bool = False) -> tuple[float | np.ndarray, float | np.ndarray]:
-    """(lowest, highest) frequency [Hz] over every corner of ``ranges`` and the thresholds.
+                  diode_steered: bool = False, capacitor_leakage_a: float | np.ndarray = 0.0
+                  ) -> tuple[float | np.ndarray, float | np.ndarray]:
+    """(lowest, highest) frequency [Hz] over every corner of ``ranges``, thresholds and leakage.
 
     ``values`` are nominal part values [Ω, F]; ``ranges`` gives (low, high) per
-    key (keys not in it stay nominal). Arrays broadcast: pass many candidates
-    at once and get arrays back. The low end is 0 where some corner does not
-    oscillate.
+    key (keys not in it stay nominal); ``capacitor_leakage_a`` [A] is the timing
+    capacitor's leakage limit (core.model.leakage). Arrays broadcast: pass many
+    candidates at once and get arrays back. The low end is 0 where some corner
+    does not oscillate.
     """
     corners = osc.threshold_corners()
-    vt_plus = np.array([a for a, _ in corners])
-    vt_minus = np.array([b for _, b in corners])
+    # Threshold corners × the two leakage corners, along the last axis.
+    vt_plus = np.tile([a for a, _ in corners], 2)
+    vt_minus = np.tile([b for _, b in corners], 2)
+    i_high, i_low = (np.repeat(i, len(corners), axis=-1)
+                     for i in node_current_corners(osc.device, capacitor_leakage_a))
     keys = list(ranges)
     lo = hi = None
     stopped = None
@@ -48,7 +56,7 @@ def worst_case_hz(osc: Oscillator, values: Mapping[str, float | np.ndarray],
         vals = {k: np.asarray(v, dtype=float)[..., None] for k, v in values.items()}
         for k, pick in zip(keys, choice, strict=True):
             vals[k] = np.asarray(ranges[k][pick], dtype=float)[..., None]
-        f = frequency(osc, vals, diode_steered, vt_plus, vt_minus)
+        f = frequency(osc, vals, diode_steered, vt_plus, vt_minus, i_high, i_low)
         nan = np.isnan(f)
         f_lo = np.min(np.where(nan, np.inf, f), axis=-1)
         f_hi = np.max(np.where(nan, -np.inf, f), axis=-1)

@@ -96,10 +96,13 @@ class Oscillator:
 
     def idealised(self) -> Oscillator:
         """The textbook circuit: same levels and thresholds, but no output resistance,
-        input current, input or stray capacitance, discharge resistance or delay."""
+        input current or leakage, input or stray capacitance, discharge resistance or
+        delay."""
         device = replace(self.device, r_out_high_ohm=0.0, r_out_low_ohm=0.0,
                          input_r_ohm=math.inf, input_current_a=0.0, input_capacitance_f=0.0,
-                         delay_lh_s=0.0, delay_hl_s=0.0, discharge_r_ohm=0.0)
+                         input_leakage_a=0.0, threshold_current_a=(0.0, 0.0),
+                         trigger_current_a=(0.0, 0.0), delay_lh_s=0.0, delay_hl_s=0.0,
+                         discharge_r_ohm=0.0)
         return replace(self, device=device, stray_capacitance_f=0.0, load_ohm=None)
 
     def threshold_corners(self) -> list[tuple[float, float]]:
@@ -253,7 +256,8 @@ def _thresholds(osc: Oscillator, vt_plus: ArrayLike, vt_minus: ArrayLike) -> tup
 
 
 def _schmitt_node(osc: Oscillator, r: ArrayLike, c: ArrayLike, vt_plus: ArrayLike = None,
-                  vt_minus: ArrayLike = None) -> _Node:
+                  vt_minus: ArrayLike = None, i_high: ArrayLike = 0.0,
+                  i_low: ArrayLike = 0.0) -> _Node:
     d = osc.device
     r = np.asarray(r, dtype=float)
     ct = _timing_capacitance(osc, c)
@@ -267,13 +271,20 @@ def _schmitt_node(osc: Oscillator, r: ArrayLike, c: ArrayLike, vt_plus: ArrayLik
         v_low = (vol * ri + vi * r_low) / (r_low + ri)
         r_high = r_high * ri / (r_high + ri)
         r_low = r_low * ri / (r_low + ri)
+    v_high, v_low = _drawn(v_high, r_high, i_high), _drawn(v_low, r_low, i_low)
     a, b = _thresholds(osc, vt_plus, vt_minus)
     return _Node(a, b, v_high, r_high * ct, v_low, r_low * ct, d.delay_lh_s, d.delay_hl_s)
 
 
+def _drawn(v_target: Any, r: Any, current: ArrayLike) -> Any:
+    """A Thevenin phase's target [V] with ``current`` [A] drawn from the node: V − I·R."""
+    return v_target - np.asarray(current, dtype=float) * r
+
+
 def _astable_node(osc: Oscillator, ra: ArrayLike, rb: ArrayLike, c: ArrayLike,
                   diode_steered: bool, vt_plus: ArrayLike = None,
-                  vt_minus: ArrayLike = None) -> _Node:
+                  vt_minus: ArrayLike = None, i_high: ArrayLike = 0.0,
+                  i_low: ArrayLike = 0.0) -> _Node:
     d = osc.device
     ra = np.asarray(ra, dtype=float)
     rb = np.asarray(rb, dtype=float)
@@ -288,6 +299,7 @@ def _astable_node(osc: Oscillator, ra: ArrayLike, rb: ArrayLike, c: ArrayLike,
     rd = d.discharge_r_ohm
     v_low = v * rd / (ra + rd)
     r_low = rb + ra * rd / (ra + rd)
+    v_high, v_low = _drawn(v_high, r_high, i_high), _drawn(v_low, r_low, i_low)
     a, b = _thresholds(osc, vt_plus, vt_minus)
     return _Node(a, b, v_high, r_high * ct, v_low, r_low * ct, d.delay_lh_s, d.delay_hl_s)
 
@@ -319,24 +331,31 @@ def astable_times(osc: Oscillator, ra: ArrayLike, rb: ArrayLike, c: ArrayLike,
 
 
 def _node(osc: Oscillator, values: Mapping[str, ArrayLike], diode_steered: bool,
-          vt_plus: ArrayLike = None, vt_minus: ArrayLike = None) -> _Node:
+          vt_plus: ArrayLike = None, vt_minus: ArrayLike = None, i_high: ArrayLike = 0.0,
+          i_low: ArrayLike = 0.0) -> _Node:
     if osc.circuit == "schmitt":
-        return _schmitt_node(osc, values["R"], values["C"], vt_plus, vt_minus)
+        return _schmitt_node(osc, values["R"], values["C"], vt_plus, vt_minus, i_high, i_low)
     return _astable_node(osc, values["RA"], values["RB"], values["C"], diode_steered,
-                         vt_plus, vt_minus)
+                         vt_plus, vt_minus, i_high, i_low)
 
 
 def times(osc: Oscillator, values: Mapping[str, ArrayLike], diode_steered: bool = False,
-          vt_plus: ArrayLike = None, vt_minus: ArrayLike = None
-          ) -> tuple[np.ndarray, np.ndarray]:
-    """(t_high, t_low) [s] for either circuit; ``values`` keyed as VALUE_KEYS [Ω, F]."""
-    return _phase_times(_node(osc, values, diode_steered, vt_plus, vt_minus))
+          vt_plus: ArrayLike = None, vt_minus: ArrayLike = None, i_high: ArrayLike = 0.0,
+          i_low: ArrayLike = 0.0) -> tuple[np.ndarray, np.ndarray]:
+    """(t_high, t_low) [s] for either circuit; ``values`` keyed as VALUE_KEYS [Ω, F].
+
+    ``i_high``/``i_low`` [A] are currents drawn from the timing node while the
+    output is high/low (leakage, comparator inputs; core.model.leakage);
+    negative pushes current in. All arguments broadcast.
+    """
+    return _phase_times(_node(osc, values, diode_steered, vt_plus, vt_minus, i_high, i_low))
 
 
 def frequency(osc: Oscillator, values: Mapping[str, ArrayLike], diode_steered: bool = False,
-              vt_plus: ArrayLike = None, vt_minus: ArrayLike = None) -> np.ndarray:
+              vt_plus: ArrayLike = None, vt_minus: ArrayLike = None, i_high: ArrayLike = 0.0,
+              i_low: ArrayLike = 0.0) -> np.ndarray:
     """Frequency [Hz] for either circuit; NaN where it will not oscillate."""
-    t_high, t_low = times(osc, values, diode_steered, vt_plus, vt_minus)
+    t_high, t_low = times(osc, values, diode_steered, vt_plus, vt_minus, i_high, i_low)
     return 1.0 / (t_high + t_low)
 
 
@@ -459,6 +478,7 @@ def predict(osc: Oscillator, values: Mapping[str, float],
     capacitor's by ``dielectric``). Raises SetupError when the nominal circuit
     will not oscillate, saying why.
     """
+    from core.model.leakage import capacitor_leakage_a
     from core.model.spread import worst_case_hz
 
     vals = check_values(osc, values)
@@ -468,7 +488,9 @@ def predict(osc: Oscillator, values: Mapping[str, float],
     tol = default_tolerances(osc, dielectric)
     tol.update(tolerances or {})
     ranges = {k: (v * (1 - tol[k].minus), v * (1 + tol[k].plus)) for k, v in vals.items()}
-    lo, hi = worst_case_hz(osc, vals, ranges, diode_steered=diode_steered)
+    lo, hi = worst_case_hz(osc, vals, ranges, diode_steered=diode_steered,
+                           capacitor_leakage_a=capacitor_leakage_a(vals["C"], dielectric,
+                                                                   osc.supply_v))
     period = t_high + t_low
     pred = Prediction(frequency_hz=1.0 / period, period_s=period,
                       duty_pct=100.0 * t_high / period, t_high_s=t_high, t_low_s=t_low,
@@ -503,14 +525,10 @@ def why_no_oscillation(osc: Oscillator, values: Mapping[str, float],
             f"{float(n.v_high):.2f} V) do not pass both thresholds ({b:.2f} V, {a:.2f} V)")
 
 
-ELECTROLYTIC_LEAKAGE_RULE = (0.01, 3e-6)
-"""Aluminium electrolytic leakage after charging: I ≤ 0.01 C[µF] V[V] µA or 3 µA,
-whichever is greater (common practice, from the usual data-sheet formula)."""
-
-
 def practitioner_warnings(osc: Oscillator, values: Mapping[str, float], pred: Prediction, *,
                           dielectric: str = "", diode_steered: bool = False) -> list[str]:
     """What an experienced builder would point out about this circuit."""
+    from core.model.leakage import capacitor_leakage_a
     from core.parts.drawer import ELECTROLYTIC
 
     d, name = osc.device, osc.family.name
@@ -536,9 +554,13 @@ def practitioner_warnings(osc: Oscillator, values: Mapping[str, float], pred: Pr
                    "larger capacitor and a smaller resistor")
     hysteresis = osc.vt_plus_v - osc.vt_minus_v
     if dielectric in ELECTROLYTIC:
-        share, floor = ELECTROLYTIC_LEAKAGE_RULE
-        leakage = max(share * (c * 1e6) * d.supply_v * 1e-6, floor)
-        if leakage * r_total > 0.05 * hysteresis:
+        leakage = float(capacitor_leakage_a(c, dielectric, d.supply_v))
+        if leakage * r_total > d.voh_v - osc.vt_plus_v:
+            out.append(f"{dielectric} timing capacitor with {r_label}: its allowed leakage (up "
+                       f"to {fq(leakage, 'current')}) through the resistor would hold the "
+                       "timing node below the upper threshold, so the oscillator can stop; "
+                       "use a film capacitor and a smaller resistor")
+        elif leakage * r_total > 0.05 * hysteresis:
             out.append(f"electrolytic timing capacitor with {r_label}: its leakage (up to "
                        f"{fq(leakage, 'current')}) through the resistor shifts the timing by a "
                        "noticeable share; prefer a film capacitor or a smaller resistor")
@@ -560,8 +582,8 @@ def practitioner_warnings(osc: Oscillator, values: Mapping[str, float], pred: Pr
                    "the output levels and the frequency; drive the load from a spare gate "
                    "of the same package fed by the timing output")
     if pred.worst_case_hz[0] == 0.0:
-        out.append("at some tolerance or threshold corners the circuit does not oscillate; "
-                   "the worst-case band starts at 0 Hz")
+        out.append("at some tolerance, threshold or leakage corners the circuit does not "
+                   "oscillate; the worst-case band starts at 0 Hz")
     return out
 
 
