@@ -8,6 +8,8 @@ one (ngspice runs the netlist).
 
 from __future__ import annotations
 
+import csv
+import io
 import json
 
 import pytest
@@ -171,3 +173,22 @@ def test_predict_text_escapes_a_calibration_file(capsys):
     assert code == 0, err
     assert "bench" in out
     assert_terminal_safe(out)
+
+
+# ---------------------------------------------------------------- spreadsheet
+
+@pytest.mark.parametrize("name", ["=HYPERLINK(\"http://example.invalid\",\"x\")",
+                                  "+cmd|' /C calc'!A0", "-2+3", "@SUM(A1)"])
+def test_spreadsheet_export_neutralises_the_header_too(name):
+    """OWASP "CSV Injection": a cell starting = + - @ (tab, CR) is run as a formula by
+    spreadsheets; the header row is a row of cells like any other."""
+    from core.parts.drawer import Drawer, Row, drawer_csv_text, parse_drawer_text
+
+    drawer = Drawer([Row({"kind": "R", "value": "1k", "quantity": "1", name: "=1+1"})],
+                    columns=["kind", "value", "quantity", name])
+    text = drawer_csv_text(drawer)
+    for record in csv.reader(io.StringIO(text, newline="")):
+        for cell in record:
+            assert not cell.startswith(("=", "+", "-", "@", "\t", "\r")), cell
+    again = parse_drawer_text(text)
+    assert name.lower() in [c.lower() for c in again.columns]  # the prefix comes off again

@@ -535,7 +535,7 @@ def parse_drawer_text(text: str, name: str = "<drawer>") -> Drawer:
                 continue
             if header is None:
                 header = [_HEADER_ALIASES.get(h.strip().lower(), h.strip().lower())
-                          for h in record]
+                          for h in map(_unneutralise, record)]
                 missing = [c for c in REQUIRED if c not in header]
                 if missing:
                     why = ("; an unclosed quote joins the lines from here on"
@@ -595,10 +595,11 @@ def read_drawer(path: str | os.PathLike[str], *, strict: bool = True) -> Drawer:
 
 
 def drawer_csv_text(drawer: Drawer) -> str:
-    """The drawer as CSV text, columns in the drawer's order, formula cells neutralised."""
+    """The drawer as CSV text, columns in the drawer's order, formula cells (header
+    included) neutralised."""
     buf = io.StringIO(newline="")
     writer = csv.writer(buf, delimiter=drawer.delimiter, lineterminator="\n")
-    writer.writerow(drawer.columns)
+    writer.writerow([neutralise_formula(c) for c in drawer.columns])
     for row in drawer.rows:
         writer.writerow([neutralise_formula(row.get(c)) for c in drawer.columns])
     return buf.getvalue()
