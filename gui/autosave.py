@@ -15,7 +15,8 @@ import time
 from dataclasses import dataclass
 from pathlib import Path
 
-from core.parts.drawer import Drawer, drawer_csv_text, parse_drawer_text, write_text_atomically
+from core.parts.drawer import Drawer, drawer_csv_text, parse_drawer_text
+from core.storage.atomic import write_text_atomically
 from core.storage.locations import data_dir
 
 INTERVAL_MS = 60_000

@@ -39,8 +39,8 @@ from core.parts.drawer import (
     drawer_csv_text,
     read_drawer,
     write_drawer,
-    write_text_atomically,
 )
+from core.storage.atomic import write_text_atomically
 from core.storage.locations import demo_drawer_path
 from gui import settings as keys
 from gui.autosave import INTERVAL_MS, Autosave

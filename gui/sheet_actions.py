@@ -17,7 +17,7 @@ from PySide6.QtWidgets import QFileDialog, QMessageBox, QWidget
 from core.errors import TickbinError
 from core.output.netlist import spice_netlist
 from core.output.sheet import Sheet, build_sheet, take_parts, voltage_ratings
-from core.parts.drawer import write_text_atomically
+from core.storage.atomic import write_text_atomically
 
 PDF_FILTER = "PDF files (*.pdf)"
 NETLIST_FILTER = "SPICE netlists (*.cir *.sp *.net);;All files (*)"

@@ -33,6 +33,7 @@ from PySide6.QtGui import (
 from core.errors import InputError, TickbinError
 from core.output import schematic as sch
 from core.output.sheet import Sheet
+from core.storage.atomic import atomic_output
 from core.units import format_quantity
 
 PAGE_SIZES = {"a4": QPageSize.PageSizeId.A4, "letter": QPageSize.PageSizeId.Letter}
@@ -77,23 +78,29 @@ def _application() -> None:
 
 
 def render_sheet_pdf(sheet: Sheet, path: str | Path, page_size: str = "A4") -> int:
-    """Write ``sheet`` to a PDF file; returns the number of pages."""
+    """Write ``sheet`` to a PDF file; returns the number of pages.
+
+    Drawn into a temporary file beside ``path`` and renamed over it when complete
+    (``core.storage.atomic``), so a kill mid-way never leaves a cut or empty PDF.
+    """
     _application()
     size = page_size_id(page_size)
-    target = Path(path)
-    if not target.parent.is_dir():
-        raise TickbinError(f"{path}: no such folder")
-    writer = QPdfWriter(str(path))
-    writer.setResolution(RESOLUTION_DPI)
-    writer.setTitle(sheet.title)
-    writer.setCreator("Tickbin")
-    writer.setPageLayout(QPageLayout(QPageSize(size),
-                                     QPageLayout.Orientation.Portrait,
-                                     QMarginsF(MARGIN_MM, MARGIN_MM, MARGIN_MM, MARGIN_MM),
-                                     QPageLayout.Unit.Millimeter))
-    pages = render_sheet(sheet, writer)
-    if not Path(path).is_file():
-        raise TickbinError(f"{path}: the PDF could not be written")
+    with atomic_output(path) as tmp:
+        writer = QPdfWriter(str(tmp))
+        writer.setResolution(RESOLUTION_DPI)
+        writer.setTitle(sheet.title)
+        writer.setCreator("Tickbin")
+        writer.setPageLayout(QPageLayout(QPageSize(size),
+                                         QPageLayout.Orientation.Portrait,
+                                         QMarginsF(MARGIN_MM, MARGIN_MM, MARGIN_MM, MARGIN_MM),
+                                         QPageLayout.Unit.Millimeter))
+        try:
+            pages = render_sheet(sheet, writer)
+        except TickbinError:
+            raise TickbinError(f"{path}: the PDF could not be written") from None
+        del writer  # flushes and closes the file
+        if not tmp.stat().st_size:
+            raise TickbinError(f"{path}: the PDF could not be written")
     return pages
 
 

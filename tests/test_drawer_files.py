@@ -12,6 +12,7 @@ from hypothesis import HealthCheck, given, settings
 from hypothesis import strategies as st
 
 import core.parts.drawer as drawer_module
+import core.storage.atomic as atomic_module
 from core.errors import DrawerFileError, TickbinError
 from core.parts.drawer import (
     MAX_LINE_CHARS,
@@ -120,7 +121,7 @@ def test_failed_save_full_disk_keeps_old_file(tmp_path: Path,
     def full(_fd: int) -> None:
         raise OSError(errno.ENOSPC, os.strerror(errno.ENOSPC))
 
-    monkeypatch.setattr(drawer_module.os, "fsync", full)
+    monkeypatch.setattr(atomic_module.os, "fsync", full)
     with pytest.raises(TickbinError, match=r"not saved.*previous file is unchanged"):
         write_drawer(d)
     assert p.read_text() == PLAIN
@@ -135,7 +136,7 @@ def test_failed_save_read_only_folder_keeps_old_file(tmp_path: Path,
     def refuse(*_args: object, **_kwargs: object) -> tuple[int, str]:
         raise PermissionError(errno.EACCES, os.strerror(errno.EACCES))
 
-    monkeypatch.setattr(drawer_module.tempfile, "mkstemp", refuse)
+    monkeypatch.setattr(atomic_module.tempfile, "mkstemp", refuse)
     with pytest.raises(TickbinError, match="Permission denied"):
         write_drawer(d)
     assert p.read_text() == PLAIN and d.dirty

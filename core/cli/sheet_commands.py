@@ -8,6 +8,7 @@ main() injects as ``args.render_sheet``; core never imports Qt.
 from __future__ import annotations
 
 import argparse
+import contextlib
 from dataclasses import dataclass
 from pathlib import Path
 from typing import Any
@@ -21,7 +22,9 @@ from core.errors import InputError, SetupError, TickbinError
 from core.model.timing import Oscillator
 from core.output.netlist import model_prediction, simulate, spice_netlist
 from core.output.sheet import build_sheet, take_parts, voltage_ratings
-from core.parts.drawer import Drawer, write_drawer, write_text_atomically
+from core.parts.drawer import Drawer, write_drawer
+from core.storage.atomic import drawer_lock, real_target, same_file, write_text_atomically
+from core.storage.locations import demo_drawer_path
 from core.units import format_frequency
 
 PAGE_SIZES = ("A4", "Letter")
@@ -103,23 +106,35 @@ def design_from_args(args: argparse.Namespace) -> Design:
     return Design(osc, drawer, found[args.pick - 1], target, notes)
 
 
+def output_path(args: argparse.Namespace) -> Path:
+    """``--out`` as a path: an ordinary file (or a new one), never the drawer itself."""
+    if same_file(args.out, args.stock or demo_drawer_path()):
+        raise InputError(f"--out {args.out} is the drawer file itself; choose another "
+                         "file name")
+    real_target(args.out)
+    return Path(args.out)
+
+
 def run_sheet(args: argparse.Namespace) -> int:
     renderer = getattr(args, "render_sheet", None)
     if renderer is None:
         raise TickbinError("PDF output needs Qt (PySide6), which this installation lacks")
-    design = design_from_args(args)
     if args.take and args.stock is None:
         raise InputError("--take needs --stock FILE: the bundled demo drawer is not yours "
                          "to change")
-    drawer = design.drawer
-    sheet = build_sheet(design.osc, design.candidate, design.target, stock=drawer.parts(),
-                        ratings=voltage_ratings(drawer))
-    out = Path(args.out)
-    pages = renderer(sheet, out, page_size=args.page_size)
-    taken = []
-    if args.take:
-        taken = [t.to_json() for t in take_parts(drawer, sheet)]
-        write_drawer(drawer)
+    # --take is a read-modify-write: other runs on the same drawer wait for it, and a
+    # change made meanwhile by another program is refused by write_drawer.
+    out = output_path(args)
+    with drawer_lock(args.stock) if args.take else contextlib.nullcontext():
+        design = design_from_args(args)
+        drawer = design.drawer
+        sheet = build_sheet(design.osc, design.candidate, design.target, stock=drawer.parts(),
+                            ratings=voltage_ratings(drawer))
+        pages = renderer(sheet, out, page_size=args.page_size)
+        taken = []
+        if args.take:
+            taken = [t.to_json() for t in take_parts(drawer, sheet)]
+            write_drawer(drawer)
     result = {
         "out": str(out),
         "pages": pages,
@@ -149,12 +164,12 @@ def _sheet_text(result: dict[str, Any]) -> str:
 
 
 def run_netlist(args: argparse.Namespace) -> int:
+    out = output_path(args)
     design = design_from_args(args)
     if args.rotation is not None and not isinstance(design.candidate, TrimCandidate):
         raise InputError("--rotation applies to trim designs (--band)")
     text = spice_netlist(design.osc, design.candidate, rotation_pct=args.rotation,
                          title=f"Tickbin design for {design.target}")
-    out = Path(args.out)
     write_text_atomically(out, text, backup=False)
     pred = model_prediction(design.osc, design.candidate, args.rotation)
     model = {"frequency_hz": pred.frequency_hz, "period_s": pred.period_s,

@@ -259,7 +259,7 @@ def _path(name: str) -> Path:
 
 def save_calibration(cal: Calibration, name: str | None = None) -> Path:
     """Write ``cal`` under ``name`` (or its own name); returns the file written."""
-    from core.parts.drawer import write_text_atomically
+    from core.storage.atomic import write_text_atomically
 
     name = name or cal.name
     if not name:

@@ -13,13 +13,13 @@ import contextlib
 import csv
 import io
 import os
-import tempfile
 from collections.abc import Callable, Iterable, Iterator
 from dataclasses import dataclass, field
 from pathlib import Path
 from typing import Literal
 
 from core.errors import DrawerFileError, InputError, LineProblem, TickbinError
+from core.storage.atomic import FileTooLargeError, read_regular_file, write_text_atomically
 from core.units import Tolerance, parse_capacitance, parse_resistance, parse_tolerance
 
 Kind = Literal["R", "P", "C"]
@@ -568,7 +568,7 @@ def parse_drawer_text(text: str, name: str = "<drawer>") -> Drawer:
 
 
 def read_drawer(path: str | os.PathLike[str], *, strict: bool = True) -> Drawer:
-    """Read a drawer file.
+    """Read a drawer file (an ordinary file of at most ``MAX_FILE_BYTES``).
 
     With ``strict`` (the command line), a file with any bad line is refused as a
     whole, listing every bad line; without it (the window), bad cells stay in the
@@ -577,14 +577,11 @@ def read_drawer(path: str | os.PathLike[str], *, strict: bool = True) -> Drawer:
     p = Path(path)
     name = str(path)
     try:
-        size = p.stat().st_size
-        if size > MAX_FILE_BYTES:
-            raise DrawerFileError([LineProblem(
-                name, 1, f"file is {size / 1e6:.0f} MB; a drawer file may be at most "
-                f"{MAX_FILE_BYTES // 2**20} MiB")])
-        data = p.read_bytes()
-    except OSError as e:
-        raise TickbinError(f"{name}: cannot read: {e.strerror or e}") from None
+        data = read_regular_file(p, MAX_FILE_BYTES)
+    except FileTooLargeError:
+        raise DrawerFileError([LineProblem(
+            name, 1, f"file is larger than {MAX_FILE_BYTES / 2**20:g} MiB; a drawer file may "
+            "be at most that")]) from None
     drawer = parse_drawer_text(_decode(data, name), name)
     drawer.path = p
     if strict:
@@ -603,39 +600,6 @@ def drawer_csv_text(drawer: Drawer) -> str:
     for row in drawer.rows:
         writer.writerow([neutralise_formula(row.get(c)) for c in drawer.columns])
     return buf.getvalue()
-
-
-def write_text_atomically(path: str | os.PathLike[str], text: str, *, backup: bool = True) -> None:
-    """Write via a temporary file in the same folder, flushed and renamed over ``path``.
-
-    The previous file is kept as ``path + '.bak'``. On any failure the old file
-    is untouched and a ``TickbinError`` says why.
-    """
-    p = Path(path)
-    fd = None
-    tmp = None
-    try:
-        fd, tmp = tempfile.mkstemp(prefix=f".{p.name}.", suffix=".tmp", dir=p.parent)
-        with os.fdopen(fd, "w", encoding="utf-8", newline="") as f:
-            fd = None
-            f.write(text)
-            f.flush()
-            os.fsync(f.fileno())
-        if backup and p.exists():
-            bak = p.with_name(p.name + ".bak")
-            with contextlib.suppress(OSError):
-                bak.write_bytes(p.read_bytes())
-        os.replace(tmp, p)
-        tmp = None
-    except OSError as e:
-        raise TickbinError(f"{p}: not saved ({e.strerror or e}); the previous file is "
-                           "unchanged") from None
-    finally:
-        if fd is not None:
-            os.close(fd)
-        if tmp is not None:
-            with contextlib.suppress(OSError):
-                os.unlink(tmp)
 
 
 def write_drawer(drawer: Drawer, path: str | os.PathLike[str] | None = None) -> Path:

@@ -96,7 +96,7 @@ def test_declining_the_restore_discards_the_snapshot(qtbot, answers, make_window
                                          ("os.fsync", errno.ENOSPC)])
 def test_failed_save_keeps_old_file_edits_and_dirty_marker(qtbot, make_window, mine,
                                                            monkeypatch, where, code):
-    import core.parts.drawer
+    import core.storage.atomic
 
     window = make_window(stock=str(mine))
     before = mine.read_bytes()
@@ -105,7 +105,7 @@ def test_failed_save_keeps_old_file_edits_and_dirty_marker(qtbot, make_window, m
     window.drawer.set_cell(0, "note", "edit that must survive")
 
     module, name = where.split(".")
-    original = getattr(getattr(core.parts.drawer, module), name)
+    original = getattr(getattr(core.storage.atomic, module), name)
     folder = str(mine.parent)
 
     def fail(*args, **kwargs):
@@ -116,7 +116,7 @@ def test_failed_save_keeps_old_file_edits_and_dirty_marker(qtbot, make_window, m
         return original(*args, **kwargs)
 
     with monkeypatch.context() as patched:  # only around the save: pytest needs these too
-        patched.setattr(getattr(core.parts.drawer, module), name, fail)
+        patched.setattr(getattr(core.storage.atomic, module), name, fail)
         saved = window.save()
     assert saved is False
     assert mine.read_bytes() == before                     # old file intact
