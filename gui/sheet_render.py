@@ -9,6 +9,7 @@ from __future__ import annotations
 
 import math
 import sys
+import unicodedata
 from collections.abc import Sequence
 from pathlib import Path
 from typing import TYPE_CHECKING
@@ -177,22 +178,33 @@ class _Flow:
     # -- primitives in mm
     # Text is measured and drawn in device pixels (fonts are sized for the device's
     # resolution, so they must not go through the millimetre scale).
-    def text_height(self, text: str, width: float, font: QFont) -> float:
+    def _wrapping(self, text: str, width: float, font: QFont) -> tuple[float, Qt.TextFlag]:
+        """(height [mm], wrap flag) of ``text`` in ``width`` [mm]: at word boundaries, or
+        anywhere when one word (a long drawer location) would not fit the column."""
         fm = QFontMetricsF(font, self.device)
         k = self.scale
-        r = fm.boundingRect(QRectF(0, 0, width * k, 1e6), int(_WRAP), text)
-        return r.height() / k
+        box = QRectF(0, 0, width * k, 1e6)
+        r = fm.boundingRect(box, int(_WRAP), text)
+        if r.width() > width * k + 0.5:
+            r = fm.boundingRect(box, int(_WRAP_ANYWHERE), text)
+            return r.height() / k, _WRAP_ANYWHERE
+        return r.height() / k, _WRAP
+
+    def text_height(self, text: str, width: float, font: QFont) -> float:
+        return self._wrapping(sheet_text(text), width, font)[0]
 
     def draw_text(self, x: float, y: float, width: float, text: str, font: QFont,
                   align: Qt.AlignmentFlag = Qt.AlignmentFlag.AlignLeft,
                   colour: QColor | None = None) -> float:
+        """Draw ``text`` wrapped into ``width`` [mm] at (x, y) [mm]; returns its height."""
         k = self.scale
-        h = self.text_height(text, width, font)
+        text = sheet_text(text)
+        h, wrap = self._wrapping(text, width, font)
         self.p.save()
         self.p.resetTransform()
         self.p.setFont(font)
         self.p.setPen(colour or Qt.GlobalColor.black)
-        self.p.drawText(QRectF(x * k, y * k, width * k, h * k + 2), _WRAP | align, text)
+        self.p.drawText(QRectF(x * k, y * k, width * k, h * k + 2), wrap | align, text)
         self.p.restore()
         return h
 
@@ -387,6 +399,17 @@ class _Flow:
 
 
 _WRAP = Qt.TextFlag.TextWordWrap
+_WRAP_ANYWHERE = Qt.TextFlag.TextWrapAnywhere
+_BIDI_CONTROLS = frozenset("\u061c\u200e\u200f\u202a\u202b\u202c\u202d\u202e"
+                           "\u2066\u2067\u2068\u2069")
+
+
+def sheet_text(text: str) -> str:
+    """Text as the sheet prints it, the one filter for everything drawn: each line break
+    (LF to U+2029) becomes a space; other control characters and bidi overrides from a
+    drawer cell are dropped, so they draw no empty boxes and reorder nothing."""
+    return "".join(ch for ch in " ".join(text.splitlines())
+                   if unicodedata.category(ch) != "Cc" and ch not in _BIDI_CONTROLS)
 
 
 def _nice_step(raw: float) -> float:

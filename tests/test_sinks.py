@@ -11,6 +11,9 @@ from __future__ import annotations
 import csv
 import io
 import json
+import re
+import subprocess
+from html import unescape as html_unescape
 
 import pytest
 from support.sinks import (
@@ -192,3 +195,39 @@ def test_spreadsheet_export_neutralises_the_header_too(name):
             assert not cell.startswith(("=", "+", "-", "@", "\t", "\r")), cell
     again = parse_drawer_text(text)
     assert name.lower() in [c.lower() for c in again.columns]  # the prefix comes off again
+
+
+# ---------------------------------------------------------------- PDF
+
+LONG_LOCATION = "Garage_cabinet3_drawer12_boxA_left_rear"  # no break opportunity (UAX #14)
+
+
+def test_sheet_pdf_shows_long_locations_whole_and_no_control_characters(qapp, tmp_path):
+    """Read back with poppler's ``pdftotext -bbox`` (an outside tool): the long location
+    is all there and stays left of the Line column; control characters are gone."""
+    require_tool("pdftotext")
+    from core.output.sheet import build_sheet
+    from gui.sheet_render import render_sheet_pdf
+
+    path = tmp_path / "drawer.csv"
+    write_drawer_rows(path, [["R", "10k", "10", LONG_LOCATION, ""],
+                             ["C", "100n", "5", "B2\x1b[2J\nsecond\u2028third\x07\x85",
+                              "note\x0bone\x1b]0;x\x07"]])
+    parts = read_drawer(path).parts()
+    osc = make_oscillator("schmitt", "74HC14", 5.0)
+    sheet = build_sheet(osc, search(parts, osc, 700.0).candidates[0], "700 Hz", stock=parts)
+    pdf = tmp_path / "sheet.pdf"
+    render_sheet_pdf(sheet, pdf)
+    html = subprocess.run(["pdftotext", "-bbox", str(pdf), "-"], capture_output=True,
+                          text=True, check=True, timeout=60).stdout
+    words = [(float(x0), float(x1), html_unescape(w)) for x0, x1, w in re.findall(
+        r'<word xMin="([\d.]+)" yMin="[\d.]+" xMax="([\d.]+)" yMax="[\d.]+">([^<]*)</word>',
+        html)]
+    left = min(x0 for x0, _, w in words if w == "Location")
+    right = min(x0 for x0, _, w in words if w == "Line")  # the next column
+    column = "".join(w for x0, x1, w in words if left <= x0 and x1 <= right)
+    assert LONG_LOCATION in column  # wrapped inside its column, not cut off
+    assert {"second", "third"} <= {w for _, _, w in words}
+    text = subprocess.run(["pdftotext", str(pdf), "-"], capture_output=True, text=True,
+                          check=True, timeout=60).stdout
+    assert not [ch for ch in text if not (ch.isprintable() or ch in "\n\x0c ")]
