@@ -54,12 +54,3 @@ def test_errors_are_one_line_without_traceback(tmp_path: Path) -> None:
     usage = run("stock", "frobnicate")
     assert usage.returncode == 2 and len(usage.stderr.strip().splitlines()) == 1
 
-
-def test_installed_program_finds_its_resources_from_elsewhere(tmp_path: Path) -> None:
-    # Run from a folder that is not the checkout: the demo drawer must come with the install.
-    version = run("--version", cwd=tmp_path)
-    assert version.returncode == 0 and version.stdout.startswith("tickbin ")
-    probe = subprocess.run([sys.executable, "-c",
-                            "from core.storage.locations import demo_drawer_path as p; print(p())"],
-                           capture_output=True, text=True, cwd=tmp_path, timeout=60)
-    assert Path(probe.stdout.strip()).is_file()

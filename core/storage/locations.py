@@ -4,22 +4,23 @@ from __future__ import annotations
 
 import os
 import traceback
-from importlib import resources
-from importlib.abc import Traversable
 from pathlib import Path
+
+from core.resources import FOLDER
 
 DATA_DIR_ENV = "TICKBIN_DATA_DIR"
 """Set to move the data folder (tests point it at a temporary directory)."""
 
 
-def resource(name: str) -> Traversable:
-    """A bundled data file (``devices.toml``, ``demo_drawer.csv``), installed as core.resources."""
-    return resources.files("core.resources").joinpath(name)
+def resource(name: str) -> Path:
+    """A bundled data file (``devices.toml``, ``demo_drawer.csv``): the same lookup in a
+    checkout and an installed wheel, through ``core.resources.FOLDER``."""
+    return FOLDER / name
 
 
 def demo_drawer_path() -> Path:
-    """The bundled demo drawer as a file path (it is installed as a plain file)."""
-    return Path(str(resource("demo_drawer.csv")))
+    """The bundled demo drawer (installed as a plain file, so it has a path)."""
+    return resource("demo_drawer.csv")
 
 
 def data_dir() -> Path:
