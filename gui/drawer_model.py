@@ -66,8 +66,8 @@ class DrawerTableModel(QAbstractTableModel):
     def __init__(self, drawer: Drawer, parent: Any = None, *, checking: bool = True):
         super().__init__(parent)
         self.checking = checking
-        """False until the window is on screen: checking cells needs the unit registry,
-        which takes longer to build than the window (see ``start_checking``)."""
+        """False until the window is on screen: checking every cell of a large drawer
+        can wait until after the first paint (see ``start_checking``)."""
         self._drawer: Drawer | None = None
         self._columns: list[str] = []
         self._icon: QIcon | None = None
@@ -126,7 +126,7 @@ class DrawerTableModel(QAbstractTableModel):
         return self._by_row[1].get(row)
 
     def start_checking(self) -> None:
-        """Mark bad cells from now on (called once the unit registry is ready)."""
+        """Mark bad cells from now on (called once the window has painted and warmed up)."""
         if not self.checking:
             self.checking = True
             if self.rowCount():

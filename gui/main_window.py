@@ -15,7 +15,16 @@ from collections.abc import Iterator
 from pathlib import Path
 from typing import Any
 
-from PySide6.QtCore import QByteArray, QElapsedTimer, QItemSelectionModel, Qt, QTimer, Signal
+from PySide6.QtCore import (
+    QByteArray,
+    QElapsedTimer,
+    QEvent,
+    QItemSelectionModel,
+    QObject,
+    Qt,
+    QTimer,
+    Signal,
+)
 from PySide6.QtGui import QAction, QCloseEvent, QKeySequence
 from PySide6.QtWidgets import (
     QAbstractItemView,
@@ -54,6 +63,42 @@ DEBOUNCE_MS = 250
 """Quiet time after the last keystroke before a search starts."""
 
 CSV_FILTER = "Drawer files (*.csv *.txt);;All files (*)"
+
+FIRST_PAINT_WAIT_MS = 300
+"""Longest wait for the window's first paint before the warm-up starts anyway."""
+
+
+class _FirstPaint(QObject):
+    """Knows when the window has first painted and runs work queued for after that.
+
+    The worker's imports hold the interpreter, and a zero-delay timer fires
+    before the first paint, so they would delay the first picture.
+    """
+
+    def __init__(self, window: QWidget):
+        super().__init__(window)
+        self._painted = False
+        self._waiting: list[Any] = []
+        window.installEventFilter(self)
+
+    def eventFilter(self, watched: QObject, event: QEvent) -> bool:  # noqa: N802 - Qt's name
+        if event.type() == QEvent.Type.Paint and not self._painted:
+            self._painted = True
+            watched.removeEventFilter(self)
+            QTimer.singleShot(0, self, self._run)  # after the rest of this paint
+        return False
+
+    def then(self, work: Any) -> None:
+        """Run ``work`` after the first paint (at once if it is done; at the latest after
+        ``FIRST_PAINT_WAIT_MS``)."""
+        self._waiting.append(work)
+        QTimer.singleShot(0 if self._painted else FIRST_PAINT_WAIT_MS, self, self._run)
+
+    def _run(self) -> None:
+        waiting, self._waiting = self._waiting, []
+        for work in waiting:
+            work()
+
 
 def _unique(keys: list[QKeySequence]) -> list[QKeySequence]:
     """Key sequences without repeats, first one first."""
@@ -105,7 +150,7 @@ class MainWindow(QMainWindow):
         drawer, note = self._initial_drawer(stock)
         self.untitled = "demo drawer (a copy)"
         """Title shown while the drawer has no file."""
-        self._ready = False  # the unit registry is built in the worker after the window shows
+        self._ready = False  # the worker imports the search and plots after the first paint
         self._pending = False
         self.drawer_model = DrawerTableModel(drawer, self, checking=False)
         self.drawer_panel = DrawerPanel(self.drawer_model)
@@ -140,6 +185,7 @@ class MainWindow(QMainWindow):
         self._announce = False
         """Emit sigSearchDone once the plots of the new result are drawn."""
         self.runner = SearchRunner(self)
+        self._first_paint = _FirstPaint(self)
         self._build_layout()
         self._build_actions()
         self._build_status_bar()
@@ -401,7 +447,7 @@ class MainWindow(QMainWindow):
             self._pending = True
             self.say("Getting ready…")
             self.runner.sigReady.connect(self._became_ready)
-            self.runner.warm_up()
+            self._first_paint.then(self.runner.warm_up)
 
     def _became_ready(self) -> None:
         """The worker has imported the slow modules: search, then make the plots in steps."""

@@ -26,8 +26,8 @@ from gui.target_form import Target
 TOP = 20
 """Candidates asked for (the table scrolls)."""
 
-INDEX_CACHE = 6
-"""Drawer indexes kept (per drawer state and network sizes): undo is instant."""
+INDEX_CACHE = 8
+"""Network indexes kept (per kind, network size and electrical content): undo is instant."""
 
 
 class SupersededError(Exception):
@@ -55,39 +55,61 @@ def make_oscillator_for(target: Target) -> Any:
 
 
 class _Indexes:
-    """Drawer indexes by (parts, network sizes), shared by requests (guarded by a lock)."""
+    """Resistor and capacitor indexes, each cached on its kind's electrical content only
+    (``core.parts.networks.electrical_key``): editing a location or note, or the other
+    kind, rebuilds nothing. Shared by requests (guarded by a lock)."""
 
     def __init__(self) -> None:
         self._lock = threading.Lock()
         self._cache: OrderedDict[tuple[Any, ...], Any] = OrderedDict()
 
+    @staticmethod
+    def _keys(parts: tuple[Part, ...], max_resistors: int,
+              max_capacitors: int) -> dict[str, tuple[Any, ...]]:
+        from core.parts.networks import electrical_key
+
+        return {kind: (kind, size, electrical_key(parts, kind))
+                for kind, size in (("R", max_resistors), ("C", max_capacitors))}
+
     def get(self, parts: tuple[Part, ...], max_resistors: int, max_capacitors: int,
             step: Callable[[str, float], None]) -> Any:
-        """The index, built with progress reports through ``step`` when not cached."""
-        from core.parts.networks import build_drawer_index
+        """The drawer index, building a kind with progress through ``step`` when not cached."""
+        from core.parts.networks import DrawerIndex, build_index, drawer_pots
 
-        key = (parts, max_resistors, max_capacitors)
+        built = {}
+        keys = self._keys(parts, max_resistors, max_capacitors)
         with self._lock:
-            if key in self._cache:
-                self._cache.move_to_end(key)
-                return self._cache[key]
-        steps = build_drawer_index(parts, max_resistors, max_capacitors)
-        while True:
-            try:
-                fraction = next(steps)
-            except StopIteration as done:
-                index = done.value
-                break
-            step("Building the parts index…", fraction)
-        with self._lock:
-            self._cache[key] = index
-            while len(self._cache) > INDEX_CACHE:
-                self._cache.popitem(last=False)
-        return index
+            missing = [kind for kind, key in keys.items() if key not in self._cache]
+        # Progress over what is built: three-resistor layers dominate the work.
+        share = {"R": 0.9 if max_resistors >= 3 else 0.5} if len(missing) == 2 else {}
+        start = 0.0
+        for kind, key in keys.items():
+            with self._lock:
+                index = self._cache.get(key)
+                if index is not None:
+                    self._cache.move_to_end(key)
+            if index is None:
+                width = share.get(kind, 1.0 - start)
+                steps = build_index(parts, kind, key[1])  # type: ignore[arg-type]
+                while True:
+                    try:
+                        fraction = next(steps)
+                    except StopIteration as done:
+                        index = done.value
+                        break
+                    step("Building the parts index…", start + width * fraction)
+                start += width
+                with self._lock:
+                    self._cache[key] = index
+                    while len(self._cache) > INDEX_CACHE:
+                        self._cache.popitem(last=False)
+            built[kind] = index.over(parts)
+        return DrawerIndex(built["R"], built["C"], drawer_pots(parts))
 
     def cached(self, parts: tuple[Part, ...], max_resistors: int, max_capacitors: int) -> bool:
+        keys = self._keys(parts, max_resistors, max_capacitors).values()
         with self._lock:
-            return (parts, max_resistors, max_capacitors) in self._cache
+            return all(key in self._cache for key in keys)
 
 
 def compute(target: Target, parts: tuple[Part, ...], indexes: _Indexes,
@@ -121,8 +143,9 @@ class _Signals(QObject):
 
 
 class _WarmUp(QRunnable):
-    """Build the unit registry and import the search, plot and sheet modules off the
-    window's thread (imports only: the plot widgets are made on the window's thread)."""
+    """Import the search, plot and sheet modules off the window's thread, once the window
+    has painted (imports hold the interpreter; the plot widgets are made on the window's
+    thread)."""
 
     def __init__(self, signals: _Signals):
         super().__init__()
@@ -131,10 +154,8 @@ class _WarmUp(QRunnable):
     def run(self) -> None:
         from core.design import search, trim  # noqa: F401 - imported for later
         from core.model import spread, timing  # noqa: F401
-        from core.units import registry
         from gui import plots, sheet_render  # noqa: F401 - pyqtgraph's import is the slow part
 
-        registry()
         self.signals.ready.emit()
 
 

@@ -20,7 +20,14 @@ from hypothesis import strategies as st
 
 from core.errors import InputError
 from core.parts.drawer import Part
-from core.parts.networks import RESOLUTION, Node, build_drawer_index, build_index, index_of
+from core.parts.networks import (
+    RESOLUTION,
+    Node,
+    build_drawer_index,
+    build_index,
+    electrical_key,
+    index_of,
+)
 from core.units import Tolerance
 
 FIVE = Tolerance(0.05, 0.05)
@@ -360,3 +367,27 @@ def test_the_steadiest_network_of_a_value_wins_its_bucket() -> None:
     assert index.stability.max() == 0
     steadier = index.steadiness(np.arange(len(index)))
     assert steadier == pytest.approx(np.full(len(index), 0.2), rel=1e-12)
+
+
+def test_an_index_serves_the_same_parts_in_other_places() -> None:
+    # A location, note or line-number edit changes nothing electrical: the index built
+    # before hands out the current lines; any other change is a different key.
+    from dataclasses import replace
+
+    parts = [part("R", 10e3, 2), part("R", 4.7e3, 1, line=3), part("C", 1e-9, 2, line=4)]
+    index = index_of(parts, "R", 2)
+    moved = [replace(p, location="drawer B", note="checked", line=(p.line or 0) + 10)
+             for p in parts]
+    assert electrical_key(moved, "R") == electrical_key(parts, "R")
+    served = index.over(moved)
+    entry = int(np.flatnonzero(np.isclose(served.values, 14.7e3))[0])
+    (node,) = served.nodes([entry])
+    assert {p.location for p in node.parts()} == {"drawer B"}
+    assert sorted(p.stock_line for p in node.parts()) == [12, 13]
+    for changed in (replace(parts[0], quantity=3), replace(parts[0], value=12e3),
+                    replace(parts[0], tolerance=Tolerance(0.01, 0.01))):
+        assert electrical_key([changed, *parts[1:]], "R") != electrical_key(parts, "R")
+    assert electrical_key([replace(parts[2], quantity=5), *parts[:2]], "R") == \
+        electrical_key(parts, "R")
+    with pytest.raises(ValueError):
+        index.over([replace(parts[0], value=12e3), *parts[1:]])

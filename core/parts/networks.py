@@ -41,6 +41,7 @@ Horowitz & Hill, The Art of Electronics, 3rd ed., §1.2.1 and §1.4.1).
 
 from __future__ import annotations
 
+import copy
 import math
 from collections import Counter
 from collections.abc import Callable, Generator, Iterable, Iterator
@@ -151,9 +152,17 @@ def _group_key(part: Part) -> tuple[Any, ...]:
     return (part.kind, part.value, part.dielectric)
 
 
-def _closest_first(part: Part) -> tuple[float, float, int]:
+def _closest_first(part: Part) -> tuple[float, float, float, int]:
     tol = part.tolerance
-    return (max(tol.minus, tol.plus), tol.minus + tol.plus, part.stock_line)
+    return (max(tol.minus, tol.plus), tol.minus + tol.plus, tol.minus, part.stock_line)
+
+
+def electrical_key(parts: Iterable[Part], kind: str) -> tuple[Any, ...]:
+    """All that the ``kind`` index depends on: value, dielectric, tolerance and quantity of
+    each stocked line, not its location, note or line number (editing those rebuilds
+    nothing; ``NetworkIndex.over`` hands out the current lines)."""
+    return tuple(sorted((p.value, p.dielectric, p.tolerance.minus, p.tolerance.plus,
+                         p.quantity) for p in parts if p.kind == kind and p.quantity > 0))
 
 
 def group_parts(parts: Iterable[Part], kind: str) -> list[list[Part]]:
@@ -332,6 +341,16 @@ class NetworkIndex:
 
     def __len__(self) -> int:
         return len(self.values)
+
+    def over(self, parts: Iterable[Part]) -> NetworkIndex:
+        """This index handing out the lines of ``parts``, whose ``electrical_key`` is the
+        one it was built for (only locations, notes or line numbers differ)."""
+        groups = group_parts(parts, self.kind)
+        if not np.array_equal(_group_values(groups), self.group_values):
+            raise ValueError("the index was built for other parts")
+        clone = copy.copy(self)
+        clone.groups = groups
+        return clone
 
     @property
     def nbytes(self) -> int:
@@ -753,12 +772,16 @@ def build_drawer_index(parts: Iterable[Part], max_resistors: int = 2, max_capaci
     resistors = yield from _rescaled(build_index(parts, "R", max_resistors), 0.0, share)
     capacitors = yield from _rescaled(build_index(parts, "C", max_capacitors), share,
                                       1.0 - share)
+    return DrawerIndex(resistors, capacitors, drawer_pots(parts))
+
+
+def drawer_pots(parts: Iterable[Part]) -> tuple[Part, ...]:
+    """The pots in stock, one line per value, tolerance and taper, by value."""
     pots: dict[tuple[Any, ...], Part] = {}
     for part in parts:
         if part.kind == "P" and part.quantity > 0:
-            pots.setdefault((*_group_key(part), part.taper), part)
-    return DrawerIndex(resistors, capacitors, tuple(sorted(pots.values(),
-                                                           key=lambda p: p.value)))
+            pots.setdefault((part.value, part.tolerance, part.taper), part)
+    return tuple(sorted(pots.values(), key=lambda p: p.value))
 
 
 def drawer_index(parts: Iterable[Part], max_resistors: int = 2,

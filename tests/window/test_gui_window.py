@@ -357,6 +357,22 @@ def test_index_build_reports_progress(qtbot, window):
     assert steps == sorted(steps) and 0 < steps[0] < 1
 
 
+def test_a_location_edit_rebuilds_no_index(qtbot, window):
+    # Indexes are cached on electrical content only: moving a part to another bin
+    # searches again at once and the candidate names the new place.
+    search_done(qtbot, window, lambda: window.form.max_r.setValue(3))
+    used = {p.row for node in window.selected_candidate().networks.values()
+            for p in node.parts()}
+    row = min(used)
+    target = window.current_target()
+    assert not window.runner.needs_index(target, tuple(window.drawer.parts()))
+    fractions = []
+    window.runner.sigProgress.connect(lambda gen, text, f: fractions.append(text))
+    search_done(qtbot, window, lambda: window.drawer.set_cell(row, "location", "tray 9"))
+    assert not any(text.startswith("Building") for text in fractions)
+    assert "tray 9" in window.details.text()
+
+
 def test_import_adds_rows_as_one_step_and_keeps_bad_cells(qtbot, window, tmp_path,
                                                            monkeypatch):
     from gui.main_window import MainWindow
