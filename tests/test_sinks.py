@@ -231,3 +231,21 @@ def test_sheet_pdf_shows_long_locations_whole_and_no_control_characters(qapp, tm
     text = subprocess.run(["pdftotext", str(pdf), "-"], capture_output=True, text=True,
                           check=True, timeout=60).stdout
     assert not [ch for ch in text if not (ch.isprintable() or ch in "\n\x0c ")]
+
+
+# ---------------------------------------------------------------- calibration names
+
+@pytest.mark.parametrize("name", ["bench\n", "bench\r\n", "", "\n", "-bench", "a/b"])
+def test_calibration_names_are_refused_whole(name, capsys):
+    """A name becomes a file name: letters, digits, _ . - only, nothing after them."""
+    from core.errors import InputError
+    from core.model.calibration import calibrations_dir, check_name
+
+    with pytest.raises(InputError):
+        check_name(name)
+    code, _out, err = _tickbin(capsys, "calibrate", "--family", "74HC14", "--supply", "5V",
+                              "--r", "10k", "--c", "100n", "--measured", "760Hz",
+                              f"--save={name}")
+    assert code == 2
+    assert "name" in err and len(err.strip().splitlines()) == 1
+    assert not any(calibrations_dir().glob("*.json"))

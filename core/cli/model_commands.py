@@ -15,6 +15,7 @@ from core.errors import InputError, TickbinError
 from core.model.calibration import (
     Calibration,
     Measurement,
+    check_name,
     fit,
     list_calibrations,
     save_calibration,
@@ -65,7 +66,7 @@ def register(commands: argparse._SubParsersAction) -> None:
     cal.add_argument("--measurements", metavar="FILE.csv",
                      help="several readings for a least-squares fit: columns r, c (or ra, "
                      "rb, c), frequency and optionally duty")
-    cal.add_argument("--save", metavar="NAME",
+    cal.add_argument("--save", metavar="NAME", type=arg_type(check_name, "name"),
                      help="store the result as a named calibration (use with --calibration)")
     cal.add_argument("--list", action="store_true", help="list the saved calibrations")
     add_json_option(cal)

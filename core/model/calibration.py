@@ -35,7 +35,7 @@ if TYPE_CHECKING:
     from core.model.timing import Oscillator
 
 FORMAT_VERSION = 1
-_NAME = re.compile(r"^[A-Za-z0-9][A-Za-z0-9_.-]{0,63}$")
+_NAME = re.compile(r"[A-Za-z0-9][A-Za-z0-9_.-]{0,63}")  # fullmatch: "$" lets a final "\n" by
 
 
 @dataclass(frozen=True)
@@ -247,7 +247,7 @@ def calibrations_dir() -> Path:
 
 def check_name(name: str) -> str:
     """A calibration name usable as a file name (letters, digits, ``_ . -``)."""
-    if not isinstance(name, str) or not _NAME.match(name):
+    if not isinstance(name, str) or not _NAME.fullmatch(name):
         raise InputError("a calibration name uses letters, digits, _ . - (up to 64, "
                          "starting with a letter or digit)", text=str(name), what="name")
     return name
