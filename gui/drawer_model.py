@@ -54,6 +54,11 @@ BAD_BACKGROUND = QColor(253, 226, 222)
 BAD_FOREGROUND = QColor(140, 28, 20)
 USED_BACKGROUND = QColor(250, 236, 190)
 """Rows the selected candidate takes parts from: a warm tint, unlike selection or errors."""
+MARKING_ROLES = frozenset({
+    PROBLEM_ROLE, Qt.ItemDataRole.ToolTipRole, Qt.ItemDataRole.AccessibleDescriptionRole,
+    Qt.ItemDataRole.BackgroundRole, Qt.ItemDataRole.ForegroundRole,
+    Qt.ItemDataRole.DecorationRole})
+"""Roles that show a bad cell or a used row; the others need no look at the problems."""
 
 
 class DrawerTableModel(QAbstractTableModel):
@@ -206,34 +211,38 @@ class DrawerTableModel(QAbstractTableModel):
         if role == Qt.ItemDataRole.DisplayRole:
             used = self._used.get(row)
             return f"{text} (use {used})" if used and column == "quantity" else text
-        if role == PROBLEM_ROLE:
-            return self._problem(row, column)
         if role == USED_ROLE:
             return self._used.get(row, 0)
+        if role == SORT_ROLE:
+            return self._sort_key(row, column, text)
+        return self._marking(row, column, text, role) if role in MARKING_ROLES else None
+
+    def _marking(self, row: int, column: str, text: str, role: int) -> Any:
+        """How a bad cell, or a row the selected candidate takes parts from, is shown."""
+        problem = self._problem(row, column)
+        if role == PROBLEM_ROLE:
+            return problem
         if role == Qt.ItemDataRole.ToolTipRole:
-            problem = self._problem(row, column)
-            if problem:
-                shown = f"“{text}”" if text.strip() else "This cell"
-                return f"{shown} is not usable: {problem}"
-            used = self._used.get(row)
-            if used:
-                return (f"The selected candidate takes {used} part{'s' if used > 1 else ''} "
-                        f"from this row")
-            return HINTS.get(column)
+            return self._tooltip(row, column, text, problem)
         if role == Qt.ItemDataRole.AccessibleDescriptionRole:
-            problem = self._problem(row, column)
             return f"problem: {problem}" if problem else None
         if role == Qt.ItemDataRole.BackgroundRole:
-            if self._problem(row, column):
+            if problem:
                 return QBrush(BAD_BACKGROUND)
             return QBrush(USED_BACKGROUND) if row in self._used else None
         if role == Qt.ItemDataRole.ForegroundRole:
-            return QBrush(BAD_FOREGROUND) if self._problem(row, column) else None
-        if role == Qt.ItemDataRole.DecorationRole:
-            return self._warning_icon() if self._problem(row, column) else None
-        if role == SORT_ROLE:
-            return self._sort_key(row, column, text)
-        return None
+            return QBrush(BAD_FOREGROUND) if problem else None
+        return self._warning_icon() if problem else None  # DecorationRole
+
+    def _tooltip(self, row: int, column: str, text: str, problem: str | None) -> str | None:
+        if problem:
+            shown = f"“{text}”" if text.strip() else "This cell"
+            return f"{shown} is not usable: {problem}"
+        used = self._used.get(row)
+        if used:
+            return (f"The selected candidate takes {used} part{'s' if used > 1 else ''} "
+                    "from this row")
+        return HINTS.get(column)
 
     def _warning_icon(self) -> QIcon:
         if self._icon is None:

@@ -8,6 +8,7 @@ check enumerates every network of a small drawer with plain nested loops.
 
 from __future__ import annotations
 
+import itertools
 import math
 from collections import Counter
 from collections.abc import Generator
@@ -66,6 +67,16 @@ def test_a_node_is_one_part_or_several_children() -> None:
         Node()
 
 
+def _series(kind: str, x: float, y: float) -> float:
+    """Series resistors add, series capacitors add as reciprocals (Horowitz & Hill, The Art
+    of Electronics, 3rd ed., §1.2.1, §1.4.1); in parallel the other way round."""
+    return x * y / (x + y) if kind == "C" else x + y
+
+
+def _parallel(kind: str, x: float, y: float) -> float:
+    return x + y if kind == "C" else x * y / (x + y)
+
+
 def _plain_networks(values: list[float], quantities: list[int], kind: str,
                     max_parts: int, polarised: list[bool] | None = None
                     ) -> list[tuple[float, int]]:
@@ -75,38 +86,32 @@ def _plain_networks(values: list[float], quantities: list[int], kind: str,
     common practice, no published source).
     """
     pol = polarised or [False] * len(values)
-    def ser(x: float, y: float) -> float:
-        return x * y / (x + y) if kind == "C" else x + y
 
-    def par(x: float, y: float) -> float:
-        return x + y if kind == "C" else x * y / (x + y)
+    def stocked(*lines: int) -> bool:
+        return all(quantities[g] >= m for g, m in Counter(lines).items())
 
-    out = []
+    def polar(*lines: int) -> bool:
+        return any(pol[g] for g in lines)
+
     n = len(values)
-    for a in range(n):
-        if quantities[a] >= 1:
-            out.append((values[a], 1))
+    out = [(values[a], 1) for a in range(n) if stocked(a)]
     if max_parts >= 2:
-        for a in range(n):
-            for b in range(n):
-                use = Counter([a, b])
-                if all(quantities[g] >= m for g, m in use.items()):
-                    if not (pol[a] or pol[b]):
-                        out.append((ser(values[a], values[b]), 2))
-                    out.append((par(values[a], values[b]), 2))
+        for a, b in itertools.product(range(n), repeat=2):
+            if stocked(a, b):
+                if not polar(a, b):
+                    out.append((_series(kind, values[a], values[b]), 2))
+                out.append((_parallel(kind, values[a], values[b]), 2))
     if max_parts >= 3:
-        for a in range(n):
-            for b in range(n):
-                for c in range(n):
-                    use = Counter([a, b, c])
-                    if not all(quantities[g] >= m for g, m in use.items()):
-                        continue
-                    x, y, z = values[a], values[b], values[c]
-                    out.append((par(par(x, y), z), 3))
-                    if not (pol[a] or pol[b]):
-                        out.append((par(ser(x, y), z), 3))
-                    if not (pol[a] or pol[b] or pol[c]):
-                        out += [(ser(ser(x, y), z), 3), (ser(par(x, y), z), 3)]
+        for a, b, c in itertools.product(range(n), repeat=3):
+            if not stocked(a, b, c):
+                continue
+            x, y, z = values[a], values[b], values[c]
+            out.append((_parallel(kind, _parallel(kind, x, y), z), 3))
+            if not polar(a, b):
+                out.append((_parallel(kind, _series(kind, x, y), z), 3))
+            if not polar(a, b, c):
+                out += [(_series(kind, _series(kind, x, y), z), 3),
+                        (_series(kind, _parallel(kind, x, y), z), 3)]
     return out
 
 

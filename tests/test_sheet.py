@@ -47,8 +47,8 @@ def _on_segment(r, p, q) -> bool:
     return abs(cross) < 1e-9 and inside
 
 
-def _nets(drawing: sch.Schematic):
-    """Union-find of drawn points: wires join their points and any point lying on them."""
+def _drawn_points(drawing: sch.Schematic) -> set:
+    """Every point a wire, a part's pin, a ground or supply symbol or a terminal sits on."""
     points = set()
     for item in drawing.items:
         if isinstance(item, sch.Wire):
@@ -58,6 +58,12 @@ def _nets(drawing: sch.Schematic):
         elif isinstance(item, sch.Ground | sch.Supply):
             points.add(_key(item.at))
     points.update(_key(p) for p in drawing.terminals.values())
+    return points
+
+
+def _nets(drawing: sch.Schematic):
+    """Union-find of drawn points: wires join their points and any point lying on them."""
+    points = _drawn_points(drawing)
     parent = {p: p for p in points}
 
     def find(p):
