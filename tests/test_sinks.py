@@ -249,3 +249,16 @@ def test_calibration_names_are_refused_whole(name, capsys):
     assert code == 2
     assert "name" in err and len(err.strip().splitlines()) == 1
     assert not any(calibrations_dir().glob("*.json"))
+
+
+# ---------------------------------------------------------------- small ones
+
+@pytest.mark.parametrize("measured", ["10Hz", "1Hz", "0.001Hz"])
+def test_a_far_off_measurement_gets_a_clear_message(measured, capsys):
+    """10 kΩ and 100 nF on a 74HC14 at 5 V run near 760 Hz (RC ln ratio of the data
+    sheet's thresholds); no thresholds between the rails slow them to ``measured``."""
+    code, _out, err = _tickbin(capsys, "calibrate", "--family", "74HC14", "--supply", "5V",
+                              "--r", "10k", "--c", "100n", "--measured", measured)
+    assert code == 2
+    assert "internal error" not in err and "broadcast" not in err
+    assert "no thresholds" in err and len(err.strip().splitlines()) == 1

@@ -118,13 +118,19 @@ def _residuals(osc: Oscillator, measurements: Sequence[Measurement], vt_plus: fl
                                                  vt_minus))
         period = 1.0 / m.frequency_hz
         if not (math.isfinite(t_high) and math.isfinite(t_low)):
-            return np.full(2 * len(measurements), np.inf)
+            return _no_fit(measurements)
         if m.duty_pct is None:
             out.append(math.log((t_high + t_low) / period))
         else:
             out.append(math.log(t_high / (period * m.duty_pct / 100)))
             out.append(math.log(t_low / (period * (1 - m.duty_pct / 100))))
     return np.array(out)
+
+
+def _no_fit(measurements: Sequence[Measurement]) -> np.ndarray:
+    """Infinite misfits, as many as ``_residuals`` gives (two per reading with a duty,
+    else one), so the solver can compare them with finite ones."""
+    return np.full(sum(1 if m.duty_pct is None else 2 for m in measurements), np.inf)
 
 
 def _least_squares(fun: Callable[[np.ndarray], np.ndarray], p0: np.ndarray) -> np.ndarray:
@@ -187,13 +193,13 @@ def fit(osc: Oscillator, measurements: Sequence[Measurement],
     if both:
         def fun(p: np.ndarray) -> np.ndarray:
             if not feasible(p[0], p[1]):
-                return np.full(2 * len(ms), np.inf)
+                return _no_fit(ms)
             return _residuals(osc, ms, p[0], p[1])
         a, b = _least_squares(fun, np.array([a0, b0]))
     else:
         def fun(p: np.ndarray) -> np.ndarray:
             if not feasible(p[0] * a0, p[0] * b0):
-                return np.full(2 * len(ms), np.inf)
+                return _no_fit(ms)
             return _residuals(osc, ms, p[0] * a0, p[0] * b0)
         (s,) = _least_squares(fun, np.array([1.0]))
         a, b = s * a0, s * b0
