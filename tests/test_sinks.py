@@ -262,3 +262,20 @@ def test_a_far_off_measurement_gets_a_clear_message(measured, capsys):
     assert code == 2
     assert "internal error" not in err and "broadcast" not in err
     assert "no thresholds" in err and len(err.strip().splitlines()) == 1
+
+
+@pytest.mark.parametrize(("content", "line", "words"), [
+    (b"r,c,frequency\n10k,100n,760Hz,extra\n", 2, "fields"),
+    (b"r,c,frequency\n\n10k,100n,760Hz\n10k,100n,760Hz\xff\n", 4, "UTF-8"),
+    (b"r,c,frequency\n10k,100n,\"" + b"7" * 140_000 + b"\"\n", 2, "larger"),
+    (b"r,c,frequency\n10k,100n,760Hz\n\n10k,100n\n", 4, "needs frequency"),
+])
+def test_measurement_files_give_one_line_naming_file_and_line(content, line, words, tmp_path,
+                                                                capsys):
+    path = tmp_path / "bench.csv"
+    path.write_bytes(content)
+    code, _out, err = _tickbin(capsys, "calibrate", "--family", "74HC14", "--supply", "5V",
+                               "--measurements", str(path))
+    assert code == 2
+    assert len(err.strip().splitlines()) == 1 and "internal error" not in err
+    assert f"{path}:{line}:" in err and words in err

@@ -4,9 +4,9 @@ from __future__ import annotations
 
 import argparse
 import csv
+import io
 import math
-from collections.abc import Callable
-from pathlib import Path
+from collections.abc import Callable, Iterator
 from typing import Any
 
 from core.cli.circuit_options import add_circuit_options, oscillator_from_args
@@ -23,6 +23,7 @@ from core.model.calibration import (
 from core.model.devices import device_table
 from core.model.spread import monte_carlo
 from core.model.timing import Oscillator, default_tolerances, predict
+from core.storage.atomic import read_regular_file
 from core.units import (
     Tolerance,
     format_part_value,
@@ -180,16 +181,45 @@ def _predict_text(r: dict[str, Any]) -> str:
 
 # ---------------------------------------------------------------- calibrate
 
+MEASUREMENT_FILE_BYTES = 1 << 20
+"""A bench log of readings is a few lines; anything larger is the wrong file."""
+
+
+def _measurement_rows(path: str) -> Iterator[tuple[int, dict[str, str]]]:
+    """(line, cells by lower-case header) of a measurements CSV file, UTF-8 (BOM allowed).
+
+    Every problem is one TickbinError naming the file and line.
+    """
+    data = read_regular_file(path, MEASUREMENT_FILE_BYTES)
+    try:
+        text = data.decode("utf-8-sig")
+    except UnicodeDecodeError as e:
+        line = data[:e.start].count(b"\n") + 1
+        raise TickbinError(f"{path}:{line}: byte 0x{data[e.start]:02x} is not UTF-8 text; "
+                           "save the file as UTF-8") from None
+    reader = csv.reader(io.StringIO(text, newline=""))
+    header: list[str] | None = None
+    end = 0
+    try:
+        for record in reader:
+            line, end = end + 1, reader.line_num  # a quoted field may span lines
+            if not any(cell.strip() for cell in record):
+                continue
+            if header is None:
+                header = [cell.strip().lower() for cell in record]
+            elif any(cell.strip() for cell in record[len(header):]):
+                raise TickbinError(f"{path}:{line}: {len(record)} fields but the header has "
+                                   f"{len(header)}")
+            else:
+                yield line, {h: v.strip() for h, v in zip(header, record, strict=False)}
+    except csv.Error as e:
+        raise TickbinError(f"{path}:{reader.line_num}: CSV: {e}") from None
+
+
 def _read_measurements(path: str, osc: Oscillator) -> list[Measurement]:
     keys = ("r", "c") if osc.circuit == "schmitt" else ("ra", "rb", "c")
-    try:
-        text = Path(path).read_text(encoding="utf-8-sig")
-    except OSError as e:
-        raise TickbinError(f"{path}: cannot read: {e.strerror or e}") from None
-    rows = list(csv.DictReader(text.splitlines()))
     out = []
-    for line, row in enumerate(rows, start=2):
-        row = {(k or "").strip().lower(): (v or "").strip() for k, v in row.items()}
+    for line, row in _measurement_rows(path):
         try:
             missing = [k for k in (*keys, "frequency") if not row.get(k)]
             if missing:
