@@ -260,18 +260,6 @@ def _ranks(usage: np.ndarray) -> np.ndarray:
     return ranks
 
 
-def _value_table(groups: list[list[Part]]) -> np.ndarray:
-    """Nominal value of every part a network takes from each group, shape (groups, 3)."""
-    return np.repeat(_group_values(groups)[:, None], MAX_PARTS, axis=1)
-
-
-def _slots(table: np.ndarray, usage: np.ndarray) -> np.ndarray:
-    """Each part's value from ``table`` (groups × 3: by how many parts of its group came
-    before it in the network), NaN where there is no part."""
-    used = usage >= 0
-    return np.where(used, table[np.where(used, usage, 0), _ranks(usage)], np.nan)
-
-
 def within_stock(usage: np.ndarray, quantity: np.ndarray) -> np.ndarray:
     """True where no group is used more often than it has parts (usage -1 = no part)."""
     used = usage >= 0
@@ -289,18 +277,17 @@ def network_values(topology: np.ndarray, slots: np.ndarray, kind: str) -> np.nda
     tolerance extremes; both series and parallel combinations rise with every
     part, so extremes map to extremes.
     """
-    a, b, c = slots[:, 0], slots[:, 1], slots[:, 2]
     ser, par = combiners(kind)
+    shapes: dict[int, Callable[[Any, Any, Any], Any]] = {
+        SINGLE: lambda a, b, c: a, SERIES2: lambda a, b, c: ser(a, b),
+        PARALLEL2: lambda a, b, c: par(a, b), SERIES3: lambda a, b, c: ser(ser(a, b), c),
+        PARALLEL3: lambda a, b, c: par(par(a, b), c),
+        PAR_THEN_SERIES: lambda a, b, c: ser(par(a, b), c),
+        SER_THEN_PARALLEL: lambda a, b, c: par(ser(a, b), c)}
     out = np.empty(len(topology))
-    for code, fn in ((SINGLE, lambda: a), (SERIES2, lambda: ser(a, b)),
-                     (PARALLEL2, lambda: par(a, b)), (SERIES3, lambda: ser(ser(a, b), c)),
-                     (PARALLEL3, lambda: par(par(a, b), c)),
-                     (PAR_THEN_SERIES, lambda: ser(par(a, b), c)),
-                     (SER_THEN_PARALLEL, lambda: par(ser(a, b), c))):
+    for code in np.unique(topology):
         m = topology == code
-        if m.any():
-            with np.errstate(invalid="ignore"):
-                out[m] = fn()[m]
+        out[m] = shapes[int(code)](*(slots[m, k] for k in range(MAX_PARTS)))
     return out
 
 
@@ -328,10 +315,13 @@ class NetworkIndex:
         self.group_quantity = _group_quantities(groups)
         self.topology = topology
         self.usage = usage
-        self.values = network_values(topology, _slots(_value_table(groups), usage), kind)
+        used = usage >= 0
+        at = (np.where(used, usage, 0), _ranks(usage))  # each part: its group, its rank there
         part_lo, part_hi = _part_ranges(groups)
-        self.lo = network_values(topology, _slots(part_lo, usage), kind)
-        self.hi = network_values(topology, _slots(part_hi, usage), kind)
+        self.values = network_values(topology, np.where(used, self.group_values[at[0]], np.nan),
+                                     kind)
+        self.lo = network_values(topology, np.where(used, part_lo[at], np.nan), kind)
+        self.hi = network_values(topology, np.where(used, part_hi[at], np.nan), kind)
         self.stability = np.append(_group_stability(groups), 0.0)[usage].max(axis=1,
                                                                              initial=0.0)
         self.part_count = _PART_COUNT[topology]
@@ -517,10 +507,12 @@ class _Buckets:
         self.layers: list[tuple[np.ndarray, np.ndarray]] = []  # (topology, usage), by value
         self._polarised = np.array([g[0].polarised for g in groups], dtype=bool)
         self._stability = _group_stability(groups)
-        self._ranges = _part_ranges(groups)
-        spread = (self._ranges[1][:, 0] - self._ranges[0][:, 0]) / values
+        # Steadiness is judged by each group's first (closest) line: cheap, and the same
+        # as the full count unless a network takes several parts of one mixed group.
+        self._ranges = tuple(np.append(t[:, 0], np.nan) for t in _part_ranges(groups))
+        spread = (self._ranges[1][:-1] - self._ranges[0][:-1]) / values
         self._prefer = len(values) > 1 and bool(np.ptp(self._stability) > 0
-                                                or np.ptp(spread) > 0)
+                                                or np.ptp(spread) > 1e-9)
         self._best = np.full(count if self._prefer else 0, np.inf)  # each winner's steadiness
 
     def key(self, values: np.ndarray) -> np.ndarray:
@@ -549,7 +541,7 @@ class _Buckets:
             use[:, : usage.shape[1]] = usage[rows]
             codes = np.full(rows.size, code)
             score = steadiness(self._stability[usage[rows]].max(axis=1),
-                               *(network_values(codes, _slots(t, use), self.kind)
+                               *(network_values(codes, t[use], self.kind)
                                  for t in self._ranges), values[rows])
             np.minimum.at(self._best, keys[rows], score)
             rows = rows[score <= self._best[keys[rows]]]
@@ -582,8 +574,9 @@ def _enumerate_triples(buckets: _Buckets, gv: np.ndarray, gq: np.ndarray,
     total, done = n * (n + 1) * (n + 2) // 6, 0
     for i, j, k in _triples(n):
         done += len(i)
-        use = np.stack([i, j, k], axis=1).astype(np.int16)
-        use = use[within_stock(use, gq)]
+        # i ≤ j ≤ k: a group used twice or three times is always a run of equal indices.
+        ok = np.where(i == j, gq[i] >= 2 + (j == k), (j != k) | (gq[j] >= 2))
+        use = np.stack([i[ok], j[ok], k[ok]], axis=1).astype(np.int16)
         v = [gv[use[:, col]] for col in range(3)]
         buckets.put(ser(ser(v[0], v[1]), v[2]), SERIES3, use)
         buckets.put(par(par(v[0], v[1]), v[2]), PARALLEL3, use)
