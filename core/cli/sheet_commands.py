@@ -20,7 +20,12 @@ from core.design.search import Candidate
 from core.design.trim import TrimCandidate
 from core.errors import InputError, SetupError, TickbinError
 from core.model.timing import Oscillator
-from core.output.netlist import model_prediction, simulate, spice_netlist
+from core.output.netlist import (
+    model_prediction,
+    simulate,
+    simulation_warnings,
+    spice_netlist,
+)
 from core.output.sheet import build_sheet, take_parts, voltage_ratings
 from core.parts.drawer import Drawer, write_drawer
 from core.storage.atomic import drawer_lock, real_target, same_file, write_text_atomically
@@ -181,6 +186,7 @@ def run_netlist(args: argparse.Namespace) -> int:
         measured = simulate(text)
         result["simulated"] = measured
         result["agreement_pct"] = 100.0 * (measured["period_s"] / pred.period_s - 1.0)
+        result["warnings"] = simulation_warnings(result["agreement_pct"])
     return emit(args, result, _netlist_text)
 
 
@@ -193,6 +199,7 @@ def _netlist_text(result: dict[str, Any]) -> str:
         s = result["simulated"]
         out.append(f"ngspice: {format_frequency(s['frequency_hz'])}, duty {s['duty_pct']:.1f} %"
                    f" (period {result['agreement_pct']:+.3f} % against the model)")
+    out += [f"warning: {w}" for w in result.get("warnings", [])]
     out += [f"note: {n}" for n in result["notes"]]
     return "\n".join(out)
 

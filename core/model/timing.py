@@ -38,6 +38,7 @@ import numpy as np
 
 from core.errors import InputError, SetupError
 from core.model.devices import Circuit, DeviceAtSupply, Family, device_table
+from core.model.diode import SMALL_SIGNAL_DIODE, Diode, SteeringBranch
 from core.units import Tolerance, format_quantity
 
 if TYPE_CHECKING:
@@ -46,9 +47,6 @@ if TYPE_CHECKING:
 DEFAULT_STRAY_F = 5e-12
 """Stray capacitance at the timing node on a breadboard or perfboard [F]
 (common practice, no published source)."""
-STEERING_DIODE_V = 0.6
-"""Forward drop of a small-signal silicon steering diode (1N4148) at about a
-milliampere [V] (from memory; 1N4148 data sheet forward-voltage curve)."""
 
 VALUE_KEYS: dict[str, tuple[str, ...]] = {"schmitt": ("R", "C"), "555": ("RA", "RB", "C")}
 """The part values each circuit needs, as keys of ``values``."""
@@ -66,7 +64,7 @@ class Oscillator:
     calibration fixed them, so no threshold spread is applied.
     ``stray_capacitance_f`` [F] sits beside the timing capacitor;
     ``load_ohm`` [Ω] is a load from the timing output to ground, if any;
-    ``diode_drop_v`` [V] is the 555 steering diode's forward drop.
+    ``steering_diode`` is the 555 steering diode's model (Shockley curve).
     """
 
     circuit: Circuit
@@ -77,7 +75,7 @@ class Oscillator:
     calibration: str | None = None
     stray_capacitance_f: float = DEFAULT_STRAY_F
     load_ohm: float | None = None
-    diode_drop_v: float = STEERING_DIODE_V
+    steering_diode: Diode = SMALL_SIGNAL_DIODE
     notes: tuple[str, ...] = field(default=())
 
     @property
@@ -198,8 +196,21 @@ def _circuit_word(circuit: str) -> str:
 
 # ---------------------------------------------------------------- the two-phase model
 
+class _Steered(NamedTuple):
+    """A charge through a steering diode: the branch, the node's capacitance [F] and the
+    current drawn from the node [A] (broadcast like the node's arrays)."""
+
+    branch: SteeringBranch
+    capacitance: Any
+    drawn: Any
+
+
 class _Node(NamedTuple):
-    """The timing node as two Thevenin phases: targets [V], time constants [s], delays [s]."""
+    """The timing node as two Thevenin phases: targets [V], time constants [s], delays [s].
+
+    With ``steering`` the charge runs through a diode wherever it conducts;
+    (``v_high``, ``tau_high``) are then the diode-off phase (C through RA + RB).
+    """
 
     vt_plus: Any
     vt_minus: Any
@@ -209,28 +220,75 @@ class _Node(NamedTuple):
     tau_low: Any
     delay_lh: float
     delay_hl: float
+    steering: _Steered | None = None
 
 
-def _turning_points(n: _Node) -> tuple[Any, Any]:
-    """(lowest, highest) capacitor voltage [V]: where it turns, an edge delay past VT-/VT+."""
-    v_start = n.v_low + (n.vt_minus - n.v_low) * np.exp(-n.delay_lh / n.tau_low)
-    v_peak = n.v_high - (n.v_high - n.vt_plus) * np.exp(-n.delay_hl / n.tau_high)
-    return v_start, v_peak
+DIODE_OFF_SHARE = 1e-6
+"""Below this relative effect on the charge time the steering diode counts as off and
+the closed form (C through RA + RB) is used."""
+
+
+def _diode_conducts(n: _Node, v_start: Any) -> np.ndarray:
+    """Where the steering diode changes the charge time by more than DIODE_OFF_SHARE.
+
+    Upper bound of its share: the diode's current at RB's drop at the start of the
+    charge (largest there; the diode only lowers it), against RB's current, times
+    RB's share of the charging resistance.
+    """
+    s = n.steering
+    assert s is not None
+    br = s.branch
+    with np.errstate(all="ignore"):
+        v_rb = br.r_across_ohm * (br.source_v - v_start) / (br.r_series_ohm + br.r_across_ohm)
+        share = (br.diode.junction_current(v_rb) * br.r_across_ohm / v_rb
+                 * br.r_across_ohm / (br.r_series_ohm + br.r_across_ohm))
+    return np.asarray(share > DIODE_OFF_SHARE)
+
+
+def _cycle(n: _Node) -> tuple[np.ndarray, np.ndarray, Any, Any]:
+    """Steady-state (t_high, t_low) [s] and the turning voltages (v_start, v_peak) [V].
+
+    After the node crosses VT- the output stays low for delay_lh, so the next
+    charge starts below VT- (at ``v_start``); likewise it overshoots VT+ to
+    ``v_peak``. Times are NaN where a phase does not pass its threshold.
+    """
+    a, b = n.vt_plus, n.vt_minus
+    with np.errstate(all="ignore"):
+        v_start = n.v_low + (b - n.v_low) * np.exp(-n.delay_lh / n.tau_low)
+        v_peak = n.v_high - (n.v_high - a) * np.exp(-n.delay_hl / n.tau_high)
+        t_high = np.where(n.v_high > a, n.tau_high * np.log((n.v_high - v_start)
+                                                             / (n.v_high - a)), np.nan)
+        t_high = t_high + n.delay_hl
+        if n.steering is not None:
+            t_high, v_peak = _steered_charge(n, v_start, t_high, v_peak)
+        t_low = n.tau_low * np.log((v_peak - n.v_low) / (b - n.v_low)) + n.delay_lh
+    ok = (n.v_low < b) & (a > b) & np.isfinite(t_high)
+    return np.where(ok, t_high, np.nan), np.where(ok, t_low, np.nan), v_start, v_peak
+
+
+def _steered_charge(n: _Node, v_start: Any, t_high: Any, v_peak: Any) -> tuple[Any, Any]:
+    """The charge time [s] and peak [V] where the steering diode conducts (integrated);
+    the closed form elsewhere. Over the delay after VT+ the node rises at its current slope."""
+    s = n.steering
+    assert s is not None
+    br = s.branch
+    src, r_ser, r_acr, ct, drawn, v0, a, t_out, peak = (
+        np.array(x, dtype=float) for x in np.broadcast_arrays(
+            br.source_v, br.r_series_ohm, br.r_across_ohm, s.capacitance, s.drawn, v_start,
+            n.vt_plus, t_high, v_peak))
+    on = np.broadcast_to(_diode_conducts(n, v_start), src.shape)
+    if on.any():
+        branch = SteeringBranch(br.diode, src[on], r_ser[on], r_acr[on])
+        t, net = branch.charge_time(ct[on], drawn[on], v0[on], a[on])
+        t_out[on] = t + n.delay_hl
+        peak[on] = a[on] + net * n.delay_hl / ct[on]
+    return t_out, peak
 
 
 def _phase_times(n: _Node) -> tuple[np.ndarray, np.ndarray]:
-    """Steady-state (t_high, t_low) [s]; NaN where a target does not pass its threshold.
-
-    After the node crosses VT- the output stays low for delay_lh, so the next
-    charge starts below VT- (at ``v_start``); likewise it overshoots VT+.
-    """
-    a, b = n.vt_plus, n.vt_minus
-    ok = (n.v_high > a) & (n.v_low < b) & (a > b)
-    with np.errstate(all="ignore"):
-        v_start, v_peak = _turning_points(n)
-        t_high = n.tau_high * np.log((n.v_high - v_start) / (n.v_high - a)) + n.delay_hl
-        t_low = n.tau_low * np.log((v_peak - n.v_low) / (b - n.v_low)) + n.delay_lh
-    return np.where(ok, t_high, np.nan), np.where(ok, t_low, np.nan)
+    """Steady-state (t_high, t_low) [s]; NaN where a target does not pass its threshold."""
+    t_high, t_low, _, _ = _cycle(n)
+    return t_high, t_low
 
 
 def _output_sources(osc: Oscillator) -> tuple[float, float, float, float]:
@@ -290,18 +348,17 @@ def _astable_node(osc: Oscillator, ra: ArrayLike, rb: ArrayLike, c: ArrayLike,
     rb = np.asarray(rb, dtype=float)
     ct = _timing_capacitance(osc, c)
     v = d.supply_v
-    if diode_steered:
-        # Charge through RA and the diode across RB (RB's share of the current neglected).
-        v_high, r_high = v - osc.diode_drop_v, ra
-    else:
-        v_high, r_high = v, ra + rb
+    # Charge: C through RA + RB (with the steering diode across RB where it conducts).
+    v_high, r_high = _drawn(v, ra + rb, i_high), ra + rb
+    steering = (_Steered(SteeringBranch(osc.steering_diode, v, ra, rb), ct,
+                         np.asarray(i_high, dtype=float)) if diode_steered else None)
     # Discharge: pin 7 pulls down through r_dis while RA still feeds it from the supply.
     rd = d.discharge_r_ohm
-    v_low = v * rd / (ra + rd)
+    v_low = _drawn(v * rd / (ra + rd), rb + ra * rd / (ra + rd), i_low)
     r_low = rb + ra * rd / (ra + rd)
-    v_high, v_low = _drawn(v_high, r_high, i_high), _drawn(v_low, r_low, i_low)
     a, b = _thresholds(osc, vt_plus, vt_minus)
-    return _Node(a, b, v_high, r_high * ct, v_low, r_low * ct, d.delay_lh_s, d.delay_hl_s)
+    return _Node(a, b, v_high, r_high * ct, v_low, r_low * ct, d.delay_lh_s, d.delay_hl_s,
+                 steering)
 
 
 def schmitt_times(osc: Oscillator, r: ArrayLike, c: ArrayLike, vt_plus: ArrayLike = None,
@@ -513,10 +570,6 @@ def why_no_oscillation(osc: Oscillator, values: Mapping[str, float],
                 f"{format_quantity(values['R'], 'resistance')} holds the input above VT- "
                 f"({b:.2f} V); R must stay below about "
                 f"{format_quantity(max(r_limit, 0.0), 'resistance')}")
-    if osc.circuit == "555" and float(n.v_high) <= a:
-        return (f"will not oscillate: with the steering diode ({osc.diode_drop_v:.2f} V) the "
-                f"capacitor cannot reach the threshold ({a:.2f} V) at {d.supply_v:g} V; "
-                "use a higher supply or no diode")
     if osc.circuit == "555" and float(n.v_low) >= b:
         return ("will not oscillate: RA is so small that the discharge transistor cannot pull "
                 "the capacitor below the trigger level; use RA of at least "
@@ -566,6 +619,8 @@ def practitioner_warnings(osc: Oscillator, values: Mapping[str, float], pred: Pr
                        "noticeable share; prefer a film capacitor or a smaller resistor")
         out.append("electrolytic capacitor: + lead to the timing node, − to ground; voltage "
                    f"rating at least {d.supply_v:g} V (better twice that)")
+    if diode_steered and osc.circuit == "555":
+        out.extend(_steering_warnings(osc, values))
     if c < 100e-12:
         out.append(f"C = {fq(c, 'capacitance')} is below about 100 pF: the input "
                    f"({fq(d.input_capacitance_f, 'capacitance')}) and stray "
@@ -587,6 +642,45 @@ def practitioner_warnings(osc: Oscillator, values: Mapping[str, float], pred: Pr
     return out
 
 
+STEERING_SHARE_MIN = 0.5
+"""Below this share of the charging current (at the start of the charge) the steering
+diode does not steer: C charges mostly through RA + RB (common practice, no published
+source)."""
+DIODE_DRIFT_V = 0.08
+"""A silicon diode's forward drop moves about −2 mV/K (textbook silicon junction; the
+1N4148 data sheet's forward-voltage curves over temperature): 80 mV over a 40 K swing."""
+DIODE_DRIFT_SHARE = 0.05
+"""Warn when that drift moves the high time by more than this share (common practice,
+no published source)."""
+
+
+def _steering_warnings(osc: Oscillator, values: Mapping[str, float]) -> list[str]:
+    """Where a steering diode across RB makes little sense, and why."""
+    fq = format_quantity
+    n = _node(osc, values, True)
+    assert n.steering is not None
+    _, _, v_start, _ = _cycle(n)
+    v_pair, share = (float(x) for x in n.steering.branch.pair_at_node(v_start))
+    # Sensitivity of t_high ∝ ln((V − Vd − VT-)/(V − Vd − VT+)) to the diode's drop.
+    a, b = osc.vt_plus_v, osc.vt_minus_v
+    far, near = osc.supply_v - v_pair - b, osc.supply_v - v_pair - a
+    drift = (DIODE_DRIFT_V * (1 / near - 1 / far) / math.log(far / near) if near > 0
+             else math.inf)
+    if drift > DIODE_DRIFT_SHARE:
+        return [f"at {osc.supply_v:g} V the steering diode's drop (about {v_pair:.2f} V) is a "
+                f"large share of the {osc.supply_v - a:.2f} V between the supply and the upper "
+                "threshold: its drift of about −2 mV/K moves the high time by "
+                + (f"{100 * drift:.0f} % over 40 K" if math.isfinite(drift) else "a large share")
+                + "; use a higher supply or no diode"]
+    if share < STEERING_SHARE_MIN:
+        return [f"with RA = {fq(values['RA'], 'resistance')} and RB = "
+                f"{fq(values['RB'], 'resistance')} the steering diode hardly conducts (RB "
+                f"drops only {v_pair:.2f} V, below the diode's knee): C charges through "
+                "RA + RB, so the diode does not set the duty; use a larger RB or leave the "
+                "diode out"]
+    return []
+
+
 # ---------------------------------------------------------------- waveform
 
 def waveform(osc: Oscillator, values: Mapping[str, float], periods: int = 3,
@@ -594,21 +688,27 @@ def waveform(osc: Oscillator, values: Mapping[str, float], periods: int = 3,
              ) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
     """(t [s], capacitor voltage [V], output voltage [V]) over ``periods`` steady periods.
 
-    Starts where the output has just gone high. Exact exponential segments.
+    Starts where the output has just gone high. Exact exponential segments; a
+    charge through a conducting steering diode follows its integrated curve.
     """
     vals = check_values(osc, values)
     n = _node(osc, vals, diode_steered)
-    t_high, t_low = (float(t) for t in _phase_times(n))
+    t_high, t_low, v_start, v_peak = (float(x) for x in _cycle(n))
     if not (math.isfinite(t_high) and math.isfinite(t_low)):
         raise SetupError(why_no_oscillation(osc, vals, diode_steered))
     vh, vl, th, tl = float(n.v_high), float(n.v_low), float(n.tau_high), float(n.tau_low)
-    v_start, v_peak = (float(v) for v in _turning_points(n))
     period = t_high + t_low
     t = np.linspace(0.0, periods * period, points)
     phase = np.mod(t, period)
     high = phase < t_high
-    v_cap = np.where(high, vh - (vh - v_start) * np.exp(-phase / th),
-                     vl + (v_peak - vl) * np.exp(-(phase - t_high) / tl))
+    if n.steering is not None and _diode_conducts(n, v_start):
+        s = n.steering
+        v_grid = np.linspace(v_start, float(n.vt_plus), 200)
+        t_grid, _ = s.branch.charge_time(s.capacitance, s.drawn, v_start, v_grid)
+        charge = np.interp(phase, np.append(t_grid, t_high), np.append(v_grid, v_peak))
+    else:
+        charge = vh - (vh - v_start) * np.exp(-phase / th)
+    v_cap = np.where(high, charge, vl + (v_peak - vl) * np.exp(-(phase - t_high) / tl))
     d = osc.device
     low_level = 0.0 if osc.circuit == "555" else d.vol_v
     v_out = np.where(high, d.output_high_v, low_level)

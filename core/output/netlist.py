@@ -11,7 +11,7 @@ behavioural, built from the same numbers the model uses:
 * 555: both comparators and the flip-flop are one hysteresis switch on the
   joined THR/TRIG node (upper and lower comparator levels); the discharge
   transistor is a switch with its on-resistance; the steering diode, when
-  used, is a constant-drop diode (as the model assumes).
+  used, sits across RB as a SPICE diode with the model's IS, N and RS.
 * Propagation delays: the switch state passes through an RC lag per edge
   (delay = RC ln 2) before it moves the output.
 
@@ -133,12 +133,15 @@ def _delay_and_output(osc: Oscillator, out_high_v: float, out_low_v: float,
     ]
 
 
-def _run_lines(period: float, v_start: float, v_mid: float) -> list[str]:
+def _run_lines(period: float, shortest: float, v_start: float, v_mid: float) -> list[str]:
+    """Transient run and measurements; the step resolves the shorter phase (``shortest`` [s])
+    in at least 2000 steps as well as the period."""
     n = _FIRST_RISE, _LAST_RISE
+    step = min(period, 10 * shortest) / 2000
     return [
         "* start in the steady state: the output has just gone high",
         f".ic v(tn)={_num(v_start)}",
-        f".tran {_num(period / 1000)} {_num((n[1] + 1.2) * period)} 0 {_num(period / 2000)}",
+        f".tran {_num(2 * step)} {_num((n[1] + 1.2) * period)} 0 {_num(step)}",
         ".options reltol=1e-5 abstol=1e-12 vntol=1e-7",
         f".meas tran t_rise_a WHEN v(out)={_num(v_mid)} RISE={n[0]}",
         f".meas tran t_rise_b WHEN v(out)={_num(v_mid)} RISE={n[1]}",
@@ -212,10 +215,10 @@ def spice_netlist(osc: Oscillator, candidate: Candidate | TrimCandidate,
         body.append("* RB from DIS to THR/TRIG (pins 6 and 2)")
         body += _elements(networks["RB"], "dis", "tn", counters, names)
         if steered:
-            body += ["* steering diode across RB, anode at DIS: constant drop, as modelled",
-                     f"Vdrop dis dsa DC {_num(osc.diode_drop_v)}",
-                     "D1 dsa tn dideal",
-                     ".model dideal d is=1e-9 n=0.02"]
+            diode = osc.steering_diode
+            body += [f"* steering diode ({diode.name}) across RB, anode at DIS; DC model "
+                     "as in the timing model",
+                     f"D1 dis tn {diode.name.lower()}", diode.spice_model()]
     else:
         r_nets = [networks["R"]] + ([networks["P"]] if trim else [])
         body.append("* timing resistance from the gate output to the timing node"
@@ -253,7 +256,8 @@ def spice_netlist(osc: Oscillator, candidate: Candidate | TrimCandidate,
         body += _delay_and_output(osc, d.voh_v, d.vol_v, d.r_out_high_ohm, d.r_out_low_ohm,
                                   extra)
         v_mid = 0.5 * (d.voh_v + d.vol_v)
-    lines = [*head, *body, *_run_lines(pred.period_s, v_start, v_mid)]
+    shortest = min(pred.t_high_s, pred.t_low_s)
+    lines = [*head, *body, *_run_lines(pred.period_s, shortest, v_start, v_mid)]
     return "\n".join(spice_text(line) for line in lines) + "\n"
 
 
@@ -272,6 +276,19 @@ def spice_text(line: str) -> str:
     folded = unicodedata.normalize("NFKD", line.translate(_ASCII))
     return "".join(ch if " " <= ch <= "~" else "" if unicodedata.combining(ch)
                    else ch.encode("unicode_escape").decode("ascii") for ch in folded)
+
+
+AGREEMENT_WARN_PCT = 1.0
+"""Above this period disagreement [%] between ngspice and the model, say so (issue 11)."""
+
+
+def simulation_warnings(agreement_pct: float) -> list[str]:
+    """What to say about ngspice's period against the model's (``agreement_pct`` [%])."""
+    if abs(agreement_pct) <= AGREEMENT_WARN_PCT:
+        return []
+    return [f"ngspice's period differs from the model's by {agreement_pct:+.2f} % (more than "
+            f"{AGREEMENT_WARN_PCT:g} %): trust neither blindly; check the netlist's parts and "
+            "the simulation step"]
 
 
 def simulate(netlist: str, ngspice: str | None = None, timeout_s: float = 120.0

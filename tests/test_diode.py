@@ -1,0 +1,237 @@
+"""The steering diode: its Shockley curve, and the diode-steered 555 that follows it.
+
+Outside references: the 1N4148 data sheet's forward voltage; scipy's adaptive
+quadrature (quad) and ODE solver (solve_ivp) on the node equation written out
+with scipy's own root finder for the diode; ngspice simulating the exported
+netlist with the same diode parameters; the check values of issue 11.
+"""
+
+from __future__ import annotations
+
+import json
+import math
+from collections.abc import Callable
+
+import numpy as np
+import pytest
+from support.tools import require_tool
+
+from core.design.search import Candidate
+from core.model.diode import SMALL_SIGNAL_DIODE, SteeringBranch
+from core.model.timing import astable_times, make_oscillator, predict, waveform
+from core.output.netlist import model_prediction, simulate, spice_netlist
+from core.parts.drawer import Part
+from core.parts.networks import Node
+from core.units import Tolerance
+
+D = SMALL_SIGNAL_DIODE
+integrate = pytest.importorskip("scipy.integrate")
+optimize = pytest.importorskip("scipy.optimize")
+
+# Supplies 3-15 V and RA/RB from 1/100 to 100 (issue 11); the TLC555 below 4.5 V.
+GRID = [(v, ra, rb) for v in (3.0, 5.0, 9.0, 15.0)
+        for ra, rb in ((1e3, 100e3), (4.7e3, 47e3), (10e3, 10e3), (47e3, 4.7e3), (100e3, 1e3))]
+
+
+def test_forward_voltage_matches_the_data_sheet():
+    # 1N4148 data sheets: VF 0.62-0.72 V at 5 mA and at most 1 V at 10 mA (from memory,
+    # Vishay 1N4148 electrical characteristics).
+    assert 0.62 <= float(D.voltage(5e-3)) <= 0.72
+    assert float(D.voltage(10e-3)) <= 1.0
+    # The inverse is Shockley's law itself: I = IS (exp(Vj / (N VT)) - 1).
+    i = np.array([1e-9, 1e-6, 1e-3, 1e-2])
+    vj = D.voltage(i) - i * D.series_resistance_ohm
+    assert D.junction_current(vj) == pytest.approx(i, rel=1e-12)
+    # k T / q at 27 °C (SPICE's TNOM): 25.865 mV (CODATA k/e).
+    assert D.n_vt / D.emission_coefficient == pytest.approx(0.025865, rel=1e-4)
+
+
+def _rb_pair_voltage(i_total: float, rb: float) -> float:
+    """Voltage across RB ∥ diode carrying ``i_total``, solved with scipy's brentq."""
+    nvt, is_, rs = D.n_vt, D.saturation_current_a, D.series_resistance_ohm
+
+    def diode_current(v: float) -> float:
+        if v <= 0:
+            return is_ * math.expm1(v / nvt)
+        return optimize.brentq(lambda i: v - nvt * math.log1p(i / is_) - i * rs,
+                               0.0, v / rs, xtol=1e-30, rtol=1e-15)
+
+    return optimize.brentq(lambda v: v / rb + diode_current(v) - i_total, -1.0, 20.0,
+                           xtol=1e-15, rtol=1e-15)
+
+
+def _charge_current(v: float, ra: float, rb: float) -> Callable[[float], float]:
+    """Current through RA into the node at voltage vc: VCC - vc = I RA + V_pair(I)."""
+    def current(vc: float) -> float:
+        return optimize.brentq(lambda i: v - vc - i * ra - _rb_pair_voltage(i, rb),
+                               0.0, (v - vc) / ra, xtol=1e-18, rtol=1e-14)
+    return current
+
+
+@pytest.mark.parametrize(("v", "ra", "rb"), GRID[::3])
+@pytest.mark.parametrize("drawn", [0.0, 1e-6])
+def test_charge_time_matches_scipy_quadrature(v, ra, rb, drawn):
+    # t = ∫ C dV / (I(V) - I_drawn) from VCC/3 to 2 VCC/3 (scipy.integrate.quad).
+    c = 10e-9
+    current = _charge_current(v, ra, rb)
+    ref = integrate.quad(lambda x: c / (current(x) - drawn), v / 3, 2 * v / 3,
+                         epsabs=0, epsrel=1e-11, limit=200)[0]
+    t, _ = SteeringBranch(D, v, ra, rb).charge_time(c, drawn, v / 3, 2 * v / 3)
+    assert float(t) == pytest.approx(ref, rel=1e-9)
+
+
+def test_charge_that_never_arrives_is_nan():
+    # 10 µA drawn through RA + RB = 1.01 MΩ: the node settles near 5 - 10 V, below 2/3 VCC.
+    t, _ = SteeringBranch(D, 5.0, 1e6, 10e3).charge_time(10e-9, 10e-6, 5 / 3, 10 / 3)
+    assert np.isnan(t)
+
+
+def _simulate_555(osc, ra: float, rb: float, c: float) -> tuple[float, float]:
+    """Steady (t_high, t_low) by solve_ivp with threshold events, the diode solved by brentq."""
+    d = osc.device
+    v, rd = d.supply_v, d.discharge_r_ohm
+    ct = c + d.input_capacitance_f + osc.stray_capacitance_f
+    charge = _charge_current(v, ra, rb)
+
+    def rhs(high: bool) -> Callable[[float, np.ndarray], list[float]]:
+        def f(_t: float, y: np.ndarray) -> list[float]:
+            vc = y[0]
+            if high:
+                return [charge(vc) / ct]
+            x = (v / ra + vc / rb) / (1 / ra + 1 / rb + 1 / rd)  # pin 7 while discharging
+            return [(x - vc) / rb / ct]
+        return f
+
+    t, y, high, edges = 0.0, osc.vt_minus_v, True, []
+    span = 100 * (ra + rb) * ct
+    for _ in range(6):
+        level = osc.vt_plus_v if high else osc.vt_minus_v
+
+        def crossing(_t: float, yy: np.ndarray, level: float = level) -> float:
+            return yy[0] - level
+        crossing.terminal = True  # type: ignore[attr-defined]
+        sol = integrate.solve_ivp(rhs(high), (t, t + span), [y], events=crossing,
+                                  method="DOP853", rtol=1e-10, atol=1e-13)
+        t, y = float(sol.t_events[0][0]), float(sol.y_events[0][0][0])
+        delay = d.delay_hl_s if high else d.delay_lh_s
+        hold = integrate.solve_ivp(rhs(high), (t, t + delay), [y], method="DOP853",
+                                   rtol=1e-10, atol=1e-13)
+        t, y = t + delay, float(hold.y[0, -1])
+        edges.append(t)
+        high = not high
+    return edges[-2] - edges[-3], edges[-1] - edges[-2]
+
+
+@pytest.mark.parametrize(("v", "ra", "rb"), GRID[::2])
+def test_diode_steered_555_matches_solve_ivp(v, ra, rb):
+    # Issue 11 asks for 0.5 %; the integration agrees far closer.
+    osc = make_oscillator("555", "TLC555" if v < 4.5 else "NE555", v)
+    c = 10e-9
+    model_high, model_low = (float(t) for t in astable_times(osc, ra, rb, c, True))
+    ref_high, ref_low = _simulate_555(osc, ra, rb, c)
+    assert model_high + model_low == pytest.approx(ref_high + ref_low, rel=1e-4)
+    assert model_high / (model_high + model_low) == pytest.approx(
+        ref_high / (ref_high + ref_low), rel=1e-4)
+
+
+def test_closed_form_where_the_diode_stays_off_and_integral_agree():
+    # RA = 1 MΩ, RB = 100 Ω: RB's drop stays near 0.3 mV, far below the diode's knee, so
+    # the model keeps the closed form (C through RA + RB); scipy agrees.
+    osc = make_oscillator("555", "NE555", 9.0)
+    plain = [float(t) for t in astable_times(osc, 1e6, 100.0, 10e-9)]
+    steered = [float(t) for t in astable_times(osc, 1e6, 100.0, 10e-9, True)]
+    assert steered == pytest.approx(plain, rel=1e-12)
+    ref = _simulate_555(osc, 1e6, 100.0, 10e-9)
+    assert sum(steered) == pytest.approx(sum(ref), rel=1e-4)
+
+
+def _old_closed_form(osc, ra: float, rb: float, c: float) -> float:
+    """The previous model: a fixed 0.6 V drop, RB's share ignored (issue 11's "today")."""
+    d = osc.device
+    v, a, b = d.supply_v, osc.vt_plus_v, osc.vt_minus_v
+    ct = c + d.input_capacitance_f + osc.stray_capacitance_f
+    t_high = ra * ct * math.log((v - 0.6 - b) / (v - 0.6 - a))
+    t_low = float(astable_times(osc, ra, rb, c, True)[1])
+    return 1.0 / (t_high + t_low)
+
+
+@pytest.mark.parametrize(("family", "v", "ra", "rb", "issue_pct"), [
+    ("NE555", 5.0, 10e3, 10e3, -4.0),     # issue 11: off by −4 %
+    ("NE555", 5.0, 100e3, 1e3, -25.0),    # issue 11: −25 %, the diode never turns on
+])
+def test_issue_check_values_of_the_old_closed_form(family, v, ra, rb, issue_pct):
+    osc = make_oscillator("555", family, v)
+    c = 10e-9
+    model_high, model_low = (float(t) for t in astable_times(osc, ra, rb, c, True))
+    off_pct = 100.0 * (_old_closed_form(osc, ra, rb, c) * (model_high + model_low) - 1.0)
+    # The issue's figures are rounded to whole per cent; the 1N4148 card used gives
+    # −3.6 % and −25.4 %.
+    assert off_pct == pytest.approx(issue_pct, abs=1.0)
+
+
+def test_tlc555_at_3v_old_closed_form_was_off_by_several_per_cent():
+    # Issue 11: "−8 % for a TLC555 at 3 V" (parts not given). With RA = RB the old form
+    # is off by 5-12 % from 1 kΩ to 10 kΩ, so that figure lies inside this span.
+    osc = make_oscillator("555", "TLC555", 3.0)
+    offs = []
+    for r in (1e3, 10e3):
+        high, low = (float(t) for t in astable_times(osc, r, r, 10e-9, True))
+        offs.append(100.0 * (_old_closed_form(osc, r, r, 10e-9) * (high + low) - 1.0))
+    assert offs[1] < -8.0 < offs[0] < -4.0
+
+
+def test_waveform_follows_the_integrated_charge():
+    osc = make_oscillator("555", "NE555", 5.0)
+    values = {"RA": 10e3, "RB": 10e3, "C": 10e-9}
+    t, v_cap, _ = waveform(osc, values, periods=1, points=2001, diode_steered=True)
+    pred = predict(osc, values, diode_steered=True)
+    rise = np.argmax(v_cap >= osc.vt_plus_v)
+    assert t[rise] == pytest.approx(pred.t_high_s - osc.device.delay_hl_s, rel=2e-3)
+
+
+def _candidate(osc, ra: float, rb: float, c: float) -> Candidate:
+    def node(kind: str, value: float, line: int) -> Node:
+        return Node(part=Part(kind=kind, value=value, tolerance=Tolerance(0.01, 0.01),
+                              quantity=1, line=line, dielectric="film" if kind == "C" else ""))
+    pred = predict(osc, {"RA": ra, "RB": rb, "C": c}, diode_steered=True)
+    return Candidate("555", {"RA": ra, "RB": rb, "C": c},
+                     {"RA": node("R", ra, 2), "RB": node("R", rb, 3), "C": node("C", c, 4)},
+                     pred.frequency_hz, 0.0, pred.duty_pct, pred.worst_case_hz, True)
+
+
+@pytest.mark.spice
+@pytest.mark.parametrize(("v", "ra", "rb"), GRID[1::3])
+def test_diode_steered_netlist_matches_ngspice(v, ra, rb):
+    # ngspice integrates the netlist (RB present, a SPICE diode with the same IS, N, RS
+    # across it): period within 0.5 % of the model (issue 11).
+    exe = require_tool("ngspice")
+    osc = make_oscillator("555", "TLC555" if v < 4.5 else "NE555", v)
+    cand = _candidate(osc, ra, rb, 10e-9)
+    text = spice_netlist(osc, cand)
+    assert "D1 dis tn 1n4148" in text and ".model 1n4148 d is=2.52e-09" in text
+    sim = simulate(text, exe)
+    model = model_prediction(osc, cand)
+    assert sim["period_s"] == pytest.approx(model.period_s, rel=5e-3)
+    assert sim["duty_pct"] == pytest.approx(model.duty_pct, abs=0.5)
+
+
+def test_netlist_simulate_reports_agreement_and_warns_above_one_per_cent(tmp_path, capsys):
+    # ngspice against the model for a diode-steered design from the demo drawer: the JSON
+    # carries "simulated" and "agreement_pct" (DESIGN.md, second round), within 1 %.
+    require_tool("ngspice")
+    from core.cli import main
+    from core.output.netlist import simulation_warnings
+    from core.storage.locations import demo_drawer_path
+
+    out = tmp_path / "d.cir"
+    code = main(["netlist", "--stock", str(demo_drawer_path()), "--circuit", "555", "--family",
+                 "NE555", "--supply", "9V", "--target", "440Hz", "--duty", "30", "--out",
+                 str(out), "--simulate", "--json"])
+    assert code == 0
+    data = json.loads(capsys.readouterr().out)
+    assert data["candidate"]["diode_steered"] is True
+    assert "D1 dis tn 1n4148" in out.read_text()
+    assert abs(data["agreement_pct"]) <= 1.0 and data["warnings"] == []
+    assert data["simulated"]["frequency_hz"] > 0
+    # Issue 11's rule: a warning above 1 %, none at or below it.
+    assert simulation_warnings(1.0) == [] and len(simulation_warnings(-1.2)) == 1
