@@ -19,6 +19,7 @@ import numpy as np
 from core.design.search import Candidate
 from core.design.trim import TrimCandidate, frequency_at_rotation, pot_resistance, rotation_for
 from core.errors import InputError
+from core.model.diode import SMALL_SIGNAL_DIODE
 from core.model.spread import monte_carlo
 from core.model.timing import Oscillator, predict, waveform
 from core.output.schematic import Network, Schematic, astable_schematic, schmitt_schematic
@@ -37,7 +38,7 @@ DECOUPLING_F = 100e-9
 """Supply decoupling at the chip (common practice, no published source: 100 nF ceramic)."""
 CONTROL_F = 10e-9
 """555 control-voltage pin to ground (NE555 data sheet application circuits: 0.01 µF)."""
-STEERING_DIODE = "1N4148"
+STEERING_DIODE = SMALL_SIGNAL_DIODE.name
 MONTE_CARLO_DRAWS = 10_000
 CHECK_ROTATIONS = (0.0, 25.0, 50.0, 75.0, 100.0)
 """Pot rotations [%] whose nominal frequency the trim sheet lists, to find one's place."""
