@@ -389,9 +389,17 @@ def test_an_index_serves_the_same_parts_in_other_places() -> None:
     (node,) = served.nodes([entry])
     assert {p.location for p in node.parts()} == {"drawer B"}
     assert sorted(p.stock_line for p in node.parts()) == [12, 13]
-    for changed in (replace(parts[0], quantity=3), replace(parts[0], value=12e3),
+    for changed in (replace(parts[0], quantity=1), replace(parts[0], value=12e3),
                     replace(parts[0], tolerance=Tolerance(0.01, 0.01))):
         assert electrical_key([changed, *parts[1:]], "R") != electrical_key(parts, "R")
+    # No network takes more than three parts of a line: 5 or 50 in stock builds the same,
+    # and the index served over the new count checks it when networks share a line.
+    many = [replace(p, quantity=5) for p in parts]
+    assert electrical_key(many, "R") != electrical_key(parts, "R")  # 2 -> 5 crosses 3
+    more = [replace(p, quantity=50) for p in parts]
+    assert electrical_key(more, "R") == electrical_key(many, "R")
+    served = index_of(many, "R", 2).over(more)
+    assert served.group_quantity.tolist() == [50, 50]
     assert electrical_key([replace(parts[2], quantity=5), *parts[:2]], "R") == \
         electrical_key(parts, "R")
     with pytest.raises(ValueError):

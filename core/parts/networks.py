@@ -158,11 +158,13 @@ def _closest_first(part: Part) -> tuple[float, float, float, int]:
 
 
 def electrical_key(parts: Iterable[Part], kind: str) -> tuple[Any, ...]:
-    """All that the ``kind`` index depends on: value, dielectric, tolerance and quantity of
-    each stocked line, not its location, note or line number (editing those rebuilds
-    nothing; ``NetworkIndex.over`` hands out the current lines)."""
+    """All that the ``kind`` index depends on: value, dielectric and tolerance of each
+    stocked line and its quantity up to ``MAX_PARTS`` (no network takes more), not its
+    location, note or line number. Editing those, or a quantity above ``MAX_PARTS``,
+    rebuilds nothing: ``NetworkIndex.over`` hands out the current lines."""
     return tuple(sorted((p.value, p.dielectric, p.tolerance.minus, p.tolerance.plus,
-                         p.quantity) for p in parts if p.kind == kind and p.quantity > 0))
+                         min(p.quantity, MAX_PARTS))
+                        for p in parts if p.kind == kind and p.quantity > 0))
 
 
 def group_parts(parts: Iterable[Part], kind: str) -> list[list[Part]]:
@@ -334,12 +336,14 @@ class NetworkIndex:
 
     def over(self, parts: Iterable[Part]) -> NetworkIndex:
         """This index handing out the lines of ``parts``, whose ``electrical_key`` is the
-        one it was built for (only locations, notes or line numbers differ)."""
+        one it was built for (only locations, notes, line numbers or large quantities
+        differ)."""
         groups = group_parts(parts, self.kind)
         if not np.array_equal(_group_values(groups), self.group_values):
             raise ValueError("the index was built for other parts")
         clone = copy.copy(self)
         clone.groups = groups
+        clone.group_quantity = _group_quantities(groups)
         return clone
 
     @property
