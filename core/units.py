@@ -18,6 +18,7 @@ from __future__ import annotations
 
 import math
 import re
+import unicodedata
 from dataclasses import dataclass
 from decimal import Decimal
 from functools import cache, lru_cache
@@ -67,16 +68,15 @@ _FORMAT_PREFIX = {-12: "p", -9: "n", -6: "µ", -3: "m", 0: "", 3: "k", 6: "M", 9
 
 _NUMBER = r"(?:\d+(?:\.\d*)?|\.\d+)(?:[eE][+-]?\d{1,3})?"
 _PLAIN = re.compile(
-    rf"^(?P<num>{_NUMBER})\s*(?P<prefix>meg|MEG|Meg|[pnuµμmkKMG]?)\s*(?P<unit>[a-zA-ZΩΩ]*)$"
-)
+    rf"^(?P<num>{_NUMBER})\s*(?P<prefix>meg|MEG|Meg|[pnuµμmkKMG]?)\s*(?P<unit>[a-zA-ZΩ]*)$",
+    re.ASCII)
 # IEC 60062: the multiplier letter stands where the decimal point would be.
 _LETTER = re.compile(
-    r"^(?P<int>\d*)(?P<letter>[RrKkMGpnuµμm])(?P<frac>\d+)\s*(?P<unit>[a-zA-ZΩΩ]*)$"
-)
+    r"^(?P<int>\d*)(?P<letter>[RrKkMGpnuµμm])(?P<frac>\d+)\s*(?P<unit>[a-zA-ZΩ]*)$", re.ASCII)
 _LETTER_EXP_RES = {"R": 0, "r": 0, "K": 3, "k": 3, "M": 6, "G": 9}
 _LETTER_EXP_CAP = {"p": -12, "n": -9, "u": -6, "µ": -6, "μ": -6, "m": -3}
-_SLOW = re.compile(rf"^(?P<num>{_NUMBER})\s*(?P<unit>[a-zA-Z/]+)$")
-_CAP_CODE = re.compile(r"^(?P<sig>\d{2})(?P<exp>\d)$")
+_SLOW = re.compile(rf"^(?P<num>{_NUMBER})\s*(?P<unit>[a-zA-Z/]+)$", re.ASCII)
+_CAP_CODE = re.compile(r"^(?P<sig>\d{2})(?P<exp>\d)$", re.ASCII)
 _CONTROL = re.compile(r"[\x00-\x1f\x7f]")
 
 
@@ -119,10 +119,27 @@ def _slow_unit(s: str, quantity: Quantity) -> float | None:
     return float(Decimal(m["num"])) * _unit_factor(pint_unit)
 
 
+_NUMBER_CHANGING = ("<super>", "<sub>", "<fraction>")
+
+
+def compatible_text(text: str) -> str:
+    """``text`` in Unicode compatibility form (NFKC) where that keeps its meaning.
+
+    The one rule for every value and count typed: OHM SIGN is Ω, fullwidth ４ｋ７ is
+    4k7, a no-break space is a space; digits are then ASCII 0-9 only. Superscripts,
+    subscripts and fractions keep their form (NFKC would read 10² as 102), so they
+    are refused rather than misread. Reference: Unicode Standard Annex #15.
+    """
+    if text.isascii():
+        return text
+    return "".join(ch if unicodedata.decomposition(ch).startswith(_NUMBER_CHANGING)
+                   else unicodedata.normalize("NFKC", ch) for ch in text)
+
+
 def _clean(text: str, what: str) -> str:
     if not isinstance(text, str):
         raise InputError("expected text", text=repr(text), what=what)
-    s = text.strip()
+    s = compatible_text(text).strip()
     if not s:
         raise InputError(f"empty; expected a {what}", text=text, what=what)
     if len(s) > MAX_TEXT:
@@ -376,9 +393,11 @@ def format_quantity(value: float, quantity: Quantity, digits: int = 3) -> str:
     if value == 0:
         return f"0 {symbol}"
     exp3 = int(math.floor(math.log10(abs(value)) / 3) * 3)
-    exp3 = max(-12, min(9, exp3))
-    if quantity == "frequency" and exp3 < 0:
-        exp3 = 0  # a 1 Hz blink reads as 0.986 Hz on the bench, not 986 mHz
+    # A 1 Hz blink reads as 0.986 Hz on the bench, not 986 mHz (down to 0.00100 Hz).
+    lowest = 0 if quantity == "frequency" else -12
+    if not lowest - 3 <= exp3 <= 9:
+        return f"{value:.{digits - 1}e} {symbol}"  # beyond the prefixes: 1.30e-20 Hz
+    exp3 = max(lowest, min(9, exp3))
     mantissa = value / 10.0**exp3
     decimals = max(0, digits - 1 - math.floor(math.log10(abs(mantissa))))
     decimals = min(decimals, 20)

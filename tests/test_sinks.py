@@ -279,3 +279,73 @@ def test_measurement_files_give_one_line_naming_file_and_line(content, line, wor
     assert code == 2
     assert len(err.strip().splitlines()) == 1 and "internal error" not in err
     assert f"{path}:{line}:" in err and words in err
+
+
+# Unicode Character Database (UnicodeData.txt): U+2126 OHM SIGN decomposes canonically to
+# U+03A9 GREEK CAPITAL LETTER OMEGA; U+FF10..U+FF19 FULLWIDTH DIGITs are <wide> 0..9;
+# U+00B2 SUPERSCRIPT TWO is <super> 2 (so "10²" must not become 102).
+@pytest.mark.parametrize(("text", "ohms"), [("10k\u2126", 1e4), ("4.7 k\u2126", 4.7e3),
+                                            ("\uff11\uff10k", 1e4), ("\uff14\uff4b\uff17", 4.7e3),
+                                            ("22\u00a0k\u03a9", 2.2e4)])
+def test_values_read_compatibility_forms(text, ohms):
+    from core.units import parse_resistance
+
+    assert parse_resistance(text) == pytest.approx(ohms, rel=1e-12)
+
+
+@pytest.mark.parametrize("text", ["10\u00b2k", "\u00bdk", "1\u2080k", "\u0661\u0660k"])
+def test_values_refuse_forms_that_change_the_number(text):
+    """Superscripts, fractions, subscripts and other scripts' digits are refused: one
+    rule for values and quantities (ASCII digits after NFKC)."""
+    from core.errors import InputError
+    from core.units import parse_resistance
+
+    with pytest.raises(InputError):
+        parse_resistance(text)
+
+
+def test_quantities_follow_the_same_rule_as_values(tmp_path, capsys):
+    from core.errors import InputError
+    from core.parts.drawer import parse_quantity_count
+
+    assert parse_quantity_count("\uff11\uff10") == 10
+    for text in ("10\u00b2", "\u0661\u0660"):
+        with pytest.raises(InputError):
+            parse_quantity_count(text)
+    path = tmp_path / "drawer.csv"
+    write_drawer_rows(path, [["R", "\uff11\uff10k", "\uff13", "A1", ""],
+                             ["C", "100n", "\uff12", "A2", ""]])
+    code, out, err = _tickbin(capsys, "search", "--stock", str(path), "--target", "700Hz",
+                              "--top", "\uff13", "--json")
+    assert code == 0, err
+    assert len(json.loads(out)["candidates"]) <= 3
+
+
+@pytest.mark.parametrize("value", [1.3e-20, 7.4e22, 1e30, 2.5e-16])
+def test_values_beyond_the_si_prefixes_print_in_exponent_form(value):
+    """SI prefixes in use run from p to G here; beyond them a value prints as mantissa
+    and exponent, never as a row of zeros (and it reads back)."""
+    from core.units import format_quantity, parse_quantity
+
+    for quantity in ("frequency", "time", "resistance"):
+        text = format_quantity(value, quantity)
+        assert "00000" not in text, text
+        number = text.split()[0]
+        assert float(number) == pytest.approx(value, rel=5e-3), text
+        if quantity != "time":
+            assert parse_quantity(text, quantity) == pytest.approx(value, rel=5e-3)
+
+
+def test_predict_with_an_absurd_resistor_prints_no_row_of_zeros(capsys):
+    code, out, err = _tickbin(capsys, "predict", "--family", "74HC14", "--supply", "5V",
+                              "--r", "1e30", "--c", "100n")
+    assert "0.0000000" not in out + err
+    assert code in (0, 2)
+
+
+def test_an_empty_screenshot_name_is_refused(capsys):
+    opened = []
+    code = core.cli.main(["gui", "--screenshot", ""], window=opened.append)
+    err = capsys.readouterr().err
+    assert code == 2 and not opened
+    assert "--screenshot" in err and len(err.strip().splitlines()) == 1

@@ -88,6 +88,8 @@ def _run_window(args: argparse.Namespace, window: WindowLauncher | None) -> int:
         from core.storage.locations import demo_drawer_path
 
         args.stock = str(demo_drawer_path())
+    if args.screenshot is not None and not args.screenshot.strip():
+        raise TickbinError("--screenshot needs a file name (FILE.png)")
     if args.size and not args.screenshot:
         raise TickbinError("--size sets the picture's size; give it with --screenshot FILE.png")
     if window is None:

@@ -10,7 +10,7 @@ from collections.abc import Callable
 from typing import Any, TypeVar
 
 from core.errors import InputError
-from core.units import Quantity, parse_percent, parse_quantity
+from core.units import Quantity, compatible_text, parse_percent, parse_quantity
 
 T = TypeVar("T")
 
@@ -62,7 +62,7 @@ def count_arg(low: int = 1, high: int | None = None) -> Callable[[str], int]:
                 else f"expected a whole number of at least {low}")
 
     def parse(text: str) -> int:
-        s = text.strip()
+        s = compatible_text(text).strip()
         if not (s.isascii() and s.isdigit() and low <= int(s)
                 and (high is None or int(s) <= high)):
             raise argparse.ArgumentTypeError(expected)

@@ -20,7 +20,13 @@ from typing import Literal
 
 from core.errors import DrawerFileError, InputError, LineProblem, TickbinError
 from core.storage.atomic import FileTooLargeError, read_regular_file, write_text_atomically
-from core.units import Tolerance, parse_capacitance, parse_resistance, parse_tolerance
+from core.units import (
+    Tolerance,
+    compatible_text,
+    parse_capacitance,
+    parse_resistance,
+    parse_tolerance,
+)
 
 Kind = Literal["R", "P", "C"]
 
@@ -158,7 +164,7 @@ def parse_kind(text: str) -> Kind:
 
 def parse_quantity_count(text: str) -> int:
     """A whole number of parts, 0 … MAX_QUANTITY."""
-    s = text.strip()
+    s = compatible_text(text).strip()  # the values' rule: ４ reads as 4
     if not s.isdigit() or not s.isascii():
         raise InputError("expected a whole number of parts (0 or more)", text=text,
                          what="quantity")
