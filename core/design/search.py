@@ -375,17 +375,33 @@ def _astable_rb(osc: Oscillator, target_hz: float, ra: np.ndarray, c: np.ndarray
         return np.where(rb3 > 0, rb3 + (want - p3) * (rb3 - rb2) / (p3 - p2), rb3)
 
 
-def _duty_rb(ra: np.ndarray, duty_pct: float, diode: bool) -> np.ndarray:
-    """RB [Ω] for a duty cycle [%] with RA [Ω] (ideal astable; inf where out of reach).
+def _duty_rb(osc: Oscillator, ra: np.ndarray, duty_pct: float, diode: bool) -> np.ndarray:
+    """RB [Ω] for a duty cycle [%] with RA [Ω] (inf where out of reach).
+
+    Plain astable: the ideal formula. Diode-steered: the ideal formula refined on the
+    full model, whose high time depends on the diode's real drop (a 35 % longer high
+    time than ln2 RA C at 5 V): t_low is nearly proportional to RB and t_high nearly
+    independent of it, so RB ← RB · t_high (1 − d) / (d t_low) converges in a few steps.
 
     References: NE555 data sheet (TI SLFS022), astable: duty = (RA + RB)/(RA + 2 RB);
     diode-steered (t_high = ln2 RA C): duty = RA / (RA + RB).
     """
     d = duty_pct / 100.0
-    with np.errstate(divide="ignore"):
-        if diode:
-            return ra * (1.0 - d) / d
-        return np.where(d > 0.5, ra * (1.0 - d) / max(2.0 * d - 1.0, 1e-12), np.inf)
+    with np.errstate(divide="ignore", invalid="ignore"):
+        if not diode:
+            return np.where(d > 0.5, ra * (1.0 - d) / max(2.0 * d - 1.0, 1e-12), np.inf)
+        rb = ra * (1.0 - d) / d
+        for _ in range(3):
+            t_high, t_low = astable_times(osc, ra, rb, 1e-6, diode_steered=True)
+            rb = rb * t_high * (1.0 - d) / (d * t_low)
+        return np.where(np.isfinite(rb) & (rb > 0), rb, np.inf)
+
+
+def _lowest_steered_duty(osc: Oscillator, limits: tuple[float, float]) -> float:
+    """The smallest duty [%] the diode-steered astable reaches within the resistor limits
+    (RA at its smallest, RB at its largest)."""
+    t_high, t_low = astable_times(osc, limits[0], limits[1], 1e-6, diode_steered=True)
+    return float(100.0 * t_high / (t_high + t_low))
 
 
 COMBINATION_BUDGET = 2_500_000
@@ -409,6 +425,12 @@ def _shortlist_555(index: DrawerIndex, osc: Oscillator, target_hz: float,
     if diode:
         notes.append(f"a duty of {duty_pct:g} % needs the diode-steered astable (a diode "
                      "across RB): RA sets the high time, RB the low time")
+        lowest = _lowest_steered_duty(osc, limits)
+        if duty_pct < lowest:
+            notes.append(f"a duty of {duty_pct:g} % is out of reach: with RA at least "
+                         f"{format_resistance(limits[0])} and RB at most "
+                         f"{format_resistance(limits[1])} the diode-steered astable at "
+                         f"{osc.supply_v:g} V stays above {lowest:.1f} %")
     r_layers = [(p, s) for p, s in res.layers.items() if p <= max_resistors]
     c_layers = [(p, s) for p, s in caps.layers.items() if p <= max_capacitors]
     tiers = sorted(((pa, sa, pc, sc) for pa, sa in r_layers for pc, sc in c_layers),
@@ -458,7 +480,7 @@ def _rb_neighbours(index: DrawerIndex, osc: Oscillator, target_hz: float,
     # of reach is missed least there.
     wanted = [_astable_rb(osc, target_hz, va, vc, diode), np.full(va.shape, limits[0])]
     if duty_pct is not None:
-        wanted += [_duty_rb(va, duty_pct + side * DUTY_ACCEPT_POINTS, diode)
+        wanted += [_duty_rb(osc, va, duty_pct + side * DUTY_ACCEPT_POINTS, diode)
                    for side in (-1.0, 1.0)]
     # Duty is monotone in RB, so the two entries bracketing its edges suffice; frequency
     # is not quite (a small RB discharges C below the trigger level during the edge
