@@ -25,12 +25,12 @@ from datetime import UTC, datetime
 from pathlib import Path
 from typing import TYPE_CHECKING, Any
 
-import numpy as np
-
 from core.errors import InputError, SetupError, TickbinError
 from core.units import format_quantity
 
 if TYPE_CHECKING:
+    import numpy as np
+
     from core.model.devices import DeviceAtSupply
     from core.model.timing import Oscillator
 
@@ -110,6 +110,8 @@ class Calibration:
 def _residuals(osc: Oscillator, measurements: Sequence[Measurement], vt_plus: float,
                vt_minus: float) -> np.ndarray:
     """Log misfits of the measured times (t_high, t_low where the duty is known, else T)."""
+    import numpy as np  # loaded on first fit: listing calibrations needs none
+
     from core.model.timing import times
 
     out = []
@@ -130,11 +132,13 @@ def _residuals(osc: Oscillator, measurements: Sequence[Measurement], vt_plus: fl
 def _no_fit(measurements: Sequence[Measurement]) -> np.ndarray:
     """Infinite misfits, as many as ``_residuals`` gives (two per reading with a duty,
     else one), so the solver can compare them with finite ones."""
+    import numpy as np  # loaded on first fit: listing calibrations needs none
     return np.full(sum(1 if m.duty_pct is None else 2 for m in measurements), np.inf)
 
 
 def _least_squares(fun: Callable[[np.ndarray], np.ndarray], p0: np.ndarray) -> np.ndarray:
     """Damped Gauss-Newton (Levenberg-Marquardt) with a numerical Jacobian."""
+    import numpy as np  # loaded on first fit: listing calibrations needs none
     p = p0.astype(float)
     r = fun(p)
     cost = float(r @ r)
@@ -177,6 +181,8 @@ def fit(osc: Oscillator, measurements: Sequence[Measurement],
     oscillator's VT+/VT- ratio is kept. Raises SetupError when no thresholds
     between the output levels come close (the parts or reading are likely wrong).
     """
+    import numpy as np  # loaded on first fit: listing calibrations needs none
+
     from core.model.timing import check_values, frequency
 
     if not measurements:
