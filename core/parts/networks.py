@@ -486,6 +486,10 @@ def _triples(n: int) -> Iterator[tuple[np.ndarray, np.ndarray, np.ndarray]]:
         first = last
 
 
+_TAKEN = 127
+"""Bucket code of a network in a closed layer (fewer parts): it stays."""
+
+
 class _Buckets:
     """One network per value bucket: bucket b holds [v0 (1+ρ)^b, v0 (1+ρ)^(b+1)).
 
@@ -504,8 +508,7 @@ class _Buckets:
             count = int(math.log(values.max() * (MAX_PARTS + 1) / self.v0) / self.step) + 2
         else:
             self.v0, self.step, count = 1.0, 1.0, 1
-        self.taken = np.zeros(count, dtype=bool)
-        self.code = np.full(count, -1, dtype=np.int8)
+        self.code = np.full(count, -1, dtype=np.int8)  # -1 free, _TAKEN by a closed layer
         self.usage = np.full((count, MAX_PARTS), -1, dtype=np.int16)
         self._winner = np.zeros(count, dtype=np.int64)
         self.layers: list[tuple[np.ndarray, np.ndarray]] = []  # (topology, usage), by value
@@ -520,7 +523,10 @@ class _Buckets:
         self._best = np.full(count if self._prefer else 0, np.inf)  # each winner's steadiness
 
     def key(self, values: np.ndarray) -> np.ndarray:
-        return (np.log(values / self.v0) / self.step).astype(np.int64)
+        k = np.log(values)  # in place from here: this runs on millions of values
+        k -= math.log(self.v0)
+        k *= 1.0 / self.step
+        return k.astype(np.int64)
 
     def edges(self, keys: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
         """(low, high) value of each bucket."""
@@ -528,14 +534,12 @@ class _Buckets:
 
     def free(self, keys: np.ndarray) -> np.ndarray:
         """Buckets no network has reached yet."""
-        return ~self.taken[keys] & (self.code[keys] < 0)
+        return self.code[keys] < 0
 
     def put(self, values: np.ndarray, code: int, usage: np.ndarray) -> None:
         """Networks (their values, topology ``code``, group per part) into the buckets."""
         keys = self.key(values)
-        ok = ~self.taken[keys]
-        if not self._prefer:
-            ok &= self.code[keys] < 0
+        ok = self.code[keys] != _TAKEN if self._prefer else self.code[keys] < 0
         if self._polarised.any():
             ok &= _practical(self.kind, code, [self._polarised[usage[:, k]]
                                                for k in range(usage.shape[1])])
@@ -549,17 +553,18 @@ class _Buckets:
                                  for t in self._ranges), values[rows])
             np.minimum.at(self._best, keys[rows], score)
             rows = rows[score <= self._best[keys[rows]]]
-        self._winner[keys[rows]] = rows
-        rows = rows[self._winner[keys[rows]] == rows]
-        self.code[keys[rows]] = code
-        self.usage[keys[rows], : usage.shape[1]] = usage[rows]
+        at = keys[rows]
+        self._winner[at] = rows
+        first = self._winner[at] == rows
+        rows, at = rows[first], at[first]
+        self.code[at] = code
+        self.usage[at, : usage.shape[1]] = usage[rows]
 
     def close_layer(self) -> None:
         """The layer's networks in bucket order, which is value order; its buckets taken."""
-        keys = np.flatnonzero(self.code >= 0)
+        keys = np.flatnonzero((self.code >= 0) & (self.code != _TAKEN))
         self.layers.append((self.code[keys], self.usage[keys]))
-        self.taken[keys] = True
-        self.code[keys] = -1
+        self.code[keys] = _TAKEN
         self.usage[keys] = -1
         self._best[:] = np.inf
 
