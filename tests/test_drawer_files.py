@@ -18,6 +18,7 @@ from core.parts.drawer import (
     MAX_LINE_CHARS,
     Drawer,
     Row,
+    drawer_csv_text,
     parse_drawer_text,
     read_drawer,
     write_drawer,
@@ -153,8 +154,10 @@ def test_save_keeps_previous_as_backup(tmp_path: Path) -> None:
                                   "\rx"])
 def test_formula_cells_neutralised_on_export(tmp_path: Path, text: str) -> None:
     # OWASP "CSV injection": prefix cells starting = + - @ tab CR so spreadsheets show text.
+    # The export for spreadsheets, not the person's own file (written as typed).
     d = Drawer([Row({"kind": "R", "value": "1k", "quantity": "1", "note": text})])
-    out = write_drawer(d, tmp_path / "x.csv")
+    out = tmp_path / "x.csv"
+    out.write_bytes(drawer_csv_text(d).encode())
     raw = out.read_bytes().decode()
     cell = raw.splitlines()[1].split(",")[-1]
     assert not cell.startswith(("=", "+", "-", "@", "\t", "\r"))

@@ -296,3 +296,48 @@ def test_json_result_still_names_the_out_file(qapp, capsys, drawer_file, tmp_pat
                                  "1kHz", "--out", str(out), "--json")
     assert code == 0, err
     assert json.loads(result)["out"] == str(out)
+
+
+# ---------------------------------------------------------------- lost updates
+
+def test_six_parallel_takes_lose_no_update(drawer_file, tmp_path):
+    before = {p.stock_line: p.quantity for p in read_drawer(drawer_file).parts()}
+    env = dict(os.environ, PYTHONPATH=str(ROOT), QT_QPA_PLATFORM="offscreen")
+    script = ("import sys, core.cli, gui.entry; sys.exit(core.cli.main(sys.argv[1:], "
+              "render_sheet=gui.entry.render_sheet))")
+    procs = [subprocess.Popen([sys.executable, "-c", script, "sheet", "--stock",
+                               str(drawer_file), "--target", "1kHz", "--out",
+                               str(tmp_path / f"s{i}.pdf"), "--take", "--json"],
+                              stdout=subprocess.PIPE, stderr=subprocess.PIPE, text=True, env=env)
+             for i in range(6)]
+    taken: dict[int, int] = {}
+    landed = 0
+    for proc in procs:
+        out, err = proc.communicate(timeout=600)
+        if proc.returncode == 0:
+            landed += 1
+            for t in json.loads(out)["taken"]:
+                taken[t["line"]] = taken.get(t["line"], 0) + t["count"]
+        else:  # refused, with one line saying why; never a silent loss
+            assert err.count("\n") == 1 and ("another Tickbin run" in err
+                                             or "changed on disk" in err), err
+    assert landed >= 1
+    after = {p.stock_line: p.quantity for p in read_drawer(drawer_file).parts()}
+    assert after == {line: q - taken.get(line, 0) for line, q in before.items()}
+    assert not list(tmp_path.glob(".drawer.csv*"))  # no lock or temporary left behind
+
+
+def test_a_line_added_by_another_program_is_never_dropped(drawer_file):
+    from core.parts.drawer import DrawerChangedError
+
+    drawer = read_drawer(drawer_file)
+    added = b"R,3k3,7,added by another program\n"
+    with drawer_file.open("ab") as f:  # between our read and our write
+        f.write(added)
+    drawer.set_cell(0, "quantity", "0")
+    with pytest.raises(DrawerChangedError, match="changed on disk since it was read"):
+        write_drawer(drawer)
+    assert drawer_file.read_bytes().endswith(added) and drawer.dirty
+    write_drawer(drawer, overwrite=True)  # the person chose to keep their version
+    assert not drawer_file.read_bytes().endswith(added)
+    assert (drawer_file.parent / "drawer.csv.bak").read_bytes().endswith(added)

@@ -9,6 +9,7 @@ here, with the data, not in a view).
 
 from __future__ import annotations
 
+import codecs
 import contextlib
 import csv
 import io
@@ -19,7 +20,15 @@ from pathlib import Path
 from typing import Literal
 
 from core.errors import DrawerFileError, InputError, LineProblem, TickbinError
-from core.storage.atomic import FileTooLargeError, read_regular_file, write_text_atomically
+from core.storage.atomic import (
+    DiskState,
+    FileTooLargeError,
+    disk_state,
+    drawer_lock,
+    read_regular_file,
+    same_file,
+    write_bytes_atomically,
+)
 from core.units import (
     Tolerance,
     compatible_text,
@@ -274,6 +283,10 @@ class Drawer:
         self.rows: list[Row] = list(rows)
         self.path = path
         self.delimiter = delimiter
+        self.layout: FileLayout | None = None
+        """How the file was written (None: not read from a file); see ``write_drawer``."""
+        self.disk: DiskState | None = None
+        """What the file held when read or last saved, to notice changes by others."""
         self.inserting, self.inserted = _Event(), _Event()
         self.removing, self.removed = _Event(), _Event()
         self.changed, self.resetting, self.reset = _Event(), _Event(), _Event()
@@ -330,11 +343,13 @@ class Drawer:
         self._clean_at = len(self._undo)
         self.history_changed.emit()
 
-    def saved_as(self, path: Path) -> None:
-        """After a save: rows now sit on consecutive lines of ``path``."""
+    def saved_as(self, path: Path, lines: list[int], layout: FileLayout,
+                 disk: DiskState) -> None:
+        """After a save: rows now start on ``lines`` of ``path``, written as ``layout``."""
         self.path = path
-        for i, row in enumerate(self.rows):
-            row.line = i + 2
+        for row, line in zip(self.rows, lines, strict=True):
+            row.line = line
+        self.layout, self.disk = layout, disk
         self._cache = None
         self.mark_clean()
 
@@ -477,16 +492,38 @@ class Drawer:
 
 # ---------------------------------------------------------------- files
 
+_CP1252_GAPS = frozenset(b"\x81\x8d\x8f\x90\x9d")
+"""Bytes Windows-1252 leaves undefined; kept as the same-numbered code point (Latin-1)."""
+
+
+def _keep_byte(error: UnicodeError) -> tuple[str | bytes, int]:
+    """Codec error handler: a cp1252 gap byte and its Latin-1 character map to each other."""
+    if isinstance(error, UnicodeDecodeError):
+        return "".join(chr(b) for b in error.object[error.start:error.end]), error.end
+    if isinstance(error, UnicodeEncodeError):
+        text = error.object[error.start:error.end]
+        if all(ord(ch) in _CP1252_GAPS for ch in text):
+            return bytes(ord(ch) for ch in text), error.end
+    raise error
+
+
+codecs.register_error("tickbin-keep-byte", _keep_byte)
+
+
+def _encoding_of(data: bytes) -> str:
+    """UTF-8 with or without a BOM, else Windows-1252 (what spreadsheets on Windows save)."""
+    try:
+        data.decode("utf-8")
+    except UnicodeDecodeError:
+        return "cp1252"
+    return "utf-8-sig" if data.startswith(codecs.BOM_UTF8) else "utf-8"
+
+
 def _decode(data: bytes, name: str) -> str:
     if b"\x00" in data:
         raise DrawerFileError([LineProblem(name, 1, "binary data, not a CSV text file")])
-    if data.startswith(b"\xef\xbb\xbf"):
-        data = data[3:]
-    try:
-        return data.decode("utf-8")
-    except UnicodeDecodeError:
-        # Spreadsheets on Windows still save CSV in the legacy 8-bit code page.
-        return data.decode("cp1252", errors="replace")
+    # Every byte decodes, and encodes back to itself (see _keep_byte).
+    return data.decode(_encoding_of(data), errors="tickbin-keep-byte")
 
 
 def _sniff_delimiter(header: str) -> str:
@@ -506,20 +543,58 @@ def neutralise_formula(text: str) -> str:
     """A cell safe for spreadsheets: trimmed, one newline style, never run as a formula.
 
     OWASP's CSV-injection advice: a cell starting with = + - @ tab or CR gets a
-    leading apostrophe. Use for every text cell Tickbin writes to a CSV file.
+    leading apostrophe. Use for every text cell Tickbin exports to a CSV file
+    (not in the person's own drawer file, which is written as they wrote it).
     """
     text = text.replace("\r\n", "\n").replace("\r", "\n").strip()
     return "'" + text if text.startswith(_FORMULA_START) else text
 
 
+@dataclass
+class _Record:
+    """One CSV record as the file holds it: its text (line ending included) and the
+    cell values read from it, by position."""
+
+    raw: str
+    cells: list[str]
+
+    @property
+    def ending(self) -> str:
+        return self.raw[len(self.raw.rstrip("\r\n")):]
+
+
+@dataclass
+class FileLayout:
+    """How a drawer file was written, so a save writes back what it does not interpret:
+    encoding and BOM, line endings, the header's spelling, comment and blank lines,
+    quoting and spacing of every cell that was not edited."""
+
+    encoding: str
+    delimiter: str
+    newline: str
+    header: _Record
+    columns: list[str]
+    records: dict[int, _Record] = field(default_factory=dict)
+    """Data records by the line they start on."""
+    notes: list[tuple[int | None, str]] = field(default_factory=list)
+    """Comment and blank lines: (line of the record they precede or None at the end, text)."""
+
+
+def _is_note(line: str) -> bool:
+    """A blank line or a ``#`` comment line (between records only)."""
+    stripped = line.strip()
+    return not stripped or stripped.startswith("#")
+
+
 def parse_drawer_text(text: str, name: str = "<drawer>") -> Drawer:
     """Rows from CSV text; structural problems (header, field counts) raise at once.
 
-    Value problems are kept in the rows (see ``Drawer.problems``).
+    Value problems are kept in the rows (see ``Drawer.problems``). Lines
+    starting with ``#`` (between records) are comments: kept, never read as parts.
     """
     lines = text.splitlines()
     problems: list[LineProblem] = []
-    first = next((i for i, ln in enumerate(lines) if ln.strip()), None)
+    first = next((i for i, ln in enumerate(lines) if not _is_note(ln)), None)
     if first is None:
         raise DrawerFileError([LineProblem(name, 1, "empty file; expected a header line "
                                            "with kind,value,quantity")])
@@ -530,15 +605,38 @@ def parse_drawer_text(text: str, name: str = "<drawer>") -> Drawer:
                                         f"line longer than {MAX_LINE_CHARS:,} characters"))
     if problems:
         raise DrawerFileError(problems)
-    reader = csv.reader(io.StringIO(text, newline=""), delimiter=delimiter)
+    physical = io.StringIO(text, newline="").readlines()
+    at = 0
+
+    def feed() -> Iterator[str]:
+        nonlocal at
+        while at < len(physical):
+            at += 1
+            yield physical[at - 1]
+
+    reader = csv.reader(feed(), delimiter=delimiter)
     header: list[str] | None = None
+    header_record = _Record("", [])
+    records: dict[int, _Record] = {}
+    notes: list[tuple[int | None, str]] = []
+    pending: list[str] = []
     rows: list[Row] = []
+    line = 1
     try:
-        end = 0
-        for record in reader:
-            line, end = end + 1, reader.line_num  # a quoted field may span lines
-            if not any(cell.strip() for cell in record):
+        while at < len(physical):
+            start = at
+            line = start + 1
+            if _is_note(physical[at]):
+                pending.append(physical[at])
+                at += 1
                 continue
+            record = next(reader)
+            raw = "".join(physical[start:at])
+            if not any(cell.strip() for cell in record):
+                pending.append(raw)  # a line of empty cells: kept like a blank line
+                continue
+            notes += [(line, text) for text in pending]
+            pending = []
             if header is None:
                 header = [_HEADER_ALIASES.get(h.strip().lower(), h.strip().lower())
                           for h in map(_unneutralise, record)]
@@ -553,6 +651,7 @@ def parse_drawer_text(text: str, name: str = "<drawer>") -> Drawer:
                 if len(set(header)) != len(header):
                     raise DrawerFileError([LineProblem(name, line,
                                                        "header names a column twice")])
+                header_record = _Record(raw, list(record))
                 continue
             if len(record) > len(header):
                 extra = record[len(header):]
@@ -562,15 +661,20 @@ def parse_drawer_text(text: str, name: str = "<drawer>") -> Drawer:
                     continue
             cells = {h: _unneutralise(record[i].strip()) if i < len(record) else ""
                      for i, h in enumerate(header)}
+            records[line] = _Record(raw, [cells[h] for h in header])
             rows.append(Row(cells, line))
     except csv.Error as e:
-        raise DrawerFileError([LineProblem(name, reader.line_num, f"CSV: {e}")]) from None
+        raise DrawerFileError([LineProblem(name, line, f"CSV: {e}")]) from None
     if problems:
         raise DrawerFileError(problems)
     if header is None:  # e.g. one unterminated quote swallowed the whole file
         raise DrawerFileError([LineProblem(name, 1, "no header line with kind,value,quantity "
                                            "found (an unclosed quote?)")])
-    return Drawer(rows, header, delimiter=delimiter)
+    drawer = Drawer(rows, header, delimiter=delimiter)
+    drawer.layout = FileLayout("utf-8", delimiter, header_record.ending or "\n", header_record,
+                               list(header), records,
+                               notes + [(None, text) for text in pending])
+    return drawer
 
 
 def read_drawer(path: str | os.PathLike[str], *, strict: bool = True) -> Drawer:
@@ -578,7 +682,8 @@ def read_drawer(path: str | os.PathLike[str], *, strict: bool = True) -> Drawer:
 
     With ``strict`` (the command line), a file with any bad line is refused as a
     whole, listing every bad line; without it (the window), bad cells stay in the
-    rows, marked, for the person to correct.
+    rows, marked, for the person to correct. The drawer remembers the file's
+    layout (``FileLayout``) and state on disk (``DiskState``) for the save.
     """
     p = Path(path)
     name = str(path)
@@ -590,6 +695,9 @@ def read_drawer(path: str | os.PathLike[str], *, strict: bool = True) -> Drawer:
             "be at most that")]) from None
     drawer = parse_drawer_text(_decode(data, name), name)
     drawer.path = p
+    drawer.disk = DiskState.of(p, data)
+    if drawer.layout is not None:
+        drawer.layout.encoding = _encoding_of(data)
     if strict:
         problems = drawer.line_problems()
         if problems:
@@ -598,8 +706,8 @@ def read_drawer(path: str | os.PathLike[str], *, strict: bool = True) -> Drawer:
 
 
 def drawer_csv_text(drawer: Drawer) -> str:
-    """The drawer as CSV text, columns in the drawer's order, formula cells (header
-    included) neutralised."""
+    """The drawer as CSV text for export (a copy for spreadsheets, not the person's own
+    file): columns in the drawer's order, formula cells (header included) neutralised."""
     buf = io.StringIO(newline="")
     writer = csv.writer(buf, delimiter=drawer.delimiter, lineterminator="\n")
     writer.writerow([neutralise_formula(c) for c in drawer.columns])
@@ -608,11 +716,159 @@ def drawer_csv_text(drawer: Drawer) -> str:
     return buf.getvalue()
 
 
-def write_drawer(drawer: Drawer, path: str | os.PathLike[str] | None = None) -> Path:
-    """Save atomically (see ``write_text_atomically``); the drawer becomes clean."""
+def _field(text: str, delimiter: str) -> str:
+    """One cell written anew as CSV: quoted only when it must be, line breaks inside
+    it as LF (what spreadsheets write inside a quoted cell)."""
+    if not text:
+        return ""
+    buf = io.StringIO(newline="")
+    csv.writer(buf, delimiter=delimiter, lineterminator="\r\n").writerow(
+        [text.replace("\r\n", "\n").replace("\r", "\n")])
+    return buf.getvalue()[:-2]
+
+
+def _raw_fields(record: _Record, delimiter: str) -> list[str] | None:
+    """The record's fields as written (quotes and spaces included), or None when
+    splitting them does not give back exactly the values that were read."""
+    body = record.raw[:len(record.raw) - len(record.ending)]
+    fields, start, quoted = [], 0, False
+    for i, ch in enumerate(body):
+        if ch == '"':
+            quoted = not quoted
+        elif ch == delimiter and not quoted:
+            fields.append(body[start:i])
+            start = i + 1
+    fields.append(body[start:])
+    for raw, cell in zip(fields, record.cells, strict=False):
+        parsed = next(csv.reader(io.StringIO(raw, newline=""), delimiter=delimiter), [""])
+        if len(parsed) > 1 or _unneutralise((parsed or [""])[0].strip()) != cell:
+            return None
+    return fields if len(fields) >= len(record.cells) else None
+
+
+def _record_text(values: list[str], record: _Record | None, layout: FileLayout) -> str:
+    """A row's record: the original text when nothing changed, else only the edited
+    cells written anew (others exactly as they were)."""
+    d = layout.delimiter
+    if record is not None:
+        known = len(record.cells)
+        if values[:known] == record.cells and not any(values[known:]):
+            return record.raw
+        fields = _raw_fields(record, d)
+        if fields is not None:
+            out = [fields[i] if i < known and values[i] == record.cells[i] else _field(v, d)
+                   for i, v in enumerate(values)]
+            out += fields[len(values):]  # empty fields past the header, as written
+            return d.join(out) + (record.ending or layout.newline)
+    return d.join(_field(v, d) for v in values) + (record.ending if record else layout.newline)
+
+
+def drawer_file_text(drawer: Drawer) -> tuple[str, FileLayout, list[int]]:
+    """The drawer file's new text, its layout and the line each row starts on.
+
+    What the program does not interpret is written back as it was read (see
+    ``FileLayout``); a drawer not read from a file is plain CSV. Cells are
+    written as the person typed them (no formula prefix: that is for exports).
+    Comment lines go before the record they preceded, or the next one kept.
+    """
+    layout = drawer.layout
+    d = drawer.delimiter if layout is None else layout.delimiter
+    if layout is None:
+        head = d.join(_field(c, d) for c in drawer.columns) + "\n"
+        layout = FileLayout("utf-8", d, "\n", _Record(head, list(drawer.columns)),
+                            list(drawer.columns))
+    added = [c for c in drawer.columns if c not in layout.columns]
+    columns = layout.columns + added
+    header = layout.header
+    if added:
+        body = header.raw[:len(header.raw) - len(header.ending)]
+        header = _Record(d.join([body, *(_field(c, d) for c in added)])
+                         + (header.ending or layout.newline), header.cells + added)
+    kept = sorted(r.line for r in drawer.rows if r.line in layout.records)
+    notes: dict[int | None, list[str]] = {}
+    for line, note in layout.notes:
+        if line is not None and line not in layout.records:
+            where: int | None = -1  # before the header
+        else:
+            where = next((k for k in kept if line is not None and k >= line), None)
+        notes.setdefault(where, []).append(note)
+    new = FileLayout(layout.encoding, d, layout.newline, header, columns)
+    out: list[str] = []
+    waiting: list[str] = []
+    count = 1
+
+    def put(text: str) -> int:
+        nonlocal count
+        if out and not out[-1].endswith(("\n", "\r")):
+            out[-1] += layout.newline
+        out.append(text)
+        at = count
+        count += len(io.StringIO(text, newline="").readlines())
+        return at
+
+    def put_notes(key: int | None) -> None:
+        for note in notes.pop(key, []):
+            put(note)
+            waiting.append(note)
+
+    def put_record(text: str) -> int:
+        at = put(text)
+        new.notes += [(at, note) for note in waiting]
+        waiting.clear()
+        return at
+
+    put_notes(-1)
+    put_record(header.raw)
+    lines: list[int] = []
+    for row in drawer.rows:
+        record = layout.records.get(row.line) if row.line is not None else None
+        if record is not None:
+            put_notes(row.line)
+        values = [row.get(c) for c in columns]
+        text = _record_text(values, record, new)
+        at = put_record(text)
+        new.records[at] = _Record(text, values)
+        lines.append(at)
+    for key in list(notes):
+        put_notes(key)
+    new.notes += [(None, note) for note in waiting]
+    return "".join(out), new, lines
+
+
+class DrawerChangedError(TickbinError):
+    """The drawer file changed on disk since it was read: saving would lose that change."""
+
+    def __init__(self, path: Path):
+        self.path = path
+        super().__init__(f"{path}: changed on disk since it was read (another program or "
+                         "Tickbin run saved it); nothing was written: read it again and "
+                         "redo the change")
+
+
+def write_drawer(drawer: Drawer, path: str | os.PathLike[str] | None = None, *,
+                 overwrite: bool = False) -> Path:
+    """Save atomically, the previous file kept as ``.bak``; the drawer becomes clean.
+
+    Saving over the file the drawer was read from holds the drawer lock and
+    raises ``DrawerChangedError`` when that file changed on disk since (unless
+    ``overwrite``), so no other program's update is lost. A cp1252 file whose new
+    text holds a character cp1252 lacks is written as UTF-8 with a BOM.
+    """
     target = Path(path) if path is not None else drawer.path
     if target is None:
         raise TickbinError("no file name to save the drawer to")
-    write_text_atomically(target, drawer_csv_text(drawer))
-    drawer.saved_as(target)
+    text, layout, lines = drawer_file_text(drawer)
+    try:
+        data = text.encode(layout.encoding, errors="tickbin-keep-byte")
+    except UnicodeEncodeError:
+        layout.encoding = "utf-8-sig"
+        data = text.encode(layout.encoding)
+    with drawer_lock(target):
+        if (not overwrite and drawer.disk is not None and drawer.path is not None
+                and same_file(target, drawer.path)
+                and not drawer.disk.same_content(disk_state(target, MAX_FILE_BYTES))):
+            raise DrawerChangedError(target)
+        real = write_bytes_atomically(target, data, backup=True)
+        state = DiskState.of(real, data)
+    drawer.saved_as(target, lines, layout, state)
     return target

@@ -11,9 +11,10 @@ a killed run left behind are removed the next time Tickbin writes in that
 folder.
 
 A read-modify-write of a drawer holds ``drawer_lock`` (an advisory lock on a
-sidecar ``.NAME.lock`` file; on systems without ``fcntl`` there is no lock and
-only the changed-on-disk check guards the file) and compares ``DiskState``
-before writing, so two runs never silently lose each other's update.
+sidecar ``.NAME.lock`` file, there only while held; on systems without
+``fcntl`` there is no lock and only the changed-on-disk check guards the file)
+and compares ``DiskState`` before writing, so two runs never silently lose each
+other's update.
 """
 
 from __future__ import annotations
@@ -307,7 +308,8 @@ def drawer_lock(path: str | os.PathLike[str], wait_s: float = LOCK_WAIT_S,
 
     Other Tickbin runs on the same drawer wait (up to ``wait_s`` seconds, then
     a ``TickbinError``). The lock is the sidecar ``.NAME.lock`` next to the
-    real file, because the drawer itself is replaced by a rename on save.
+    real file (the drawer itself is replaced by a rename on save), removed again
+    when the lock is let go.
     """
     real = Path(os.path.realpath(path))
     if fcntl is None or real in _HELD:
@@ -320,26 +322,40 @@ def drawer_lock(path: str | os.PathLike[str], wait_s: float = LOCK_WAIT_S,
                 del _HELD[real]
         return
     lock = real.with_name(f".{real.name}.lock")
-    try:
-        fd = os.open(lock, os.O_RDWR | os.O_CREAT, 0o666)
-    except OSError as e:
-        raise TickbinError(f"{os.fspath(path)}: cannot lock for saving ({e.strerror or e})"
-                           ) from None
-    try:
-        deadline = time.monotonic() + wait_s
-        while True:
-            try:
-                fcntl.flock(fd, fcntl.LOCK_EX | fcntl.LOCK_NB)
-                break
-            except BlockingIOError:
-                if time.monotonic() > deadline:
-                    raise TickbinError(f"{os.fspath(path)}: another Tickbin run is changing "
-                                       "this drawer; nothing was changed, try again") from None
-                sleep(0.05)
-        _HELD[real] = 1
+    deadline = time.monotonic() + wait_s
+    while True:  # the lock file is removed after use: lock it, then make sure it is still there
         try:
-            yield
-        finally:
-            del _HELD[real]
+            fd = os.open(lock, os.O_RDWR | os.O_CREAT, 0o666)
+        except OSError as e:
+            raise TickbinError(f"{os.fspath(path)}: cannot lock for saving "
+                               f"({e.strerror or e})") from None
+        try:
+            while True:
+                try:
+                    fcntl.flock(fd, fcntl.LOCK_EX | fcntl.LOCK_NB)
+                    break
+                except BlockingIOError:
+                    if time.monotonic() > deadline:
+                        raise TickbinError(f"{os.fspath(path)}: another Tickbin run is "
+                                           "changing this drawer; nothing was changed, try "
+                                           "again") from None
+                    sleep(0.05)
+            held = os.fstat(fd)
+            now = os.stat(lock)
+        except FileNotFoundError:
+            os.close(fd)
+            continue
+        except BaseException:
+            os.close(fd)
+            raise
+        if (now.st_dev, now.st_ino) == (held.st_dev, held.st_ino):
+            break
+        os.close(fd)
+    _HELD[real] = 1
+    try:
+        yield
     finally:
+        del _HELD[real]
+        with contextlib.suppress(OSError):
+            os.unlink(lock)
         os.close(fd)
