@@ -44,6 +44,7 @@ from PySide6.QtWidgets import (
 from core.errors import DrawerFileError, TickbinError
 from core.parts.drawer import (
     Drawer,
+    DrawerChangedError,
     Row,
     drawer_csv_text,
     read_drawer,
@@ -636,9 +637,11 @@ class MainWindow(QMainWindow):
         path = self.ask_path(self, "Save the drawer as", save=True, start=self._start_folder())
         return bool(path) and self._write(Path(path))
 
-    def _write(self, path: Path) -> bool:
+    def _write(self, path: Path, *, overwrite: bool = False) -> bool:
         try:
-            write_drawer(self.drawer, path)
+            write_drawer(self.drawer, path, overwrite=overwrite)
+        except DrawerChangedError:
+            return self._changed_on_disk(path)
         except TickbinError as e:
             # The edits stay in the window (still marked unsaved) and in the autosave.
             self.autosave_now()
@@ -654,6 +657,39 @@ class MainWindow(QMainWindow):
         self.say(f"Saved {path}" + (f"; {bad} row(s) still need fixing." if bad else "."))
         self.save_settings()
         return True
+
+    def _changed_on_disk(self, path: Path) -> bool:
+        """Another program saved the drawer since it was read: reload it, or keep ours."""
+        b = QMessageBox.StandardButton
+        answer = self.ask(self, "Drawer changed on disk",
+                          f"{path} was changed on disk after Tickbin read it (another program "
+                          "or window saved it).\n\nYes: reload it from disk (Undo brings "
+                          "your edits back).\nNo: keep this window's version and save it "
+                          f"(the version on disk is kept as {path.name}.bak).\nCancel: "
+                          "neither, for now.", b.Yes | b.No | b.Cancel, b.Cancel)
+        if answer == b.No:
+            return self._write(path, overwrite=True)
+        if answer == b.Yes:
+            self._reload(path)
+        else:
+            self.say("Not saved: the drawer changed on disk; your edits are kept here.")
+        return False
+
+    def _reload(self, path: Path) -> None:
+        """The file as it is on disk now, as one undoable step over the window's edits."""
+        disk = self._read(str(path))
+        if disk is None:
+            return
+        drawer = self.drawer
+        for column in disk.columns:
+            if column not in drawer.columns:
+                drawer.columns.append(column)
+        self.drawer_model.refresh_columns()
+        drawer.replace_rows(disk.rows, "Reload from disk")
+        drawer.layout, drawer.disk = disk.layout, disk.disk
+        drawer.mark_clean()
+        self.drawer_model.refresh_lines()
+        self.say(f"Reloaded {path} from disk; Undo brings your edits back.")
 
     def import_csv(self) -> None:
         path = self.ask_path(self, "Import rows from a drawer file", save=False,
@@ -703,7 +739,7 @@ class MainWindow(QMainWindow):
                           f"{name} were kept at {when}. Restore them?",
                           b.Yes | b.No, b.Yes)
         if answer != b.Yes:
-            self.autosave.discard()
+            self.autosave.forget_crashed()
             return
         base = None
         if snapshot.original and snapshot.original.is_file():
@@ -716,6 +752,8 @@ class MainWindow(QMainWindow):
                 base.columns.append(column)
         base.replace_rows(snapshot.drawer.rows, "Restore unsaved edits")
         self.set_drawer(base)
+        self.autosave_now()  # the edits live in this window's own slot from now on
+        self.autosave.forget_crashed()
         self.say("Unsaved edits restored; Undo goes back to the file as saved.")
 
     # ------------------------------------------------------------ searching
@@ -926,6 +964,8 @@ class MainWindow(QMainWindow):
         self.save_settings()
         if self.remember:
             self.autosave.end_session()
+        else:
+            self.autosave.release()
         self._closed = True
         event.accept()
 

@@ -359,3 +359,25 @@ def drawer_lock(path: str | os.PathLike[str], wait_s: float = LOCK_WAIT_S,
         with contextlib.suppress(OSError):
             os.unlink(lock)
         os.close(fd)
+
+
+def try_lock(path: str | os.PathLike[str]) -> int | None:
+    """Lock ``path`` (created if need be) without waiting: an open descriptor that holds
+    the lock until closed, or None when another holder has it.
+
+    The operating system lets go when the holder's process ends, however it ends,
+    so a lock nobody holds means its owner is gone (a crash, a kill). On systems
+    without ``fcntl`` the lock is ``msvcrt``'s one-byte region lock.
+    """
+    fd = os.open(path, os.O_RDWR | os.O_CREAT, 0o600)
+    try:
+        if fcntl is not None:
+            fcntl.flock(fd, fcntl.LOCK_EX | fcntl.LOCK_NB)
+        else:  # pragma: no cover - Windows
+            import msvcrt
+
+            msvcrt.locking(fd, msvcrt.LK_NBLCK, 1)
+    except OSError:
+        os.close(fd)
+        return None
+    return fd
