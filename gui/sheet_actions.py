@@ -17,7 +17,7 @@ from PySide6.QtWidgets import QFileDialog, QMessageBox, QWidget
 from core.errors import TickbinError
 from core.output.netlist import spice_netlist
 from core.output.sheet import Sheet, build_sheet, take_parts, voltage_ratings
-from core.storage.atomic import write_text_atomically
+from core.storage.atomic import check_output, write_text_atomically
 
 PDF_FILTER = "PDF files (*.pdf)"
 NETLIST_FILTER = "SPICE netlists (*.cir *.sp *.net);;All files (*)"
@@ -97,6 +97,7 @@ class SheetActions:
         if not path.lower().endswith(".pdf"):
             path += ".pdf"
         try:
+            check_output(path, self.window.drawer.path)
             pages = render_sheet_pdf(sheet, path, default_page_size())
         except TickbinError as e:
             self.window.tell("Build sheet not saved", str(e))
@@ -120,6 +121,7 @@ class SheetActions:
         if path is None:
             return
         try:
+            check_output(path, w.drawer.path)
             write_text_atomically(path, spice_netlist(osc, candidate), backup=False)
         except TickbinError as e:
             w.tell("Netlist not saved", str(e))

@@ -28,7 +28,7 @@ from core.output.netlist import (
 )
 from core.output.sheet import build_sheet, take_parts, voltage_ratings
 from core.parts.drawer import Drawer, write_drawer
-from core.storage.atomic import drawer_lock, real_target, same_file, write_text_atomically
+from core.storage.atomic import check_output, drawer_lock, write_text_atomically
 from core.storage.locations import demo_drawer_path
 from core.units import format_frequency
 
@@ -113,10 +113,7 @@ def design_from_args(args: argparse.Namespace) -> Design:
 
 def output_path(args: argparse.Namespace) -> Path:
     """``--out`` as a path: an ordinary file (or a new one), never the drawer itself."""
-    if same_file(args.out, args.stock or demo_drawer_path()):
-        raise InputError(f"--out {args.out} is the drawer file itself; choose another "
-                         "file name")
-    real_target(args.out)
+    check_output(args.out, args.stock or demo_drawer_path())
     return Path(args.out)
 
 

@@ -98,6 +98,16 @@ def same_file(a: str | os.PathLike[str], b: str | os.PathLike[str]) -> bool:
         return False
 
 
+def check_output(path: str | os.PathLike[str],
+                 drawer: str | os.PathLike[str] | None) -> Path:
+    """``path`` as an output (sheet, netlist): an ordinary file, or a new one, that is not
+    the ``drawer`` file it was made from (links followed). Returns the file written."""
+    if drawer is not None and same_file(path, drawer):
+        raise TickbinError(f"{os.fspath(path)} is the drawer file itself; choose another "
+                           "file name for the output")
+    return real_target(path)
+
+
 def _umask() -> int:
     try:
         with open("/proc/self/status", encoding="ascii") as f:

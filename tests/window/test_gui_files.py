@@ -117,3 +117,20 @@ def test_a_snapshot_over_the_readers_limits_still_restores(qtbot, answers, make_
     assert rows[1].get("note") == long_note
     assert rows[2].get("location") == 'quote " and, comma\nnew line'
     assert restored.isWindowModified()
+
+
+@pytest.mark.parametrize("action", ["pdf_action", "netlist_action"])
+def test_sheet_or_netlist_over_the_drawer_itself_is_refused(qtbot, answers, make_window, mine,
+                                                            monkeypatch, action):
+    from gui.sheet_actions import SheetActions
+
+    window = make_window(str(mine))
+    before = mine.read_bytes()
+    link = mine.parent / "drawer-link.pdf"
+    link.symlink_to(mine)
+    monkeypatch.setattr(SheetActions, "ask_path", classmethod(lambda *a, **k: str(link)))
+    told = []
+    monkeypatch.setattr(type(window), "tell", lambda self, title, text: told.append(text))
+    getattr(window.sheet_actions, action).trigger()
+    assert told and "is the drawer file itself" in told[0]
+    assert mine.read_bytes() == before
