@@ -26,17 +26,18 @@ from typing import Any
 
 import numpy as np
 
-from core.design.search import PER_SIDE, schmitt_frequency, schmitt_resistance
+from core.design.search import schmitt_frequency, schmitt_resistance
 from core.errors import InputError
 from core.model.timing import Oscillator, schmitt_resistance_for
 from core.parts.drawer import Part
-from core.parts.networks import DrawerIndex, Node, drawer_index, single
+from core.parts.networks import DrawerIndex, NetworkIndex, Node, drawer_index, single
 from core.units import format_frequency
 
 LOG_TAPER_BASE = 81.0
 """Base of the log taper law r = (b^x − 1)/(b − 1); b = 81 puts 10 % at mid-rotation."""
-SHORTLIST = 40
-"""(pot, capacitor) pairs per requested candidate that get the full corner check."""
+MARGIN = 1e-7
+"""Relative margin on the corner conditions, far above the 1e-9 to which the needed
+resistances are solved, so a network picked by them passes the full corner check."""
 
 
 def pot_resistance(end_to_end_ohm: Any, rotation_pct: Any, taper: str = "lin") -> np.ndarray:
@@ -179,27 +180,19 @@ def trim(parts: list[Part], osc: Oscillator, band_hz: tuple[float, float], top: 
                     axis=0)
     pot_value = np.array([p.value for p in pots])
     pot_lo, pot_hi = (np.array([p.value_range[k] for p in pots]) for k in (0, 1))
-    # Shortlist (pot, capacitor) pairs by the best fineness they could allow.
-    spread = float(np.median(res.hi / res.values))
-    r_best = np.minimum(b_need / spread, limits[1])  # nominal R just inside the zero-rotation limit
-    ratio = (r_best[None, :] + pot_value[:, None]) / r_best[None, :]
-    feasible = (np.isfinite(ratio) & (r_best[None, :] >= limits[0])
-                & (r_best[None, :] * (2 - spread) + pot_lo[:, None] >= a_need[None, :])
-                & (r_best[None, :] + pot_value[:, None] <= limits[1]))
-    pi, cj = np.nonzero(feasible)
-    if not pi.size:
-        notes.append(_why_none(pots, lo_band, hi_band))
-        return TrimResult((lo_band, hi_band), notes, [])
-    keep = np.argsort(ratio[pi, cj], kind="stable")[: SHORTLIST * top]
-    pi, cj = pi[keep], cj[keep]
-    near = res.nearest(b_need[cj] / spread, max_resistors, PER_SIDE + 1, *limits)
-    rows, cols = np.nonzero(near >= 0)
-    re, pi, cj = near[rows, cols], pi[rows], cj[rows]
+    # Every (pot, capacitor) pair; the corner conditions above on each fixed R network:
+    # its high value at most B, its low value plus the pot's low value at least A.
+    pi, cj = (x.ravel() for x in np.meshgrid(np.arange(len(pots)), np.arange(ce.size),
+                                             indexing="ij"))
+    re = _finest_fixed_r(res, res.entries(max_resistors, *limits), b_need[cj] * (1 - MARGIN),
+                         (a_need[cj] - pot_lo[pi]) * (1 + MARGIN), limits[1] - pot_value[pi])
+    pi, cj = pi[re >= 0], cj[re >= 0]
+    re = re[re >= 0]
     ce_sel = ce[cj]
     low, high = guaranteed_band(osc, (res.lo[re], res.hi[re]), (pot_lo[pi], pot_hi[pi]),
                                 (caps.lo[ce_sel], caps.hi[ce_sel]))
     with np.errstate(invalid="ignore"):
-        ok = (low <= lo_band) & (high >= hi_band) & (res.values[re] + pot_value[pi] <= limits[1])
+        ok = (low <= lo_band) & (high >= hi_band)
     if not ok.any():
         notes.append(_why_none(pots, lo_band, hi_band))
         return TrimResult((lo_band, hi_band), notes, [])
@@ -207,16 +200,8 @@ def trim(parts: list[Part], osc: Oscillator, band_hz: tuple[float, float], top: 
     f_full, _ = schmitt_frequency(osc, res.values[re] + pot_value[pi], caps.values[ce_sel])
     f_zero, _ = schmitt_frequency(osc, res.values[re], caps.values[ce_sel])
     parts_used = res.part_count[re].astype(int) + 1 + caps.part_count[ce_sel]
-    order = np.lexsort((parts_used, f_zero / f_full))
-    chosen, seen = [], set()
-    for i in order:
-        key = (int(pi[i]), int(ce_sel[i]))  # one design per pot and capacitor network
-        if key in seen:
-            continue
-        seen.add(key)
-        chosen.append(int(i))
-        if len(chosen) == top:
-            break
+    # One design per pot and capacitor network (the finest fixed R for that pair).
+    chosen = [int(i) for i in np.lexsort((parts_used, f_zero / f_full))[:top]]
     candidates = []
     for i in chosen:
         taken: Counter[int] = Counter()
@@ -227,6 +212,32 @@ def trim(parts: list[Part], osc: Oscillator, band_hz: tuple[float, float], top: 
                                   (float(f_full[i]), float(f_zero[i])),
                                   (float(low[i]), float(high[i]))))
     return TrimResult((lo_band, hi_band), notes, candidates)
+
+
+def _finest_fixed_r(res: NetworkIndex, entries: np.ndarray, most: np.ndarray,
+                    least: np.ndarray, top_value: np.ndarray) -> np.ndarray:
+    """Per (pot, capacitor) pair, the fixed R entry with the largest nominal value whose own
+    corners fit: high value ≤ ``most``, low value ≥ ``least``, nominal ≤ ``top_value`` [Ω];
+    -1 where none does.
+
+    A larger R with the same pot is a finer adjustment, so the finest covering
+    design of a pair is this one. Each pair steps down the value-sorted entries
+    from its upper bound until one fits; no entry below ``least`` can.
+    """
+    order = entries[np.argsort(res.values[entries], kind="stable")]
+    v, lo, hi = res.values[order], res.lo[order], res.hi[order]
+    found = np.full(len(most), -1, dtype=np.int64)
+    with np.errstate(invalid="ignore"):
+        pos = np.searchsorted(v, np.fmin(most, top_value), "right") - 1
+        todo = np.flatnonzero((pos >= 0) & (least <= most))
+    while todo.size:
+        k = pos[todo]
+        fits = (hi[k] <= most[todo]) & (lo[k] >= least[todo])
+        found[todo[fits]] = order[k[fits]]
+        pos[todo] -= 1
+        todo = todo[~fits & (k > 0)]
+        todo = todo[v[pos[todo]] >= least[todo]]
+    return found
 
 
 def _why_none(pots: tuple[Part, ...], lo: float, hi: float) -> str:
