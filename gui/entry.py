@@ -8,6 +8,7 @@ from __future__ import annotations
 
 import argparse
 import sys
+from collections.abc import Sequence
 
 import core.cli
 
@@ -28,5 +29,6 @@ def render_sheet(*args: object, **kwargs: object) -> int:
     return render_sheet_pdf(*args, **kwargs)  # type: ignore[arg-type]
 
 
-def main() -> None:
-    sys.exit(core.cli.main(window=open_window, render_sheet=render_sheet))
+def main(argv: Sequence[str] | None = None) -> None:
+    """The console script; ``argv`` (without the program name) defaults to ``sys.argv``."""
+    sys.exit(core.cli.main(argv, window=open_window, render_sheet=render_sheet))

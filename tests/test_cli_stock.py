@@ -3,17 +3,12 @@
 from __future__ import annotations
 
 import json
-import subprocess
-import sys
 from pathlib import Path
+
+from support.cli import run_tickbin
 
 from core.cli import main
 from core.storage.locations import demo_drawer_path
-
-
-def run(*argv: str, cwd: Path | None = None) -> subprocess.CompletedProcess[str]:
-    return subprocess.run([sys.executable, "-c", "from gui.entry import main; main()", *argv],
-                          capture_output=True, text=True, cwd=cwd, timeout=120)
 
 
 def test_check_demo_json(capsys) -> None:
@@ -47,10 +42,10 @@ def test_warnings_for_zero_and_duplicate_bins(tmp_path: Path, capsys) -> None:
 
 
 def test_errors_are_one_line_without_traceback(tmp_path: Path) -> None:
-    missing = run("stock", "check", str(tmp_path / "nope.csv"))
+    missing = run_tickbin(tmp_path, "stock", "check", str(tmp_path / "nope.csv"))
     assert missing.returncode == 2
     assert "nope.csv" in missing.stderr and "Traceback" not in missing.stderr
     assert len(missing.stderr.strip().splitlines()) == 1
-    usage = run("stock", "frobnicate")
+    usage = run_tickbin(tmp_path, "stock", "frobnicate")
     assert usage.returncode == 2 and len(usage.stderr.strip().splitlines()) == 1
 

@@ -1,7 +1,9 @@
-"""The DESIGN.md command-line contract, driven through the installed ``tickbin`` script.
+"""The DESIGN.md command-line contract, driven through ``tickbin``'s entry point.
 
-Every check runs the console script in a subprocess from a temporary folder,
-exactly as the contract spells the command, and reads only what it prints.
+Every check runs the console script's entry point (``gui.entry.main``) in this
+process from a temporary folder, exactly as the contract spells the command, and
+reads only what it prints (``support.cli``); the window and a handful of commands
+run through the installed script in a fresh process, which must print the same.
 Drawers are our own invented ones (written here as CSV) and the bundled demo.
 Where the expected answer needs the timing model (the brute-force ranking and
 the trim corners), the test evaluates ``core.model.timing`` directly, never the
@@ -21,8 +23,10 @@ from pathlib import Path
 from types import SimpleNamespace
 from typing import Any
 
+import numpy as np
 import pytest
 from support.brute_force import assert_first_or_empty, brute_force_best
+from support.cli import run_tickbin
 from support.nodes import node_lines, node_value
 from support.trim_checks import check_trim_candidate
 
@@ -64,6 +68,12 @@ BY_LINE = {p.stock_line: p for p in BOX_PARTS}
 # ---------------------------------------------------------------- running the script
 
 def tickbin(cwd: Path, *argv: str) -> subprocess.CompletedProcess[str]:
+    """In this process (``support.cli``): quick, and the same code the script runs."""
+    return run_tickbin(cwd, *argv)
+
+
+def installed_tickbin(cwd: Path, *argv: str) -> subprocess.CompletedProcess[str]:
+    """Through the installed console script, in a fresh process."""
     env = dict(os.environ, QT_QPA_PLATFORM="offscreen")
     return subprocess.run([TICKBIN, *argv], capture_output=True, text=True, cwd=cwd, env=env,
                           timeout=180)
@@ -75,7 +85,10 @@ def _no_nan(name: str) -> None:
 
 def run_json(cwd: Path, *argv: str) -> dict[str, Any]:
     """Exit 0 and exactly one JSON object on stdout (RFC 8259: no NaN or Infinity)."""
-    done = tickbin(cwd, *argv, "--json")
+    return json_of(tickbin(cwd, *argv, "--json"))
+
+
+def json_of(done: subprocess.CompletedProcess[str]) -> dict[str, Any]:
     assert done.returncode == 0, done.stderr
     assert "Traceback" not in done.stderr
     data = json.loads(done.stdout, parse_constant=_no_nan)  # a second object would not parse
@@ -502,14 +515,60 @@ def test_stock_check_text_and_json(tmp_path: Path) -> None:
         json.loads(done.stdout)  # without --json: readable text, not JSON
 
 
-def test_gui_screenshot_offscreen(tmp_path: Path) -> None:
+def window_picture(path: Path, size: tuple[int, int]) -> np.ndarray:
+    """The PNG's pixels (0xAARRGGBB), after checking it is the window drawn, not blank."""
+    from PySide6.QtGui import QImage
+
+    image = QImage(str(path))  # Qt's PNG reader (the format: ISO/IEC 15948)
+    assert not image.isNull()
+    assert (image.width(), image.height()) == size
+    image = image.convertToFormat(QImage.Format.Format_ARGB32)
+    # A copy: the array must outlive the QImage that owns the memory.
+    rows = np.frombuffer(image.constBits(), dtype=np.uint32).reshape(size[1], -1)
+    pixels = rows[:, :size[0]].copy()
+    # A drawn window (tables, text, plots, anti-aliased edges) has many colours, none of
+    # them filling the picture, and dark text on light ground.
+    colours, counts = np.unique(pixels, return_counts=True)
+    assert len(colours) > 50 and counts.max() < 0.9 * pixels.size
+    grey = ((pixels >> 16 & 0xFF) + (pixels >> 8 & 0xFF) + (pixels & 0xFF)) / 3
+    assert grey.min() < 80 and grey.max() > 200 and grey.std() > 10
+    return pixels
+
+
+def test_gui_screenshot_offscreen(qapp, tmp_path: Path) -> None:
+    size = ("--size", "1200x760")
     box = write_box(tmp_path)
     shot = tmp_path / "window.png"
-    done = tickbin(tmp_path, "gui", "--stock", str(box), "--screenshot", str(shot))
+    done = installed_tickbin(tmp_path, "gui", "--stock", str(box), "--screenshot", str(shot),
+                             *size)
     assert done.returncode == 0, done.stderr
-    assert shot.read_bytes()[:8] == b"\x89PNG\r\n\x1a\n"  # PNG signature (ISO/IEC 15948)
-    data = run_json(tmp_path, "gui", "--screenshot", str(tmp_path / "demo.png"))
-    assert data["screenshot"] == str(tmp_path / "demo.png")
+    assert done.stderr == ""  # Qt's offscreen size-hint notice is filtered (gui/app.py)
+    boxed = window_picture(shot, (1200, 760))
+    demo = tmp_path / "demo.png"
+    data = json_of(installed_tickbin(tmp_path, "gui", "--screenshot", str(demo), *size,
+                                     "--json"))
+    assert data["screenshot"] == str(demo)
+    # The demo drawer's window is another picture: what is drawn follows what is open.
+    shown = window_picture(demo, (1200, 760))
+    assert np.count_nonzero(shown != boxed) > 0.05 * boxed.size
+
+
+@pytest.mark.parametrize("argv", [
+    ("--version",),
+    ("search", "--stock", DEMO, *NE555, "--target", "1kHz", "--json"),
+    ("stock", "check", DEMO),
+    ("predict", *SCHMITT, "--r", "ten", "--c", "1n"),             # a bad value: exit 2
+    ("search", "--target", "1k", "--no-such-option"),             # a usage error: exit 2
+])
+def test_the_installed_script_prints_what_the_in_process_run_prints(
+        tmp_path: Path, argv: tuple[str, ...]) -> None:
+    # The checks here call the script's entry point in this process; the console script in
+    # a fresh process must give the same exit status and the same bytes on both streams.
+    script = installed_tickbin(tmp_path, *argv)
+    here = tickbin(tmp_path, *argv)
+    assert (script.returncode, script.stdout, script.stderr) == (
+        here.returncode, here.stdout, here.stderr)
+    assert script.stdout or script.stderr
 
 
 # ---------------------------------------------------------------- errors

@@ -3,6 +3,7 @@
 from __future__ import annotations
 
 import errno
+import math
 import os
 import time
 from pathlib import Path
@@ -13,7 +14,7 @@ from hypothesis import strategies as st
 
 import core.parts.drawer as drawer_module
 import core.storage.atomic as atomic_module
-from core.errors import DrawerFileError, TickbinError
+from core.errors import DrawerFileError, LineProblem, TickbinError
 from core.parts.drawer import (
     MAX_LINE_CHARS,
     Drawer,
@@ -169,17 +170,42 @@ def test_formula_cells_neutralised_on_export(tmp_path: Path, text: str) -> None:
 
 
 @settings(max_examples=150, deadline=None, suppress_health_check=[HealthCheck.too_slow])
-@given(st.binary(max_size=400))
-def test_random_bytes_never_crash_the_reader(data: bytes) -> None:
-    text = drawer_module._decode(data, "fuzz.csv") if b"\x00" not in data else None
+@given(st.one_of(st.binary(max_size=400),  # and bytes after a good header, so rows get read
+                 st.binary(max_size=300).map(lambda b: b"kind,value,quantity,location\n" + b)))
+def test_random_bytes_are_read_or_refused_naming_file_and_line(
+        tmp_path_factory: pytest.TempPathFactory, data: bytes) -> None:
+    # The hardening rule: bad input gets one clear message naming file, line and problem.
+    path = tmp_path_factory.mktemp("fuzz") / "fuzz.csv"
+    path.write_bytes(data)
+    # Lines the file has, however a reader splits them (str.splitlines knows the most
+    # breaks; cp1252 turns no byte into one that latin-1 does not).
+    lines = max(len(data.decode(codec, errors="replace").splitlines())
+                for codec in ("utf-8", "latin-1")) + 1
+
+    def names_a_line(problem: LineProblem) -> bool:
+        return problem.path == str(path) and 1 <= problem.line <= lines and bool(problem.reason)
+
     try:
-        if text is None:
-            raise DrawerFileError([])
-        drawer = parse_drawer_text(text, "fuzz.csv")
-        drawer.parts()
-        drawer.line_problems()
-    except DrawerFileError:
-        pass
+        drawer = read_drawer(path, strict=False)
+    except DrawerFileError as e:
+        assert e.problems and all(names_a_line(p) for p in e.problems)
+        assert str(e).startswith(f"{path}:{e.problems[0].line}: ")
+        return
+    # Read: each row is a usable part or has its problems, and each problem names a line.
+    parts = drawer.parts()
+    assert len(parts) + len(drawer.problems()) == len(drawer.rows)
+    for part in parts:
+        assert part.kind in ("R", "C", "P") and math.isfinite(part.value) and part.value > 0
+        assert part.quantity >= 0
+    problems = drawer.line_problems()
+    assert all(names_a_line(p) for p in problems)
+    # The command line's strict read refuses exactly the files with a bad line.
+    if problems:
+        with pytest.raises(DrawerFileError) as refused:
+            read_drawer(path)
+        assert refused.value.problems == problems
+    else:
+        assert read_drawer(path).parts() == parts
 
 
 @settings(max_examples=100, deadline=None)
