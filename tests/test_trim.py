@@ -12,6 +12,7 @@ from __future__ import annotations
 
 import itertools
 import math
+from typing import Any
 
 import pytest
 from hypothesis import given, settings
