@@ -13,6 +13,7 @@ from typing import Any
 from PySide6.QtCore import QAbstractTableModel, QModelIndex, QPersistentModelIndex, Qt
 from PySide6.QtGui import QBrush, QColor
 
+from core.parts.notation import NOTATION
 from core.units import format_frequency
 
 CANDIDATE_ROLE = Qt.ItemDataRole.UserRole + 10
@@ -85,7 +86,8 @@ def _search_columns(keys: Sequence[str]) -> list[Column]:
          lambda c: _band(c.worst_case_hz)),
     ]
     for key in keys:
-        cols.append((NETWORK_HEADINGS.get(key, key), f"The {key} network from your drawer",
+        cols.append((NETWORK_HEADINGS.get(key, key),
+                     f"The {key} network from your drawer\n{NOTATION}",
                      lambda c, key=key: c.networks[key].describe()))
     cols.append(("From the drawer", "Where each part lives and its line in the drawer file",
                  lambda c: where(c.networks)))
@@ -96,9 +98,9 @@ def _trim_columns() -> list[Column]:
     return [
         ("Pot", "The potentiometer or trimmer (end-to-end value)",
          lambda c: c.networks["P"].describe()),
-        ("Fixed R", "Fixed resistor in series with the pot",
+        ("Fixed R", f"Fixed resistor in series with the pot\n{NOTATION}",
          lambda c: c.networks["R"].describe()),
-        ("Capacitor", "Timing capacitor", lambda c: c.networks["C"].describe()),
+        ("Capacitor", f"Timing capacitor\n{NOTATION}", lambda c: c.networks["C"].describe()),
         ("Guaranteed", "Band reached at every tolerance corner",
          lambda c: _band(c.guaranteed_hz)),
         ("Nominal range", "Frequency at full rotation … at zero rotation",

@@ -50,7 +50,9 @@ def test_node_values_follow_the_textbook_rules() -> None:
     assert Node(series=(c1, c1)).value == pytest.approx(11e-9, rel=1e-12)
     nested = Node(series=(Node(parallel=(r1, r1)), r2))
     assert nested.value == pytest.approx(9.7e3, rel=1e-12)
-    assert nested.describe() == "(10 kΩ ∥ 10 kΩ) + 4.7 kΩ"
+    # Issue 11 §3: "+" reads as "added", so networks are written with words.
+    assert nested.describe() == "(10 kΩ par 10 kΩ) ser 4.7 kΩ"
+    assert Node(series=(c1, c2)).describe() == "22 nF ser 10 nF"
     assert nested.to_json() == {"series": [{"parallel": [{"line": 2}, {"line": 2}]},
                                            {"line": 3}]}
     assert nested.part_count == 3

@@ -120,3 +120,49 @@ def test_bad_stock_file_names_file_and_line(tmp_path: Path,
     assert main(["search", "--stock", str(stock), "--target", "1k"]) == 2
     err = capsys.readouterr().err
     assert f"{stock}:3" in err and err.count("\n") == 1
+
+
+def _dielectrics(data: dict[str, Any]) -> set[str]:
+    """Dielectrics of every capacitor the candidates use, read back from the drawer."""
+    by_line = {p.stock_line: p for p in read_drawer(demo_drawer_path()).parts()}
+
+    def lines(node: dict[str, Any]) -> list[int]:
+        return [node["line"]] if "line" in node else [
+            x for child in next(iter(node.values())) for x in lines(child)]
+
+    return {by_line[n].dielectric for c in data["candidates"] for n in lines(
+        c["networks"]["C"])}
+
+
+@pytest.mark.parametrize("command", [["search", "--target", "2.2kHz"],
+                                     ["trim", "--band", "400..480"]])
+def test_dielectric_list_restricts_the_capacitors(command: list[str],
+                                                  capsys: pytest.CaptureFixture[str]) -> None:
+    # Issue 11 §3: --dielectric film,c0g leaves only film and C0G/NP0 capacitors.
+    data = run_json(capsys, *command, "--stock", DEMO, "--dielectric", "film,NP0", "--top",
+                    "10")
+    assert data["candidates"] and _dielectrics(data) <= {"film", "c0g", "np0"}
+    assert any("film" in n and "C0G" in n for n in data["notes"])
+    everything = run_json(capsys, *command, "--stock", DEMO, "--top", "10")
+    assert _dielectrics(everything) - {"film", "c0g", "np0"}  # the filter did something
+
+
+def test_text_tables_carry_the_notation_legend(capsys: pytest.CaptureFixture[str]) -> None:
+    # Issue 11 §3: "+" reads as "added"; networks are written "ser"/"par" with a legend
+    # line under the table. 10 kΩ and 4.7 kΩ in series make 14.7 kΩ; 47 nF and 1 µF in
+    # series make 45 nF (Horowitz & Hill §1.2.1, §1.4.1).
+    assert main(["trim", "--stock", DEMO, "--band", "400..480", "--top", "3"]) == 0
+    out = capsys.readouterr().out
+    table = out.split("\n\n")[1].splitlines()
+    assert " ser " in "\n".join(table) or " par " in "\n".join(table)
+    assert table[-1] == ("ser = in series, par = in parallel: 10 kΩ ser 4.7 kΩ is 14.7 kΩ, "
+                         "47 nF ser 1 µF is 45 nF")
+    assert " + " not in "\n".join(table[1:-1])
+
+
+def test_bad_dielectric_list_exits_2_with_one_line(capsys: pytest.CaptureFixture[str]) -> None:
+    with pytest.raises(SystemExit) as stop:
+        main(["search", "--stock", DEMO, "--target", "1k", "--dielectric", "film,paper"])
+    assert stop.value.code == 2
+    err = capsys.readouterr().err
+    assert err.count("\n") == 1 and "--dielectric" in err and "C0G" in err

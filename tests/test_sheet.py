@@ -370,3 +370,20 @@ def test_take_parts_counts_a_line_used_twice():
     taken = take_parts(drawer, cand)
     assert {t.line: (t.count, t.before, t.after) for t in taken} == {2: (2, 9, 7), 3: (1, 8, 7)}
     assert [row.get("quantity") for row in drawer.rows] == ["7", "7"]
+
+
+def test_sheet_writes_combined_networks_with_the_legend(demo_parts, hc14):
+    # Issue 11 §3: a network is written "ser"/"par", never "+", with the legend on the
+    # sheet. Series resistances add (Horowitz & Hill §1.2.1), so R's value is the sum.
+    cand = next(c for c in trim(demo_parts, hc14, (400.0, 480.0)).candidates
+                if c.networks["R"].series)
+    sheet = build_sheet(hc14, cand, "400 Hz … 480 Hz", stock=demo_parts, today=TODAY)
+    summary = dict(sheet.summary)
+    a, b = (p.value for p in cand.networks["R"].parts())
+    assert summary["Networks"].startswith(f"R = {format_quantity(a, 'resistance')} ser "
+                                          f"{format_quantity(b, 'resistance')} = "
+                                          f"{format_quantity(a + b, 'resistance')}")
+    assert summary["Notation"].startswith("ser = in series, par = in parallel")
+    single = next(c for c in search(demo_parts, hc14, 1000.0, max_resistors=1,
+                                    max_capacitors=1).candidates)
+    assert "Notation" not in dict(build_sheet(hc14, single, "1 kHz", today=TODAY).summary)

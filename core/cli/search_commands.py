@@ -8,7 +8,7 @@ from __future__ import annotations
 
 import argparse
 from collections import Counter
-from collections.abc import Callable
+from collections.abc import Callable, Sequence
 from pathlib import Path
 from typing import Any
 
@@ -23,10 +23,18 @@ from core.cli.common import (
     value_arg,
 )
 from core.design.search import Candidate, SearchResult, search
-from core.design.trim import TrimResult, trim
+from core.design.trim import TrimCandidate, TrimResult, trim
 from core.model.timing import Oscillator
-from core.parts.drawer import Drawer, Part, read_drawer
+from core.parts.drawer import (
+    Drawer,
+    Part,
+    dielectric_note,
+    parse_dielectrics,
+    read_drawer,
+    with_dielectrics,
+)
 from core.parts.networks import MAX_PARTS, Node
+from core.parts.notation import NOTATION
 from core.storage.locations import demo_drawer_path
 from core.units import format_frequency, parse_band
 
@@ -75,6 +83,10 @@ def add_design_options(parser: argparse.ArgumentParser, search_required: bool = 
                         help=f"most capacitors in one network, 1 to {MAX_PARTS} (default 2)")
     parser.add_argument("--top", type=count_arg(), default=10, metavar="N",
                         help="how many candidates to list (default 10)")
+    parser.add_argument("--dielectric", type=arg_type(parse_dielectrics, "dielectric"),
+                        metavar="LIST",
+                        help="only capacitors of these dielectrics, e.g. film,c0g (C0G, NP0, "
+                        "film, X7R, X5R, Y5V, Z5U, tantalum, electrolytic; default: any)")
 
 
 def read_stock(args: argparse.Namespace) -> tuple[Drawer, list[str]]:
@@ -88,12 +100,18 @@ def read_stock(args: argparse.Namespace) -> tuple[Drawer, list[str]]:
 def find_designs(args: argparse.Namespace, osc: Oscillator, parts: list[Part],
                  top: int) -> SearchResult | TrimResult:
     """The trim (``--band``) or search (``--target``) the options describe."""
+    parts = with_dielectrics(parts, args.dielectric)
     if getattr(args, "band", None) is not None:
-        return trim(parts, osc, args.band, top=top, max_resistors=args.max_resistors,
-                    max_capacitors=args.max_capacitors)
-    return search(parts, osc, args.target, duty_pct=args.duty,
-                  max_resistors=args.max_resistors, max_capacitors=args.max_capacitors,
-                  accept_pct=args.accept, top=top)
+        result: SearchResult | TrimResult = trim(
+            parts, osc, args.band, top=top, max_resistors=args.max_resistors,
+            max_capacitors=args.max_capacitors)
+    else:
+        result = search(parts, osc, args.target, duty_pct=args.duty,
+                        max_resistors=args.max_resistors, max_capacitors=args.max_capacitors,
+                        accept_pct=args.accept, top=top)
+    if args.dielectric is not None:
+        result.notes.insert(0, dielectric_note(args.dielectric))
+    return result
 
 
 def run_search(args: argparse.Namespace) -> int:
@@ -148,6 +166,7 @@ def _search_text(data: dict[str, Any], result: SearchResult, osc: Oscillator) ->
     if rows:
         out.append("")
         out += _table(["#", "frequency", "error", "duty", "worst case", "parts", *roles], rows)
+        out += _legend(result.candidates)
         out.append("")
         out.append("where the parts are:")
         for k, c in enumerate(result.candidates, 1):
@@ -162,6 +181,12 @@ def _search_text(data: dict[str, Any], result: SearchResult, osc: Oscillator) ->
                        f"with {owned}: {format_frequency(s['frequency_hz'], 4)} "
                        f"({_signed_pct(s['error_pct'])})")
     return "\n".join(out)
+
+
+def _legend(candidates: Sequence[Candidate | TrimCandidate]) -> list[str]:
+    """The notation's legend, one line under a table that shows a combined network."""
+    combined = any(n.part_count > 1 for c in candidates for n in c.networks.values())
+    return [NOTATION] if combined else []
 
 
 def _signed_pct(x: float) -> str:
@@ -195,6 +220,7 @@ def _trim_text(data: dict[str, Any], result: TrimResult, osc: Oscillator) -> str
         out.append("")
         out += _table(["#", "fixed R", "pot", "C", "range (full … zero rotation)",
                        "guaranteed", "rotation", "resolution", "parts"], rows)
+        out += _legend(result.candidates)
         out.append("")
         out.append("where the parts are:")
         for k, c in enumerate(result.candidates, 1):

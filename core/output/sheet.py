@@ -25,6 +25,7 @@ from core.model.timing import Oscillator, predict, waveform
 from core.output.schematic import Network, Schematic, astable_schematic, schmitt_schematic
 from core.parts.drawer import Drawer, Part
 from core.parts.networks import Node
+from core.parts.notation import NOTATION
 from core.units import (
     Tolerance,
     format_capacitance,
@@ -316,6 +317,11 @@ def build_sheet(osc: Oscillator, candidate: Candidate | TrimCandidate, target: s
                    f"{family.supply_range_v[1]:g} V)"),
         ("Thresholds", _threshold_text(osc)),
     ]
+    combined = [(role, node) for role, node in networks.items() if node.part_count > 1]
+    if combined:
+        summary += [("Networks", "; ".join(
+            f"{role} = {node.describe()} = {format_part_value(node.value, node.kind)}"
+            for role, node in combined)), ("Notation", NOTATION)]
     # A trim candidate's notes restate its rotations, which the adjustment covers.
     notes = [] if trim else list(candidate.notes)
     warnings = list(dict.fromkeys([*prediction.warnings, *notes]))

@@ -110,6 +110,13 @@ def parse_dielectrics(text: str) -> frozenset[str]:
     return frozenset(names)
 
 
+def dielectric_note(allowed: frozenset[str]) -> str:
+    """What a dielectric filter allows, in words for the notes (steadiest first)."""
+    shown = ("C0G/NP0" if d in ("c0g", "np0") else d if d in ELECTROLYTIC | {"film"}
+             else d.upper() for d in sorted(allowed, key=lambda d: (DIELECTRIC_STABILITY[d], d)))
+    return f"capacitors limited to {', '.join(dict.fromkeys(shown))} (--dielectric)"
+
+
 def with_dielectrics(parts: Iterable[Part], allowed: frozenset[str] | None) -> list[Part]:
     """``parts`` without the capacitors whose dielectric is not ``allowed`` (None: all)."""
     return [p for p in parts if allowed is None or p.kind != "C" or p.dielectric in allowed]

@@ -52,6 +52,7 @@ import numpy as np
 
 from core.errors import InputError
 from core.parts.drawer import DIELECTRIC_STABILITY, Part
+from core.parts.notation import PARALLEL_WORD, SERIES_WORD
 from core.units import format_part_value
 
 NetworkKind = Literal["R", "C"]
@@ -132,10 +133,11 @@ class Node:
         return {key: [c.to_json() for c in (self.series or self.parallel)]}
 
     def describe(self, digits: int = 3) -> str:
-        """``10 kΩ + 4.7 kΩ``, ``22 nF ∥ 10 nF``, ``(10 kΩ ∥ 10 kΩ) + 4.7 kΩ``."""
+        """``10 kΩ ser 4.7 kΩ``, ``22 nF par 10 nF``, ``(10 kΩ par 10 kΩ) ser 4.7 kΩ``
+        (``NOTATION``)."""
         if self.part is not None:
             return format_part_value(self.part.value, self.part.kind, digits)
-        sign = " + " if self.series else " ∥ "
+        sign = f" {SERIES_WORD} " if self.series else f" {PARALLEL_WORD} "
         shown = [c.describe(digits) if c.part is not None else f"({c.describe(digits)})"
                  for c in (self.series or self.parallel)]
         return sign.join(shown)
