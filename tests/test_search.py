@@ -27,10 +27,11 @@ from support.brute_force import (
 )
 from support.nodes import node_lines, node_value
 
-from core.design.search import search
+from core.design.search import _rank_order, build_steadiness, search
 from core.model.timing import astable_times, make_oscillator, predict, schmitt_times
 from core.parts.drawer import Part
 from core.parts.eseries import kit
+from core.parts.networks import drawer_index
 from core.units import Tolerance, format_frequency
 
 FIVE = Tolerance(0.05, 0.05)
@@ -350,3 +351,25 @@ def test_555_brute_force_on_random_drawers(rs: list[tuple[float, int]],
         # (C is discharged below the trigger level during the edge delay), and an
         # unreachable target is missed least at that peak, between the two places.
         assert not hit and abs(first.error_pct) <= best[2] * 1.02 + 0.015
+
+
+def test_of_two_equally_good_builds_the_steadier_ranks_first() -> None:
+    # Issue 11 §3 (a fact of the trade): when two builds are equally good, prefer the
+    # stable dielectric and the smaller spread. Film holds its value better than X7R
+    # (EIA-198 class 2 X7R: ±15 % over temperature); errors that print alike (0.01 %)
+    # are equally good, a clearly smaller error still wins.
+    parts = [Part("R", 10e3, Tolerance(0.05, 0.05), 1, line=2),
+             Part("R", 22e3, Tolerance(0.01, 0.01), 1, line=3),
+             Part("C", 100e-9, Tolerance(0.10, 0.10), 1, dielectric="x7r", line=4),
+             Part("C", 47e-9, Tolerance(0.05, 0.05), 1, dielectric="film", line=5)]
+    index = drawer_index(parts, 1, 1)
+    r10, r22 = (int(np.flatnonzero(index.resistors.values == v)[0]) for v in (10e3, 22e3))
+    c100, c47 = (int(np.flatnonzero(index.capacitors.values == v)[0]) for v in (100e-9, 47e-9))
+    entries = {"R": np.array([r10, r22, r10]), "C": np.array([c100, c47, c47])}
+    steady = build_steadiness(index, entries)
+    assert steady[1] < steady[2] < steady[0]  # 1 % + film, 5 % + film, 5 % + X7R
+    parts_used = np.array([2, 2, 2])
+    order = _rank_order(np.array([0.101, 0.104, 0.3]), parts_used, 1.0, steadiness=steady)
+    assert order.tolist() == [1, 0, 2]
+    order = _rank_order(np.array([0.101, 0.12, 0.3]), parts_used, 1.0, steadiness=steady)
+    assert order.tolist() == [0, 1, 2]

@@ -185,11 +185,14 @@ def schmitt_resistance(osc: Oscillator, target_hz: float, c: np.ndarray,
 
 
 def _rank_order(error_pct: np.ndarray, parts: np.ndarray, accept_pct: float,
-                duty_ok: np.ndarray | None = None, keep: int | None = None) -> np.ndarray:
+                duty_ok: np.ndarray | None = None, keep: int | None = None,
+                steadiness: np.ndarray | None = None) -> np.ndarray:
     """Indices in contract order: within accept by (parts, |error|), then the rest by |error|.
 
     With ``keep`` only that many leading indices are returned (found by
     partitioning first, so a million combinations rank in milliseconds).
+    ``steadiness`` (``build_steadiness``) breaks ties between builds whose
+    errors print the same (to 0.01 %): the steadier one first.
     """
     err = np.abs(error_pct)
     within = err <= accept_pct
@@ -198,10 +201,19 @@ def _rank_order(error_pct: np.ndarray, parts: np.ndarray, accept_pct: float,
     # One float key: hits sort by (parts, |error|) below every miss.
     span = accept_pct + 1.0
     key = np.where(within, parts * span + err, (parts.max(initial=0) + 2) * span + err)
+    tie = np.zeros(len(err)) if steadiness is None else steadiness
     if keep is not None and keep < len(key):
         head = np.argpartition(key, keep)[:keep]
-        return head[np.lexsort((err[head], np.where(within, parts, 0)[head], ~within[head]))]
-    return np.lexsort((err, np.where(within, parts, 0), ~within))
+        return head[np.lexsort((err[head], tie[head], np.round(err[head], 2),
+                                np.where(within, parts, 0)[head], ~within[head]))]
+    return np.lexsort((err, tie, np.round(err, 2), np.where(within, parts, 0), ~within))
+
+
+def build_steadiness(index: DrawerIndex, entries: dict[str, np.ndarray]) -> np.ndarray:
+    """Per build, the sum of its networks' ``steadiness`` (dielectric class of the
+    capacitor, relative spread of every network): lower is the steadier build."""
+    return sum((index.capacitors if role == "C" else index.resistors).steadiness(e)
+               for role, e in entries.items())
 
 
 def _varied(order: np.ndarray, c_entry: np.ndarray, r_values: np.ndarray,
@@ -286,7 +298,8 @@ def search(parts: list[Part], osc: Oscillator, target_hz: float, duty_pct: float
     candidates: list[Candidate] = []
     if reached:
         order = _rank_order(err, shortlist.parts, accept_pct, shortlist.duty_ok,
-                            keep=RANK_DEPTH * top)
+                            keep=RANK_DEPTH * top,
+                            steadiness=build_steadiness(index, shortlist.entries))
         picked = _varied(order, shortlist.entries["C"], shortlist.r_sum, shortlist.c_values,
                          top)
         candidates = _candidates(index, osc, target_hz, shortlist, picked)
