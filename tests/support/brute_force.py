@@ -7,10 +7,10 @@ Series resistors add, parallel ones add as conductances; capacitors the other wa
 
 from __future__ import annotations
 
-import itertools
-import math
 from collections import Counter
 from typing import Any
+
+import numpy as np
 
 from core.model.timing import schmitt_times
 from core.parts.drawer import Part
@@ -72,21 +72,25 @@ def brute_force_best(parts: list[Part], osc: Any, target: float, max_r: int, max
     r_nets = [n for n in plain_networks(res, max_r) if within_stock(n[1], parts)
               and osc.device.r_min_ohm <= n[0] <= osc.device.r_max_ohm]
     c_nets = [n for n in plain_networks(caps, max_c) if within_stock(n[1], parts)]
-    best = None
-    signed = []
-    for (rv, ru, rn), (cv, cu, cn) in itertools.product(r_nets, c_nets):
-        if not within_stock(ru + cu, parts):
-            continue
-        t_high, t_low = schmitt_times(osc, rv, cv)
-        f = 1.0 / float(t_high + t_low)
-        if not math.isfinite(f):
-            continue
-        signed.append((f - target) / target * 100)
-        err = abs(signed[-1])
-        key = (err > accept, rn + cn if err <= accept else 0, err)
-        if best is None or key < best:
-            best = key
-    return best, reaches(signed, accept)
+    if not r_nets or not c_nets:
+        return None, False
+    # R and C networks draw on different stock lines, so every pair is within stock; the
+    # model is evaluated for all pairs at once (rows: R networks, columns: C networks).
+    t_high, t_low = schmitt_times(osc, np.array([n[0] for n in r_nets])[:, None],
+                                  np.array([n[0] for n in c_nets])[None, :])
+    f = 1.0 / (t_high + t_low)
+    counts = np.add.outer([n[2] for n in r_nets], [n[2] for n in c_nets])
+    runs = np.isfinite(f)
+    signed = ((f - target) / target * 100)[runs]
+    if not signed.size:
+        return None, False
+    err = np.abs(signed)
+    inside = err <= accept
+    # The contract's order: inside accept first, then fewest parts, then smallest |error|.
+    first = np.lexsort((err, np.where(inside, counts[runs], 0), ~inside))[0]
+    best = (not bool(inside[first]), int(counts[runs][first]) if inside[first] else 0,
+            float(err[first]))
+    return best, reaches(signed.tolist(), accept)
 
 
 def reaches(signed_errors: list[float], accept: float) -> bool:
