@@ -116,6 +116,7 @@ def compute(target: Target, parts: tuple[Part, ...], indexes: _Indexes,
             step: Callable[[str, float], None]) -> tuple[Any, Any]:
     """Oscillator model and core's search or trim result for ``target`` over ``parts``."""
     osc = make_oscillator_for(target)
+    parts = target.usable(parts)
     index = indexes.get(parts, target.max_resistors, target.max_capacitors, step)
     step("Searching…", 1.0)
     if target.trim:
@@ -236,7 +237,8 @@ class SearchRunner(QObject):
 
     def needs_index(self, target: Target, parts: tuple[Part, ...]) -> bool:
         """Whether this request must build a network index first (slow on big drawers)."""
-        return not self._indexes.cached(parts, target.max_resistors, target.max_capacitors)
+        return not self._indexes.cached(target.usable(parts), target.max_resistors,
+                                        target.max_capacitors)
 
     def wait(self, msecs: int = -1) -> bool:
         return self.pool.waitForDone(msecs)

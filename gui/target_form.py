@@ -11,14 +11,17 @@ from dataclasses import dataclass
 from typing import Any, Literal
 
 from PySide6.QtCore import Qt, Signal
+from PySide6.QtGui import QAction
 from PySide6.QtWidgets import (
     QComboBox,
     QGridLayout,
     QHBoxLayout,
     QLabel,
     QLineEdit,
+    QMenu,
     QPushButton,
     QSpinBox,
+    QToolButton,
     QWidget,
 )
 
@@ -34,6 +37,10 @@ MODES: tuple[tuple[str, Mode, str, str], ...] = (
      "or 1k..1.2kHz: the search then picks a pot, a fixed resistor and a capacitor"),
 )
 DEFAULT_FAMILY = {"schmitt": "74HC14", "555": "NE555"}
+DIELECTRICS = (("C0G/NP0", ("c0g", "np0")), ("film", ("film",)), ("X7R", ("x7r",)),
+               ("X5R", ("x5r",)), ("Y5V/Z5U", ("y5v", "z5u")), ("tantalum", ("tantalum",)),
+               ("electrolytic", ("electrolytic",)))
+"""The capacitor filter's choices, steadiest first, and the drawer names each allows."""
 TRIM_SHARE = 0.05
 """Half-width of the band offered for trimming around a frequency target (±5 %, our choice:
 wide enough for 5 % parts once the chip is trimmed out, fine enough to set by hand)."""
@@ -54,10 +61,18 @@ class Target:
     max_resistors: int
     max_capacitors: int
     calibration: str | None
+    dielectrics: frozenset[str] | None = None
+    """Capacitor dielectrics allowed (lower-case drawer names); None: any."""
 
     @property
     def trim(self) -> bool:
         return self.band_hz is not None
+
+    def usable(self, parts: tuple[Any, ...]) -> tuple[Any, ...]:
+        """The drawer's parts this target may use (the dielectric filter applied)."""
+        from core.parts.drawer import with_dielectrics
+
+        return tuple(with_dielectrics(parts, self.dielectrics))
 
     def describe(self) -> str:
         """Short words for titles and sheets: ``1.00 kHz ±1 %`` or ``band 400 Hz … 480 Hz``."""
@@ -111,6 +126,16 @@ class TargetForm(QWidget):
         self.max_c.setRange(1, 3)
         self.max_c.setValue(2)
         self.max_c.setSuffix(" capacitors")
+        self.dielectric = QToolButton()
+        self.dielectric.setPopupMode(QToolButton.ToolButtonPopupMode.InstantPopup)
+        dielectric_menu = QMenu(self.dielectric)
+        self._dielectric_actions: list[tuple[QAction, tuple[str, ...]]] = []
+        for text, names in DIELECTRICS:
+            action = dielectric_menu.addAction(text)
+            action.setCheckable(True)
+            action.toggled.connect(self._dielectrics_changed)
+            self._dielectric_actions.append((action, names))
+        self.dielectric.setMenu(dielectric_menu)
         self.calibration = QComboBox()
         self.calibration.setMinimumContentsLength(12)
         self.new_calibration = QPushButton("From a measurement…")
@@ -131,6 +156,8 @@ class TargetForm(QWidget):
             self.accept: "Candidates within this error come first, fewest parts first",
             self.max_r: "Most resistors combined (series or parallel) for one resistance",
             self.max_c: "Most capacitors combined (parallel or series) for one capacitance",
+            self.dielectric: "Only capacitors of the ticked dielectrics (none ticked: any). "
+                             "C0G and film hold their value best",
             self.calibration: "Thresholds measured on your own chip (none: the device "
                               "table's min/typ/max)",
             self.new_calibration: "Make a calibration from a frequency you measured on the "
@@ -139,7 +166,8 @@ class TargetForm(QWidget):
         names = {self.circuit: "circuit", self.family: "family", self.supply: "supply voltage",
                  self.mode: "target kind", self.target: "target", self.duty: "duty cycle",
                  self.accept: "acceptable error", self.max_r: "resistors per network",
-                 self.max_c: "capacitors per network", self.calibration: "calibration",
+                 self.max_c: "capacitors per network", self.dielectric: "capacitor dielectrics",
+                 self.calibration: "calibration",
                  self.new_calibration: "new calibration"}
         for widget, tip in tips.items():
             widget.setToolTip(tip)
@@ -178,6 +206,7 @@ class TargetForm(QWidget):
         network_box = QHBoxLayout()
         network_box.addWidget(self.max_r)
         network_box.addWidget(self.max_c)
+        network_box.addWidget(self.dielectric)
         network_box.addStretch(1)
         grid.addLayout(network_box, 2, 1)
         grid.addWidget(label("Ca&libration", self.calibration), 2, 2)
@@ -190,6 +219,7 @@ class TargetForm(QWidget):
         grid.setColumnStretch(3, 3)
         grid.setColumnStretch(5, 2)
 
+        self._dielectrics_changed()
         self.circuit.currentIndexChanged.connect(self._circuit_changed)
         self.family.currentIndexChanged.connect(self._family_changed)
         self.mode.currentIndexChanged.connect(self._mode_changed)
@@ -230,6 +260,17 @@ class TargetForm(QWidget):
         self._family_changed()
 
     def _family_changed(self) -> None:
+        self._edited()
+
+    def dielectrics(self) -> frozenset[str] | None:
+        """The drawer dielectric names ticked, or None when none are (any capacitor)."""
+        names = {n for action, group in self._dielectric_actions if action.isChecked()
+                 for n in group}
+        return frozenset(names) or None
+
+    def _dielectrics_changed(self, *args: object) -> None:
+        ticked = [a.text() for a, _ in self._dielectric_actions if a.isChecked()]
+        self.dielectric.setText(", ".join(ticked) if ticked else "any dielectric")
         self._edited()
 
     def _mode_changed(self) -> None:
@@ -316,7 +357,8 @@ class TargetForm(QWidget):
                       mode=mode, target_hz=target_hz, band_hz=band, duty_pct=duty,
                       accept_pct=accept, max_resistors=self.max_r.value(),
                       max_capacitors=self.max_c.value(),
-                      calibration=self.calibration.currentData())
+                      calibration=self.calibration.currentData(),
+                      dielectrics=self.dielectrics())
 
     def _show_problems(self, problems: dict[str, str]) -> None:
         for key, edit in self._fields.items():
@@ -354,7 +396,9 @@ class TargetForm(QWidget):
                 "target": self.target.text(), "duty": self.duty.text(),
                 "accept": self.accept.text(), "max_r": str(self.max_r.value()),
                 "max_c": str(self.max_c.value()),
-                "calibration": self.calibration.currentData() or ""}
+                "calibration": self.calibration.currentData() or "",
+                "dielectrics": ",".join(a.text() for a, _ in self._dielectric_actions
+                                        if a.isChecked())}
 
     def restore(self, state: dict[str, str]) -> None:
         """Fill the fields from ``state()`` output (unknown or bad entries are skipped)."""
@@ -373,3 +417,7 @@ class TargetForm(QWidget):
             if str(state.get(key, "")).isdigit():
                 spin.setValue(int(state[key]))
         pick(self.calibration, state.get("calibration") or None)
+        if "dielectrics" in state:
+            ticked = set(str(state["dielectrics"]).split(","))
+            for action, _ in self._dielectric_actions:
+                action.setChecked(action.text() in ticked)

@@ -507,3 +507,23 @@ def test_plots_are_drawn_one_per_step(window):
     with pytest.raises(StopIteration):
         next(steps)
     assert not np.array_equal(plots.hist_curve.getData()[1], hist_before)
+
+
+def test_dielectric_filter_and_notation_tooltip(qtbot, make_window):
+    # Issue 11 §3: the window offers the command line's --dielectric filter, and the
+    # network columns' header tooltip carries the ser/par legend.
+    window = make_window()
+    column = window.candidates.headings().index("Capacitor")
+    tip = window.candidates.headerData(column, Qt.Orientation.Horizontal,
+                                       Qt.ItemDataRole.ToolTipRole)
+    assert "ser = in series, par = in parallel" in tip
+    ticks = {a.text(): a for a, _ in window.form._dielectric_actions}
+    search_done(qtbot, window, lambda: ticks["film"].setChecked(True))
+    assert window.form.dielectric.text() == "film"
+    shown = [window.candidates.candidate(i) for i in range(window.candidates.rowCount())]
+    assert shown and {p.dielectric for c in shown for p in c.networks["C"].parts()} == {"film"}
+    state = window.form.state()
+    assert state["dielectrics"] == "film"
+    window.close()
+    again = make_window()
+    assert again.form.dielectrics() == frozenset({"film"})
