@@ -418,6 +418,55 @@ def format_part_value(value: float, kind: str, digits: int = 3) -> str:
     return format_quantity(value, "capacitance" if kind == "C" else "resistance", digits)
 
 
+_CODE_LETTERS = {"R": ((1.0, "R"), (1e3, "k"), (1e6, "M"), (1e9, "G")),
+                 "C": ((1e-12, "p"), (1e-9, "n"), (1e-6, "u"), (1e-3, "m"))}
+
+
+def format_code(value: float, kind: str, digits: int = 3) -> str:
+    """A part's value as a drawer cell is written: the IEC 60062 letter code, the letter
+    standing for the decimal point (``4k7``, ``100R``, ``R47``, ``2n2``, ``100n``).
+
+    References: IEC 60062:2016 §4 (letter and digit code for resistance and capacitance).
+    """
+    letters = _CODE_LETTERS["C" if kind == "C" else "R"]
+    scale, letter = letters[0]
+    for step, mark in letters:
+        if value >= step * (1 - 1e-9):
+            scale, letter = step, mark
+    text = f"{float(f'{value / scale:.{digits}g}'):g}"
+    if "e" in text:  # beyond the letters: plain SI, which the reader also takes
+        return f"{value:.{digits}g}"
+    whole, _, fraction = text.partition(".")
+    return f"{'' if whole == '0' and fraction else whole}{letter}{fraction}"
+
+
+_E24_LEADS = frozenset({10, 11, 12, 13, 15, 16, 18, 20, 22, 24, 27, 30, 33, 36, 39, 43, 47,
+                        51, 56, 62, 68, 75, 82, 91})
+"""The two significant digits of the IEC 60063 E24 series."""
+
+
+def capacitor_code_value(text: str) -> float | None:
+    """The capacitance [F] a bare number such as ``104`` means as a three-digit capacitor
+    code (two E24 digits and a multiplier 1…9), else None: such a number is seldom
+    meant as a resistor (``104`` is 100 nF, not 104 Ω).
+
+    References: IEC 60062:2016 §5 (three-digit code in picofarads); IEC 60063 (E24).
+    """
+    t = text.strip()
+    if len(t) != 3 or not (t.isascii() and t.isdigit()):
+        return None
+    lead, power = int(t[:2]), int(t[2])
+    if lead not in _E24_LEADS or power == 0:
+        return None
+    return parse_capacitance(t)
+
+
+def format_signed_pct(x: float, decimals: int = 2) -> str:
+    """``+0.25 %``; a value that rounds to zero shows no sign (never ``-0.00 %``)."""
+    text = f"{x:+.{decimals}f}"
+    return f"{text[1:] if float(text) == 0 else text} %"
+
+
 def format_resistance(ohms: float, digits: int = 3) -> str:
     return format_quantity(ohms, "resistance", digits)
 

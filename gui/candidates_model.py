@@ -14,7 +14,7 @@ from PySide6.QtCore import QAbstractTableModel, QModelIndex, QPersistentModelInd
 from PySide6.QtGui import QBrush, QColor
 
 from core.parts.notation import NOTATION
-from core.units import format_frequency
+from core.units import format_frequency, format_signed_pct
 
 CANDIDATE_ROLE = Qt.ItemDataRole.UserRole + 10
 """Role giving the core candidate object of a row."""
@@ -79,7 +79,7 @@ def _search_columns(keys: Sequence[str]) -> list[Column]:
     cols: list[Column] = [
         ("Frequency", "Predicted frequency with the nominal model",
          lambda c: format_frequency(c.frequency_hz, 4)),
-        ("Error", "(predicted − target) / target", lambda c: f"{c.error_pct:+.2f} %"),
+        ("Error", "(predicted − target) / target", lambda c: format_signed_pct(c.error_pct)),
         ("Duty", "Share of each period the output is high",
          lambda c: f"{c.duty_pct:.1f} %"),
         ("Worst case", "Frequency band over every tolerance and threshold corner",

@@ -112,13 +112,24 @@ class PasteDialog(QDialog):
                           self.tolerance.text().strip(), self.location.text().strip())
 
     def _update_preview(self) -> None:
+        from core.units import capacitor_code_value, format_capacitance
+
         rows = self.rows()
         kinds = {"R": 0, "C": 0}
         for row in rows:
             kinds[row.get("kind")] += 1
-        self.preview.setText(f"{len(rows)} rows: {kinds['R']} resistors, "
-                             f"{kinds['C']} capacitors. Values the drawer cannot read are "
-                             "added anyway and marked for correction.")
+        text = (f"{len(rows)} rows: {kinds['R']} resistors, {kinds['C']} capacitors. Values "
+                "the drawer cannot read are added anyway and marked for correction.")
+        codes = [(row.get("value"), capacitor_code_value(row.get("value"))) for row in rows
+                 if row.get("kind") == "R"]
+        codes = [(typed, farads) for typed, farads in codes if farads is not None]
+        if codes:
+            shown = ", ".join(f"{typed} = {format_capacitance(farads)}?"
+                              for typed, farads in codes[:4])
+            text += (f"\n⚠ {shown} A bare number like this is usually a capacitor code; "
+                     "it is added as a resistor in ohms. Write it as 100n (or set the row's "
+                     "kind to C) if it is a capacitor.")
+        self.preview.setText(text)
 
 
 class KitDialog(QDialog):
@@ -186,7 +197,7 @@ class KitDialog(QDialog):
         return kit(self.series.currentText(), parse(self.low.text()), parse(self.high.text()))
 
     def rows(self) -> list[Row]:
-        from core.units import format_part_value
+        from core.units import format_code
 
         kind = self.kind.currentData()
         cells = {"kind": kind, "quantity": str(self.quantity.value()),
@@ -194,7 +205,7 @@ class KitDialog(QDialog):
                  "location": self.location.text().strip()}
         if kind == "C" and self.dielectric.currentText():
             cells["dielectric"] = self.dielectric.currentText()
-        return [Row({**cells, "value": format_part_value(v, kind)}) for v in self.values()]
+        return [Row({**cells, "value": format_code(v, kind)}) for v in self.values()]
 
     def _update_preview(self) -> None:
         from core.units import format_part_value

@@ -36,7 +36,7 @@ from core.parts.drawer import (
 from core.parts.networks import MAX_PARTS, Node
 from core.parts.notation import NOTATION
 from core.storage.locations import demo_drawer_path
-from core.units import format_frequency, parse_band
+from core.units import format_frequency, format_signed_pct, parse_band
 
 
 def register(commands: argparse._SubParsersAction) -> None:
@@ -160,7 +160,7 @@ def _search_text(data: dict[str, Any], result: SearchResult, osc: Oscillator) ->
     roles = ("RA", "RB", "C") if osc.circuit == "555" else ("R", "C")
     rows = []
     for k, c in enumerate(result.candidates, 1):
-        rows.append([str(k), format_frequency(c.frequency_hz, 4), _signed_pct(c.error_pct),
+        rows.append([str(k), format_frequency(c.frequency_hz, 4), format_signed_pct(c.error_pct),
                      f"{c.duty_pct:.0f} %", _band_text(c.worst_case_hz), str(c.part_count),
                      *(c.networks[r].describe() for r in roles)])
     if rows:
@@ -179,7 +179,7 @@ def _search_text(data: dict[str, Any], result: SearchResult, osc: Oscillator) ->
             owned = ", ".join(f"{r} = {t}" for r, t in s["with_text"].items())
             out.append(f"  {s['buy']['text']} ({s['buy']['series']}) as {s['buy']['role']}, "
                        f"with {owned}: {format_frequency(s['frequency_hz'], 4)} "
-                       f"({_signed_pct(s['error_pct'])})")
+                       f"({format_signed_pct(s['error_pct'])})")
     return "\n".join(out)
 
 
@@ -187,12 +187,6 @@ def _legend(candidates: Sequence[Candidate | TrimCandidate]) -> list[str]:
     """The notation's legend, one line under a table that shows a combined network."""
     combined = any(n.part_count > 1 for c in candidates for n in c.networks.values())
     return [NOTATION] if combined else []
-
-
-def _signed_pct(x: float) -> str:
-    """``+0.25 %``; an error that rounds to zero shows no sign."""
-    text = f"{x:+.2f}"
-    return f"{'0.00' if text in ('+0.00', '-0.00') else text} %"
 
 
 def _candidate_notes(candidates: list[Candidate]) -> list[str]:

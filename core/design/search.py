@@ -52,7 +52,7 @@ from core.model.timing import (
 from core.parts.drawer import Part
 from core.parts.eseries import nearest
 from core.parts.networks import DrawerIndex, NetworkIndex, Node, drawer_index
-from core.units import format_frequency, format_part_value, format_resistance
+from core.units import format_frequency, format_part_value, format_resistance, format_signed_pct
 
 NEAR_COPY = 0.02
 """Two candidates whose R and C both agree within this fraction are near-copies."""
@@ -312,7 +312,7 @@ def search(parts: list[Part], osc: Oscillator, target_hz: float, duty_pct: float
         wanted = "" if duty_pct is None else f" at {duty_pct:g} ± {DUTY_ACCEPT_POINTS:g} % duty"
         notes.append(f"nothing in the drawer is within ±{accept_pct:g} % of "
                      f"{format_frequency(target_hz)}{wanted}; the closest is "
-                     f"{best_error:+.2f} %")
+                     f"{format_signed_pct(best_error)}")
         if not reached:
             side = "faster" if best_error > 0 else "slower"
             notes.append(f"no build from the drawer reaches {format_frequency(target_hz)}: "
@@ -324,7 +324,7 @@ def search(parts: list[Part], osc: Oscillator, target_hz: float, duty_pct: float
         if suggestions:
             first = suggestions[0]
             notes.append(f"buying {first['buy']['text']} ({first['buy']['series']}) would give "
-                         f"{first['error_pct']:+.2f} % with parts you have")
+                         f"{format_signed_pct(first['error_pct'])} with parts you have")
     return SearchResult(target_hz, limits, notes, candidates, suggestions)
 
 

@@ -32,6 +32,7 @@ from core.units import (
     format_part_value,
     format_quantity,
     format_resistance,
+    format_signed_pct,
     parse_voltage,
 )
 
@@ -293,7 +294,7 @@ def build_sheet(osc: Oscillator, candidate: Candidate | TrimCandidate, target: s
         prediction = predict(osc, model_values, model_tol, dielectric=dielectric, **extra)
         frequency = float(candidate.frequency_hz)
         predictions += [("Predicted frequency", _hz(frequency)),
-                        ("Error against target", f"{float(candidate.error_pct):+.2f} %")]
+                        ("Error against target", format_signed_pct(float(candidate.error_pct)))]
     predictions.append(("Period", format_quantity(prediction.period_s, "period")))
     predictions.append(("Duty cycle (output high)", f"{prediction.duty_pct:.1f} %"))
     lo, hi = prediction.worst_case_hz

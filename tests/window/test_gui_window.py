@@ -239,13 +239,27 @@ def test_kit_and_paste_rows(qtbot, window):
     dialog.high.setText("10k")
     rows = dialog.rows()
     # IEC 60063 E12 over one decade, both ends included: 13 values.
-    assert [r.get("value") for r in rows][:3] == ["1 kΩ", "1.2 kΩ", "1.5 kΩ"]
+    # Written in the drawer's own style, the IEC 60062 letter code (as the demo drawer).
+    assert [r.get("value") for r in rows][:3] == ["1k", "1k2", "1k5"]
     assert len(rows) == len(kit("E12", 1e3, 1e4)) == 13
     n = len(window.drawer)
     window.drawer_panel.add_rows(rows, "Add kit")
     assert len(window.drawer) == n + 13 and not window.drawer.problems()
     pasted = paste_rows("10k 22k 4k7 100n 1u 2n2 470R 0.1uF 47pF")
     assert [r.get("kind") for r in pasted] == ["R", "R", "R", "C", "C", "C", "R", "C", "C"]
+
+
+def test_a_bare_capacitor_code_is_questioned_when_pasted(qtbot, window):
+    from gui.drawer_panel import PasteDialog
+
+    dialog = PasteDialog(window)
+    qtbot.addWidget(dialog)
+    dialog.text.setPlainText("10k 104 470")
+    # IEC 60062 §5: 104 is the code of 100 nF; 470 is an E12 resistor value in ohms.
+    preview = dialog.preview.text()
+    assert "104 = 100 nF?" in preview and "470 =" not in preview
+    dialog.text.setPlainText("10k 470")
+    assert "⚠" not in dialog.preview.text()
 
 
 def test_save_open_and_title(qtbot, window, tmp_path, monkeypatch):
