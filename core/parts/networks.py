@@ -303,7 +303,7 @@ class NetworkIndex:
     ``values`` (Ω or F), ``lo``/``hi`` (value at the parts' tolerance
     extremes, with each group's closest-tolerance lines used first),
     ``stability`` (dielectric class of the worst capacitor, 0 for resistors),
-    ``topology`` (codes above), ``usage`` (int16, group index per part, -1
+    ``topology`` (codes above), ``usage`` (int32, group index per part, -1
     padded). ``layers[p]`` is the slice of ``p``-part networks. ``notes`` say
     what a very large drawer left out (see ``PAIR_LIMIT``, ``THREE_PART_BUDGET``).
     """
@@ -511,7 +511,7 @@ class _Buckets:
         else:
             self.v0, self.step, count = 1.0, 1.0, 1
         self.code = np.full(count, -1, dtype=np.int8)  # -1 free, _TAKEN by a closed layer
-        self.usage = np.full((count, MAX_PARTS), -1, dtype=np.int16)
+        self.usage = np.full((count, MAX_PARTS), -1, dtype=np.int32)
         self._winner = np.zeros(count, dtype=np.int64)
         self.layers: list[tuple[np.ndarray, np.ndarray]] = []  # (topology, usage), by value
         self._polarised = np.array([g[0].polarised for g in groups], dtype=bool)
@@ -547,7 +547,7 @@ class _Buckets:
                                                for k in range(usage.shape[1])])
         rows = np.flatnonzero(ok)
         if self._prefer:
-            use = np.full((rows.size, MAX_PARTS), -1, dtype=np.int16)
+            use = np.full((rows.size, MAX_PARTS), -1, dtype=np.int32)
             use[:, : usage.shape[1]] = usage[rows]
             codes = np.full(rows.size, code)
             score = steadiness(self._stability[usage[rows]].max(axis=1),
@@ -587,7 +587,7 @@ def _enumerate_triples(buckets: _Buckets, gv: np.ndarray, gq: np.ndarray,
         done += len(i)
         # i ≤ j ≤ k: a group used twice or three times is always a run of equal indices.
         ok = np.where(i == j, gq[i] >= 2 + (j == k), (j != k) | (gq[j] >= 2))
-        use = np.stack([i[ok], j[ok], k[ok]], axis=1).astype(np.int16)
+        use = np.stack([i[ok], j[ok], k[ok]], axis=1).astype(np.int32)
         v = [gv[use[:, col]] for col in range(3)]
         buckets.put(ser(ser(v[0], v[1]), v[2]), SERIES3, use)
         buckets.put(par(par(v[0], v[1]), v[2]), PARALLEL3, use)
@@ -622,7 +622,7 @@ def _look_up_triples(buckets: _Buckets, gv: np.ndarray, gq: np.ndarray, kind: st
             else:
                 rows = np.arange(int(np.searchsorted(t_hi, vc, "left")))
             rows = rows[buckets.free(free[rows])]
-            budget -= 2 * len(rows)
+            budget -= 2 * len(rows) + 1_000  # and a round of numpy calls costs something too
             if budget < 0:
                 return c
             lo, hi = t_lo[rows], t_hi[rows]
@@ -636,7 +636,7 @@ def _look_up_triples(buckets: _Buckets, gv: np.ndarray, gq: np.ndarray, kind: st
                 short = gq[c] < 1 + (groups[pick] == c).sum(axis=1)
                 pick[short] = stop[found[short]] - 1
                 pick = pick[gq[c] >= 1 + (groups[pick] == c).sum(axis=1)]
-                use = np.concatenate([groups[pick], np.full((len(pick), 1), c, np.int16)],
+                use = np.concatenate([groups[pick], np.full((len(pick), 1), c, np.int32)],
                                      axis=1)
                 buckets.put(outer(values[pick], vc), shapes[(pair_code, outer_series)], use)
         yield (c + 1) / len(gv)
@@ -671,7 +671,7 @@ def build_index(parts: Iterable[Part], kind: NetworkKind, max_parts: int = 2,
     buckets = _Buckets(groups, kind, resolution)
     notes: list[str] = []
     word = _KIND_WORD[kind]
-    buckets.put(gv, SINGLE, np.arange(n, dtype=np.int16)[:, None])
+    buckets.put(gv, SINGLE, np.arange(n, dtype=np.int32)[:, None])
     buckets.close_layer()
     yield 0.05
     if max_parts >= 2:
@@ -680,7 +680,7 @@ def build_index(parts: Iterable[Part], kind: NetworkKind, max_parts: int = 2,
             notes.append(f"{n:,} {word} values: two- and three-part networks are made from "
                          f"an even spread of {len(members):,} of them")
         i, j = (members[x] for x in np.triu_indices(len(members)))
-        use = np.stack([i, j], axis=1).astype(np.int16)
+        use = np.stack([i, j], axis=1).astype(np.int32)
         use = use[within_stock(use, gq)]
         del i, j
         ser, par = combiners(kind)
@@ -692,10 +692,9 @@ def build_index(parts: Iterable[Part], kind: NetworkKind, max_parts: int = 2,
         buckets.close_layer()
         yield 0.15
     if max_parts >= 3 and n:
-        m = len(members)
         lowest, highest = buckets.key(np.array([gv.min() / MAX_PARTS, gv.max() * MAX_PARTS]))
         free = lowest + np.flatnonzero(buckets.free(np.arange(lowest, highest + 1)))
-        triples = 8 * (m * (m + 1) * (m + 2) // 6)
+        triples = 8 * (n * (n + 1) * (n + 2) // 6)
         if _enumeration_cheaper(triples, 4 * n * len(free)):
             steps: Generator[float, None, Any] = _enumerate_triples(buckets, gv, gq, kind)
             yield from _rescaled(steps, 0.15, 0.75)
