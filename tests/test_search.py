@@ -300,18 +300,28 @@ def brute_force_best_555(parts: list[Part], osc: Any, target: float, duty: float
     c_nets = [n for n in plain_networks(caps, 2) if within_stock(n[1], parts)]
     diode = duty is not None and duty <= 50
     best = None
-    signed = []
-    for (a, au, an), (b, bu, bn), (c, cu, cn) in itertools.product(r_nets, r_nets, c_nets):
-        if not within_stock(au + bu + cu, parts):
+    signed: list[float] = []
+    # C networks draw on other stock lines than RA and RB, so every C fits with a pair
+    # that is within stock; the model is evaluated for all of them at once.
+    cv = np.array([n[0] for n in c_nets])
+    cn = np.array([n[2] for n in c_nets])
+    for (a, au, an), (b, bu, bn) in itertools.product(r_nets, r_nets):
+        if not within_stock(au + bu, parts):
             continue
-        t_high, t_low = astable_times(osc, a, b, c, diode_steered=diode)
-        f = 1.0 / float(t_high + t_low)
-        if not math.isfinite(f):
+        t_high, t_low = astable_times(osc, a, b, cv, diode_steered=diode)
+        f = 1.0 / (t_high + t_low)
+        runs = np.isfinite(f)
+        errors = ((f - target) / target * 100)[runs]
+        signed += errors.tolist()
+        err = np.abs(errors)
+        hit = err <= accept
+        if duty is not None:
+            hit &= np.abs(100 * (t_high * f)[runs] - duty) <= 2.0
+        if not err.size:
             continue
-        signed.append((f - target) / target * 100)
-        err = abs(signed[-1])
-        hit = err <= accept and (duty is None or abs(100 * float(t_high) * f - duty) <= 2.0)
-        key = (not hit, an + bn + cn if hit else 0, err)
+        counts = np.where(hit, an + bn + cn[runs], 0)
+        first = np.lexsort((err, counts, ~hit))[0]  # the contract's order, as below
+        key = (not bool(hit[first]), int(counts[first]), float(err[first]))
         if best is None or key < best:
             best = key
     return best, reaches(signed, accept)
