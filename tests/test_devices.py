@@ -6,10 +6,12 @@ import math
 import tomllib
 from pathlib import Path
 
+import numpy as np
 import pytest
 
 from core.errors import InputError, SetupError, TickbinError
 from core.model.devices import device_table, load_device_table
+from core.model.spread import monte_carlo
 from core.model.timing import make_oscillator
 from core.storage.locations import resource
 
@@ -17,8 +19,10 @@ REQUIRED_FAMILIES = ("74HC14", "74HCT14", "74AHC14", "74LVC14A", "74LS14", "7414
                      "CD40106B", "CD4093B", "NE555", "TLC555")
 
 
-HC1G14 = tomllib.loads((Path(__file__).parent / "data" / "timing_references.toml").read_text(
-    encoding="utf-8"))["hc1g14_thresholds"]
+REFERENCES = tomllib.loads((Path(__file__).parent / "data" / "timing_references.toml").read_text(
+    encoding="utf-8"))
+HC1G14 = REFERENCES["hc1g14_thresholds"]
+MC74HC14A = REFERENCES["mc74hc14a_limits"]
 
 
 def _raw() -> dict:
@@ -51,7 +55,7 @@ def test_every_entry_names_its_source():
     HC1G14["supplies_v"], HC1G14["vt_plus"], HC1G14["vt_minus"], strict=True)))
 def test_74hc14_thresholds_at_listed_supplies_are_the_datasheet_values(supply, vt_plus,
                                                                        vt_minus):
-    d = device_table().family("74HC14").at(supply)
+    d = device_table().family("74HC14-NXP").at(supply)
     assert d.vt_plus == pytest.approx(vt_plus, abs=1e-12)
     assert d.vt_minus == pytest.approx(vt_minus, abs=1e-12)
 
@@ -64,16 +68,100 @@ def test_ls14_numbers_and_the_derived_ttl_input_model():
     # The Thevenin input reproduces both datasheet currents (out of the pin = negative).
     for v, current in ((1.6, -0.14e-3), (0.8, -0.18e-3)):
         assert -(d.input_v_open_v - v) / d.input_r_ohm == pytest.approx(current, rel=1e-9)
-    # VOH 3.4 V typ at -0.4 mA through the output resistance from the open level.
-    assert d.voh_v - 0.4e-3 * d.r_out_high_ohm == pytest.approx(3.4)
+    # VOH 3.4 V typ at -0.4 mA through the output resistance from the open level (the
+    # line fitted to the VOH-IOH curve passes within 20 mV of the data-sheet point).
+    assert d.voh_v - 0.4e-3 * d.r_out_high_ohm == pytest.approx(3.4, abs=0.02)
+
+
+def test_ttl_output_resistance_from_the_output_curves():
+    # National/Fairchild DM74LS14: VOL 0.25 V typ at 4 mA and 0.35 V at 8 mA fix the low
+    # side exactly (25 Ω behind 0.15 V).
+    ref = REFERENCES["dm74ls14_output"]
+    d = device_table().family("74LS14").at(5.0)
+    for vol, i_ol in ref["vol_typ"]:
+        assert d.vol_v + i_ol * d.r_out_low_ohm == pytest.approx(vol, abs=1e-9)
+    # Issue 11 (fact of the trade): a TTL high output's typical resistance is nearer
+    # 50 Ω than 250 Ω; a line through VOH typ and an assumed open level is not.
+    for name in ("74LS14", "7414"):
+        r_high = device_table().family(name).at(5.0).r_out_high_ohm
+        assert 25.0 <= r_high <= 80.0, name
+    # DM74LS14 short-circuit current IOS -20 ... -100 mA: the Thevenin high level
+    # shorted to ground must fall inside it.
+    i_short = -d.voh_v / d.r_out_high_ohm
+    assert ref["ios_a"][1] <= i_short <= ref["ios_a"][0]
+
+
+def test_a_curve_needs_two_points():
+    text = _one_family_toml('voh_curve = [[3.4, -0.4e-3]]\nvol_test = [0.2, 4e-3]')
+    with pytest.raises(TickbinError, match="voh_curve"):
+        load_device_table(text)
 
 
 def test_74hc14_hysteresis_window():
     # NXP 74HC1G14 static characteristics: VH 0.2…1.0 V at 2 V, 0.4…1.4 V at 4.5 V,
     # 0.6…1.6 V at 6 V.
-    fam = device_table().family("74HC14")
+    fam = device_table().family("74HC14-NXP")
     window = [(fam.at(v).hysteresis_min_v, fam.at(v).hysteresis_max_v) for v in (2.0, 4.5, 6.0)]
     assert window == [(0.2, 1.0), (0.4, 1.4), (0.6, 1.6)]
+
+
+@pytest.mark.parametrize("k", range(3))
+def test_mc74hc14a_limits_are_the_datasheet_values(k):
+    # ON Semiconductor MC74HC14A, DC characteristics, guaranteed limits (<= 85 °C).
+    d = device_table().family("MC74HC14A").at(MC74HC14A["supplies_v"][k])
+    assert (d.vt_plus[0], d.vt_plus[2]) == pytest.approx(MC74HC14A["vt_plus"][k], abs=1e-12)
+    assert (d.vt_minus[0], d.vt_minus[2]) == pytest.approx(MC74HC14A["vt_minus"][k],
+                                                           abs=1e-12)
+    assert (d.hysteresis_min_v, d.hysteresis_max_v) == pytest.approx(
+        MC74HC14A["hysteresis"][k], abs=1e-12)
+    # The data sheet's own note: VH max = VT+ max - VT- min.
+    assert d.hysteresis_max_v == pytest.approx(d.vt_plus[2] - d.vt_minus[0])
+
+
+def test_74hc14_spans_the_makers():
+    # Issue 11: one maker allows VT- down to 0.9 V and hysteresis up to 2.25 V at 4.5 V
+    # (ON Semi MC74HC14A); the generic 74HC14 must admit every maker's chip.
+    table = device_table()
+    span = table.family("74HC14")
+    assert set(span.span_of) == {"74HC14-NXP", "MC74HC14A"}
+    for supply in span.supplies_v:
+        s = span.at(supply)
+        for name in span.span_of:
+            v = table.family(name).at(supply)
+            assert s.vt_plus[0] <= v.vt_plus[0] and v.vt_plus[2] <= s.vt_plus[2]
+            assert s.vt_minus[0] <= v.vt_minus[0] and v.vt_minus[2] <= s.vt_minus[2]
+            assert s.hysteresis_min_v <= v.hysteresis_min_v
+            assert v.hysteresis_max_v <= s.hysteresis_max_v
+    at_45 = span.at(4.5)
+    assert at_45.vt_minus[0] == pytest.approx(0.9)
+    assert at_45.hysteresis_max_v == pytest.approx(2.25)
+    # A threshold corner with the ON Semi chip's widest window is in the worst case.
+    corners = make_oscillator("schmitt", span, 4.5).threshold_corners()
+    assert max(a - b for a, b in corners) == pytest.approx(2.25)
+
+
+def test_74ahc14_has_a_hysteresis_maximum():
+    # TI SN74AHC14 electrical characteristics, ΔVT min/max (from memory).
+    ref = REFERENCES["sn74ahc14_hysteresis"]
+    fam = device_table().family("74AHC14")
+    for supply, window in zip(ref["supplies_v"], ref["hysteresis"], strict=True):
+        d = fam.at(supply)
+        assert (d.hysteresis_min_v, d.hysteresis_max_v) == pytest.approx(window)
+
+
+def test_ne555_threshold_spread_matches_the_datasheet_timing_error():
+    # TI NE555 switching characteristics (from memory): astable initial error 2.25 % typ,
+    # read as one sigma (common practice, no published source); monostable 3 % max.
+    ref = REFERENCES["ne555_timing_error"]
+    osc = make_oscillator("555", "NE555", 9.0)
+    values = {"RA": 10e3, "RB": 10e3, "C": 100e-9}
+    f = monte_carlo(osc, values, {}, n=40_000, seed=3).frequencies_hz
+    assert 100 * np.std(f) / np.mean(f) == pytest.approx(ref["astable_typ_pct"], rel=0.15)
+    # A monostable's t = R C ln(1 / (1 - threshold)): the table's threshold range must
+    # reach the data sheet's 3 % maximum timing error.
+    lo, typ, hi = device_table().family("NE555").at(9.0).vt_plus
+    mono = [math.log(1 / (1 - x / 9.0)) for x in (lo, typ, hi)]
+    assert 100 * max(mono[1] / mono[0] - 1, mono[2] / mono[1] - 1) >= ref["monostable_max_pct"]
 
 
 def test_hef40106b_datasheet_thresholds():
@@ -155,6 +243,25 @@ def test_every_family_is_physically_consistent_across_its_range(name):
                 assert d.hysteresis_min_v - 1e-9 <= a - b <= d.hysteresis_max_v + 1e-9
             assert d.vt_plus[0] - 1e-9 <= a <= d.vt_plus[2] + 1e-9
             assert d.vt_minus[0] - 1e-9 <= b <= d.vt_minus[2] + 1e-9
+
+
+def _one_family_toml(output_lines: str) -> str:
+    return f"""
+[packages.p]
+name = "DIP-14"
+pins = {{ input = 1, output = 2, vcc = 14, gnd = 7 }}
+[families.ONE]
+circuit = "schmitt"
+supply_range_v = [4.5, 5.5]
+package = "p"
+[[families.ONE.supply]]
+v = 5.0
+vt_plus = [1.0, 1.5, 2.0]
+vt_minus = [0.5, 0.6, 0.7]
+hysteresis_min = 0.1
+{output_lines}
+r_range_ohm = [1e3, 1e6]
+"""
 
 
 def test_a_malformed_table_is_refused_with_the_entry_named():

@@ -281,10 +281,8 @@ def _point(family: Mapping[str, Any], entry: Mapping[str, Any], circuit: str,
     if "r_out_ohm" in entry:
         r_high, r_low = (float(x) for x in entry["r_out_ohm"])
     else:
-        voh, i_oh = (float(x) for x in entry["voh_test"])
-        vol, i_ol = (float(x) for x in entry["vol_test"])
-        r_high = (voh_open - voh) / abs(i_oh)
-        r_low = (vol - vol_open) / abs(i_ol)
+        voh_open, r_high = _output_line(entry, "voh", voh_open, where)
+        vol_open, r_low = _output_line(entry, "vol", vol_open, where)
     # TTL: the input sources a current that falls as the pin voltage rises; two
     # datasheet points (current at VT+ and at VT-) fix a Thevenin source.
     input_r, input_v_open, input_current = math.inf, 0.0, 0.0
@@ -303,6 +301,29 @@ def _point(family: Mapping[str, Any], entry: Mapping[str, Any], circuit: str,
                    output_high_drop=0.0, source=source)
     _check_point(point, where)
     return point
+
+
+def _output_line(entry: Mapping[str, Any], level: str, v_open: float,
+                 where: str) -> tuple[float, float]:
+    """(open-circuit level [V], output resistance [Ω]) of one output state.
+
+    ``{level}_test`` = [V, A] is one data-sheet point seen from the given open
+    level; ``{level}_curve`` = [[V, A], ...] are points read off a typical
+    output-voltage-vs-current curve, fitted by a least-squares line (its
+    intercept is the open level, its slope the resistance).
+    """
+    curve = entry.get(f"{level}_curve")
+    if curve is None:
+        v, i = (float(x) for x in entry[f"{level}_test"])
+        return v_open, abs(v - v_open) / abs(i)
+    if len(curve) < 2:
+        raise TickbinError(f"devices.toml: {where}: {level}_curve needs two points or more")
+    volts = [float(v) for v, _ in curve]
+    amps = [abs(float(i)) for _, i in curve]
+    mean_i, mean_v = sum(amps) / len(amps), sum(volts) / len(volts)
+    slope = (sum((i - mean_i) * (v - mean_v) for i, v in zip(amps, volts, strict=True))
+             / sum((i - mean_i) ** 2 for i in amps))
+    return mean_v - slope * mean_i, abs(slope)
 
 
 def _check_point(p: _Point, where: str) -> None:
