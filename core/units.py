@@ -232,13 +232,17 @@ def _parse_one(s: str, text: str, quantity: Quantity, *, bare_number: bool = Tru
                                  what=quantity)
             raise InputError(_expected(quantity), text=text, what=quantity)
         if quantity == "capacitance" and prefix == "" and unit == "":
+            if "e" in m["num"].lower():
+                # An exponent is unambiguous: 4.29e-07 is what a spreadsheet writes for farads.
+                return _finish(_scaled(m["num"], 0), text, quantity)
             code = _CAP_CODE.match(m["num"])
             if code:
                 # Third digit: the power of ten; 8 and 9 stand for 0.01 and 0.1.
                 exp = {"8": -2, "9": -1}.get(code["exp"], int(code["exp"]))
                 return _finish(int(code["sig"]) * 10.0**exp * 1e-12, text, quantity)
-            raise InputError("a capacitance needs a prefix or unit (100n, 0.1uF) "
-                             "or a three-digit code (104)", text=text, what=quantity)
+            raise InputError("a capacitance needs a prefix or unit (100n, 0.1uF), "
+                             "a three-digit code (104) or farads with an exponent (1e-07)",
+                             text=text, what=quantity)
         if not bare_number and prefix == "" and unit == "":
             raise InputError(_expected(quantity), text=text, what=quantity)
         return _finish(_scaled(m["num"], _PREFIX_EXP[prefix]), text, quantity)

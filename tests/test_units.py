@@ -48,6 +48,15 @@ def test_iec60062_capacitor_codes(text: str, farads: float) -> None:
     assert parse_capacitance(text) == pytest.approx(farads, rel=1e-12)
 
 
+@pytest.mark.parametrize(("text", "farads"), [("4.29e-07", 4.29e-7), ("1E-9", 1e-9),
+                                              ("2.2e-6", 2.2e-6), ("47e-12", 47e-12)])
+def test_a_capacitance_with_an_exponent_and_no_unit_is_farads(text: str, farads: float) -> None:
+    # Issue 11 and DESIGN.md: an exponent is unambiguous, so the bare number is in farads
+    # (SI base unit, BIPM SI Brochure 9th ed.); without one, "4700" stays a refused code.
+    assert parse_capacitance(text) == pytest.approx(farads, rel=1e-12)
+    assert parse_quantity(text, "capacitance") == parse_capacitance(text)
+
+
 # SI prefixes and unit symbols, BIPM SI Brochure 9th ed. table 7.
 @pytest.mark.parametrize(
     ("text", "quantity", "si"),
