@@ -87,6 +87,15 @@ def test_refused_with_file_and_line(tmp_path: Path, data: bytes, says: str) -> N
     assert str(info.value).startswith(f"{p}:")
 
 
+def test_a_nul_byte_is_reported_on_its_own_line(tmp_path: Path) -> None:
+    # Issue 11: a NUL on line 3 was reported as "line 1: binary data".
+    p = tmp_path / "nul.csv"
+    p.write_bytes(b"kind,value,quantity\nR,1k,2\nR,2k\x002,1\nR,3k,1\n")
+    with pytest.raises(DrawerFileError, match="binary") as info:
+        read_drawer(p)
+    assert str(info.value).startswith(f"{p}:3:")
+
+
 def test_oversized_file_is_refused(tmp_path: Path, monkeypatch: pytest.MonkeyPatch) -> None:
     monkeypatch.setattr(drawer_module, "MAX_FILE_BYTES", 100)
     p = tmp_path / "big.csv"

@@ -526,9 +526,7 @@ def _encoding_of(data: bytes) -> str:
     return "utf-8-sig" if data.startswith(codecs.BOM_UTF8) else "utf-8"
 
 
-def _decode(data: bytes, name: str) -> str:
-    if b"\x00" in data:
-        raise DrawerFileError([LineProblem(name, 1, "binary data, not a CSV text file")])
+def _decode(data: bytes) -> str:
     # Every byte decodes, and encodes back to itself (see _keep_byte).
     return data.decode(_encoding_of(data), errors="tickbin-keep-byte")
 
@@ -600,6 +598,10 @@ def parse_drawer_text(text: str, name: str = "<drawer>") -> Drawer:
     starting with ``#`` (between records) are comments: kept, never read as parts.
     """
     lines = text.splitlines()
+    binary = next((i for i, ln in enumerate(lines) if "\x00" in ln), None)
+    if binary is not None:
+        raise DrawerFileError([LineProblem(name, binary + 1,
+                                           "binary data (a NUL byte), not a CSV text file")])
     problems: list[LineProblem] = []
     first = next((i for i, ln in enumerate(lines) if not _is_note(ln)), None)
     if first is None:
@@ -700,7 +702,7 @@ def read_drawer(path: str | os.PathLike[str], *, strict: bool = True) -> Drawer:
         raise DrawerFileError([LineProblem(
             name, 1, f"file is larger than {MAX_FILE_BYTES / 2**20:g} MiB; a drawer file may "
             "be at most that")]) from None
-    drawer = parse_drawer_text(_decode(data, name), name)
+    drawer = parse_drawer_text(_decode(data), name)
     drawer.path = p
     drawer.disk = DiskState.of(p, data)
     if drawer.layout is not None:
