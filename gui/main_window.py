@@ -930,7 +930,8 @@ class MainWindow(QMainWindow):
         dialog = CalibrationDialog(self, self.form.target_value(), self.selected_candidate())
         if dialog.exec() and dialog.saved_name:
             self.form.reload_calibrations(select=dialog.saved_name)
-            self.say(f"Calibration “{dialog.saved_name}” saved and selected.")
+            self.say(f"Calibration “{dialog.saved_name}” saved and selected: predictions "
+                     f"with it ±{dialog.saved_uncertainty_pct:.1f} % (1 sigma).")
 
     def show_help(self) -> None:
         from gui.help_dialog import HelpDialog

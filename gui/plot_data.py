@@ -87,8 +87,9 @@ def chip_spread_advice(outcome: Outcome, cand: Any) -> str:
         f"data sheet allows VT+ from {a_lo:.2f} to {a_hi:.2f} V and VT− from "
         f"{b_lo:.2f} to {b_hi:.2f} V at {device.supply_v:g} V, so a build may land "
         f"anywhere in {_band(spread.full_hz)}; your parts alone move it only "
-        f"{_band(spread.parts_hz)}. Build it once, measure the frequency and "
-        f'<a href="calibrate">calibrate from that measurement</a>' + (
+        f"{_band(spread.parts_hz)}. Build it once with 1 % resistors and a C0G or film "
+        f'capacitor, measure the frequency and <a href="calibrate">calibrate from that '
+        'measurement</a>' + (
             ', or <a href="trim">search a band with a trimmer</a> and tune it in.'
             if outcome.target.circuit == "schmitt" else "."))
 

@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+import json
 import math
 import tomllib
 from pathlib import Path
@@ -11,6 +12,7 @@ import pytest
 
 from core.errors import InputError, SetupError
 from core.model.calibration import (
+    FREQUENCY_READING,
     Measurement,
     _residuals,
     calibrate,
@@ -21,7 +23,9 @@ from core.model.calibration import (
     load_calibration,
     save_calibration,
 )
-from core.model.timing import make_oscillator, predict, times
+from core.model.spread import monte_carlo, worst_case_hz
+from core.model.timing import frequency, make_oscillator, predict, times
+from core.units import Tolerance
 
 REF = tomllib.loads((Path(__file__).parent / "data" / "timing_references.toml").read_text(
     encoding="utf-8"))["bench_hex_schmitt_5v"]
@@ -46,7 +50,7 @@ def test_bench_calibration_gives_the_known_thresholds():
     assert pred.frequency_hz == pytest.approx(f, rel=1e-9)
     assert pred.duty_pct == pytest.approx(duty, abs=1e-7)
     assert cal.scale == pytest.approx(f / predict(hc14(), BENCH).frequency_hz, rel=1e-12)
-    assert cal.warnings == ()
+    assert not any("outside the data sheet" in w for w in cal.warnings)
 
 
 def test_without_duty_the_table_ratio_is_kept():
@@ -144,3 +148,112 @@ def test_555_calibration():
     assert cal.vt_plus_v == pytest.approx(6.1, abs=1e-6)
     assert cal.vt_minus_v == pytest.approx(2.95, abs=1e-6)
     assert math.isfinite(cal.scale)
+
+
+# ---------------------------------------------------------------- how sure a calibration is
+
+PARTS = {"R": Tolerance(0.01, 0.01), "C": Tolerance(0.05, 0.05)}  # 1 % resistor, 5 % film
+DESIGN = {"R": 68e3, "C": 22e-9}  # a later design predicted with the calibration
+
+
+def test_uncertainty_is_the_hand_propagated_first_order_formula():
+    # JCGM 100:2008 (GUM) §4.3.7: a tolerance ±a taken as uniform has u = a / √3; §5.1.2:
+    # f ∝ 1 / (R C), so the relative uncertainties of R, C and the reading add in
+    # quadrature with unit sensitivity, and their limits add linearly.
+    cal = calibrate(hc14(), {"R": 33e3, "C": 470e-9}, 60.0, tolerances=PARTS)
+    a = np.array([0.01, 0.05, FREQUENCY_READING])
+    assert cal.uncertainty_pct == pytest.approx(100 * math.sqrt(np.sum(a**2) / 3), rel=0.01)
+    assert cal.worst_case_pct == pytest.approx(100 * np.sum(a), rel=0.01)
+    # The duty reading splits VT+ from VT- but leaves the period, and so a predicted
+    # frequency, as sure as before.
+    both = calibrate(hc14(), {"R": 33e3, "C": 470e-9}, 60.0, 45.0, tolerances=PARTS)
+    assert both.uncertainty_pct == pytest.approx(cal.uncertainty_pct, rel=0.01)
+    assert both.vt_plus_sigma_v > 0 and both.vt_minus_sigma_v > 0
+    # Wider parts, a less sure calibration, and the advice says what to use instead.
+    loose = calibrate(hc14(), {"R": 33e3, "C": 470e-9}, 60.0)  # R ±5 %, C ±20 %
+    assert loose.uncertainty_pct > 3 * cal.uncertainty_pct
+    assert any("1 % resistors and a C0G or film capacitor" in w for w in loose.warnings)
+    assert not any("1 % resistors" in w for w in cal.warnings)
+
+
+def test_uncertainty_agrees_with_a_monte_carlo_of_the_bench():
+    # numpy Monte Carlo (seeded): a chip with known thresholds is measured through parts
+    # drawn within their tolerance and a reading within its accuracy; the calibration's
+    # error on a later design must spread as uncertainty_pct says and stay within
+    # worst_case_pct.
+    truth = hc14().with_thresholds(2.85, 1.80)
+    nominal = {"R": 33e3, "C": 470e-9}
+    rng = np.random.default_rng(7)
+    errors, cal = [], None
+    for _ in range(250):
+        actual = {"R": nominal["R"] * (1 + rng.uniform(-0.01, 0.01)),
+                  "C": nominal["C"] * (1 + rng.uniform(-0.05, 0.05))}
+        reading = float(frequency(truth, actual)) * (1 + rng.uniform(-FREQUENCY_READING,
+                                                                     FREQUENCY_READING))
+        cal = calibrate(hc14(), nominal, reading, tolerances=PARTS)
+        osc = make_oscillator("schmitt", "74HC14", 5.0, calibration=cal)
+        errors.append(float(frequency(osc, DESIGN)) / float(frequency(truth, DESIGN)) - 1)
+    assert cal is not None
+    errors = np.array(errors)
+    assert 100 * np.std(errors) == pytest.approx(cal.uncertainty_pct, rel=0.12)
+    assert 100 * np.max(np.abs(errors)) <= cal.worst_case_pct
+
+
+def test_multi_point_parameter_uncertainty_is_the_least_squares_covariance():
+    # With part tolerances negligible and a scatter far above the reading's accuracy, the
+    # thresholds' uncertainty is the classical least-squares covariance s² (JᵀJ)⁻¹, which
+    # scipy.optimize.curve_fit reports as pcov (absolute_sigma=False).
+    optimize = pytest.importorskip("scipy.optimize")
+    osc = hc14()
+    truth = osc.with_thresholds(2.85, 1.80)
+    rng = np.random.default_rng(5)
+    parts = [{"R": r, "C": c} for r, c in ((4.7e3, 1e-6), (10e3, 470e-9), (47e3, 100e-9),
+                                           (100e3, 22e-9), (22e3, 1e-6), (68e3, 47e-9))]
+    readings = [Measurement(v, float(frequency(truth, v)) * (1 + rng.normal(0, 0.03)))
+                for v in parts]
+    exact = {"R": Tolerance(1e-9, 1e-9), "C": Tolerance(1e-9, 1e-9)}
+    cal = fit(osc, readings, tolerances=exact)
+    a0, b0 = osc.vt_plus_v, osc.vt_minus_v
+
+    def log_period(index: np.ndarray, s: float) -> np.ndarray:
+        return np.array([math.log(1 / float(frequency(osc, parts[int(k)], False, s * a0,
+                                                      s * b0))) for k in index])
+
+    measured = np.array([math.log(1 / m.frequency_hz) for m in readings])
+    popt, pcov = optimize.curve_fit(log_period, np.arange(len(parts)), measured, p0=[1.0])
+    assert cal.vt_plus_v == pytest.approx(popt[0] * a0, rel=1e-6)
+    assert cal.vt_plus_sigma_v == pytest.approx(math.sqrt(pcov[0, 0]) * a0, rel=0.02)
+    assert cal.vt_minus_sigma_v == pytest.approx(math.sqrt(pcov[0, 0]) * b0, rel=0.02)
+
+
+def test_a_calibrated_prediction_carries_the_uncertainty_into_its_spread():
+    cal = calibrate(hc14(), {"R": 33e3, "C": 470e-9}, 60.0, 45.0, tolerances=PARTS)
+    osc = make_oscillator("schmitt", "74HC14", 5.0, calibration=cal)
+    assert osc.calibration_sigma == pytest.approx(cal.uncertainty_pct / 100)
+    # The same thresholds given by hand: no calibration uncertainty (leakage corners only).
+    given = hc14().with_thresholds(cal.vt_plus_v, cal.vt_minus_v)
+    # Exact parts: the worst case widens by the calibration's own first-order limit ...
+    limit = cal.worst_case_pct / 100
+    lo0, hi0 = worst_case_hz(given, DESIGN, {})
+    assert worst_case_hz(osc, DESIGN, {}) == pytest.approx((lo0 * (1 - limit),
+                                                            hi0 * (1 + limit)), rel=1e-12)
+    # ... and the simulated builds spread by its 1 sigma (its uniform terms, summed).
+    f = monte_carlo(osc, DESIGN, {}, n=20_000, seed=1).frequencies_hz
+    f0 = monte_carlo(given, DESIGN, {}, n=20_000, seed=1).frequencies_hz
+    assert np.std(f / f0) == pytest.approx(cal.uncertainty_pct / 100, rel=0.08)
+    assert np.all(np.abs(f / f0 - 1) <= limit + 1e-12)
+    assert np.ptp(f0) == 0.0
+
+
+def test_uncertainty_is_saved_and_an_older_file_reads_as_unknown():
+    cal = calibrate(hc14(), BENCH, 63.3, 47.0, name="sure", tolerances=PARTS)
+    path = save_calibration(cal)
+    back = load_calibration("sure")
+    assert (back.uncertainty_pct, back.worst_case_pct, back.tolerances_pct["C"]) == (
+        cal.uncertainty_pct, cal.worst_case_pct, (5.0, 5.0))
+    data = json.loads(path.read_text(encoding="utf-8"))
+    for key in ("uncertainty_pct", "worst_case_pct", "tolerances_pct", "vt_plus_sigma_v",
+                "vt_minus_sigma_v"):
+        del data[key]
+    path.write_text(json.dumps(data), encoding="utf-8")
+    assert load_calibration("sure").uncertainty_pct == 0.0

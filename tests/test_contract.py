@@ -294,6 +294,30 @@ def test_calibrate_without_duty_keeps_the_table_ratio(tmp_path: Path) -> None:
     assert r["period_s"] == pytest.approx(15.8e-3, rel=1e-4)
 
 
+def test_calibrate_says_how_sure_it_is(tmp_path: Path) -> None:
+    # Calibration parts' tolerances and the ±0.5 % reading (common practice, no published
+    # source), each uniform with u = half-width / √3, added in quadrature: JCGM 100:2008
+    # (GUM) §4.3.7 and §5.1.2 (f ∝ 1 / (R C): unit sensitivities).
+    bench = (*SCHMITT, "--r", "33k", "--c", "470n", "--measured", "60Hz")
+    loose = run_json(tmp_path, "calibrate", *bench)  # defaults: R ±5 %, C ±20 %
+    sure = run_json(tmp_path, "calibrate", *bench, "--r-tolerance", "1%", "--c-tolerance",
+                    "5%", "--save", "film")
+    for cal, r, c in ((loose, 0.05, 0.20), (sure, 0.01, 0.05)):
+        assert cal["uncertainty_pct"] == pytest.approx(
+            100 * math.sqrt((r**2 + c**2 + 0.005**2) / 3), rel=0.01)
+        assert cal["worst_case_pct"] == pytest.approx(100 * (r + c + 0.005), rel=0.01)
+    assert any("1 % resistors and a C0G or film capacitor" in w for w in loose["warnings"])
+    # A prediction with the calibration carries it into its worst case.
+    design = ("--r", "68k", "--c", "22n", "--r-tolerance", "0.1%", "--c-tolerance", "0.1%")
+    with_cal = run_json(tmp_path, "predict", "--calibration", "film", *design)
+    by_hand = run_json(tmp_path, "predict", *SCHMITT, *design, "--vt-plus",
+                       repr(with_cal["vt_plus_v"]), "--vt-minus", repr(with_cal["vt_minus_v"]))
+    assert with_cal["calibration_uncertainty_pct"] == pytest.approx(sure["uncertainty_pct"])
+    limit = sure["worst_case_pct"] / 100
+    lo, hi = by_hand["worst_case_hz"]
+    assert with_cal["worst_case_hz"] == pytest.approx([lo * (1 - limit), hi * (1 + limit)])
+
+
 # ---------------------------------------------------------------- search
 
 def candidates_of(data: dict[str, Any]) -> SimpleNamespace:

@@ -13,6 +13,9 @@ from core.cli.circuit_options import add_circuit_options, oscillator_from_args
 from core.cli.common import add_json_option, arg_type, emit, percent_arg, value_arg
 from core.errors import InputError, TickbinError
 from core.model.calibration import (
+    ADVICE,
+    DUTY_READING_POINTS,
+    FREQUENCY_READING,
     Calibration,
     Measurement,
     check_name,
@@ -43,11 +46,7 @@ def register(commands: argparse._SubParsersAction) -> None:
                                "worst case")
     add_circuit_options(pred)
     _add_part_options(pred)
-    tol = pred.add_argument_group("tolerances")
-    tol.add_argument("--r-tolerance", metavar="TOL", type=_tolerance("R"),
-                     help="resistor tolerance (5%%, ±1%%, F, J; default ±5 %%)")
-    tol.add_argument("--c-tolerance", metavar="TOL", type=_tolerance("C"),
-                     help="capacitor tolerance (default by --dielectric)")
+    tol = _add_tolerance_options(pred, "capacitor tolerance (default by --dielectric)")
     tol.add_argument("--dielectric", choices=_DIELECTRICS, default="",
                      help="capacitor dielectric: sets its default tolerance and the "
                      "electrolytic warnings")
@@ -56,10 +55,14 @@ def register(commands: argparse._SubParsersAction) -> None:
     add_json_option(pred)
     pred.set_defaults(run=run_predict)
 
-    cal = commands.add_parser("calibrate", help="solve the chip's effective thresholds "
-                              "from a bench measurement")
+    cal = commands.add_parser(
+        "calibrate", help="solve the chip's effective thresholds from a bench measurement",
+        description="Solve the chip's effective thresholds from a bench measurement, and "
+        "say how sure they are. " + ADVICE[0].upper() + ADVICE[1:] + ".")
     add_circuit_options(cal)
     _add_part_options(cal)
+    _add_tolerance_options(cal, "the calibration capacitor's tolerance (default ±20 %%; "
+                           "C0G or film: 5%%, 2%% or 1%%)")
     cal.add_argument("--measured", type=value_arg("frequency"), metavar="FREQ",
                      help="the frequency measured on the bench (or its period)")
     cal.add_argument("--duty", type=percent_arg("duty cycle", below_100=True), metavar="PCT",
@@ -84,6 +87,15 @@ def register(commands: argparse._SubParsersAction) -> None:
 
 def _tolerance(kind: str) -> Callable[[str], Tolerance]:
     return arg_type(lambda text: parse_tolerance(text, kind), "tolerance")
+
+
+def _add_tolerance_options(parser: argparse.ArgumentParser,
+                           c_help: str) -> argparse._ArgumentGroup:
+    tol = parser.add_argument_group("tolerances")
+    tol.add_argument("--r-tolerance", metavar="TOL", type=_tolerance("R"),
+                     help="resistor tolerance (5%%, ±1%%, F, J; default ±5 %%)")
+    tol.add_argument("--c-tolerance", metavar="TOL", type=_tolerance("C"), help=c_help)
+    return tol
 
 
 def _add_part_options(parser: argparse.ArgumentParser) -> None:
@@ -114,7 +126,7 @@ def _values(osc: Oscillator, args: argparse.Namespace) -> dict[str, float]:
 
 def _threshold_source(osc: Oscillator) -> str:
     if osc.calibration:
-        return f"calibration {osc.calibration}"
+        return f"calibration {osc.calibration}, ±{100 * osc.calibration_sigma:.1f} % 1 sigma"
     return "given" if osc.thresholds_given else "table typ"
 
 
@@ -146,6 +158,8 @@ def run_predict(args: argparse.Namespace) -> int:
         "tolerances": {k: [t.minus * 100, t.plus * 100] for k, t in tolerances.items()},
         "vt_plus_v": osc.vt_plus_v, "vt_minus_v": osc.vt_minus_v,
         "thresholds": _threshold_source(osc),
+        "calibration_uncertainty_pct": 100 * osc.calibration_sigma,
+        "calibration_worst_case_pct": 100 * osc.calibration_limit,
         "spread_95_hz": list(mc.interval_95), "draws": args.draws,
         "within_worst_case_pct": 100 * mc.fraction_within(*pred.worst_case_hz),
     })
@@ -158,7 +172,9 @@ def _predict_text(r: dict[str, Any]) -> str:
                "555 astable" + (", diode-steered" if r["diode_steered"] else ""))
     tol = ", ".join(f"{k} ±{t[1]:g}%" if t[0] == t[1] else f"{k} +{t[1]:g}/-{t[0]:g}%"
                     for k, t in r["tolerances"].items())
-    spread = "" if r["thresholds"] != "table typ" else ", thresholds min…max"
+    spread = (", thresholds min…max" if r["thresholds"] == "table typ" else
+              f", calibration ±{r['calibration_worst_case_pct']:.1f} %"
+              if r["calibration_worst_case_pct"] > 0 else "")
     lo, hi = r["worst_case_hz"]
     s_lo, s_hi = r["spread_95_hz"]
     rows = [
@@ -250,7 +266,9 @@ def run_calibrate(args: argparse.Namespace) -> int:
             raise InputError("calibrate needs --measured FREQ (and optionally --duty PCT)")
         measurements = [Measurement(_values(osc, args), args.measured, args.duty,
                                     args.diode_steered)]
-    cal = fit(osc, measurements, name=args.save)
+    tolerances = {k: t for k, t in (("R", args.r_tolerance), ("C", args.c_tolerance))
+                  if t is not None}
+    cal = fit(osc, measurements, name=args.save, tolerances=tolerances)
     saved = str(save_calibration(cal)) if args.save else None
     return emit(args, _calibration_json(cal, saved), _calibrate_text)
 
@@ -260,18 +278,34 @@ def _calibration_json(cal: Calibration, saved: str | None) -> dict[str, Any]:
             "mode": cal.mode, "family": cal.family, "supply_v": cal.supply_v,
             "table_vt_plus_v": cal.table_vt_plus_v, "table_vt_minus_v": cal.table_vt_minus_v,
             "residual_pct": cal.residual_pct, "measurements": len(cal.measurements),
-            "name": cal.name, "saved": saved, "warnings": list(cal.warnings)}
+            "name": cal.name, "saved": saved, "warnings": list(cal.warnings),
+            "uncertainty_pct": cal.uncertainty_pct, "worst_case_pct": cal.worst_case_pct,
+            "parameter_sigma": {"vt_plus_v": cal.vt_plus_sigma_v,
+                                "vt_minus_v": cal.vt_minus_sigma_v},
+            "tolerances": {k: list(v) for k, v in cal.tolerances_pct.items()},
+            "reading": {"frequency_pct": 100 * FREQUENCY_READING,
+                        "duty_points": DUTY_READING_POINTS}}
 
 
 def _calibrate_text(r: dict[str, Any]) -> str:
     how = ("both thresholds solved from frequency and duty" if r["mode"] == "both"
            else "the table's VT+/VT- ratio kept, both scaled")
+    sigma = r["parameter_sigma"]
+    tol = ", ".join(f"{k} ±{t[1]:g} %" if t[0] == t[1] else f"{k} +{t[1]:g}/-{t[0]:g} %"
+                    for k, t in r["tolerances"].items())
     rows = [
         f"{r['family']} at {r['supply_v']:g} V, {r['measurements']} measurement"
         f"{'s' if r['measurements'] != 1 else ''} ({how})",
-        f"  VT+   {r['vt_plus_v']:.3f} V   (table {r['table_vt_plus_v']:.3f} V)",
-        f"  VT-   {r['vt_minus_v']:.3f} V   (table {r['table_vt_minus_v']:.3f} V)",
+        f"  VT+   {r['vt_plus_v']:.3f} ± {sigma['vt_plus_v']:.3f} V   "
+        f"(table {r['table_vt_plus_v']:.3f} V)",
+        f"  VT-   {r['vt_minus_v']:.3f} ± {sigma['vt_minus_v']:.3f} V   "
+        f"(table {r['table_vt_minus_v']:.3f} V)",
         f"  scale {r['scale']:.4f}   (measured ÷ table-model frequency)",
+        f"  uncertainty ±{r['uncertainty_pct']:.1f} % (1 sigma), at most "
+        f"±{r['worst_case_pct']:.1f} %, in any frequency predicted with it",
+        f"              (from {tol} and the reading ±{r['reading']['frequency_pct']:g} %"
+        + (f", ±{r['reading']['duty_points']:g} duty point" if r["mode"] == "both" else "")
+        + ")",
     ]
     if r["measurements"] > 1:
         rows.append(f"  fit   {r['residual_pct']:.2f} % rms misfit")

@@ -28,6 +28,7 @@ import numpy as np
 
 from core.design.search import schmitt_frequency, schmitt_resistance
 from core.errors import InputError
+from core.model.spread import calibration_factors
 from core.model.timing import Oscillator, schmitt_resistance_for
 from core.parts.drawer import Part
 from core.parts.networks import DrawerIndex, NetworkIndex, Node, drawer_index, single
@@ -127,8 +128,9 @@ def guaranteed_band(osc: Oscillator, r: tuple[np.ndarray, np.ndarray],
     """(low, high) [Hz] reachable at every corner, from (low, high) ranges of R, P, C [Ω, F].
 
     Low: the highest full-rotation frequency over all corners of R, P, C and
-    thresholds; high: the lowest zero-rotation frequency. A corner that does
-    not oscillate makes the band empty (NaN low end).
+    thresholds; high: the lowest zero-rotation frequency; both moved inward by a
+    calibration's uncertainty. A corner that does not oscillate makes the band
+    empty (NaN low end).
     """
     full, zero = [], []
     for rv in r:
@@ -138,8 +140,9 @@ def guaranteed_band(osc: Oscillator, r: tuple[np.ndarray, np.ndarray],
                 full.append(_corner_frequencies(osc, rv + pv, cv))
     full_f, zero_f = np.concatenate(full), np.concatenate(zero)
     stops = np.isnan(full_f).any(axis=0) | np.isnan(zero_f).any(axis=0)
-    low = np.where(stops, np.nan, np.max(full_f, axis=0))
-    high = np.where(stops, np.nan, np.min(zero_f, axis=0))
+    low_factor, high_factor = calibration_factors(osc)
+    low = np.where(stops, np.nan, np.max(full_f, axis=0) * high_factor)
+    high = np.where(stops, np.nan, np.min(zero_f, axis=0) * low_factor)
     return low, high
 
 

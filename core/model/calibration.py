@@ -6,12 +6,26 @@ without it the table's VT+/VT- ratio is kept and both are scaled together.
 Several measurements are fitted by least squares on the logarithms of the
 measured times (t_high and t_low where the duty is known, else the period).
 
+How sure a calibration is: the calibration parts are only known within their
+tolerance and the reading within its accuracy, so the fitted thresholds carry
+that error into every prediction made with them. Each tolerance is taken as a
+uniform distribution (as the Monte Carlo does for parts: 1 sigma = half-width
+/ √3) and propagated to first order through the fit (the least-squares
+Jacobians, J_p⁺ J_x). A predicted frequency then carries one uniform error term
+per input (``error_terms_pct``, half-widths); ``uncertainty_pct`` is their
+combined 1 sigma, ``worst_case_pct`` their sum. With more measurements than
+unknowns and a scatter larger than the tolerances explain, all are scaled up by
+√(χ² / degrees of freedom) (the Birge ratio). Parts of the same role and value
+in several measurements count as one part (their error does not average out).
+
 Calibrations are named and saved as small JSON files in
 ``core.storage.locations.data_dir() / "calibrations"``; ``--calibration NAME`` (and the
 window) use them through ``core.model.timing.make_oscillator``.
 
 References: the charge equations of core.model.timing; K. Levenberg (1944) and
-D. Marquardt (1963) for the damped Gauss-Newton step.
+D. Marquardt (1963) for the damped Gauss-Newton step; JCGM 100:2008 (GUM) §5.1
+(first-order propagation) and §4.3.7 (uniform distribution, u = a / √3); R. T.
+Birge (1932) for scaling by the observed scatter.
 """
 
 from __future__ import annotations
@@ -23,10 +37,11 @@ from collections.abc import Callable, Mapping, Sequence
 from dataclasses import asdict, dataclass, field
 from datetime import UTC, datetime
 from pathlib import Path
-from typing import TYPE_CHECKING, Any
+from typing import TYPE_CHECKING, Any, NamedTuple
 
 from core.errors import InputError, SetupError, TickbinError
-from core.units import format_quantity
+from core.parts.drawer import DEFAULT_TOLERANCE, DIELECTRIC_TOLERANCE
+from core.units import Tolerance, format_quantity
 
 if TYPE_CHECKING:
     import numpy as np
@@ -35,6 +50,13 @@ if TYPE_CHECKING:
     from core.model.timing import Oscillator
 
 FORMAT_VERSION = 1
+FREQUENCY_READING = 0.005
+"""A bench frequency reading is within ±0.5 % (counter, oscilloscope or a multimeter's
+Hz range, with its last digit): common practice, no published source."""
+DUTY_READING_POINTS = 1.0
+"""A duty reading is within ±1 percentage point: common practice, no published source."""
+ADVICE = ("calibrate with 1 % resistors and a C0G or film capacitor (or parts measured on "
+          "a meter): the calibration can be no surer than the parts it was made with")
 _NAME = re.compile(r"[A-Za-z0-9][A-Za-z0-9_.-]{0,63}")  # fullmatch: "$" lets a final "\n" by
 
 
@@ -63,6 +85,12 @@ class Calibration:
     1 the chip runs faster than the table says). ``mode`` is ``"both"`` (duty
     known: both thresholds solved) or ``"ratio"`` (table ratio kept).
     ``residual_pct`` is the rms misfit of the measured times after fitting.
+    ``uncertainty_pct`` is the 1-sigma relative uncertainty of a frequency
+    predicted with it (from ``tolerances_pct`` of the calibration parts, each
+    [minus, plus] in %, and the reading), ``worst_case_pct`` the first-order
+    limit of that error, ``error_terms_pct`` the half-widths of the uniform
+    errors it is the sum of; ``vt_plus_sigma_v``/``vt_minus_sigma_v`` [V] are the
+    fitted thresholds' 1-sigma uncertainties.
     """
 
     name: str | None
@@ -79,6 +107,12 @@ class Calibration:
     measurements: tuple[Measurement, ...] = field(default=())
     created: str = ""
     warnings: tuple[str, ...] = field(default=())
+    tolerances_pct: Mapping[str, tuple[float, float]] = field(default_factory=dict)
+    uncertainty_pct: float = 0.0
+    worst_case_pct: float = 0.0
+    error_terms_pct: tuple[float, ...] = field(default=())
+    vt_plus_sigma_v: float = 0.0
+    vt_minus_sigma_v: float = 0.0
 
     def thresholds_for(self, device: DeviceAtSupply) -> tuple[float, float, list[str]]:
         """(VT+, VT-, notes) to use on ``device``: as measured, or moved to another supply.
@@ -102,6 +136,7 @@ class Calibration:
         data = asdict(self)
         data["measurements"] = [dict(asdict(m), values=dict(m.values))
                                 for m in self.measurements]
+        data["tolerances_pct"] = {k: list(v) for k, v in self.tolerances_pct.items()}
         return data
 
 
@@ -146,12 +181,7 @@ def _least_squares(fun: Callable[[np.ndarray], np.ndarray], p0: np.ndarray) -> n
     for _ in range(200):
         if cost < 1e-28:
             break
-        jac = np.empty((r.size, p.size))
-        for j in range(p.size):
-            h = 1e-7 * max(1.0, abs(p[j]))
-            dp = np.zeros_like(p)
-            dp[j] = h
-            jac[:, j] = (fun(p + dp) - fun(p - dp)) / (2 * h)
+        jac = _jacobian(fun, p)
         if not np.all(np.isfinite(jac)):
             jac = np.nan_to_num(jac, nan=0.0, posinf=0.0, neginf=0.0)
         hess = jac.T @ jac
@@ -173,13 +203,15 @@ def _least_squares(fun: Callable[[np.ndarray], np.ndarray], p0: np.ndarray) -> n
     return p
 
 
-def fit(osc: Oscillator, measurements: Sequence[Measurement],
-        name: str | None = None) -> Calibration:
+def fit(osc: Oscillator, measurements: Sequence[Measurement], name: str | None = None,
+        tolerances: Mapping[str, Tolerance] | None = None) -> Calibration:
     """Thresholds that best reproduce ``measurements`` on ``osc``'s chip and supply.
 
     Both thresholds are fitted when any measurement has a duty, else the
-    oscillator's VT+/VT- ratio is kept. Raises SetupError when no thresholds
-    between the output levels come close (the parts or reading are likely wrong).
+    oscillator's VT+/VT- ratio is kept. ``tolerances`` of the calibration parts
+    by letter (``R``, ``C``; default the drawer's defaults: R ±5 %, C ±20 %) set
+    how sure the result is. Raises SetupError when no thresholds between the
+    output levels come close (the parts or reading are likely wrong).
     """
     import numpy as np  # loaded on first fit: listing calibrations needs none
 
@@ -196,19 +228,17 @@ def fit(osc: Oscillator, measurements: Sequence[Measurement],
     def feasible(a: float, b: float) -> bool:
         return d.vol_v < b < a < d.voh_v
 
-    if both:
-        def fun(p: np.ndarray) -> np.ndarray:
-            if not feasible(p[0], p[1]):
-                return _no_fit(ms)
-            return _residuals(osc, ms, p[0], p[1])
-        a, b = _least_squares(fun, np.array([a0, b0]))
-    else:
-        def fun(p: np.ndarray) -> np.ndarray:
-            if not feasible(p[0] * a0, p[0] * b0):
-                return _no_fit(ms)
-            return _residuals(osc, ms, p[0] * a0, p[0] * b0)
-        (s,) = _least_squares(fun, np.array([1.0]))
-        a, b = s * a0, s * b0
+    def thresholds(p: np.ndarray) -> tuple[float, float]:
+        return (float(p[0]), float(p[1])) if both else (float(p[0]) * a0, float(p[0]) * b0)
+
+    def fun(p: np.ndarray, readings: Sequence[Measurement] = ms) -> np.ndarray:
+        a, b = thresholds(p)
+        if not feasible(a, b):
+            return _no_fit(readings)
+        return _residuals(osc, readings, a, b)
+
+    p_fit = _least_squares(fun, np.array([a0, b0]) if both else np.array([1.0]))
+    a, b = thresholds(p_fit)
     r = _residuals(osc, ms, a, b)
     residual_pct = 100 * math.sqrt(float(np.mean(r**2))) if np.all(np.isfinite(r)) else math.inf
     if not residual_pct < 1.0 and len(ms) == 1:
@@ -231,20 +261,132 @@ def fit(osc: Oscillator, measurements: Sequence[Measurement],
     if len(ms) > 1 and residual_pct > 2.0:
         warnings.append(f"the measurements disagree with one another by {residual_pct:.1f} % "
                         "rms after fitting; one reading or part value may be off")
+    tol = {"R": DEFAULT_TOLERANCE["R"], "C": DIELECTRIC_TOLERANCE[""]}
+    tol.update(tolerances or {})
+    spread = _propagate(osc, ms, p_fit, fun, thresholds, tol)
+    if max(tol["R"].minus, tol["R"].plus) > 0.01 or max(tol["C"].minus, tol["C"].plus) > 0.05:
+        warnings.append(f"with R {tol['R']} and C {tol['C']} parts, predictions made with "
+                        f"this calibration are uncertain by ±{100 * spread.uncertainty:.1f} % "
+                        f"(1 sigma); {ADVICE}")
     return Calibration(name=name, family=d.family.name, circuit=osc.circuit,
                        supply_v=d.supply_v, vt_plus_v=float(a), vt_minus_v=float(b),
                        scale=scale, mode="both" if both else "ratio",
                        residual_pct=residual_pct, table_vt_plus_v=a0, table_vt_minus_v=b0,
                        measurements=tuple(ms),
                        created=datetime.now(UTC).isoformat(timespec="seconds"),
-                       warnings=tuple(warnings))
+                       warnings=tuple(warnings),
+                       tolerances_pct={k: (100 * t.minus, 100 * t.plus) for k, t in tol.items()},
+                       uncertainty_pct=100 * spread.uncertainty,
+                       worst_case_pct=100 * spread.worst_case,
+                       error_terms_pct=tuple(100 * t for t in spread.terms),
+                       vt_plus_sigma_v=spread.vt_sigma_v[0], vt_minus_sigma_v=spread.vt_sigma_v[1])
+
+
+class _Spread(NamedTuple):
+    """How sure a fit is: the half-widths of the uniform errors a prediction carries
+    (relative), and the thresholds' 1-sigma uncertainties [V]."""
+
+    terms: tuple[float, ...]
+    vt_sigma_v: tuple[float, float]
+
+    @property
+    def uncertainty(self) -> float:
+        """1 sigma of the sum of the terms (uniform: half-width / √3)."""
+        return math.sqrt(sum(t * t for t in self.terms) / 3)
+
+    @property
+    def worst_case(self) -> float:
+        return sum(self.terms)
+
+
+def _inputs(ms: Sequence[Measurement], tol: Mapping[str, Tolerance]
+            ) -> dict[tuple[Any, ...], float]:
+    """The uncertain inputs and the half-width of each (uniform; relative for parts and
+    frequencies, points for duties; an asymmetric tolerance counts by its wider side).
+    A part of the same role and value in several measurements is one input; each reading
+    is its own."""
+    out: dict[tuple[Any, ...], float] = {}
+    for i, m in enumerate(ms):
+        for role, value in m.values.items():
+            t = tol[role[0]]
+            out[("part", role, value)] = max(t.minus, t.plus)
+        out[("frequency", i)] = FREQUENCY_READING
+        if m.duty_pct is not None:
+            out[("duty", i)] = DUTY_READING_POINTS
+    return out
+
+
+def _perturbed(ms: Sequence[Measurement], key: tuple[Any, ...], h: float
+               ) -> list[Measurement]:
+    """The measurements with one input moved by ``h`` (relative, or points of duty)."""
+    out = []
+    for i, m in enumerate(ms):
+        values, f, duty = dict(m.values), m.frequency_hz, m.duty_pct
+        if key[0] == "part" and values.get(key[1]) == key[2]:
+            values[key[1]] *= 1 + h
+        elif key == ("frequency", i):
+            f *= 1 + h
+        elif key == ("duty", i) and duty is not None:
+            duty += h
+        out.append(Measurement(values, f, duty, m.diode_steered))
+    return out
+
+
+def _propagate(osc: Oscillator, ms: Sequence[Measurement], p: np.ndarray,
+               fun: Callable[..., np.ndarray],
+               thresholds: Callable[[np.ndarray], tuple[float, float]],
+               tol: Mapping[str, Tolerance]) -> _Spread:
+    """First-order propagation of the inputs' tolerances through the fit (see the module)."""
+    from core.model.timing import frequency
+
+    inputs = _inputs(ms, tol)
+    j_p = _jacobian(lambda q: fun(q), p)
+    j_x = np.column_stack([
+        (fun(p, _perturbed(ms, key, 1e-6)) - fun(p, _perturbed(ms, key, -1e-6))) / 2e-6
+        for key in inputs])
+    limit = np.array(list(inputs.values()))
+    sigma = limit / math.sqrt(3)
+    if not (np.all(np.isfinite(j_p)) and np.all(np.isfinite(j_x))):
+        return _Spread((math.nan,), (math.nan, math.nan))
+    dp_dx = -np.linalg.pinv(j_p) @ j_x  # how the fitted parameters follow each input
+    # Sensitivity of a prediction (ln f for the first measurement's parts) to the parameters.
+    first = ms[0]
+
+    def ln_f(q: np.ndarray) -> np.ndarray:
+        a, b = thresholds(q)
+        return np.atleast_1d(np.log(frequency(osc, first.values, first.diode_steered, a, b)))
+
+    g = _jacobian(ln_f, p)[0] @ dp_dx
+    cov = (dp_dx * sigma**2) @ dp_dx.T
+    scale = 1.0
+    r, dof = fun(p), j_p.shape[0] - j_p.shape[1]
+    if dof > 0:
+        chi2 = float(r @ np.linalg.pinv((j_x * sigma**2) @ j_x.T) @ r)
+        scale = math.sqrt(max(1.0, chi2 / dof))
+    d_thresholds = _jacobian(lambda q: np.array(thresholds(q)), p)
+    vt_cov = d_thresholds @ cov @ d_thresholds.T
+    return _Spread(tuple(float(t) for t in scale * np.abs(g) * limit),
+                   (scale * math.sqrt(vt_cov[0, 0]), scale * math.sqrt(vt_cov[1, 1])))
+
+
+def _jacobian(fun: Callable[[np.ndarray], np.ndarray], p: np.ndarray) -> np.ndarray:
+    """Central-difference Jacobian of ``fun`` at ``p``."""
+    cols = []
+    for j in range(p.size):
+        h = 1e-7 * max(1.0, abs(p[j]))
+        dp = np.zeros_like(p, dtype=float)
+        dp[j] = h
+        cols.append((fun(p + dp) - fun(p - dp)) / (2 * h))
+    return np.column_stack(cols)
 
 
 def calibrate(osc: Oscillator, values: Mapping[str, float], measured_hz: float,
               duty_pct: float | None = None, *, diode_steered: bool = False,
-              name: str | None = None) -> Calibration:
+              name: str | None = None,
+              tolerances: Mapping[str, Tolerance] | None = None) -> Calibration:
     """Thresholds from one bench measurement of known parts (see ``fit``)."""
-    return fit(osc, [Measurement(values, measured_hz, duty_pct, diode_steered)], name)
+    return fit(osc, [Measurement(values, measured_hz, duty_pct, diode_steered)], name,
+               tolerances)
 
 
 # ---------------------------------------------------------------- files
@@ -308,7 +450,14 @@ def load_calibration(name: str) -> Calibration:
             mode=data["mode"], residual_pct=float(data["residual_pct"]),
             table_vt_plus_v=float(data["table_vt_plus_v"]),
             table_vt_minus_v=float(data["table_vt_minus_v"]), measurements=ms,
-            created=data.get("created", ""), warnings=tuple(data.get("warnings", ())))
+            created=data.get("created", ""), warnings=tuple(data.get("warnings", ())),
+            tolerances_pct={k: (float(v[0]), float(v[1]))
+                            for k, v in data.get("tolerances_pct", {}).items()},
+            uncertainty_pct=float(data.get("uncertainty_pct", 0.0)),
+            worst_case_pct=float(data.get("worst_case_pct", 0.0)),
+            error_terms_pct=tuple(float(t) for t in data.get("error_terms_pct", ())),
+            vt_plus_sigma_v=float(data.get("vt_plus_sigma_v", 0.0)),
+            vt_minus_sigma_v=float(data.get("vt_minus_sigma_v", 0.0)))
     except (OSError, ValueError, KeyError, TypeError) as e:
         raise TickbinError(f"{path}: not a readable calibration ({e})") from None
 

@@ -14,6 +14,11 @@ from a triangular distribution over the table's min/typ/max, independently
 where they break the guaranteed hysteresis (min and, where listed, max). Draws that do not oscillate
 count as 0 Hz.
 
+A calibrated oscillator has no threshold spread but the calibration's own
+uncertainty (core.model.calibration): the worst case widens by its first-order
+limit, and each simulated build is scaled by the sum of the calibration's
+uniform error terms, drawn independently.
+
 References: IEC 60062 (tolerance letters and meaning); the device data
 sheets in resources/devices.toml (threshold min/typ/max).
 """
@@ -65,11 +70,26 @@ def worst_case_hz(osc: Oscillator, values: Mapping[str, float | np.ndarray],
         hi = f_hi if hi is None else np.maximum(hi, f_hi)
         stopped = any_nan if stopped is None else stopped | any_nan
     assert lo is not None and hi is not None and stopped is not None
-    lo = np.where(stopped | ~np.isfinite(lo), 0.0, lo)
-    hi = np.where(np.isfinite(hi), hi, 0.0)
+    low_factor, high_factor = calibration_factors(osc)
+    lo = np.where(stopped | ~np.isfinite(lo), 0.0, lo * low_factor)
+    hi = np.where(np.isfinite(hi), hi * high_factor, 0.0)
     if lo.ndim == 0:
         return float(lo), float(hi)
     return lo, hi
+
+
+def calibration_factors(osc: Oscillator) -> tuple[float, float]:
+    """(low, high) factors a calibration's uncertainty puts on any frequency [1]."""
+    return 1.0 - osc.calibration_limit, 1.0 + osc.calibration_limit
+
+
+def _calibration_draws(osc: Oscillator, n: int, rng: np.random.Generator) -> np.ndarray:
+    """``n`` frequency factors [1] for a calibrated oscillator (see the module)."""
+    scale = np.ones(n)
+    for half_width in osc.calibration_terms:
+        if half_width > 0:
+            scale += rng.uniform(-half_width, half_width, n)
+    return scale
 
 
 @dataclass(frozen=True)
@@ -141,5 +161,5 @@ def monte_carlo(osc: Oscillator, values: Mapping[str, float],
         draws[k] = (np.full(n, float(v)) if tol is None else
                     rng.uniform(v * (1 - tol.minus), v * (1 + tol.plus), n))
     a, b = draw_thresholds(osc, n, rng)
-    f = frequency(osc, draws, diode_steered, a, b)
+    f = frequency(osc, draws, diode_steered, a, b) * _calibration_draws(osc, n, rng)
     return MonteCarlo(np.where(np.isnan(f), 0.0, f))

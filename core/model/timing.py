@@ -61,7 +61,10 @@ class Oscillator:
 
     ``vt_plus_v``/``vt_minus_v`` [V] are the nominal thresholds (the table's
     typ unless given or calibrated); ``thresholds_given`` means a person or a
-    calibration fixed them, so no threshold spread is applied.
+    calibration fixed them, so no threshold spread is applied. A calibration's
+    own uncertainty takes its place: ``calibration_terms`` are the half-widths of
+    the uniform relative errors it carries into any frequency (see
+    core.model.calibration).
     ``stray_capacitance_f`` [F] sits beside the timing capacitor;
     ``load_ohm`` [Ω] is a load from the timing output to ground, if any;
     ``steering_diode`` is the 555 steering diode's model (Shockley curve).
@@ -73,6 +76,7 @@ class Oscillator:
     vt_minus_v: float
     thresholds_given: bool = False
     calibration: str | None = None
+    calibration_terms: tuple[float, ...] = ()
     stray_capacitance_f: float = DEFAULT_STRAY_F
     load_ohm: float | None = None
     steering_diode: Diode = SMALL_SIGNAL_DIODE
@@ -85,6 +89,16 @@ class Oscillator:
     @property
     def supply_v(self) -> float:
         return self.device.supply_v
+
+    @property
+    def calibration_sigma(self) -> float:
+        """1 sigma of the calibration's relative frequency error (0 without one)."""
+        return math.sqrt(sum(t * t for t in self.calibration_terms) / 3)
+
+    @property
+    def calibration_limit(self) -> float:
+        """First-order limit of the calibration's relative frequency error."""
+        return sum(self.calibration_terms)
 
     def with_thresholds(self, vt_plus_v: float, vt_minus_v: float) -> Oscillator:
         """The same oscillator with fixed thresholds [V] (no threshold spread)."""
@@ -184,6 +198,7 @@ def make_oscillator(circuit: str, family: str | Family, supply_v: float,
             calibration)
         plus, minus, notes = cal.thresholds_for(device)
         osc = replace(osc.with_thresholds(plus, minus), calibration=cal.name,
+                      calibration_terms=tuple(t / 100 for t in cal.error_terms_pct),
                       notes=tuple(notes))
     elif vt_plus is not None and vt_minus is not None:
         osc = osc.with_thresholds(vt_plus, vt_minus)

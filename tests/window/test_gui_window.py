@@ -349,12 +349,22 @@ def test_calibration_dialog_saves_and_selects(qtbot, window, monkeypatch):
     dialog = CalibrationDialog(window, window.form.target_value(), cand)
     qtbot.addWidget(dialog)
     assert dialog.fields["R"].text()  # prefilled from the selected candidate
-    # A chip that runs 5 % faster than the table's nominal model predicts.
+    assert dialog.tolerances["R"].text()  # the candidate's parts' tolerances
+    # A chip that runs 5 % faster than the table's nominal model predicts, measured
+    # with 1 % resistors and a 5 % capacitor.
     dialog.measured.setText(f"{cand.frequency_hz * 1.05:.6g}Hz")
+    dialog.tolerances["R"].setText("1%")
+    dialog.tolerances["C"].setText("5%")
+    dialog.preview()
+    # JCGM 100:2008 (GUM) §4.3.7 and §5.1.2: uniform ±1 %, ±5 % and the ±0.5 % reading
+    # add in quadrature, each as half-width / √3.
+    sure = 100 * math.sqrt((0.01**2 + 0.05**2 + 0.005**2) / 3)
+    assert f"±{sure:.1f} % (1 sigma)" in dialog.result_label.text()
     dialog.name.setText("bench-a")
     dialog.save()
     assert dialog.saved_name == "bench-a" and "bench-a" in list_calibrations()
     assert math.isclose(load_calibration("bench-a").scale, 1.05, rel_tol=0.02)
+    assert math.isclose(load_calibration("bench-a").uncertainty_pct, sure, rel_tol=0.02)
     search_done(qtbot, window, lambda: window.form.reload_calibrations(select="bench-a"))
     assert window.current_oscillator().calibration == "bench-a"
     assert window.current_oscillator().thresholds_given
