@@ -340,14 +340,16 @@ def _propagate(osc: Oscillator, ms: Sequence[Measurement], p: np.ndarray,
     from core.model.timing import frequency
 
     inputs = _inputs(ms, tol)
-    j_p = _jacobian(lambda q: fun(q), p)
+    j_p = _jacobian(fun, p)
     j_x = np.column_stack([
         (fun(p, _perturbed(ms, key, 1e-6)) - fun(p, _perturbed(ms, key, -1e-6))) / 2e-6
         for key in inputs])
     limit = np.array(list(inputs.values()))
     sigma = limit / math.sqrt(3)
     if not (np.all(np.isfinite(j_p)) and np.all(np.isfinite(j_x))):
-        return _Spread((math.nan,), (math.nan, math.nan))
+        raise SetupError("the fitted thresholds sit at the edge of what these parts can do, "
+                         "so how sure they are cannot be told; check the part values and "
+                         "the reading")
     dp_dx = -np.linalg.pinv(j_p) @ j_x  # how the fitted parameters follow each input
     # Sensitivity of a prediction (ln f for the first measurement's parts) to the parameters.
     first = ms[0]
