@@ -126,7 +126,7 @@ def _values(osc: Oscillator, args: argparse.Namespace) -> dict[str, float]:
 
 def _threshold_source(osc: Oscillator) -> str:
     if osc.calibration:
-        return f"calibration {osc.calibration}, ±{100 * osc.calibration_sigma:.1f} % 1 sigma"
+        return f"calibration {osc.calibration}"
     return "given" if osc.thresholds_given else "table typ"
 
 
@@ -175,12 +175,14 @@ def _predict_text(r: dict[str, Any]) -> str:
     spread = (", thresholds min…max" if r["thresholds"] == "table typ" else
               f", calibration ±{r['calibration_worst_case_pct']:.1f} %"
               if r["calibration_worst_case_pct"] > 0 else "")
+    sure = (f", ±{r['calibration_uncertainty_pct']:.1f} % 1 sigma"
+            if r["calibration_uncertainty_pct"] > 0 else "")
     lo, hi = r["worst_case_hz"]
     s_lo, s_hi = r["spread_95_hz"]
     rows = [
         f"{r['family']} at {r['supply_v']:g} V, {circuit}: {_describe_values(r['values'])}",
         f"  thresholds      VT+ {r['vt_plus_v']:.3g} V, VT- {r['vt_minus_v']:.3g} V "
-        f"({r['thresholds']})",
+        f"({r['thresholds']}{sure})",
         f"  frequency       {f(r['frequency_hz'], 'frequency')}   "
         f"(period {f(r['period_s'], 'time')})",
         f"  output high     {r['duty_pct']:.1f} %   (t_high {f(r['t_high_s'], 'time')}, "
