@@ -337,6 +337,8 @@ def _propagate(osc: Oscillator, ms: Sequence[Measurement], p: np.ndarray,
                thresholds: Callable[[np.ndarray], tuple[float, float]],
                tol: Mapping[str, Tolerance]) -> _Spread:
     """First-order propagation of the inputs' tolerances through the fit (see the module)."""
+    import numpy as np  # loaded on first fit: listing calibrations needs none
+
     from core.model.timing import frequency
 
     inputs = _inputs(ms, tol)
@@ -373,6 +375,8 @@ def _propagate(osc: Oscillator, ms: Sequence[Measurement], p: np.ndarray,
 
 def _jacobian(fun: Callable[[np.ndarray], np.ndarray], p: np.ndarray) -> np.ndarray:
     """Central-difference Jacobian of ``fun`` at ``p``."""
+    import numpy as np  # loaded on first fit: listing calibrations needs none
+
     cols = []
     for j in range(p.size):
         h = 1e-7 * max(1.0, abs(p[j]))
