@@ -337,8 +337,8 @@ def drawer_lock(path: str | os.PathLike[str], wait_s: float = LOCK_WAIT_S,
         try:
             fd = os.open(lock, os.O_RDWR | os.O_CREAT, 0o666)
         except OSError as e:
-            raise TickbinError(f"{os.fspath(path)}: cannot lock for saving "
-                               f"({e.strerror or e})") from None
+            raise TickbinError(f"{os.fspath(path)}: not saved (cannot lock it: "
+                               f"{e.strerror or e}); the previous file is unchanged") from None
         try:
             while True:
                 try:
