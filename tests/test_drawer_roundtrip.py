@@ -152,3 +152,12 @@ def test_any_readable_file_is_written_back_unchanged(data):
     drawer.layout.encoding = _encoding_of(blob)
     text, layout, _ = drawer_file_text(drawer)
     assert text.encode(layout.encoding, errors="tickbin-keep-byte") == blob
+
+
+def test_a_short_row_keeps_its_spacing_when_a_missing_cell_is_filled(tmp_path):
+    path = tmp_path / "d.csv"
+    path.write_bytes(b"kind,value,quantity,location\nR, 1k ,1\n")
+    drawer = read_drawer(path)
+    drawer.set_cell(0, "location", "A1")
+    write_drawer(drawer)
+    assert path.read_bytes() == b"kind,value,quantity,location\nR, 1k ,1,A1\n"

@@ -752,7 +752,7 @@ def _raw_fields(record: _Record, delimiter: str) -> list[str] | None:
         parsed = next(csv.reader(io.StringIO(raw, newline=""), delimiter=delimiter), [""])
         if len(parsed) > 1 or _unneutralise((parsed or [""])[0].strip()) != cell:
             return None
-    return fields if len(fields) >= len(record.cells) else None
+    return fields
 
 
 def _record_text(values: list[str], record: _Record | None, layout: FileLayout) -> str:
@@ -765,8 +765,8 @@ def _record_text(values: list[str], record: _Record | None, layout: FileLayout) 
             return record.raw
         fields = _raw_fields(record, d)
         if fields is not None:
-            out = [fields[i] if i < known and values[i] == record.cells[i] else _field(v, d)
-                   for i, v in enumerate(values)]
+            out = [fields[i] if i < min(known, len(fields)) and v == record.cells[i]
+                   else _field(v, d) for i, v in enumerate(values)]
             out += fields[len(values):]  # empty fields past the header, as written
             return d.join(out) + (record.ending or layout.newline)
     return d.join(_field(v, d) for v in values) + (record.ending if record else layout.newline)
