@@ -10,7 +10,7 @@ import numpy as np
 import pytest
 
 from core.errors import InputError, SetupError, TickbinError
-from core.model.devices import device_table, load_device_table
+from core.model.devices import Family, device_table, load_device_table
 from core.model.spread import monte_carlo
 from core.model.timing import make_oscillator
 from core.storage.locations import resource
@@ -118,20 +118,26 @@ def test_mc74hc14a_limits_are_the_datasheet_values(k):
     assert d.hysteresis_max_v == pytest.approx(d.vt_plus[2] - d.vt_minus[0])
 
 
-def test_74hc14_spans_the_makers():
-    # Issue 11: one maker allows VT- down to 0.9 V and hysteresis up to 2.25 V at 4.5 V
-    # (ON Semi MC74HC14A); the generic 74HC14 must admit every maker's chip.
+def assert_spans_its_makers(name: str, makers: set[str]) -> Family:
+    """The generic entry admits every maker's chip: thresholds and hysteresis window."""
     table = device_table()
-    span = table.family("74HC14")
-    assert set(span.span_of) == {"74HC14-NXP", "MC74HC14A"}
+    span = table.family(name)
+    assert set(span.span_of) == makers
     for supply in span.supplies_v:
         s = span.at(supply)
-        for name in span.span_of:
-            v = table.family(name).at(supply)
+        for maker in span.span_of:
+            v = table.family(maker).at(supply)
             assert s.vt_plus[0] <= v.vt_plus[0] and v.vt_plus[2] <= s.vt_plus[2]
             assert s.vt_minus[0] <= v.vt_minus[0] and v.vt_minus[2] <= s.vt_minus[2]
             assert s.hysteresis_min_v <= v.hysteresis_min_v
             assert v.hysteresis_max_v <= s.hysteresis_max_v
+    return span
+
+
+def test_74hc14_spans_the_makers():
+    # Issue 11: one maker allows VT- down to 0.9 V and hysteresis up to 2.25 V at 4.5 V
+    # (ON Semi MC74HC14A); the generic 74HC14 must admit every maker's chip.
+    span = assert_spans_its_makers("74HC14", {"74HC14-NXP", "MC74HC14A"})
     at_45 = span.at(4.5)
     assert at_45.vt_minus[0] == pytest.approx(0.9)
     assert at_45.hysteresis_max_v == pytest.approx(2.25)
@@ -198,15 +204,7 @@ def test_family_lookup_is_case_insensitive_and_names_the_known_ones():
 def test_cd40106b_spans_the_makers():
     # HEF40106B vs CD40106BC at 5 V differ markedly (issue 3): the generic entry
     # must cover both makers' min…max.
-    table = device_table()
-    span = table.family("CD40106B")
-    assert set(span.span_of) == {"HEF40106B", "CD40106BC", "CD40106B-TI"}
-    for supply in span.supplies_v:
-        s = span.at(supply)
-        for name in span.span_of:
-            v = table.family(name).at(supply)
-            assert s.vt_plus[0] <= v.vt_plus[0] and v.vt_plus[2] <= s.vt_plus[2]
-            assert s.vt_minus[0] <= v.vt_minus[0] and v.vt_minus[2] <= s.vt_minus[2]
+    span = assert_spans_its_makers("CD40106B", {"HEF40106B", "CD40106BC", "CD40106B-TI"})
     assert span.at(5.0).vt_plus[2] == 4.3  # CD40106BC's max
     assert span.at(5.0).vt_plus[0] == 2.0  # HEF40106B's min
 
@@ -245,18 +243,19 @@ def test_every_family_is_physically_consistent_across_its_range(name):
             assert d.vt_minus[0] - 1e-9 <= b <= d.vt_minus[2] + 1e-9
 
 
-def _one_family_toml(output_lines: str) -> str:
+def _one_family_toml(output_lines: str, name: str = "ONE",
+                     vt_plus: str = "[1.0, 1.5, 2.0]") -> str:
     return f"""
 [packages.p]
 name = "DIP-14"
 pins = {{ input = 1, output = 2, vcc = 14, gnd = 7 }}
-[families.ONE]
+[families.{name}]
 circuit = "schmitt"
 supply_range_v = [4.5, 5.5]
 package = "p"
-[[families.ONE.supply]]
+[[families.{name}.supply]]
 v = 5.0
-vt_plus = [1.0, 1.5, 2.0]
+vt_plus = {vt_plus}
 vt_minus = [0.5, 0.6, 0.7]
 hysteresis_min = 0.1
 {output_lines}
@@ -265,21 +264,6 @@ r_range_ohm = [1e3, 1e6]
 
 
 def test_a_malformed_table_is_refused_with_the_entry_named():
-    text = """
-[packages.p]
-name = "DIP-14"
-pins = { input = 1, output = 2, vcc = 14, gnd = 7 }
-[families.BAD]
-circuit = "schmitt"
-supply_range_v = [2.0, 6.0]
-package = "p"
-[[families.BAD.supply]]
-v = 5.0
-vt_plus = [1.0, 0.9, 2.0]
-vt_minus = [0.5, 0.6, 0.7]
-hysteresis_min = 0.1
-r_out_ohm = [50.0, 50.0]
-r_range_ohm = [1e3, 1e6]
-"""
+    text = _one_family_toml("r_out_ohm = [50.0, 50.0]", "BAD", "[1.0, 0.9, 2.0]")
     with pytest.raises(TickbinError, match="BAD"):
         load_device_table(text)

@@ -215,7 +215,7 @@ def fit(osc: Oscillator, measurements: Sequence[Measurement], name: str | None =
     """
     import numpy as np  # loaded on first fit: listing calibrations needs none
 
-    from core.model.timing import check_values, frequency
+    from core.model.timing import check_values, frequency, uniform_sum_sigma
 
     if not measurements:
         raise InputError("a calibration needs at least one measurement")
@@ -264,9 +264,10 @@ def fit(osc: Oscillator, measurements: Sequence[Measurement], name: str | None =
     tol = {"R": DEFAULT_TOLERANCE["R"], "C": DIELECTRIC_TOLERANCE[""]}
     tol.update(tolerances or {})
     spread = _propagate(osc, ms, p_fit, fun, thresholds, tol)
+    uncertainty = uniform_sum_sigma(spread.terms)
     if max(tol["R"].minus, tol["R"].plus) > 0.01 or max(tol["C"].minus, tol["C"].plus) > 0.05:
         warnings.append(f"with R {tol['R']} and C {tol['C']} parts, predictions made with "
-                        f"this calibration are uncertain by ±{100 * spread.uncertainty:.1f} % "
+                        f"this calibration are uncertain by ±{100 * uncertainty:.1f} % "
                         f"(1 sigma); {ADVICE}")
     return Calibration(name=name, family=d.family.name, circuit=osc.circuit,
                        supply_v=d.supply_v, vt_plus_v=float(a), vt_minus_v=float(b),
@@ -276,8 +277,8 @@ def fit(osc: Oscillator, measurements: Sequence[Measurement], name: str | None =
                        created=datetime.now(UTC).isoformat(timespec="seconds"),
                        warnings=tuple(warnings),
                        tolerances_pct={k: (100 * t.minus, 100 * t.plus) for k, t in tol.items()},
-                       uncertainty_pct=100 * spread.uncertainty,
-                       worst_case_pct=100 * spread.worst_case,
+                       uncertainty_pct=100 * uncertainty,
+                       worst_case_pct=100 * sum(spread.terms),
                        error_terms_pct=tuple(100 * t for t in spread.terms),
                        vt_plus_sigma_v=spread.vt_sigma_v[0], vt_minus_sigma_v=spread.vt_sigma_v[1])
 
@@ -288,15 +289,6 @@ class _Spread(NamedTuple):
 
     terms: tuple[float, ...]
     vt_sigma_v: tuple[float, float]
-
-    @property
-    def uncertainty(self) -> float:
-        """1 sigma of the sum of the terms (uniform: half-width / √3)."""
-        return math.sqrt(sum(t * t for t in self.terms) / 3)
-
-    @property
-    def worst_case(self) -> float:
-        return sum(self.terms)
 
 
 def _inputs(ms: Sequence[Measurement], tol: Mapping[str, Tolerance]

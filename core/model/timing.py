@@ -93,7 +93,7 @@ class Oscillator:
     @property
     def calibration_sigma(self) -> float:
         """1 sigma of the calibration's relative frequency error (0 without one)."""
-        return math.sqrt(sum(t * t for t in self.calibration_terms) / 3)
+        return uniform_sum_sigma(self.calibration_terms)
 
     @property
     def calibration_limit(self) -> float:
@@ -147,6 +147,11 @@ class Oscillator:
             if inside and all(abs(a - p) > 1e-9 or abs(b - q) > 1e-9 for p, q in corners):
                 corners.append((a, b))
         return corners
+
+
+def uniform_sum_sigma(half_widths: tuple[float, ...]) -> float:
+    """1 sigma of a sum of independent uniform errors ±h (JCGM 100:2008 §4.3.7: h / √3)."""
+    return math.sqrt(sum(h * h for h in half_widths) / 3)
 
 
 def _check_thresholds(device: DeviceAtSupply, vt_plus: float, vt_minus: float) -> None:
