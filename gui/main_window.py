@@ -177,7 +177,7 @@ class MainWindow(QMainWindow):
         self.spread_note.linkActivated.connect(self._advice_link)
         self.spread_note.hide()
         self.plot_area = QWidget()
-        self.plot_area.setMinimumHeight(230)
+        self.plot_area.setMinimumHeight(190)
         plot_layout = QVBoxLayout(self.plot_area)
         plot_layout.setContentsMargins(0, 0, 0, 0)
         plot_layout.addWidget(self.spread_note)
@@ -230,6 +230,9 @@ class MainWindow(QMainWindow):
         header.setSectionResizeMode(QHeaderView.ResizeMode.Interactive)
         self._fitted = False
         self.candidates.modelReset.connect(lambda: self._fit_columns(view))
+        # Room for the header and four candidates however small the window.
+        view.setMinimumHeight(view.horizontalHeader().sizeHint().height()
+                              + 4 * view.verticalHeader().defaultSectionSize() + 4)
         return view
 
     def _fit_columns(self, view: QTableView) -> None:
@@ -269,7 +272,7 @@ class MainWindow(QMainWindow):
         self.main_split.setStretchFactor(1, 3)
         self.main_split.setChildrenCollapsible(False)
         self.main_split.setSizes([470, 810])
-        self.right_split.setSizes([130, 290, 340])
+        self.right_split.setSizes([150, 300, 320])
         outer = QWidget()
         box = QVBoxLayout(outer)
         box.setContentsMargins(8, 8, 8, 4)

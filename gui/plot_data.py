@@ -83,14 +83,12 @@ def chip_spread_advice(outcome: Outcome, cand: Any) -> str:
     device = outcome.oscillator.device
     (a_lo, _, a_hi), (b_lo, _, b_hi) = device.vt_plus, device.vt_minus
     return (
-        f"<b>Most of this spread is the chip, not your parts.</b> The {device.family.name} "
-        f"data sheet allows VT+ from {a_lo:.2f} to {a_hi:.2f} V and VT− from "
-        f"{b_lo:.2f} to {b_hi:.2f} V at {device.supply_v:g} V, so a build may land "
-        f"anywhere in {_band(spread.full_hz)}; your parts alone move it only "
-        f"{_band(spread.parts_hz)}. Build it once with 1 % resistors and a C0G or film "
-        f'capacitor, measure the frequency and <a href="calibrate">calibrate from that '
-        'measurement</a>' + (
-            ', or <a href="trim">search a band with a trimmer</a> and tune it in.'
+        f"<b>Most of this spread is the chip, not your parts.</b> The {device.family.name}'s "
+        f"data sheet allows VT+ {a_lo:.2f}–{a_hi:.2f} V and VT− {b_lo:.2f}–{b_hi:.2f} V at "
+        f"{device.supply_v:g} V: builds land in {_band(spread.full_hz)}, your parts alone "
+        f"move it {_band(spread.parts_hz)}. Measure one build made with 1 % resistors and a "
+        f'C0G or film capacitor and <a href="calibrate">calibrate from that measurement</a>' + (
+            ', or <a href="trim">search a band with a trimmer</a>.'
             if outcome.target.circuit == "schmitt" else "."))
 
 
@@ -136,7 +134,7 @@ def _draw_search(plots: Any, outcome: Outcome, cand: Any) -> Iterator[None]:
     mc = builds(osc, cand)
     accept = accept_band(target)
     within = mc.fraction_within(*accept)
-    title = (f"{100 * within:.0f} % of {MC_BUILDS:,} simulated builds within "
+    title = (f"{100 * within:.0f} % of {MC_BUILDS:,} builds within "
              f"±{target.accept_pct:g} %")
     if mc.stopped_fraction > 0:
         title += f"; {mc.stopped_fraction:.1%} would not oscillate"

@@ -194,8 +194,8 @@ class PlotPanel(QWidget):
         self.vt_minus_line.show()
         self.vt_plus_line.setValue(vt_plus_v)
         self.vt_minus_line.setValue(vt_minus_v)
-        key = (f'<span style="color:{CAP.name()}">━ capacitor</span> &nbsp; '
-               f'<span style="color:{OUT.name()}">━ output</span>')
+        key = (f'<span style="color:{CAP.name()}">━ C</span> &nbsp; '
+               f'<span style="color:{OUT.name()}">━ out</span>')
         self.waveform.setTitle(f"{title} &nbsp; {key}", color=INK.name(), size="10pt")
         # Room above the highest trace and below the lowest for the threshold labels.
         lo = min(float(np.min(v_cap)), float(np.min(v_out)), vt_minus_v)

@@ -104,6 +104,9 @@ class TargetForm(QWidget):
         self._ranges: dict[str, tuple[float, float]] = {}
 
         self.circuit = QComboBox()
+        self.circuit.setMinimumContentsLength(12)
+        self.circuit.setSizeAdjustPolicy(
+            QComboBox.SizeAdjustPolicy.AdjustToMinimumContentsLengthWithIcon)
         for label, key in CIRCUITS:
             self.circuit.addItem(label, key)
         self.family = QComboBox()
@@ -202,19 +205,20 @@ class TargetForm(QWidget):
         grid.addWidget(self.duty, 1, 3)
         grid.addWidget(label("&Error within", self.accept), 1, 4)
         grid.addWidget(self.accept, 1, 5)
+        # Networks and calibration get rows of their own, so the form fits a 1024 px window.
         grid.addWidget(label("At &most", self.max_r), 2, 0)
         network_box = QHBoxLayout()
         network_box.addWidget(self.max_r)
         network_box.addWidget(self.max_c)
         network_box.addWidget(self.dielectric)
         network_box.addStretch(1)
-        grid.addLayout(network_box, 2, 1)
-        grid.addWidget(label("Ca&libration", self.calibration), 2, 2)
+        grid.addLayout(network_box, 2, 1, 1, 5)
+        grid.addWidget(label("Ca&libration", self.calibration), 3, 0)
         calibration_box = QHBoxLayout()
         calibration_box.addWidget(self.calibration, 1)
         calibration_box.addWidget(self.new_calibration)
-        grid.addLayout(calibration_box, 2, 3, 1, 3)
-        grid.addWidget(self.message, 3, 0, 1, 6)
+        grid.addLayout(calibration_box, 3, 1, 1, 5)
+        grid.addWidget(self.message, 4, 0, 1, 6)
         grid.setColumnStretch(1, 3)
         grid.setColumnStretch(3, 3)
         grid.setColumnStretch(5, 2)

@@ -77,7 +77,7 @@ def test_chip_threshold_spread_is_explained_with_a_way_out(qtbot, window):
     assert "chip, not your parts" in text and "calibrate" in text and 'href="trim"' in text
     osc = window.current_oscillator()
     (a_lo, _, a_hi), (b_lo, _, b_hi) = osc.device.vt_plus, osc.device.vt_minus
-    assert f"{a_lo:.2f} to {a_hi:.2f} V" in text and f"{b_lo:.2f} to {b_hi:.2f} V" in text
+    assert f"{a_lo:.2f}–{a_hi:.2f} V" in text and f"{b_lo:.2f}–{b_hi:.2f} V" in text
 
     from gui.plot_data import chip_spread
 

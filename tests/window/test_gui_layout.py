@@ -126,3 +126,44 @@ def test_main_areas_have_accessible_names(window):
              window.plots.waveform.accessibleName(), window.plots.spread.accessibleName()}
     assert names == {"parts drawer", "candidates", "filter text", "advice on the spread",
                      "waveform plot", "frequency spread plot"}
+
+
+def _fully_inside(widget: QWidget, window) -> bool:
+    """The widget's whole rectangle lies inside the window's (nothing cut off)."""
+    top_left = widget.mapTo(window, widget.rect().topLeft())
+    bottom_right = widget.mapTo(window, widget.rect().bottomRight())
+    return window.rect().contains(top_left) and window.rect().contains(bottom_right)
+
+
+def test_the_window_works_at_1024_by_700(qtbot, window):
+    # The smallest common laptop screen a bench computer has (issue 15: 1024 × 700).
+    assert window.minimumSizeHint().width() <= 1024
+    assert window.minimumSizeHint().height() <= 700
+    window.resize(1024, 700)
+    qtbot.waitUntil(lambda: window.width() == 1024 and window.height() == 700, timeout=3000)
+    form = window.form
+    for field in (form.circuit, form.family, form.supply, form.target, form.duty,
+                  form.accept, form.max_r, form.max_c, form.dielectric, form.calibration,
+                  form.new_calibration):
+        assert field.isVisible() and _fully_inside(field, window), field.accessibleName()
+        assert field.width() >= field.minimumSizeHint().width(), field.accessibleName()
+    view = window.candidate_view
+    row = view.verticalHeader().defaultSectionSize()
+    shown = (view.viewport().height()) // row
+    assert shown >= 3, f"only {shown} candidate rows visible"
+    assert window.plot_area.height() >= 180
+
+
+def test_a_screenshot_has_exactly_the_size_asked(tmp_path):
+    from PySide6.QtGui import QImage
+
+    from gui.entry import open_window
+
+    class Args:
+        stock = None
+        screenshot = str(tmp_path / "small.png")
+        size = (1024, 700)
+
+    assert open_window(Args()) == 0
+    picture = QImage(str(tmp_path / "small.png"))
+    assert (picture.width(), picture.height()) == (1024, 700)
