@@ -6,6 +6,12 @@ from __future__ import annotations
 import os
 
 import pytest
+from hypothesis import settings
+
+# Property tests check behaviour, not speed: on a loaded 2-core CI machine a single
+# example can exceed hypothesis's default 200 ms deadline, which would fail a good run.
+settings.register_profile("tickbin", deadline=None)
+settings.load_profile("tickbin")
 
 # Must happen before anything imports Qt.
 os.environ.setdefault("QT_QPA_PLATFORM", "offscreen")
