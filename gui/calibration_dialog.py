@@ -36,7 +36,7 @@ class CalibrationDialog(QDialog):
         self.setWindowTitle("Calibration from a bench measurement")
         self.target = target
         self.saved_name: str | None = None
-        self.saved_uncertainty_pct: float | None = None
+        self.saved: Calibration | None = None
         layout = QVBoxLayout(self)
         intro = QLabel("Build the circuit with parts you know, measure its frequency "
                        "with a frequency counter or oscilloscope, and enter it here. "
@@ -135,10 +135,7 @@ class CalibrationDialog(QDialog):
         except (InputError, TickbinError) as e:
             self.result_label.setText(f"⚠ {e}")
             return
-        self.result_label.setText(
-            f"VT+ {cal.vt_plus_v:.3f} V, VT− {cal.vt_minus_v:.3f} V. A frequency predicted "
-            f"with this calibration is uncertain by ±{cal.uncertainty_pct:.1f} % (1 sigma), "
-            f"at most ±{cal.worst_case_pct:.1f} %.")
+        self.result_label.setText(_fitted(cal))
 
     def save(self) -> None:
         """Fit, save and close; problems stay in the dialog for correction."""
@@ -152,8 +149,18 @@ class CalibrationDialog(QDialog):
             self.result_label.setText(f"⚠ {e}")
             return
         self.saved_name = name
-        self.saved_uncertainty_pct = cal.uncertainty_pct
+        self.saved = cal
         self.accept()
+
+    def fitted_text(self) -> str:
+        """The saved calibration's thresholds and uncertainty in words ("" before saving)."""
+        return _fitted(self.saved) if self.saved is not None else ""
+
+
+def _fitted(cal: Calibration) -> str:
+    return (f"VT+ {cal.vt_plus_v:.3f} V, VT− {cal.vt_minus_v:.3f} V. A frequency predicted "
+            f"with this calibration is uncertain by ±{cal.uncertainty_pct:.1f} % (1 sigma), "
+            f"at most ±{cal.worst_case_pct:.1f} %.")
 
 
 def _part_tolerances(candidate: Any) -> dict[str, str]:

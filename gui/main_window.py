@@ -538,8 +538,9 @@ class MainWindow(QMainWindow):
         drawer = self.drawer
         self.undo_action.setEnabled(drawer.can_undo())
         self.redo_action.setEnabled(drawer.can_redo())
-        self.undo_action.setText(f"&Undo {drawer.undo_text()}".rstrip())
-        self.redo_action.setText(f"&Redo {drawer.redo_text()}".rstrip())
+        # Fixed labels keep the tool bar still; what would be undone goes in the tooltip.
+        self.undo_action.setToolTip(f"Undo {drawer.undo_text()}".rstrip())
+        self.redo_action.setToolTip(f"Redo {drawer.redo_text()}".rstrip())
         name = drawer.path.name if drawer.path else self.untitled
         self.setWindowTitle(f"{name}[*] — Tickbin")
         self.setWindowModified(drawer.dirty)
@@ -933,8 +934,8 @@ class MainWindow(QMainWindow):
         dialog = CalibrationDialog(self, self.form.target_value(), self.selected_candidate())
         if dialog.exec() and dialog.saved_name:
             self.form.reload_calibrations(select=dialog.saved_name)
-            self.say(f"Calibration “{dialog.saved_name}” saved and selected: predictions "
-                     f"with it ±{dialog.saved_uncertainty_pct:.1f} % (1 sigma).")
+            self.say(f"Calibration “{dialog.saved_name}” saved and selected: "
+                     f"{dialog.fitted_text()}")
 
     def show_help(self) -> None:
         from gui.help_dialog import HelpDialog

@@ -79,10 +79,10 @@ class SheetActions:
         return build_sheet(osc, candidate, target.describe(), stock=drawer.parts(),
                            ratings=voltage_ratings(drawer))
 
-    def _start(self, suffix: str) -> str:
+    def _start(self, name: str) -> str:
         path = self.window.drawer.path
         folder = path.parent if path else Path.home()
-        return str(folder / f"build-sheet{suffix}")
+        return str(folder / name)
 
     # -- the actions
     def save_pdf(self) -> None:
@@ -91,7 +91,8 @@ class SheetActions:
         sheet = self.sheet()
         if sheet is None:
             return
-        path = self.ask_path(self.window, "Save build sheet", self._start(".pdf"), PDF_FILTER)
+        path = self.ask_path(self.window, "Save build sheet",
+                             self._start(f"{sheet.file_stem()}.pdf"), PDF_FILTER)
         if path is None:
             return
         if not path.lower().endswith(".pdf"):
@@ -117,7 +118,8 @@ class SheetActions:
         if candidate is None or osc is None:
             w.tell("No candidate selected", "Pick a candidate in the list first.")
             return
-        path = self.ask_path(w, "Export SPICE netlist", self._start(".cir"), NETLIST_FILTER)
+        path = self.ask_path(w, "Export SPICE netlist", self._start("tickbin-netlist.cir"),
+                             NETLIST_FILTER)
         if path is None:
             return
         try:

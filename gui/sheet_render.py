@@ -139,7 +139,8 @@ def print_sheet(sheet: Sheet, parent: QWidget | None = None) -> bool:
     from PySide6.QtPrintSupport import QPrinter
 
     printer = QPrinter(QPrinter.PrinterMode.HighResolution)
-    printer.setDocName(sheet.title)
+    # The job's name, and the print dialog's "print to file" name (Qt adds ".pdf").
+    printer.setDocName(sheet.file_stem())
     printer.setPageMargins(QMarginsF(MARGIN_MM, MARGIN_MM, MARGIN_MM, MARGIN_MM),
                            QPageLayout.Unit.Millimeter)
     if not PrintDialog.ask(printer, parent):

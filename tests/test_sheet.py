@@ -387,3 +387,20 @@ def test_sheet_writes_combined_networks_with_the_legend(demo_parts, hc14):
     single = next(c for c in search(demo_parts, hc14, 1000.0, max_resistors=1,
                                     max_capacitors=1).candidates)
     assert "Notation" not in dict(build_sheet(hc14, single, "1 kHz", today=TODAY).summary)
+
+
+def test_bipolar_555_sheet_lists_the_bulk_capacitor_its_notes_ask_for(demo_parts):
+    # A bipolar 555 draws a current spike at each output edge: 100 nF plus about 10 µF at
+    # the supply pins (common practice, no published source; the device table's note).
+    osc = make_oscillator("555", "NE555", 9.0)
+    cand = search(demo_parts, osc, 1000.0).candidates[0]
+    sheet = build_sheet(osc, cand, "1 kHz", stock=demo_parts, today=TODAY)
+    assert any("10 µF" in note for note in sheet.build_notes)
+    bulk = [r for r in sheet.parts if r.value == "10 µF"]
+    assert len(bulk) == 1 and bulk[0].refs not in {p.ref for p in sheet.schematic.placed}
+    assert bulk[0].refs not in sheet.schematic.support.values()
+    # A CMOS 555 draws no such spike: its parts list has none.
+    cmos = make_oscillator("555", "TLC555", 9.0)
+    cand = search(demo_parts, cmos, 1000.0).candidates[0]
+    sheet = build_sheet(cmos, cand, "1 kHz", stock=demo_parts, today=TODAY)
+    assert not [r for r in sheet.parts if r.value == "10 µF"]

@@ -9,6 +9,7 @@ step once the circuit is built.
 from __future__ import annotations
 
 import datetime as _dt
+import re
 from collections import Counter
 from collections.abc import Iterable, Mapping, Sequence
 from dataclasses import dataclass, field
@@ -38,10 +39,14 @@ from core.units import (
 
 DECOUPLING_F = 100e-9
 """Supply decoupling at the chip (common practice, no published source: 100 nF ceramic)."""
+BULK_DECOUPLING_F = 10e-6
+"""Beside the 100 nF at a bipolar 555, which draws a current spike at each output edge
+(common practice, no published source: 10 µF; the device table's pin notes ask for it)."""
 CONTROL_F = 10e-9
 """555 control-voltage pin to ground (NE555 data sheet application circuits: 0.01 µF)."""
 STEERING_DIODE = SMALL_SIGNAL_DIODE.name
 MONTE_CARLO_DRAWS = 10_000
+TITLE_START = "Build sheet: "
 CHECK_ROTATIONS = (0.0, 25.0, 50.0, 75.0, 100.0)
 """Pot rotations [%] whose nominal frequency the trim sheet lists, to find one's place."""
 
@@ -109,6 +114,13 @@ class Sheet:
     take: tuple[Part, ...] = field(default=())
     """Drawer parts used by the sheet, repeated as often as used (see take_parts)."""
 
+    def file_stem(self) -> str:
+        """A file name for the sheet without a suffix: ``tickbin-sheet-1.00-khz-1-schmitt-
+        oscillator`` (letters, digits, dots and hyphens only, so it is valid on every
+        file system; a colon, for one, is not)."""
+        words = re.findall(r"[a-z0-9.]+", self.title.removeprefix(TITLE_START).lower())
+        return "-".join(["tickbin-sheet", *words])
+
     def to_json(self) -> dict[str, Any]:
         """The sheet's facts for ``--json`` output (no drawing data)."""
         return {
@@ -156,24 +168,39 @@ def voltage_ratings(drawer: Drawer) -> dict[int, str]:
     return out
 
 
-def _find_in_stock(stock: Sequence[Part], farads: float, used: Counter[int]) -> Part | None:
-    """A non-polarised capacitor of this value with a piece left after the timing parts."""
+def _find_in_stock(stock: Sequence[Part], farads: float, used: Counter[int],
+                   polarised: bool = False) -> Part | None:
+    """A capacitor of this value with a piece left after the timing parts (non-polarised
+    unless ``polarised`` allows an electrolytic)."""
     for part in stock:
-        if (part.kind == "C" and not part.polarised and abs(part.value / farads - 1) < 0.02
+        if (part.kind == "C" and (polarised or not part.polarised)
+                and abs(part.value / farads - 1) < 0.02
                 and part.quantity - used[part.stock_line] > 0):
             return part
     return None
 
 
 def _support_row(refs: str, what: str, farads: float, stock: Sequence[Part],
-                 used: Counter[int], take: list[Part]) -> PartRow:
-    part = _find_in_stock(stock, farads, used)
+                 used: Counter[int], take: list[Part], polarised: bool = False,
+                 note: str = "") -> PartRow:
+    part = _find_in_stock(stock, farads, used, polarised)
     if part is None:
-        return PartRow(refs, what, format_capacitance(farads), "", 1, "", None, "not in the drawer")
+        return PartRow(refs, what, format_capacitance(farads), "", 1, "", None,
+                       "; ".join(x for x in ("not in the drawer", note) if x))
     used[part.stock_line] += 1
     take.append(part)
+    if part.polarised:
+        note = "; ".join(x for x in ("+ lead to VCC, rated above the supply", note) if x)
     return PartRow(refs, what, format_capacitance(farads), str(part.tolerance), 1, part.location,
-                   part.stock_line)
+                   part.stock_line, note)
+
+
+def _next_ref(schematic: Schematic, letter: str) -> str:
+    """The first reference with ``letter`` that the schematic does not use (C4 after C3)."""
+    used = [*(p.ref for p in schematic.placed), *schematic.support.values()]
+    numbers = [int(r[len(letter):]) for r in used
+               if r.startswith(letter) and r[len(letter):].isdigit()]
+    return f"{letter}{max(numbers, default=0) + 1}"
 
 
 def _value_text(part: Part) -> str:
@@ -236,6 +263,12 @@ def _parts_list(osc: Oscillator, schematic: Schematic, networks: Mapping[str, No
     if osc.circuit == "555":
         around.append(_support_row(support["control"], "control pin, ceramic", CONTROL_F,
                                    stock, used, take))
+        pins = family.package.pins
+        if "bipolar" in family.description:
+            around.append(_support_row(_next_ref(schematic, "C"), "bulk decoupling",
+                                       BULK_DECOUPLING_F, stock, used, take, polarised=True,
+                                       note=f"VCC ({pins['vcc']}) to GND ({pins['gnd']}) beside "
+                                       f"{support['decoupling']}; not drawn"))
         if steered:
             around.append(PartRow(support["diode"], "small-signal diode", STEERING_DIODE, "",
                                   1, "", None, "anode to DIS (7), cathode to THR (6)"))
@@ -326,7 +359,7 @@ def build_sheet(osc: Oscillator, candidate: Candidate | TrimCandidate, target: s
     # A trim candidate's notes restate its rotations, which the adjustment covers.
     notes = [] if trim else list(candidate.notes)
     warnings = list(dict.fromkeys([*prediction.warnings, *notes]))
-    title = (f"Build sheet: {target} "
+    title = (f"{TITLE_START}{target} "
              f"{'555 astable' if osc.circuit == '555' else 'Schmitt oscillator'}"
              f"{' with trimmer' if trim else ''}")
     return Sheet(
