@@ -18,8 +18,7 @@ from PySide6.QtCore import (
     QSortFilterProxyModel,
     Qt,
 )
-from PySide6.QtGui import QBrush, QColor, QIcon
-from PySide6.QtWidgets import QApplication, QStyle
+from PySide6.QtGui import QBrush, QColor, QFont
 
 from core.parts.drawer import Drawer, Part
 
@@ -57,7 +56,7 @@ USED_BACKGROUND = QColor(250, 236, 190)
 MARKING_ROLES = frozenset({
     PROBLEM_ROLE, Qt.ItemDataRole.ToolTipRole, Qt.ItemDataRole.AccessibleDescriptionRole,
     Qt.ItemDataRole.BackgroundRole, Qt.ItemDataRole.ForegroundRole,
-    Qt.ItemDataRole.DecorationRole})
+    Qt.ItemDataRole.FontRole})
 """Roles that show a bad cell or a used row; the others need no look at the problems."""
 
 
@@ -75,7 +74,6 @@ class DrawerTableModel(QAbstractTableModel):
         can wait until after the first paint (see ``start_checking``)."""
         self._drawer: Drawer | None = None
         self._columns: list[str] = []
-        self._icon: QIcon | None = None
         self._by_row: tuple[object, dict[int, Part]] = (None, {})
         self._used: dict[int, int] = {}
         self.set_drawer(drawer)
@@ -106,6 +104,10 @@ class DrawerTableModel(QAbstractTableModel):
         last = self.columnCount() - 1
         for row in sorted(r for r in changed if 0 <= r < self.rowCount()):
             self.dataChanged.emit(self.index(row, 0), self.index(row, last))
+
+    def any_used(self) -> bool:
+        """Whether a candidate is marked (its rows tinted)."""
+        return bool(self._used)
 
     def used(self, row: int) -> int:
         """Parts the selected candidate takes from ``row`` (0 when none)."""
@@ -232,7 +234,15 @@ class DrawerTableModel(QAbstractTableModel):
             return QBrush(USED_BACKGROUND) if row in self._used else None
         if role == Qt.ItemDataRole.ForegroundRole:
             return QBrush(BAD_FOREGROUND) if problem else None
-        return self._warning_icon() if problem else None  # DecorationRole
+        # FontRole: underlined as well as coloured, so colour is not the only mark; no icon,
+        # which would take the room the typed text needs (the delegate adds a side bar).
+        return self._underlined() if problem else None
+
+    @staticmethod
+    def _underlined() -> QFont:
+        font = QFont()
+        font.setUnderline(True)
+        return font
 
     def _tooltip(self, row: int, column: str, text: str, problem: str | None) -> str | None:
         if problem:
@@ -243,12 +253,6 @@ class DrawerTableModel(QAbstractTableModel):
             return (f"The selected candidate takes {used} part{'s' if used > 1 else ''} "
                     "from this row")
         return HINTS.get(column)
-
-    def _warning_icon(self) -> QIcon:
-        if self._icon is None:
-            style = QApplication.style()
-            self._icon = style.standardIcon(QStyle.StandardPixmap.SP_MessageBoxWarning)
-        return self._icon
 
     def _sort_key(self, row: int, column: str, text: str) -> Any:
         if column in ("value", "quantity"):

@@ -18,7 +18,7 @@ from PySide6.QtCore import (
     Qt,
     Signal,
 )
-from PySide6.QtGui import QAction, QKeySequence
+from PySide6.QtGui import QAction, QKeySequence, QPainter
 from PySide6.QtWidgets import (
     QAbstractItemView,
     QComboBox,
@@ -42,7 +42,7 @@ from PySide6.QtWidgets import (
 
 from core.errors import InputError
 from core.parts.drawer import Drawer, Row
-from gui.drawer_model import DrawerFilterProxy, DrawerTableModel
+from gui.drawer_model import BAD_FOREGROUND, PROBLEM_ROLE, DrawerFilterProxy, DrawerTableModel
 
 _CAPACITOR_TOKEN = re.compile(r"(?:f|[pnuµμ]\d*f?)$", re.IGNORECASE)
 _RESISTOR_TOKEN = re.compile(r"(?:ω|ohms?|r\d*|k\d*|m\d*|meg)$", re.IGNORECASE)
@@ -237,6 +237,16 @@ class ChoiceDelegate(QStyledItemDelegate):
     def __init__(self, model: DrawerTableModel, proxy: DrawerFilterProxy, parent: QWidget):
         super().__init__(parent)
         self.model, self.proxy = model, proxy
+
+    def paint(self, painter: QPainter, option: QStyleOptionViewItem,
+              index: QModelIndex | QPersistentModelIndex) -> None:
+        """The cell as usual; a bad cell also gets a bar at its left edge, leaving all the
+        width to the typed text."""
+        super().paint(painter, option, index)
+        if index.data(PROBLEM_ROLE):
+            bar = option.rect.adjusted(0, 1, 0, -1)
+            bar.setWidth(3)
+            painter.fillRect(bar, BAD_FOREGROUND)
 
     def _choices(self, index: QModelIndex | QPersistentModelIndex) -> tuple[str, ...]:
         return CHOICES.get(self.model.column_name(self.proxy.mapToSource(index).column()), ())
@@ -469,6 +479,8 @@ class DrawerPanel(QWidget):
         bad = len(self.drawer.problems()) if self.model.checking else 0
         shown = self.proxy.rowCount()
         text = f"{total} rows" if shown == total else f"{shown} of {total} rows"
+        if self.kind_filter.currentData() == "used" and not self.model.any_used():
+            text = f"no candidate selected, so none of the {total} rows is in use"
         if bad:
             text += f' · <a href="fix">⚠ {bad} to fix</a>'
         self.count_label.setText(text)

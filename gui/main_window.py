@@ -635,11 +635,39 @@ class MainWindow(QMainWindow):
     def save(self) -> bool:
         if self.drawer.path is None:
             return self.save_as()
-        return self._write(self.drawer.path)
+        return self._unreadable_cells_ok() and self._write(self.drawer.path)
 
     def save_as(self) -> bool:
+        if not self._unreadable_cells_ok():
+            return False
         path = self.ask_path(self, "Save the drawer as", save=True, start=self._start_folder())
         return bool(path) and self._write(Path(path))
+
+    def _unreadable_cells_ok(self) -> bool:
+        """Cells the command line cannot read: name them and ask before saving them.
+
+        The window reads a drawer leniently; ``tickbin search`` and the other commands
+        refuse a file with any bad cell, so the person should know before it is written.
+        """
+        problems = self.drawer.problems()
+        if not problems:
+            return True
+        rows = self.drawer.rows
+        cells = [f"{f'line {rows[r].line}' if rows[r].line is not None else f'new row {r + 1}'}"
+                 f", {column}: “{rows[r].get(column)}” ({why})"
+                 for r, columns in sorted(problems.items()) for column, why in columns.items()]
+        more = f"\n… and {len(cells) - 12} more" if len(cells) > 12 else ""
+        b = QMessageBox.StandardButton
+        answer = self.ask(self, "Save unreadable cells?",
+                          f"{len(cells)} cell{'s' if len(cells) != 1 else ''} cannot be read "
+                          "as a part:\n\n" + "\n".join(cells[:12]) + more + "\n\nThe window "
+                          "keeps them marked, but the command line (tickbin search, sheet, …) "
+                          "refuses a drawer file with any of them.\nSave: save anyway. "
+                          "Cancel: fix them first.", b.Save | b.Cancel, b.Cancel)
+        if answer == b.Save:
+            return True
+        self.say("Not saved: fix the marked cells (⚠) or save anyway.")
+        return False
 
     def _write(self, path: Path, *, overwrite: bool = False) -> bool:
         try:

@@ -164,7 +164,8 @@ class PlotPanel(QWidget):
         marks = [self.vt_plus_line, self.vt_minus_line, self.target_line, self.accept_region]
         if self._rotation_made:
             curves += [self.rotation_curve, self.envelope_low, self.envelope_high]
-            marks += [self.band_region, *self.turn_lines]
+            marks += [self.band_region, *self.turn_lines, self.envelope_fill]
+            self.right.setCurrentWidget(self.spread)  # no trim design left to show
         for curve in curves:
             curve.setData([], [])
         for item in marks:
@@ -240,6 +241,7 @@ class PlotPanel(QWidget):
         self.envelope_high.setData(rotation_pct, high_hz)
         self.band_region.setRegion(band_hz)
         self.band_region.show()
+        self.envelope_fill.show()
         for line, turn in zip(self.turn_lines, band_turns_pct, strict=True):
             line.show()
             line.setValue(turn)

@@ -61,9 +61,10 @@ def test_bad_cell_is_marked_kept_and_explained():
     assert drawer.rows[0].get("value") == "4x7"
     assert model.data(index, PROBLEM_ROLE)
     assert "not usable" in model.data(index, Qt.ItemDataRole.ToolTipRole)
-    # Marked by colour and by an icon, not by colour alone.
+    # Marked by colour and by an underline, not by colour alone; no icon takes its room.
     assert model.data(index, Qt.ItemDataRole.BackgroundRole) is not None
-    assert model.data(index, Qt.ItemDataRole.DecorationRole) is not None
+    assert model.data(index, Qt.ItemDataRole.FontRole).underline()
+    assert model.data(index, Qt.ItemDataRole.DecorationRole) is None
     assert len(drawer.parts()) == 3
     drawer.undo()
     assert model.data(index) == "4k7"

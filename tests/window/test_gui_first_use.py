@@ -11,7 +11,7 @@ from __future__ import annotations
 import math
 
 import pytest
-from support.gui_helpers import QUIET_OFFSCREEN, search_done
+from support.gui_helpers import QUIET_OFFSCREEN, search_done, search_with
 
 pytest_plugins = ["support.gui_helpers"]  # fixtures: private_settings, answers, make_window, window
 pytestmark = [QUIET_OFFSCREEN, pytest.mark.usefixtures("private_settings")]
@@ -69,3 +69,74 @@ def test_a_saved_calibration_says_its_thresholds(qtbot, window, monkeypatch):
     message = window.status_text.text()
     assert f"VT+ {saved.vt_plus_v:.3f} V" in message and f"VT− {saved.vt_minus_v:.3f} V" in message
     assert f"±{saved.uncertainty_pct:.1f} %" in message and math.isfinite(saved.uncertainty_pct)
+
+
+def test_no_candidate_clears_the_old_rotation_plot(qtbot, window):
+    search_with(qtbot, window, mode="band", target="900..1100")
+    plots = window.plots
+    assert plots.right.currentWidget() is plots.rotation
+    search_with(qtbot, window, supply="fifty")  # a supply that cannot be read
+    assert window.candidates.rowCount() == 0
+    assert plots.right.currentWidget() is plots.spread
+    assert plots.rotation_curve.getData()[0] is None or not len(plots.rotation_curve.getData()[0])
+    assert not plots.envelope_fill.isVisible() and not plots.band_region.isVisible()
+
+
+def test_used_filter_without_a_candidate_says_why_it_is_empty(qtbot, window):
+    panel = window.drawer_panel
+    panel.kind_filter.setCurrentIndex(panel.kind_filter.findData("used"))
+    assert "of" in panel.count_label.text()  # the demo's best candidate uses some rows
+    search_with(qtbot, window, supply="fifty")
+    text = panel.count_label.text()
+    assert "no candidate" in text and f"{len(window.drawer)} rows" in text
+
+
+def test_a_bad_cell_shows_its_typed_text_whole(qtbot, window):
+    from PySide6.QtGui import QFontMetrics
+    from PySide6.QtWidgets import QStyle, QStyleOptionViewItem
+
+    panel = window.drawer_panel
+    index = value_index(window, 0)
+    search_done(qtbot, window, lambda: window.drawer_model.setData(index, "10kk"))
+    shown = panel.proxy.mapFromSource(index)
+    option = QStyleOptionViewItem()
+    panel.table.itemDelegate().initStyleOption(option, shown)
+    option.rect = panel.table.visualRect(shown)
+    assert option.text == "10kk"
+    assert not option.features & QStyleOptionViewItem.ViewItemFeature.HasDecoration
+    room = panel.table.style().subElementRect(QStyle.SubElement.SE_ItemViewItemText, option,
+                                              panel.table)
+    assert QFontMetrics(option.font).horizontalAdvance("10kk") <= room.width()
+
+
+def test_saving_unreadable_cells_names_them_and_asks(qtbot, make_window, answers, tmp_path,
+                                                     monkeypatch):
+    import shutil
+
+    from PySide6.QtWidgets import QMessageBox
+
+    from core.parts.drawer import read_drawer
+    from core.storage.locations import demo_drawer_path
+    from gui.main_window import MainWindow
+
+    path = tmp_path / "drawer.csv"
+    shutil.copy(demo_drawer_path(), path)
+    window = make_window(str(path))
+    texts = []
+    b = QMessageBox.StandardButton
+
+    def ask(cls, parent, title, text, buttons, default):
+        texts.append(text)
+        return answers.pop(0)
+
+    monkeypatch.setattr(MainWindow, "ask", classmethod(ask))
+    search_done(qtbot, window, lambda: window.drawer_model.setData(value_index(window, 0),
+                                                                   "10kk"))
+    line = window.drawer.rows[0].line
+    answers.append(b.Cancel)
+    assert not window.save()
+    assert f"line {line}, value: “10kk”" in texts[0] and "command line" in texts[0]
+    assert "10kk" not in path.read_text(encoding="utf-8")
+    answers.append(b.Save)
+    assert window.save()
+    assert read_drawer(path, strict=False).rows[0].get("value") == "10kk"
