@@ -25,7 +25,7 @@ from typing import Any
 
 import numpy as np
 import pytest
-from support.brute_force import assert_first_or_empty, brute_force_best
+from support.brute_force import assert_first_or_empty, brute_force_best, rank_key
 from support.cli import run_tickbin
 from support.nodes import node_lines, node_value
 from support.trim_checks import check_trim_candidate
@@ -146,8 +146,8 @@ def check_networks(cand: dict[str, Any], by_line: dict[int, Part], roles: tuple[
 
 
 def check_search_json(data: dict[str, Any], target: float, roles: tuple[str, ...],
-                      by_line: dict[int, Part], accept: float = 1.0, duty: float | None = None
-                      ) -> None:
+                      by_line: dict[int, Part], accept: float = 1.0, duty: float | None = None,
+                      duty_within: float = 1.0) -> None:
     assert set(data) >= {"limits", "notes", "candidates"}
     assert set(data["limits"]) >= {"r_min_ohm", "r_max_ohm"}
     assert all(is_number(v) for v in data["limits"].values())
@@ -169,12 +169,14 @@ def check_search_json(data: dict[str, Any], target: float, roles: tuple[str, ...
         for role in roles:
             if role != "C":
                 assert r_min <= cand["values"][role] <= r_max
-        err = abs(cand["error_pct"])
-        hit = err <= accept and (duty is None or abs(cand["duty_pct"] - duty) <= 2.0)
-        parts = sum(used.values())
-        keys.append((not hit, parts if hit else 0, err))
-    # Ranking (DESIGN.md): within --accept first, fewest parts, then smallest |error|;
-    # the rest by |error|.
+        duty_error = None if duty is None else cand["duty_pct"] - duty
+        if duty is not None:
+            assert cand["duty_error_pct"] == pytest.approx(duty_error, abs=1e-9)
+        keys.append(rank_key(not lo > 0, cand["error_pct"], duty_error, sum(used.values()),
+                             accept, duty_within))
+    # Ranking (DESIGN.md, second round): hits (within --accept and --duty-within) first,
+    # fewest parts, then the combined error; the rest by combined error; builds that stop
+    # at some corner last.
     assert keys == sorted(keys)
 
 
@@ -323,7 +325,8 @@ def test_calibrate_says_how_sure_it_is(tmp_path: Path) -> None:
 def candidates_of(data: dict[str, Any]) -> SimpleNamespace:
     """The JSON result in the shape tests/test_search.py's brute-force checks read."""
     return SimpleNamespace(notes=data["notes"], candidates=[
-        SimpleNamespace(error_pct=c["error_pct"],
+        SimpleNamespace(error_pct=c["error_pct"], duty_error_pct=c.get("duty_error_pct"),
+                        hit=c["hit"], stops=not c["worst_case_hz"][0] > 0,
                         part_count=sum(len(node_lines(n)) for n in c["networks"].values()))
         for c in data["candidates"]])
 
@@ -395,13 +398,14 @@ def test_search_555_duty_and_every_option(tmp_path: Path) -> None:
     box = write_box(tmp_path)
     data = run_json(tmp_path, "search", "--stock", str(box), *NE555, "--target", "1kHz",
                     "--duty", "70", "--max-resistors", "3", "--max-capacitors", "1",
-                    "--accept", "2", "--top", "4")
-    check_search_json(data, 1000.0, ("RA", "RB", "C"), BY_LINE, accept=2.0, duty=70.0)
+                    "--accept", "2", "--duty-within", "1.5", "--top", "4")
+    check_search_json(data, 1000.0, ("RA", "RB", "C"), BY_LINE, accept=2.0, duty=70.0,
+                      duty_within=1.5)
     assert 1 <= len(data["candidates"]) <= 4
     for cand in data["candidates"]:
         check_networks(cand, BY_LINE, ("RA", "RB", "C"), {"RA": 3, "RB": 3, "C": 1})
     first = data["candidates"][0]
-    assert abs(first["error_pct"]) <= 2.0 and abs(first["duty_pct"] - 70.0) <= 2.0
+    assert abs(first["error_pct"]) <= 2.0 and abs(first["duty_pct"] - 70.0) <= 1.5
     low = run_json(tmp_path, "search", "--stock", str(box), *NE555, "--target", "1kHz",
                    "--duty", "30", "--top", "2")
     assert low["candidates"] and any("diode" in n for n in low["notes"])

@@ -22,7 +22,7 @@ from core.cli.common import (
     percent_arg,
     value_arg,
 )
-from core.design.search import Candidate, SearchResult, search
+from core.design.search import DUTY_WITHIN_POINTS, Candidate, SearchResult, search
 from core.design.trim import TrimCandidate, TrimResult, trim
 from core.model.timing import Oscillator
 from core.parts.drawer import (
@@ -71,6 +71,10 @@ def add_design_options(parser: argparse.ArgumentParser, search_required: bool = 
                             "whatever RA and RB give; 50 %% or less uses a steering diode)")
         parser.add_argument("--accept", type=percent_arg("acceptable error"), default=1.0,
                             metavar="PCT", help="error that counts as a hit (default 1 %%)")
+        parser.add_argument("--duty-within", type=percent_arg("duty tolerance", up_to_100=True),
+                            default=DUTY_WITHIN_POINTS, metavar="POINTS",
+                            help="with --duty: duty error in percentage points that counts "
+                            f"as a hit (default {DUTY_WITHIN_POINTS:g})")
     if not search_required:
         parser.add_argument("--band", type=arg_type(parse_band, "band"), required=trim_required,
                             metavar="LO..HI",
@@ -108,7 +112,7 @@ def find_designs(args: argparse.Namespace, osc: Oscillator, parts: list[Part],
     else:
         result = search(parts, osc, args.target, duty_pct=args.duty,
                         max_resistors=args.max_resistors, max_capacitors=args.max_capacitors,
-                        accept_pct=args.accept, top=top)
+                        accept_pct=args.accept, top=top, duty_within=args.duty_within)
     if args.dielectric is not None:
         result.notes.insert(0, dielectric_note(args.dielectric))
     return result
@@ -158,15 +162,23 @@ def _band_text(band: tuple[float, float]) -> str:
 def _search_text(data: dict[str, Any], result: SearchResult, osc: Oscillator) -> str:
     out = [f"Target {format_frequency(result.target_hz)}: {_device_line(osc)}"]
     roles = ("RA", "RB", "C") if osc.circuit == "555" else ("R", "C")
+    with_duty = any(c.duty_asked_pct is not None for c in result.candidates)
     rows = []
     for k, c in enumerate(result.candidates, 1):
+        duty = [f"{c.duty_pct:.1f} %"]
+        if with_duty:
+            duty.append(f"{c.duty_error_pct:+.1f} pt")
         rows.append([str(k), format_frequency(c.frequency_hz, 4), format_signed_pct(c.error_pct),
-                     f"{c.duty_pct:.0f} %", _band_text(c.worst_case_hz), str(c.part_count),
-                     *(c.networks[r].describe() for r in roles)])
+                     *duty, _band_text(c.worst_case_hz) + (f" {STOPS_MARK}" if c.stops else ""),
+                     str(c.part_count), *(c.networks[r].describe() for r in roles)])
     if rows:
         out.append("")
-        out += _table(["#", "frequency", "error", "duty", "worst case", "parts", *roles], rows)
+        out += _table(["#", "frequency", "error", "duty", *(["duty_error"] if with_duty else []),
+                       "worst case", "parts", *roles], rows)
         out += _legend(result.candidates)
+        if any(c.stops for c in result.candidates):
+            out.append(f"{STOPS_MARK}: stops oscillating at some corner (worst case from 0 Hz); "
+                       "never a hit, listed after every build that runs at all corners")
         out.append("")
         out.append("where the parts are:")
         for k, c in enumerate(result.candidates, 1):
@@ -187,6 +199,10 @@ def _legend(candidates: Sequence[Candidate | TrimCandidate]) -> list[str]:
     """The notation's legend, one line under a table that shows a combined network."""
     combined = any(n.part_count > 1 for c in candidates for n in c.networks.values())
     return [NOTATION] if combined else []
+
+
+STOPS_MARK = "(stops)"
+"""Marks a build whose worst case starts at 0 Hz in the text table."""
 
 
 def _candidate_notes(candidates: list[Candidate]) -> list[str]:

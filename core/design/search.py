@@ -6,21 +6,24 @@ index (one layer per part count, so the fewest-parts answer is never hidden
 behind denser three-resistor values). Only the shortlist is evaluated with
 the full model, whose frequency is what a candidate reports.
 
-Ranking (DESIGN.md contract): candidates within ``accept_pct`` of the target
-come first, fewest parts first, then smallest |error|; the rest follow by
-|error|. The list is then kept varied: one candidate per capacitor network
-and no two with both values within ``NEAR_COPY`` of each other, unless the
-drawer offers too few different builds to fill the list.
+Ranking (DESIGN.md contract, second round): a candidate's combined error is
+|error| / ``accept_pct``, or with a duty target the larger of that and
+|duty error| / ``duty_within`` (duty points). Hits (combined error ≤ 1) come
+first, fewest parts first, then smallest combined error; the rest follow by
+combined error. A build that stops oscillating at any tolerance, threshold or
+leakage corner (its worst case starts at 0 Hz) is never a hit and comes after
+every build that oscillates at all corners. The list is then kept varied: one
+candidate per capacitor network and no two with both values within
+``NEAR_COPY`` of each other, unless the drawer offers too few different
+builds to fill the list.
 
 555: for every (RA network, C network) pair the RB neighbours that matter
 are looked up (next to the RB that hits the frequency, the smallest RB, and
 with a duty target the two RB that put the duty at its tolerance edges).
 Pairs are taken in tiers of rising part count, stopping once enough hits are
 known that no later tier could outrank, within ``COMBINATION_BUDGET``.
-Decisions where the issue is silent: with ``--duty`` a candidate counts as
-within accept only if its duty is within ``DUTY_ACCEPT_POINTS`` percentage
-points as well; a duty of 50 % or less uses the diode-steered astable (the
-plain one cannot reach 50 % with RA > 0).
+Decision where the issue is silent: a duty of 50 % or less uses the
+diode-steered astable (the plain one cannot reach 50 % with RA > 0).
 
 What to buy (``suggest``): when nothing is within accept, the nearest IEC
 60063 values (E12, then E24, then E96) that hit the target together with
@@ -56,8 +59,8 @@ from core.units import format_frequency, format_part_value, format_resistance, f
 
 NEAR_COPY = 0.02
 """Two candidates whose R and C both agree within this fraction are near-copies."""
-DUTY_ACCEPT_POINTS = 2.0
-"""A 555 candidate meets a duty target when within this many percentage points."""
+DUTY_WITHIN_POINTS = 1.0
+"""Default duty tolerance [percentage points] (DESIGN.md ``--duty-within``)."""
 PER_SIDE = 2
 """Index neighbours taken on each side of the ideal value, per layer."""
 RANK_DEPTH = 200
@@ -70,7 +73,8 @@ class Candidate:
     """One build from the drawer: values [Ω, F], their networks, and what it will do.
 
     ``frequency_hz`` is the full model's; ``error_pct`` is (f − target)/target × 100;
-    ``worst_case_hz`` spans every tolerance and threshold corner.
+    ``worst_case_hz`` spans every tolerance and threshold corner; ``duty_asked_pct``
+    the duty target [%] (None: any); ``hit`` whether it counts as a hit in the ranking.
     """
 
     circuit: str
@@ -82,14 +86,26 @@ class Candidate:
     worst_case_hz: tuple[float, float]
     diode_steered: bool = False
     notes: list[str] = field(default_factory=list)
+    duty_asked_pct: float | None = None
+    hit: bool = False
 
     @property
     def part_count(self) -> int:
         """Parts over all the networks (the ranking's "fewest parts")."""
         return sum(n.part_count for n in self.networks.values())
 
+    @property
+    def duty_error_pct(self) -> float | None:
+        """Predicted minus asked duty [percentage points]; None without a duty target."""
+        return None if self.duty_asked_pct is None else self.duty_pct - self.duty_asked_pct
+
+    @property
+    def stops(self) -> bool:
+        """True when some corner does not oscillate (the worst case starts at 0 Hz)."""
+        return bool(stops_at_a_corner(self.worst_case_hz[0]))
+
     def to_json(self) -> dict[str, Any]:
-        return {
+        out = {
             "frequency_hz": self.frequency_hz,
             "error_pct": self.error_pct,
             "duty_pct": self.duty_pct,
@@ -98,8 +114,17 @@ class Candidate:
             "worst_case_hz": list(self.worst_case_hz),
             "part_count": self.part_count,
             "diode_steered": self.diode_steered,
+            "hit": self.hit,
             "notes": list(self.notes),
         }
+        if self.duty_asked_pct is not None:
+            out["duty_error_pct"] = self.duty_error_pct
+        return out
+
+
+def stops_at_a_corner(worst_low_hz: Any) -> Any:
+    """True where a worst case's low end [Hz] is 0 or NaN: some corner does not oscillate."""
+    return ~(np.asarray(worst_low_hz) > 0.0)
 
 
 @dataclass(frozen=True)
@@ -184,29 +209,38 @@ def schmitt_resistance(osc: Oscillator, target_hz: float, c: np.ndarray,
     return out
 
 
-def _rank_order(error_pct: np.ndarray, parts: np.ndarray, accept_pct: float,
-                duty_ok: np.ndarray | None = None, keep: int | None = None,
+def combined_error(error_pct: Any, accept_pct: float, duty_error: Any = None,
+                   duty_within: float = DUTY_WITHIN_POINTS) -> np.ndarray:
+    """The ranking's combined error: |error| / accept, or with a duty target the larger
+    of that and |duty error| / duty_within; a hit has at most 1 (DESIGN.md, second round).
+
+    ``error_pct`` [%], ``accept_pct`` [%], ``duty_error`` and ``duty_within`` [points].
+    """
+    score = np.abs(np.asarray(error_pct, dtype=float)) / accept_pct
+    if duty_error is not None:
+        score = np.maximum(score, np.abs(np.asarray(duty_error, dtype=float)) / duty_within)
+    return score
+
+
+def _rank_order(score: np.ndarray, parts: np.ndarray, keep: int | None = None,
                 steadiness: np.ndarray | None = None) -> np.ndarray:
-    """Indices in contract order: within accept by (parts, |error|), then the rest by |error|.
+    """Indices in contract order: hits (combined error ``score`` ≤ 1) by (parts, score),
+    then the rest by score.
 
     With ``keep`` only that many leading indices are returned (found by
     partitioning first, so a million combinations rank in milliseconds).
     ``steadiness`` (``build_steadiness``) breaks ties between builds whose
-    errors print the same (to 0.01 %): the steadier one first.
+    combined errors agree to 0.01 (0.01 % at the default 1 % accept): the steadier first.
     """
-    err = np.abs(error_pct)
-    within = err <= accept_pct
-    if duty_ok is not None:
-        within &= duty_ok
-    # One float key: hits sort by (parts, |error|) below every miss.
-    span = accept_pct + 1.0
-    key = np.where(within, parts * span + err, (parts.max(initial=0) + 2) * span + err)
-    tie = np.zeros(len(err)) if steadiness is None else steadiness
+    within = score <= 1.0
+    # One float key: hits sort by (parts, score) below every miss.
+    key = np.where(within, parts * 2.0 + score, (parts.max(initial=0) + 2) * 2.0 + score)
+    tie = np.zeros(len(score)) if steadiness is None else steadiness
     if keep is not None and keep < len(key):
         head = np.argpartition(key, keep)[:keep]
-        return head[np.lexsort((err[head], tie[head], np.round(err[head], 2),
+        return head[np.lexsort((score[head], tie[head], np.round(score[head], 2),
                                 np.where(within, parts, 0)[head], ~within[head]))]
-    return np.lexsort((err, tie, np.round(err, 2), np.where(within, parts, 0), ~within))
+    return np.lexsort((score, tie, np.round(score, 2), np.where(within, parts, 0), ~within))
 
 
 def build_steadiness(index: DrawerIndex, entries: dict[str, np.ndarray]) -> np.ndarray:
@@ -214,6 +248,58 @@ def build_steadiness(index: DrawerIndex, entries: dict[str, np.ndarray]) -> np.n
     capacitor, relative spread of every network): lower is the steadier build."""
     return sum((index.capacitors if role == "C" else index.resistors).steadiness(e)
                for role, e in entries.items())
+
+
+STOP_CHECK_LIMIT = 50_000
+"""Most shortlist combinations whose worst case is checked for a stopping corner."""
+
+
+def _oscillating_first(index: DrawerIndex, osc: Oscillator, s: _Shortlist, score: np.ndarray,
+                       top: int, steadiness: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+    """(order, low): the rank order with every build that stops at some corner moved after
+    all that oscillate at every corner (those by combined error), and the worst case's low
+    end [Hz] for the rows checked (NaN elsewhere).
+
+    The head of the order is checked first; it grows until ``top`` different capacitor
+    networks oscillate at every corner (what the variety pass needs) or the whole
+    shortlist (at most ``STOP_CHECK_LIMIT`` rows) has been checked.
+    """
+    n = len(score)
+    low = np.full(n, np.nan)
+    depth = RANK_DEPTH * top
+    while True:
+        order = _rank_order(score, s.parts, keep=depth, steadiness=steadiness)
+        todo = order[np.isnan(low[order])]
+        if todo.size:
+            low[todo] = _worst_low(index, osc, s, todo)
+        stops = stops_at_a_corner(low[order])
+        running = order[~stops]
+        if (np.unique(s.entries["C"][running]).size >= top or len(order) >= n
+                or depth >= STOP_CHECK_LIMIT):
+            break
+        depth = min(4 * depth, STOP_CHECK_LIMIT)
+    stopping = order[stops]
+    stopping = stopping[np.argsort(score[stopping], kind="stable")]
+    return np.concatenate([running, stopping]), low
+
+
+def _worst_low(index: DrawerIndex, osc: Oscillator, s: _Shortlist,
+               rows: np.ndarray) -> np.ndarray:
+    """The worst case's low end [Hz] (0 where some corner stops) for the shortlist ``rows``,
+    all at once, from the networks' value ranges in the index and each capacitor network's
+    leakage limit."""
+    values: dict[str, np.ndarray] = {}
+    ranges: dict[str, tuple[np.ndarray, np.ndarray]] = {}
+    for role, entries in s.entries.items():
+        net = index.capacitors if role == "C" else index.resistors
+        e = entries[rows]
+        values[role], ranges[role] = net.values[e], (net.lo[e], net.hi[e])
+    caps, at = np.unique(s.entries["C"][rows], return_inverse=True)
+    leakage = np.array([network_leakage_a(index.capacitors.nodes([int(e)])[0], osc.supply_v)
+                        for e in caps])
+    low, _ = worst_case_hz(osc, values, ranges, diode_steered=s.diode_steered,
+                           capacitor_leakage_a=leakage[at])
+    return np.asarray(low, dtype=float)
 
 
 def _varied(order: np.ndarray, c_entry: np.ndarray, r_values: np.ndarray,
@@ -244,13 +330,21 @@ def _varied(order: np.ndarray, c_entry: np.ndarray, r_values: np.ndarray,
 
 def search(parts: list[Part], osc: Oscillator, target_hz: float, duty_pct: float | None = None,
            max_resistors: int = 2, max_capacitors: int = 2, accept_pct: float = 1.0,
-           top: int = 10, index: DrawerIndex | None = None) -> SearchResult:
+           top: int = 10, index: DrawerIndex | None = None,
+           duty_within: float = DUTY_WITHIN_POINTS) -> SearchResult:
     """Rank builds from ``parts`` for ``target_hz`` [Hz] on oscillator ``osc``.
 
     ``duty_pct`` [%] only for the 555 (None: whatever RA and RB give);
-    ``accept_pct`` [%] the error counted as a hit; ``index`` a prebuilt
-    ``DrawerIndex`` of these parts (built here when missing or too small).
+    ``accept_pct`` [%] the error counted as a hit, ``duty_within`` [points] the
+    duty error counted as a hit; ``index`` a prebuilt ``DrawerIndex`` of these
+    parts (built here when missing or too small).
     """
+    if not accept_pct > 0:
+        raise InputError("the acceptable error must be above zero", text=str(accept_pct),
+                         what="accept")
+    if not 0 < duty_within <= 100:
+        raise InputError("the duty tolerance lies between 0 and 100 points",
+                         text=str(duty_within), what="duty tolerance")
     if not (target_hz > 0 and math.isfinite(target_hz)):
         raise InputError("the target frequency must be above zero", text=str(target_hz),
                          what="target")
@@ -279,7 +373,7 @@ def search(parts: list[Part], osc: Oscillator, target_hz: float, duty_pct: float
         return SearchResult(target_hz, limits, notes, [])
     if osc.circuit == "555":
         shortlist = _shortlist_555(index, osc, target_hz, duty_pct, max_resistors,
-                                   max_capacitors, limits, notes, top, accept_pct)
+                                   max_capacitors, limits, notes, top, accept_pct, duty_within)
     else:
         shortlist = _shortlist_schmitt(index, osc, target_hz, max_resistors, max_capacitors,
                                        limits)
@@ -289,7 +383,7 @@ def search(parts: list[Part], osc: Oscillator, target_hz: float, duty_pct: float
                      "resistor range (or the circuit would not oscillate)")
         return SearchResult(target_hz, limits, notes, [],
                             suggest(index, osc, target_hz, accept_pct, limits, max_resistors,
-                                    max_capacitors, duty_pct))
+                                    max_capacitors, duty_pct, duty_within=duty_within))
     # DESIGN.md: a target nothing in the drawer reaches gives an empty list. It is reached
     # when builds land on both sides of it (or one within accept); otherwise every build
     # misses on the same side and the closest is only the drawer's fastest or slowest.
@@ -297,22 +391,26 @@ def search(parts: list[Part], osc: Oscillator, target_hz: float, duty_pct: float
     reached = bool(np.any(err >= -accept_pct) and np.any(err <= accept_pct))
     candidates: list[Candidate] = []
     if reached:
-        order = _rank_order(err, shortlist.parts, accept_pct, shortlist.duty_ok,
-                            keep=RANK_DEPTH * top,
-                            steadiness=build_steadiness(index, shortlist.entries))
+        score = combined_error(err, accept_pct, shortlist.duty_error, duty_within)
+        order, low = _oscillating_first(index, osc, shortlist, score, top,
+                                        build_steadiness(index, shortlist.entries))
         picked = _varied(order, shortlist.entries["C"], shortlist.r_sum, shortlist.c_values,
                          top)
-        candidates = _candidates(index, osc, target_hz, shortlist, picked)
+        candidates = _candidates(index, osc, target_hz, shortlist, picked, score, duty_pct)
     suggestions: list[dict[str, Any]] = []
-    hits = [c for c in candidates if abs(c.error_pct) <= accept_pct and (
-        duty_pct is None or abs(c.duty_pct - duty_pct) <= DUTY_ACCEPT_POINTS)]
-    if not hits:
+    if not any(c.hit for c in candidates):
         closest = int(np.argmin(np.abs(err)))
         best_error = candidates[0].error_pct if candidates else float(err[closest])
-        wanted = "" if duty_pct is None else f" at {duty_pct:g} ± {DUTY_ACCEPT_POINTS:g} % duty"
+        wanted = ("" if duty_pct is None else
+                  f" at {duty_pct:g} ± {duty_within:g} points of duty")
         notes.append(f"nothing in the drawer is within ±{accept_pct:g} % of "
-                     f"{format_frequency(target_hz)}{wanted}; the closest is "
-                     f"{format_signed_pct(best_error)}")
+                     f"{format_frequency(target_hz)}{wanted}"
+                     f"{' and oscillates at every corner' if candidates else ''}; the "
+                     f"closest is {format_signed_pct(best_error)}")
+        if reached and np.any((score <= 1.0) & (low == 0.0)):
+            notes.append(f"builds within ±{accept_pct:g} %{wanted} exist but stop oscillating "
+                         "at some tolerance, threshold or leakage corner, so none counts as "
+                         "a hit; they come after every build that runs at all corners")
         if not reached:
             side = "faster" if best_error > 0 else "slower"
             notes.append(f"no build from the drawer reaches {format_frequency(target_hz)}: "
@@ -320,7 +418,7 @@ def search(parts: list[Part], osc: Oscillator, target_hz: float, duty_pct: float
                          f"{format_frequency(float(shortlist.frequency_hz[closest]))}), so "
                          "none is listed")
         suggestions = suggest(index, osc, target_hz, accept_pct, limits, max_resistors,
-                              max_capacitors, duty_pct)
+                              max_capacitors, duty_pct, duty_within=duty_within)
         if suggestions:
             first = suggestions[0]
             notes.append(f"buying {first['buy']['text']} ({first['buy']['series']}) would give "
@@ -339,7 +437,8 @@ class _Shortlist:
     parts: np.ndarray
     r_sum: np.ndarray
     c_values: np.ndarray
-    duty_ok: np.ndarray | None = None
+    duty_error: np.ndarray | None = None
+    """Predicted minus asked duty [points]; None without a duty target."""
     diode_steered: bool = False
 
 
@@ -425,7 +524,7 @@ skipped, with a note."""
 def _shortlist_555(index: DrawerIndex, osc: Oscillator, target_hz: float,
                    duty_pct: float | None, max_resistors: int, max_capacitors: int,
                    limits: tuple[float, float], notes: list[str], top: int,
-                   accept_pct: float) -> _Shortlist | None:
+                   accept_pct: float, duty_within: float) -> _Shortlist | None:
     """RA, RB, C combinations: for every (RA, C) pair, the RB neighbours that matter.
 
     Those are the RB values next to the one that hits the frequency and, with a
@@ -465,8 +564,9 @@ def _shortlist_555(index: DrawerIndex, osc: Oscillator, target_hz: float,
             budget -= cost
             a, cc = (x.ravel() for x in np.meshgrid(a_all, c_all, indexing="ij"))
             found.append(_rb_neighbours(index, osc, target_hz, duty_pct, diode, a, cc,
-                                        max_resistors, limits))
-        if found and _enough(index, found, target_hz, level + 1, top, accept_pct, duty_pct):
+                                        max_resistors, limits, duty_within))
+        if found and _enough(index, found, target_hz, level + 1, top, accept_pct, duty_pct,
+                             duty_within):
             break
     if skipped:
         notes.append("the drawer is large: some combinations of multi-part RA and C "
@@ -476,16 +576,17 @@ def _shortlist_555(index: DrawerIndex, osc: Oscillator, target_hz: float,
     ra, rb, cc, f, duty = (np.concatenate(x) for x in zip(*found, strict=True))
     if not ra.size:
         return None
-    duty_ok = None if duty_pct is None else np.abs(duty - duty_pct) <= DUTY_ACCEPT_POINTS
     return _Shortlist({"RA": ra, "RB": rb, "C": cc}, f, duty,
                       (f - target_hz) / target_hz * 100.0,
                       res.part_count[ra].astype(int) + res.part_count[rb] + caps.part_count[cc],
-                      res.values[ra] + res.values[rb], caps.values[cc], duty_ok, diode)
+                      res.values[ra] + res.values[rb], caps.values[cc],
+                      None if duty_pct is None else duty - duty_pct, diode)
 
 
 def _rb_neighbours(index: DrawerIndex, osc: Oscillator, target_hz: float,
                    duty_pct: float | None, diode: bool, a: np.ndarray, cc: np.ndarray,
-                   max_resistors: int, limits: tuple[float, float]) -> tuple[np.ndarray, ...]:
+                   max_resistors: int, limits: tuple[float, float],
+                   duty_within: float) -> tuple[np.ndarray, ...]:
     """(RA, RB, C entries, frequency [Hz], duty [%]) for the RB values that matter."""
     res, caps = index.resistors, index.capacitors
     va, vc = res.values[a], caps.values[cc]
@@ -493,7 +594,7 @@ def _rb_neighbours(index: DrawerIndex, osc: Oscillator, target_hz: float,
     # of reach is missed least there.
     wanted = [_astable_rb(osc, target_hz, va, vc, diode), np.full(va.shape, limits[0])]
     if duty_pct is not None:
-        wanted += [_duty_rb(osc, va, duty_pct + side * DUTY_ACCEPT_POINTS, diode)
+        wanted += [_duty_rb(osc, va, duty_pct + side * duty_within, diode)
                    for side in (-1.0, 1.0)]
     # Duty is monotone in RB, so the two entries bracketing its edges suffice; frequency
     # is not quite (a small RB discharges C below the trigger level during the edge
@@ -513,7 +614,8 @@ def _rb_neighbours(index: DrawerIndex, osc: Oscillator, target_hz: float,
 
 
 def _enough(index: DrawerIndex, found: list[tuple[np.ndarray, ...]], target_hz: float,
-            max_parts: int, top: int, accept_pct: float, duty_pct: float | None) -> bool:
+            max_parts: int, top: int, accept_pct: float, duty_pct: float | None,
+            duty_within: float) -> bool:
     """True if ``top`` hits with at most ``max_parts`` parts are already known.
 
     Every pair in a later tier has more parts than that, so it cannot outrank them.
@@ -523,18 +625,21 @@ def _enough(index: DrawerIndex, found: list[tuple[np.ndarray, ...]], target_hz: 
     for ra, rb, cc, f, duty in found:
         hit = np.abs(f - target_hz) <= accept_pct / 100.0 * target_hz
         if duty_pct is not None:
-            hit &= np.abs(duty - duty_pct) <= DUTY_ACCEPT_POINTS
+            hit &= np.abs(duty - duty_pct) <= duty_within
         parts = res.part_count[ra].astype(int) + res.part_count[rb] + caps.part_count[cc]
         count += int(np.count_nonzero(hit & (parts <= max_parts)))
     return count >= top
 
 
 def _candidates(index: DrawerIndex, osc: Oscillator, target_hz: float, s: _Shortlist,
-                picked: list[int]) -> list[Candidate]:
+                picked: list[int], score: np.ndarray,
+                duty_pct: float | None) -> list[Candidate]:
     """Candidates with concrete stock lines, nominal timing, worst case and warnings.
 
-    The worst case spans every corner of the networks' value ranges and the
-    thresholds, evaluated for all picked candidates at once.
+    The worst case spans every corner of the networks' value ranges, the
+    thresholds and the leakage, evaluated for all picked candidates at once.
+    ``score`` is the combined error per shortlist row; a hit also oscillates at
+    every corner. ``duty_pct`` is the duty asked.
     """
     chosen = []
     for i in picked:
@@ -555,7 +660,7 @@ def _candidates(index: DrawerIndex, osc: Oscillator, target_hz: float, s: _Short
                               capacitor_leakage_a=leakage)
     t_high, t_low = times(osc, values, s.diode_steered)
     out = []
-    for k, networks in enumerate(chosen):
+    for k, (i, networks) in enumerate(zip(picked, chosen, strict=True)):
         period = float(t_high[k] + t_low[k])
         prediction = Prediction(1.0 / period, period, 100.0 * float(t_high[k]) / period,
                                 float(t_high[k]), float(t_low[k]),
@@ -565,14 +670,25 @@ def _candidates(index: DrawerIndex, osc: Oscillator, target_hz: float, s: _Short
         dielectric = next((p.dielectric for p in c_parts if p.polarised), c_parts[0].dielectric)
         notes = practitioner_warnings(osc, vals, prediction, dielectric=dielectric,
                                       diode_steered=s.diode_steered)
+        stops = bool(stops_at_a_corner(prediction.worst_case_hz[0]))
+        if stops:
+            notes.insert(0, STOPS_NOTE)
         if s.diode_steered:
             notes.append("diode-steered astable: a diode across RB (anode at pin 7) so RA "
                          "alone charges C")
         out.append(Candidate(osc.circuit, vals, networks, prediction.frequency_hz,
                              (prediction.frequency_hz - target_hz) / target_hz * 100.0,
                              prediction.duty_pct, prediction.worst_case_hz, s.diode_steered,
-                             notes))
-    return out
+                             notes, duty_pct, bool(score[i] <= 1.0) and not stops))
+    # The shortlist's screen used the index's value ranges; the concrete lines decide.
+    order = sorted(range(len(out)),
+                   key=lambda k: (out[k].stops, float(score[picked[k]]) if out[k].stops else 0))
+    return [out[k] for k in order]
+
+
+STOPS_NOTE = ("stops at a corner: some combination of part tolerances, thresholds and "
+              "leakage within their limits does not oscillate, so this build is never a hit "
+              "and comes after every build that oscillates at all corners")
 
 
 # ---------------------------------------------------------------- what to buy
@@ -598,7 +714,8 @@ def _solve_capacitance(frequency: Callable[[np.ndarray], np.ndarray], target_hz:
 
 def suggest(index: DrawerIndex, osc: Oscillator, target_hz: float, accept_pct: float,
             limits: tuple[float, float], max_resistors: int, max_capacitors: int,
-            duty_pct: float | None = None, count: int = 3) -> list[dict[str, Any]]:
+            duty_pct: float | None = None, count: int = 3,
+            duty_within: float = DUTY_WITHIN_POINTS) -> list[dict[str, Any]]:
     """Parts to buy (nearest IEC 60063 values) that hit the target with parts already owned.
 
     Tries E12, then E24, then E96 (capacitors: E24 at most) and keeps the first
@@ -638,7 +755,7 @@ def suggest(index: DrawerIndex, osc: Oscillator, target_hz: float, accept_pct: f
             va, vb = res.values[ra], res.values[rb]
             if duty_pct is not None:
                 _, duty = astable_frequency(osc, va, vb, np.full(va.shape, 1e-6), diode)
-                keep = np.abs(duty - duty_pct) <= DUTY_ACCEPT_POINTS
+                keep = np.abs(duty - duty_pct) <= duty_within
                 ra, rb, va, vb = ra[keep], rb[keep], va[keep], vb[keep]
             c0 = 1.0 / (target_hz * LN2 * (va + (1.0 if diode else 2.0) * vb))
             c = _solve_capacitance(
