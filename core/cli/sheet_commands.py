@@ -99,8 +99,6 @@ def design_from_args(args: argparse.Namespace) -> Design:
         target = f"{format_frequency(args.band[0])} … {format_frequency(args.band[1])}"
     else:
         target = format_frequency(args.target)
-        if args.duty is not None:
-            target += f", {args.duty:g} % duty"
     notes += result.notes
     found = result.candidates
     if not found:

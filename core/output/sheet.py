@@ -281,7 +281,8 @@ def build_sheet(osc: Oscillator, candidate: Candidate | TrimCandidate, target: s
                 today: _dt.date | None = None) -> Sheet:
     """The build sheet for ``candidate`` on ``osc``.
 
-    ``target`` is the person's target as text (``1 kHz``, ``900 Hz … 1.1 kHz``);
+    ``target`` is the person's target as text (``1 kHz``, ``900 Hz … 1.1 kHz``; the duty
+    asked comes from the candidate and is stated beside the predicted one);
     ``stock`` the drawer's parts, to find the decoupling capacitors in it;
     ``ratings`` stock line -> voltage rating text (``voltage_ratings``), used
     to check polarised capacitors against the supply.
@@ -329,7 +330,11 @@ def build_sheet(osc: Oscillator, candidate: Candidate | TrimCandidate, target: s
         predictions += [("Predicted frequency", _hz(frequency)),
                         ("Error against target", format_signed_pct(float(candidate.error_pct)))]
     predictions.append(("Period", format_quantity(prediction.period_s, "period")))
-    predictions.append(("Duty cycle (output high)", f"{prediction.duty_pct:.1f} %"))
+    asked = None if trim else candidate.duty_asked_pct
+    duty_text = f"{prediction.duty_pct:.1f} %"
+    if asked is not None:
+        duty_text += f" (asked {asked:g} %, {prediction.duty_pct - asked:+.1f} points)"
+    predictions.append(("Duty cycle (output high)", duty_text))
     lo, hi = prediction.worst_case_hz
     where = " at the starting position" if trim else ""
     predictions.append((f"Worst case{where}", f"{_hz(lo)} … {_hz(hi)} (every tolerance "
@@ -343,7 +348,7 @@ def build_sheet(osc: Oscillator, candidate: Candidate | TrimCandidate, target: s
                     osc.vt_minus_v, supply)
 
     summary = [
-        ("Target", target),
+        ("Target", target + ("" if asked is None else f", duty {asked:g} %")),
         ("Circuit", "555 astable" + (" (diode-steered)" if steered else "")
          if osc.circuit == "555" else "Schmitt-trigger inverter RC oscillator"),
         ("Chip", f"{family.name} — {family.description}"),
@@ -359,9 +364,12 @@ def build_sheet(osc: Oscillator, candidate: Candidate | TrimCandidate, target: s
     # A trim candidate's notes restate its rotations, which the adjustment covers.
     notes = [] if trim else list(candidate.notes)
     warnings = list(dict.fromkeys([*prediction.warnings, *notes]))
+    # The title states the duty the build will give, never only the one asked for.
     title = (f"{TITLE_START}{target} "
              f"{'555 astable' if osc.circuit == '555' else 'Schmitt oscillator'}"
              f"{' with trimmer' if trim else ''}")
+    if asked is not None:
+        title += f", duty {prediction.duty_pct:.1f} % (asked {asked:g} %)"
     return Sheet(
         title=title,
         date=(today or _dt.date.today()).isoformat(),
