@@ -75,16 +75,30 @@ def _band(lo_hi: Sequence[float]) -> str:
 Column = tuple[str, str, Callable[[Any], str]]
 
 
-def _search_columns(keys: Sequence[str]) -> list[Column]:
+STOPS_MARK = "⚠ stops"
+STOPS_TIP = ("Stops oscillating at some tolerance, threshold or leakage corner: the worst "
+             "case starts at 0 Hz. Never counted as a hit; listed after every build that "
+             "runs at all corners.")
+
+
+def _worst_case(c: Any) -> str:
+    return f"{STOPS_MARK}  {_band(c.worst_case_hz)}" if c.stops else _band(c.worst_case_hz)
+
+
+def _search_columns(keys: Sequence[str], with_duty: bool) -> list[Column]:
     cols: list[Column] = [
         ("Frequency", "Predicted frequency with the nominal model",
          lambda c: format_frequency(c.frequency_hz, 4)),
         ("Error", "(predicted − target) / target", lambda c: format_signed_pct(c.error_pct)),
         ("Duty", "Share of each period the output is high",
          lambda c: f"{c.duty_pct:.1f} %"),
-        ("Worst case", "Frequency band over every tolerance and threshold corner",
-         lambda c: _band(c.worst_case_hz)),
     ]
+    if with_duty:
+        cols.append(("Duty error", "Predicted minus asked duty, in percentage points",
+                     lambda c: f"{c.duty_error_pct:+.1f} pt"))
+    cols.append(("Worst case", "Frequency band over every tolerance, threshold and leakage "
+                 f"corner; {STOPS_MARK} marks a build that stops at some corner",
+                 _worst_case))
     for key in keys:
         cols.append((NETWORK_HEADINGS.get(key, key),
                      f"The {key} network from your drawer\n{NOTATION}",
@@ -120,25 +134,23 @@ class CandidatesModel(QAbstractTableModel):
     def __init__(self, parent: Any = None):
         super().__init__(parent)
         self._candidates: list[Any] = []
-        self._columns: list[Column] = _search_columns(("R", "C"))
-        self._accept_pct: float | None = None
+        self._columns: list[Column] = _search_columns(("R", "C"), False)
         self.trim = False
         self.columns_changed = True
         """Whether the last ``set_result`` changed the columns (views refit them then)."""
 
-    def set_result(self, candidates: Sequence[Any], trim: bool,
-                   accept_pct: float | None = None) -> None:
+    def set_result(self, candidates: Sequence[Any], trim: bool) -> None:
         """Show ``candidates`` (core Candidate or TrimCandidate objects)."""
         self.beginResetModel()
         before = self.headings()
         self._candidates = list(candidates)
         self.trim = trim
-        self._accept_pct = accept_pct
         if trim:
             self._columns = _trim_columns()
         else:
             keys = list(self._candidates[0].networks) if self._candidates else ["R", "C"]
-            self._columns = _search_columns(keys)
+            with_duty = any(c.duty_asked_pct is not None for c in self._candidates)
+            self._columns = _search_columns(keys, with_duty)
         self.columns_changed = self.headings() != before
         self.endResetModel()
 
@@ -164,14 +176,17 @@ class CandidatesModel(QAbstractTableModel):
             return fmt(cand)
         if role == CANDIDATE_ROLE:
             return cand
+        stops = not self.trim and cand.stops
         if role == Qt.ItemDataRole.ToolTipRole:
             notes = list(getattr(cand, "notes", []) or [])
+            if stops and heading == "Worst case":
+                notes = [STOPS_TIP]
             return "\n".join([fmt(cand), *notes]) if notes else fmt(cand)
-        if role == Qt.ItemDataRole.ForegroundRole and heading == "Error":
-            ok = self._accept_pct is not None and abs(cand.error_pct) <= self._accept_pct
-            return QBrush(GOOD if ok else FAR)
+        if role == Qt.ItemDataRole.ForegroundRole and (
+                heading in ("Error", "Duty error") or (stops and heading == "Worst case")):
+            return QBrush(GOOD if not self.trim and cand.hit else FAR)
         if role == Qt.ItemDataRole.TextAlignmentRole and heading in (
-                "Frequency", "Error", "Duty"):
+                "Frequency", "Error", "Duty", "Duty error"):
             return int(Qt.AlignmentFlag.AlignRight | Qt.AlignmentFlag.AlignVCenter)
         return None
 

@@ -851,8 +851,7 @@ class MainWindow(QMainWindow):
         self._outcome = outcome
         result = outcome.result
         target = outcome.target
-        self.candidates.set_result(result.candidates, trim=target.trim,
-                                   accept_pct=None if target.trim else target.accept_pct)
+        self.candidates.set_result(result.candidates, trim=target.trim)
         notes = list(result.notes)  # core's notes already say what to buy, if anything
         self.notes.setText("\n".join(notes))
         self.notes.setVisible(bool(notes))
@@ -861,7 +860,7 @@ class MainWindow(QMainWindow):
         self.timing.setText(f"search {self.last_search_ms:.0f} ms")
         text = f"{count} candidate{'s' if count != 1 else ''} for {target.describe()}"
         if count and not target.trim:
-            hits = sum(abs(c.error_pct) <= target.accept_pct for c in result.candidates)
+            hits = sum(c.hit for c in result.candidates)
             text += f" ({hits} within ±{target.accept_pct:g} %)" if hits else (
                 f" (none within ±{target.accept_pct:g} %: see the notes)")
         self.say(text if count else "No candidate from this drawer; see the notes.")

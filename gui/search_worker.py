@@ -132,7 +132,8 @@ def compute(target: Target, parts: tuple[Part, ...], indexes: _Indexes,
     assert target.target_hz is not None
     result = search(list(parts), osc, target.target_hz, duty_pct=target.duty_pct,
                     max_resistors=target.max_resistors, max_capacitors=target.max_capacitors,
-                    accept_pct=target.accept_pct, top=TOP, index=index)
+                    accept_pct=target.accept_pct, top=TOP, index=index,
+                    duty_within=target.duty_within)
     return osc, result
 
 

@@ -76,7 +76,7 @@ class SheetActions:
                    "is made for the selected one.")
             return None
         drawer = w.drawer
-        return build_sheet(osc, candidate, target.describe(), stock=drawer.parts(),
+        return build_sheet(osc, candidate, target.describe(duty=False), stock=drawer.parts(),
                            ratings=voltage_ratings(drawer))
 
     def _start(self, name: str) -> str:

@@ -7,6 +7,7 @@ its tooltip, and the form reports no target until it is fixed.
 
 from __future__ import annotations
 
+import math
 from dataclasses import dataclass
 from typing import Any, Literal
 
@@ -14,6 +15,7 @@ from PySide6.QtCore import Qt, Signal
 from PySide6.QtGui import QAction
 from PySide6.QtWidgets import (
     QComboBox,
+    QDoubleSpinBox,
     QGridLayout,
     QHBoxLayout,
     QLabel,
@@ -63,6 +65,8 @@ class Target:
     calibration: str | None
     dielectrics: frozenset[str] | None = None
     """Capacitor dielectrics allowed (lower-case drawer names); None: any."""
+    duty_within: float = 1.0
+    """Duty error [percentage points] that still counts as a hit."""
 
     @property
     def trim(self) -> bool:
@@ -74,8 +78,9 @@ class Target:
 
         return tuple(with_dielectrics(parts, self.dielectrics))
 
-    def describe(self) -> str:
-        """Short words for titles and sheets: ``1.00 kHz ±1 %`` or ``band 400 Hz … 480 Hz``."""
+    def describe(self, duty: bool = True) -> str:
+        """Short words for titles and sheets: ``1.00 kHz ±1 %`` or ``band 400 Hz … 480 Hz``
+        (with the duty asked unless ``duty`` is False: a sheet states it beside its own)."""
         from core.units import format_frequency
 
         if self.band_hz is not None:
@@ -83,8 +88,8 @@ class Target:
             return f"band {format_frequency(lo)} … {format_frequency(hi)}"
         assert self.target_hz is not None
         text = f"{format_frequency(self.target_hz)} ±{self.accept_pct:g} %"
-        if self.duty_pct is not None:
-            text += f", duty {self.duty_pct:g} %"
+        if duty and self.duty_pct is not None:
+            text += f", duty {self.duty_pct:g} % ±{self.duty_within:g} points"
         return text
 
 
@@ -120,6 +125,13 @@ class TargetForm(QWidget):
         self.target = QLineEdit("1kHz")
         self.duty = QLineEdit()
         self.duty.setPlaceholderText("any")
+        self.duty_within = QDoubleSpinBox()
+        self.duty_within.setRange(0.1, 50.0)
+        self.duty_within.setDecimals(1)
+        self.duty_within.setSingleStep(0.5)
+        self.duty_within.setValue(1.0)
+        self.duty_within.setPrefix("± ")
+        self.duty_within.setSuffix(" points")
         self.accept = QLineEdit("1%")
         self.max_r = QSpinBox()
         self.max_r.setRange(1, 3)
@@ -156,6 +168,8 @@ class TargetForm(QWidget):
             self.mode: "Aim at one frequency, a period, or a band to trim over",
             self.target: MODES[0][3],
             self.duty: "555 only: wanted share of time high, e.g. 60% (empty: any)",
+            self.duty_within: "Duty error, in percentage points, that still counts as a hit "
+                              "(with a duty asked)",
             self.accept: "Candidates within this error come first, fewest parts first",
             self.max_r: "Most resistors combined (series or parallel) for one resistance",
             self.max_c: "Most capacitors combined (parallel or series) for one capacitance",
@@ -168,6 +182,7 @@ class TargetForm(QWidget):
         }
         names = {self.circuit: "circuit", self.family: "family", self.supply: "supply voltage",
                  self.mode: "target kind", self.target: "target", self.duty: "duty cycle",
+                 self.duty_within: "duty tolerance",
                  self.accept: "acceptable error", self.max_r: "resistors per network",
                  self.max_c: "capacitors per network", self.dielectric: "capacitor dielectrics",
                  self.calibration: "calibration",
@@ -202,7 +217,10 @@ class TargetForm(QWidget):
         target_box.addWidget(self.target, 1)
         grid.addLayout(target_box, 1, 1)
         grid.addWidget(label("&Duty", self.duty), 1, 2)
-        grid.addWidget(self.duty, 1, 3)
+        duty_box = QHBoxLayout()
+        duty_box.addWidget(self.duty, 1)
+        duty_box.addWidget(self.duty_within)
+        grid.addLayout(duty_box, 1, 3)
         grid.addWidget(label("&Error within", self.accept), 1, 4)
         grid.addWidget(self.accept, 1, 5)
         # Networks and calibration get rows of their own, so the form fits a 1024 px window.
@@ -229,7 +247,7 @@ class TargetForm(QWidget):
         self.mode.currentIndexChanged.connect(self._mode_changed)
         for edit in self._fields.values():
             edit.textChanged.connect(self._edited)
-        for widget in (self.max_r, self.max_c):
+        for widget in (self.max_r, self.max_c, self.duty_within):
             widget.valueChanged.connect(self._edited)
         self.calibration.currentIndexChanged.connect(self._edited)
         self.new_calibration.clicked.connect(self.sigNewCalibration.emit)
@@ -261,6 +279,7 @@ class TargetForm(QWidget):
         self.family.setCurrentIndex(max(0, self.family.findData(wanted)))
         self.family.blockSignals(False)
         self.duty.setEnabled(circuit == "555")
+        self.duty_within.setEnabled(circuit == "555")
         self._family_changed()
 
     def _family_changed(self) -> None:
@@ -362,7 +381,8 @@ class TargetForm(QWidget):
                       accept_pct=accept, max_resistors=self.max_r.value(),
                       max_capacitors=self.max_c.value(),
                       calibration=self.calibration.currentData(),
-                      dielectrics=self.dielectrics())
+                      dielectrics=self.dielectrics(),
+                      duty_within=self.duty_within.value())
 
     def _show_problems(self, problems: dict[str, str]) -> None:
         for key, edit in self._fields.items():
@@ -398,7 +418,8 @@ class TargetForm(QWidget):
         return {"circuit": self.circuit.currentData(), "family": self.family.currentData(),
                 "supply": self.supply.text(), "mode": self.mode.currentData(),
                 "target": self.target.text(), "duty": self.duty.text(),
-                "accept": self.accept.text(), "max_r": str(self.max_r.value()),
+                "accept": self.accept.text(), "duty_within": f"{self.duty_within.value():g}",
+                "max_r": str(self.max_r.value()),
                 "max_c": str(self.max_c.value()),
                 "calibration": self.calibration.currentData() or "",
                 "dielectrics": ",".join(a.text() for a, _ in self._dielectric_actions
@@ -425,3 +446,9 @@ class TargetForm(QWidget):
             ticked = set(str(state["dielectrics"]).split(","))
             for action, _ in self._dielectric_actions:
                 action.setChecked(action.text() in ticked)
+        try:
+            within = float(state.get("duty_within", "nan"))
+        except (TypeError, ValueError):
+            within = math.nan
+        if math.isfinite(within):  # missing or unreadable: keep the default
+            self.duty_within.setValue(within)

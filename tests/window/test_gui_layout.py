@@ -10,7 +10,13 @@ from __future__ import annotations
 import pytest
 from PySide6.QtCore import Qt
 from PySide6.QtGui import QKeySequence
-from PySide6.QtWidgets import QAbstractButton, QComboBox, QLineEdit, QSpinBox, QWidget
+from PySide6.QtWidgets import (
+    QAbstractButton,
+    QAbstractSpinBox,
+    QComboBox,
+    QLineEdit,
+    QWidget,
+)
 from support.gui_helpers import QUIET_OFFSCREEN
 
 from core.parts.drawer import Row
@@ -101,15 +107,16 @@ def test_delete_key_in_the_table_deletes_and_undo_brings_back(qtbot, window):
 
 def test_every_target_control_has_a_tooltip_and_a_name_and_tabs_in_reading_order(window):
     form = window.form
-    kinds = (QComboBox, QLineEdit, QSpinBox, QAbstractButton)
+    kinds = (QComboBox, QLineEdit, QAbstractSpinBox, QAbstractButton)
     controls = [w for w in form.findChildren(QWidget)
                 if isinstance(w, kinds) and w.parent() is form]
-    assert len(controls) >= 11
+    assert len(controls) >= 12
     for widget in controls:
         assert widget.toolTip().strip(), widget.accessibleName()
         assert widget.accessibleName().strip()
     order = [form.circuit, form.family, form.supply, form.mode, form.target, form.duty,
-             form.accept, form.max_r, form.max_c, form.calibration, form.new_calibration]
+             form.duty_within, form.accept, form.max_r, form.max_c, form.calibration,
+             form.new_calibration]
     chain, widget = [], form.circuit
     while len(chain) < 40:
         if widget in order and widget not in chain:
