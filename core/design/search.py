@@ -41,7 +41,7 @@ from typing import Any
 import numpy as np
 
 from core.errors import InputError
-from core.model.leakage import network_leakage_a
+from core.model.leakage import capacitor_leakage_a, network_leakage_a
 from core.model.spread import worst_case_hz
 from core.model.timing import (
     Oscillator,
@@ -384,34 +384,40 @@ def search(parts: list[Part], osc: Oscillator, target_hz: float, duty_pct: float
         return SearchResult(target_hz, limits, notes, [],
                             suggest(index, osc, target_hz, accept_pct, limits, max_resistors,
                                     max_capacitors, duty_pct, duty_within=duty_within))
-    # DESIGN.md: a target nothing in the drawer reaches gives an empty list. It is reached
-    # when builds land on both sides of it (or one within accept); otherwise every build
-    # misses on the same side and the closest is only the drawer's fastest or slowest.
     err = shortlist.error_pct
-    reached = bool(np.any(err >= -accept_pct) and np.any(err <= accept_pct))
+    reached = _reaches(err, accept_pct)
     candidates: list[Candidate] = []
+    stalled = False
     if reached:
         score = combined_error(err, accept_pct, shortlist.duty_error, duty_within)
         order, low = _oscillating_first(index, osc, shortlist, score, top,
                                         build_steadiness(index, shortlist.entries))
-        picked = _varied(order, shortlist.entries["C"], shortlist.r_sum, shortlist.c_values,
-                         top)
-        candidates = _candidates(index, osc, target_hz, shortlist, picked, score, duty_pct)
+        # Only builds that run at every corner count as reaching the target.
+        stalled = not _reaches(err[low > 0], accept_pct)
+        if not stalled:
+            picked = _varied(order, shortlist.entries["C"], shortlist.r_sum,
+                             shortlist.c_values, top)
+            candidates = _candidates(index, osc, target_hz, shortlist, picked, score,
+                                     duty_pct)
     suggestions: list[dict[str, Any]] = []
     if not any(c.hit for c in candidates):
-        closest = int(np.argmin(np.abs(err)))
-        best_error = candidates[0].error_pct if candidates else float(err[closest])
         wanted = ("" if duty_pct is None else
                   f" at {duty_pct:g} ± {duty_within:g} points of duty")
+        closest = int(np.argmin(np.abs(err)))
+        best_error = candidates[0].error_pct if candidates else float(err[closest])
         notes.append(f"nothing in the drawer is within ±{accept_pct:g} % of "
-                     f"{format_frequency(target_hz)}{wanted}"
-                     f"{' and oscillates at every corner' if candidates else ''}; the "
-                     f"closest is {format_signed_pct(best_error)}")
-        if reached and np.any((score <= 1.0) & (low == 0.0)):
+                     f"{format_frequency(target_hz)}{wanted} and oscillates at every corner; "
+                     f"the closest is {format_signed_pct(best_error)}")
+        if stalled:
+            notes.append(f"the builds that reach {format_frequency(target_hz)} (the closest "
+                         f"{format_signed_pct(float(err[closest]))}) stop oscillating at "
+                         "some tolerance, threshold or leakage corner, and none that runs at "
+                         "every corner reaches it, so none is listed")
+        elif reached and np.any((score <= 1.0) & (low == 0.0)):
             notes.append(f"builds within ±{accept_pct:g} %{wanted} exist but stop oscillating "
                          "at some tolerance, threshold or leakage corner, so none counts as "
                          "a hit; they come after every build that runs at all corners")
-        if not reached:
+        elif not reached:
             side = "faster" if best_error > 0 else "slower"
             notes.append(f"no build from the drawer reaches {format_frequency(target_hz)}: "
                          f"every one runs {side} (the closest at "
@@ -424,6 +430,12 @@ def search(parts: list[Part], osc: Oscillator, target_hz: float, duty_pct: float
             notes.append(f"buying {first['buy']['text']} ({first['buy']['series']}) would give "
                          f"{format_signed_pct(first['error_pct'])} with parts you have")
     return SearchResult(target_hz, limits, notes, candidates, suggestions)
+
+
+def _reaches(error_pct: np.ndarray, accept_pct: float) -> bool:
+    """DESIGN.md: a target is reached when builds land within accept or on both sides of it
+    (otherwise every build misses on the same side and the list is empty)."""
+    return bool(np.any(error_pct >= -accept_pct) and np.any(error_pct <= accept_pct))
 
 
 @dataclass
@@ -737,7 +749,8 @@ def suggest(index: DrawerIndex, osc: Oscillator, target_hz: float, accept_pct: f
             buy = np.clip(nearest(r, series), *BUY_RANGE["R"])
             buy = np.where((buy >= limits[0]) & (buy <= limits[1]), buy, np.nan)
             f, _ = schmitt_frequency(osc, buy, caps.values[ce])
-            options += _options(index, "R", buy, {"C": ce}, f, target_hz, series)
+            options += _options(index, osc, "R", buy, {"C": ce},
+                                {"R": buy, "C": caps.values[ce]}, f, target_hz, series)
         if osc.circuit == "schmitt" and len(res):
             re = res.entries(max_resistors, *limits)
             rv = res.values[re]
@@ -746,7 +759,8 @@ def suggest(index: DrawerIndex, osc: Oscillator, target_hz: float, accept_pct: f
                                    target_hz, c0)
             buy = np.clip(nearest(c, c_series), *BUY_RANGE["C"])
             f, _ = schmitt_frequency(osc, rv, buy)
-            options += _options(index, "C", buy, {"R": re}, f, target_hz, c_series)
+            options += _options(index, osc, "C", buy, {"R": re}, {"R": rv, "C": buy}, f,
+                                target_hz, c_series)
         if osc.circuit == "555" and len(res):
             singles = res.entries(1, *limits)
             ra, rb = (a.ravel() for a in np.meshgrid(singles, singles, indexing="ij"))
@@ -763,8 +777,8 @@ def suggest(index: DrawerIndex, osc: Oscillator, target_hz: float, accept_pct: f
                 target_hz, c0)
             buy = np.clip(nearest(c, c_series), *BUY_RANGE["C"])
             f, _ = astable_frequency(osc, va, vb, buy, diode)
-            options += _options(index, "C", buy, {"RA": ra, "RB": rb}, f, target_hz,
-                                c_series)
+            options += _options(index, osc, "C", buy, {"RA": ra, "RB": rb},
+                                {"RA": va, "RB": vb, "C": buy}, f, target_hz, c_series, diode)
         options.sort(key=lambda o: (o[0] > accept_pct, o[1] if o[0] <= accept_pct else 0, o[0]))
         chosen: list[dict[str, Any]] = []
         seen: set[tuple[str, float]] = set()
@@ -781,14 +795,24 @@ def suggest(index: DrawerIndex, osc: Oscillator, target_hz: float, accept_pct: f
     return best
 
 
-def _options(index: DrawerIndex, kind: str, buy: np.ndarray, owned: dict[str, np.ndarray],
-             f: np.ndarray, target_hz: float,
-             series: str) -> list[tuple[float, int, dict[str, Any]]]:
-    """The best few (|error|, owned parts, suggestion) of one way of buying."""
+BOUGHT_ELECTROLYTIC_F = 10e-6
+"""A capacitor to buy from this value up is taken as an aluminium electrolytic (film and
+ceramic parts are rare above it: common practice, no published source)."""
+
+
+def _options(index: DrawerIndex, osc: Oscillator, kind: str, buy: np.ndarray,
+             owned: dict[str, np.ndarray], values: dict[str, np.ndarray], f: np.ndarray,
+             target_hz: float, series: str,
+             diode: bool = False) -> list[tuple[float, int, dict[str, Any]]]:
+    """The best few (|error|, owned parts, suggestion) of one way of buying.
+
+    ``values`` are every role's values [Ω, F] per option. Options that stop at some
+    threshold or leakage corner (nominal part values) are left out.
+    """
     error = (f - target_hz) / target_hz * 100.0
     ok = np.flatnonzero(np.isfinite(error) & np.isfinite(buy))
     ok = ok[np.argsort(np.abs(error[ok]), kind="stable")][:20]
-    out = []
+    rows, nets = [], []
     for i in ok:
         taken: Counter[int] = Counter()
         networks = {}
@@ -797,6 +821,21 @@ def _options(index: DrawerIndex, kind: str, buy: np.ndarray, owned: dict[str, np
                 net_index = index.capacitors if role == "C" else index.resistors
                 (networks[role],) = net_index.nodes([int(entries[i])], taken)
         except InputError:
+            continue
+        rows.append(int(i))
+        nets.append(networks)
+    if not rows:
+        return []
+    leakage = np.array([network_leakage_a(n["C"], osc.supply_v) if "C" in n else
+                        float(capacitor_leakage_a(buy[i], "electrolytic" if buy[i]
+                                                  >= BOUGHT_ELECTROLYTIC_F else "",
+                                                  osc.supply_v))
+                        for i, n in zip(rows, nets, strict=True)])
+    low, _ = worst_case_hz(osc, {k: v[rows] for k, v in values.items()}, {},
+                           diode_steered=diode, capacitor_leakage_a=leakage)
+    out = []
+    for i, networks, runs in zip(rows, nets, np.atleast_1d(low) > 0, strict=True):
+        if not runs:
             continue
         role = "C" if kind == "C" else "R"
         out.append((abs(float(error[i])), sum(n.part_count for n in networks.values()), {
