@@ -27,6 +27,7 @@ from support.brute_force import (  # the plain loops, no engine code
     brute_force_best_555,
     combined,
 )
+from support.nodes import node_value
 from support.ranking_cases import (
     CLOSER,
     DUTY_DRAWER,
@@ -40,8 +41,12 @@ from support.ranking_cases import (
 from core.cli import main
 from core.cli.search_commands import STOPS_MARK
 from core.design.search import STOPS_NOTE, search
+from core.model.leakage import capacitor_leakage_a
+from core.model.spread import worst_case_hz
+from core.model.timing import make_oscillator
 from core.output.sheet import build_sheet
-from core.parts.drawer import Part
+from core.parts.drawer import Part, read_drawer
+from core.storage.locations import demo_drawer_path
 
 
 @pytest.mark.parametrize("max_parts", [1, 2])
@@ -184,3 +189,26 @@ def test_cli_marks_builds_that_stop(capsys: pytest.CaptureFixture[str], tmp_path
     marked = [line for line in table.splitlines() if STOPS_MARK in line]
     assert marked and any(line.startswith(f"{STOPS_MARK}:") for line in marked)
     assert any("680 Ω" in line for line in marked)
+
+
+def test_a_slow_target_lists_no_build_the_leakage_stops() -> None:
+    # The case: at 0.001 Hz the demo drawer's closest builds use large aluminium
+    # electrolytics with megaohms. The data-sheet leakage limit I <= 0.01 C V (C in µF, V in
+    # volts, I in µA) allows 47 µA for 940 µF at 5 V, about 47 V across 1 MΩ: far more than
+    # the supply, so such a build stops at its leakage corner and is never listed as a hit.
+    osc = make_oscillator("schmitt", "74HC14", 5.0)
+    parts = read_drawer(demo_drawer_path()).parts()
+    result = search(parts, osc, 0.001)
+    assert 0.01 * 940 * 5.0 * 1e-6 * 1e6 > 5.0  # the rule: 47 µA through 1 MΩ ≫ 5 V
+    assert not any(c.hit for c in result.candidates)
+    assert all(not c.stops for c in result.candidates)
+    assert any("stop oscillating" in n for n in result.notes)
+    # What to buy: each capacitor to buy runs at every threshold and leakage corner too.
+    buy_c = [s for s in result.suggestions if s["buy"]["kind"] == "C"]
+    assert buy_c
+    for s in buy_c:
+        r = node_value(s["with"]["R"], {p.stock_line: p for p in parts})
+        c = s["buy"]["value"]
+        leak = capacitor_leakage_a(c, "electrolytic" if c >= 10e-6 else "", 5.0)
+        low, _ = worst_case_hz(osc, {"R": r, "C": c}, {}, capacitor_leakage_a=leak)
+        assert low > 0
