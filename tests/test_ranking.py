@@ -27,7 +27,6 @@ from support.brute_force import (  # the plain loops, no engine code
     brute_force_best_555,
     combined,
 )
-from support.nodes import node_value
 from support.ranking_cases import (
     CLOSER,
     DUTY_DRAWER,
@@ -41,12 +40,12 @@ from support.ranking_cases import (
 from core.cli import main
 from core.cli.search_commands import STOPS_MARK
 from core.design.search import STOPS_NOTE, search
-from core.model.leakage import capacitor_leakage_a
 from core.model.spread import worst_case_hz
 from core.model.timing import make_oscillator
 from core.output.sheet import build_sheet
 from core.parts.drawer import Part, read_drawer
 from core.storage.locations import demo_drawer_path
+from core.units import Tolerance
 
 
 @pytest.mark.parametrize("max_parts", [1, 2])
@@ -203,12 +202,26 @@ def test_a_slow_target_lists_no_build_the_leakage_stops() -> None:
     assert not any(c.hit for c in result.candidates)
     assert all(not c.stops for c in result.candidates)
     assert any("stop oscillating" in n for n in result.notes)
-    # What to buy: each capacitor to buy runs at every threshold and leakage corner too.
-    buy_c = [s for s in result.suggestions if s["buy"]["kind"] == "C"]
-    assert buy_c
-    for s in buy_c:
-        r = node_value(s["with"]["R"], {p.stock_line: p for p in parts})
-        c = s["buy"]["value"]
-        leak = capacitor_leakage_a(c, "electrolytic" if c >= 10e-6 else "", 5.0)
-        low, _ = worst_case_hz(osc, {"R": r, "C": c}, {}, capacitor_leakage_a=leak)
-        assert low > 0
+    # Nothing to buy helps either: a capacitor from 10 µF up is an electrolytic with the
+    # same leakage, and a smaller film one needs R above 1 / (0.001 Hz × 10 µF) = 100 MΩ
+    # (f ≈ 1/RC to a factor near 1, textbook RC timing), far beyond the 74HC14's 2.2 MΩ.
+    assert osc.device.r_max_ohm * 10 < 1 / (0.001 * 10e-6)
+    assert result.suggestions == []
+
+
+def test_what_to_buy_never_suggests_a_capacitor_whose_leakage_stops_the_build() -> None:
+    # 2.2 MΩ and 0.01 Hz want about 62 µF (E12): an aluminium electrolytic, whose
+    # data-sheet leakage limit max(0.01 C V, 3 µA) (C in µF, V in volts, I in µA) is
+    # 3.1 µA at 5 V and drops 6.8 V across 2.2 MΩ, more than the supply: that build would
+    # stop at its leakage corner, so it is not suggested.
+    osc = make_oscillator("schmitt", "74HC14", 5.0)
+    parts = [Part("R", 2.2e6, Tolerance(0.05, 0.05), 1, line=2),
+             Part("C", 1e-9, Tolerance(0.1, 0.1), 1, line=3)]
+    leakage = max(0.01 * 62 * 5.0, 3.0) * 1e-6
+    assert leakage * 2.2e6 > 5.0
+    low, _ = worst_case_hz(osc, {"R": 2.2e6, "C": 62e-6}, {}, capacitor_leakage_a=leakage)
+    assert low == 0.0  # the model agrees that it stops
+    result = search(parts, osc, 0.01)
+    assert all(s["buy"]["value"] < 10e-6 or s["buy"]["kind"] == "R"
+               for s in result.suggestions)
+    assert not any(30e-6 < s["buy"]["value"] < 120e-6 for s in result.suggestions)
