@@ -337,5 +337,5 @@ def test_of_two_equally_good_builds_the_steadier_ranks_first() -> None:
     # Combined errors at the default 1 % accept are the errors in per cent.
     order = _rank_order(np.array([0.101, 0.104, 0.3]), parts_used, steadiness=steady)
     assert order.tolist() == [1, 0, 2]
-    order = _rank_order(np.array([0.101, 0.12, 0.3]), parts_used, 1.0, steadiness=steady)
+    order = _rank_order(np.array([0.101, 0.12, 0.3]), parts_used, steadiness=steady)
     assert order.tolist() == [0, 1, 2]
