@@ -33,6 +33,7 @@ from support.ranking_cases import (
     LS14,
     NE555,
     STALL_DRAWER,
+    STALL_TARGET,
     TARGET,
     TRUER,
 )
@@ -92,8 +93,8 @@ def test_first_row_with_a_duty_is_never_beaten_by_brute_force(target: float, dut
 
 
 def test_a_build_that_stops_at_a_corner_is_never_a_hit() -> None:
-    result = search(STALL_DRAWER, LS14, 181.6, max_resistors=1, max_capacitors=1,
-                    accept_pct=5.0, top=20)
+    result = search(STALL_DRAWER, LS14, STALL_TARGET, max_resistors=1, max_capacitors=1,
+                    top=20)
     stalls = [c for c in result.candidates if c.values["R"] == 680.0]
     assert stalls and all(c.stops and not c.hit for c in stalls)
     nearest = stalls[0]
@@ -109,8 +110,8 @@ def test_a_build_that_stops_at_a_corner_is_never_a_hit() -> None:
 
 
 @pytest.mark.parametrize(("target", "max_r", "max_c", "accept"),
-                         [(181.6, 1, 1, 5.0), (181.6, 2, 2, 5.0), (200.0, 2, 2, 1.0),
-                          (120.0, 2, 2, 2.0)])
+                         [(STALL_TARGET, 1, 1, 5.0), (STALL_TARGET, 2, 2, 5.0), (260.0, 2, 2, 1.0),
+                          (150.0, 2, 2, 2.0)])
 def test_first_row_with_stopping_builds_is_never_beaten_by_brute_force(
         target: float, max_r: int, max_c: int, accept: float) -> None:
     result = search(STALL_DRAWER, LS14, target, max_resistors=max_r, max_capacitors=max_c,
@@ -181,7 +182,7 @@ def test_cli_marks_builds_that_stop(capsys: pytest.CaptureFixture[str], tmp_path
     path.write_text("\n".join(rows) + "\n", encoding="utf-8")
     status, text, err = run_cli(capsys, "search", "--stock", str(path), "--circuit", "schmitt",
                                 "--family", "74LS14", "--supply", "5V", "--vt-plus", "1.7",
-                                "--vt-minus", "0.25", "--target", "181.6", "--accept", "5",
+                                "--vt-minus", "0.3", "--target", str(STALL_TARGET), "--accept", "5",
                                 "--max-resistors", "1", "--max-capacitors", "1", "--top", "20")
     assert status == 0, err
     table = text.split("where the parts are:")[0]

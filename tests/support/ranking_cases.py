@@ -35,9 +35,10 @@ TARGET = 457.5
 NE555 = make_oscillator("555", "NE555", 9.0)
 
 
-# A 74LS14 with measured thresholds 1.7 V / 0.25 V: its input current (IT−) through R
-# holds the node above 0.25 V once R passes about 685 Ω, so 680 Ω ±5 % stops at its high
-# corner although it oscillates nominally (182 Hz with 1 µF).
-LS14 = make_oscillator("schmitt", "74LS14", 5.0, vt_plus=1.7, vt_minus=0.25)
+# A 74LS14 with measured thresholds 1.7 V / 0.3 V: its input current (IT−) through R
+# holds the node above 0.3 V once R passes about 700 Ω, so 680 Ω ±5 % stops at its high
+# corner although it oscillates nominally (237 Hz with 1 µF).
+LS14 = make_oscillator("schmitt", "74LS14", 5.0, vt_plus=1.7, vt_minus=0.3)
+STALL_TARGET = 237.1
 STALL_DRAWER = (lines("R", [680.0, 470.0, 330.0], FIVE, 2, quantity=1)
                 + lines("C", [1e-6, 2.2e-6, 3.3e-6, 1.5e-6], TEN, 6, quantity=1))

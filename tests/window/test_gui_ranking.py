@@ -11,7 +11,7 @@ from __future__ import annotations
 import pytest
 from PySide6.QtCore import Qt
 from support.gui_helpers import QUIET_OFFSCREEN, search_done, search_with
-from support.ranking_cases import LS14, STALL_DRAWER
+from support.ranking_cases import LS14, STALL_DRAWER, STALL_TARGET
 
 from core.design.search import search
 from core.model.timing import make_oscillator
@@ -52,7 +52,7 @@ def test_duty_tolerance_reaches_the_search_and_the_duty_error_is_shown(qtbot, wi
 
 
 def test_a_build_that_stops_is_marked_with_a_reason(qtmodeltester):
-    result = search(STALL_DRAWER, LS14, 181.6, max_resistors=1, max_capacitors=1,
+    result = search(STALL_DRAWER, LS14, STALL_TARGET, max_resistors=1, max_capacitors=1,
                     accept_pct=5.0, top=20)
     model = CandidatesModel()
     model.set_result(result.candidates, trim=False)
