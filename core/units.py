@@ -287,22 +287,77 @@ def parse_percent(text: str, *, allow_zero: bool = True, what: str = "percentage
     return value
 
 
-def parse_band(text: str) -> tuple[float, float]:
-    """A frequency band ``400..480``, ``400 Hz..480 Hz`` or ``1k-2k``: (low, high) in Hz."""
+def split_range(text: str, what: str, example: str) -> tuple[str, str]:
+    """``LO..HI`` (also ``…``, `` to ``, ``–``) as its two texts; InputError naming ``example``."""
     s = text.strip() if isinstance(text, str) else ""
     for sep in ("..", "…", " to ", "–"):
         if sep in s:
             lo_text, hi_text = s.split(sep, 1)
-            break
-    else:
-        raise InputError("expected a band such as 400..480 or 1k..2kHz", text=text,
-                         what="band")
-    lo, hi = parse_frequency(lo_text), parse_frequency(hi_text)
+            return lo_text, hi_text
+    raise InputError(f"expected a {what} such as {example}", text=text, what=what)
+
+
+def _ordered(lo: float, hi: float, text: str, what: str) -> tuple[float, float]:
     if lo > hi:
         lo, hi = hi, lo
     if lo == hi:
-        raise InputError("the band's ends must differ", text=text, what="band")
+        raise InputError(f"the {what}'s ends must differ", text=text, what=what)
     return lo, hi
+
+
+def parse_band(text: str) -> tuple[float, float]:
+    """A frequency band ``400..480``, ``400 Hz..480 Hz`` or ``1k-2k``: (low, high) in Hz."""
+    lo_text, hi_text = split_range(text, "band", "400..480 or 1k..2kHz")
+    return _ordered(parse_frequency(lo_text), parse_frequency(hi_text), text, "band")
+
+
+def parse_voltage_range(text: str) -> tuple[float, float]:
+    """A supply range ``3..4.5``, ``2.7V..3.3V``: (low, high) in V, both above zero."""
+    lo_text, hi_text = split_range(text, "supply range", "3..4.5V")
+    lo, hi = _ordered(parse_voltage(lo_text), parse_voltage(hi_text), text, "supply range")
+    if not lo > 0:
+        raise InputError("a supply must be above zero", text=text, what="supply range")
+    return lo, hi
+
+
+# °C unless a unit says otherwise; the names pint knows for each scale (° dropped first).
+_TEMPERATURE_UNITS = {
+    **dict.fromkeys(("", "c", "degc", "celsius"), "degC"),
+    **dict.fromkeys(("f", "degf", "fahrenheit"), "degF"),
+    **dict.fromkeys(("k", "kelvin"), "kelvin"),
+}
+_TEMPERATURE = re.compile(rf"^(?P<num>[+-]?{_NUMBER})\s*(?P<unit>[a-zA-Z]*)$", re.ASCII)
+
+
+_TEMPERATURE_UNIT = re.compile(r"°?[a-zA-Z]+\s*$")
+
+
+def parse_temperature(text: str) -> float:
+    """A temperature ``-30``, ``85 °C``, ``104degF``, ``300K`` in °C (pint converts the scale)."""
+    s = compatible_text(text) if isinstance(text, str) else ""
+    m = _TEMPERATURE.match(s.replace("°", "").replace("\u2212", "-").strip())
+    unit = _TEMPERATURE_UNITS.get(m["unit"].lower()) if m else None
+    if not m or unit is None:
+        raise InputError("expected a temperature such as -30, 85°C, 104degF or 300K",
+                         text=text, what="temperature")
+    value = float(m["num"])
+    if unit != "degC":
+        value = round(float(registry().Quantity(value, unit).to("degC").magnitude), 9)
+    if not (math.isfinite(value) and value >= -273.15):
+        raise InputError("a temperature must be above absolute zero", text=text,
+                         what="temperature")
+    return value
+
+
+def parse_temperature_range(text: str) -> tuple[float, float]:
+    """``-30..85``, ``32..104degF`` (a unit on either end applies to both): (low, high) in °C."""
+    lo_text, hi_text = split_range(text, "temperature range", "-30..85 or 32..104degF")
+    given = [m[0] for t in (hi_text, lo_text) if (m := _TEMPERATURE_UNIT.search(t))]
+    if given:
+        lo_text, hi_text = (t if _TEMPERATURE_UNIT.search(t) else t + given[0]
+                            for t in (lo_text, hi_text))
+    return _ordered(parse_temperature(lo_text), parse_temperature(hi_text), text,
+                    "temperature range")
 
 
 # ---------------------------------------------------------------- tolerances

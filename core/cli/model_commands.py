@@ -11,6 +11,7 @@ from typing import Any
 
 from core.cli.circuit_options import add_circuit_options, oscillator_from_args
 from core.cli.common import add_json_option, arg_type, emit, percent_arg, value_arg
+from core.cli.drift_options import add_drift_options, drift_lines, drift_result
 from core.errors import InputError, TickbinError
 from core.model.calibration import (
     ADVICE,
@@ -24,6 +25,7 @@ from core.model.calibration import (
     save_calibration,
 )
 from core.model.devices import device_table
+from core.model.drift import case_name, effective_capacitance
 from core.model.spread import monte_carlo
 from core.model.timing import Oscillator, default_tolerances, predict
 from core.storage.atomic import read_regular_file
@@ -50,6 +52,13 @@ def register(commands: argparse._SubParsersAction) -> None:
     tol.add_argument("--dielectric", choices=_DIELECTRICS, default="",
                      help="capacitor dielectric: sets its default tolerance and the "
                      "electrolytic warnings")
+    tol.add_argument("--c-voltage", type=value_arg("voltage"), metavar="V",
+                     help="the capacitor's rated voltage: a class-2 ceramic (X7R, X5R, Y5V, "
+                     "Z5U) then loses capacitance under its DC bias (typical curves)")
+    tol.add_argument("--case", type=arg_type(case_name, "case"), metavar="CASE",
+                     help="the ceramic capacitor's case for its DC-bias loss: 0402, 0603, "
+                     "0805 (default), 1206, 1210, 1812, radial")
+    add_drift_options(pred)
     pred.add_argument("--draws", type=int, default=10_000, metavar="N",
                       help="Monte Carlo builds for the 95 %% spread (default 10000)")
     add_json_option(pred)
@@ -147,9 +156,13 @@ def run_predict(args: argparse.Namespace) -> int:
         tolerances["C"] = args.c_tolerance
     if not 100 <= args.draws <= 1_000_000:
         raise InputError("--draws must be between 100 and 1000000")
-    pred = predict(osc, values, tolerances, diode_steered=args.diode_steered,
+    c_seen, bias_notes = effective_capacitance(osc, values["C"], args.dielectric,
+                                               args.c_voltage, args.case)
+    seen = {**values, "C": c_seen}
+    pred = predict(osc, seen, tolerances, diode_steered=args.diode_steered,
                    dielectric=args.dielectric)
-    mc = monte_carlo(osc, values, tolerances, n=args.draws, seed=0,
+    pred.warnings.extend(bias_notes)
+    mc = monte_carlo(osc, seen, tolerances, n=args.draws, seed=0,
                      diode_steered=args.diode_steered)
     result = pred.to_json()
     result.update({
@@ -163,6 +176,12 @@ def run_predict(args: argparse.Namespace) -> int:
         "spread_95_hz": list(mc.interval_95), "draws": args.draws,
         "within_worst_case_pct": 100 * mc.fraction_within(*pred.worst_case_hz),
     })
+    if bias_notes:
+        result["effective_c_f"] = c_seen
+    drift, drift_warnings = drift_result(args, osc, seen, args.dielectric, tolerances,
+                                         args.diode_steered)
+    result.update(drift)
+    result["warnings"].extend(drift_warnings)
     return emit(args, result, _predict_text)
 
 
@@ -190,6 +209,7 @@ def _predict_text(r: dict[str, Any]) -> str:
         f"  worst case      {f(lo, 'frequency')} … {f(hi, 'frequency')}   ({tol}{spread})",
         f"  95 % of builds  {f(s_lo, 'frequency')} … {f(s_hi, 'frequency')}   "
         f"(Monte Carlo, {r['draws']:,} draws)",
+        *drift_lines(r),
     ]
     if r["warnings"]:
         rows.append("warnings:")

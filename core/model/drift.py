@@ -1,0 +1,328 @@
+"""How a built oscillator drifts: temperature, supply, DC bias and age of its parts.
+
+The tolerance band says where a new build lands at room temperature; this
+module says where that same build goes when it warms up, when its battery
+sags, and what a class-2 ceramic capacitor does under its own DC voltage and
+with age. Every figure below names its source or says "from memory".
+
+Temperature: each part's relative change (ΔC/C, ΔR/R) against temperature is
+an envelope, a table of (°C, lowest, highest) points interpolated linearly, so
+its extremes over a range lie on the range's ends or the table's points.
+Temperatures are in °C (the trade's datum, 25 °C the reference); coefficients
+are per kelvin. The frequency falls with every R and C, so the slowest build
+at a temperature has every part at its envelope's top and the fastest at its
+bottom.
+
+References: EIA-198 (ceramic dielectric class codes); the device data sheets
+named per family; P. Horowitz and W. Hill, The Art of Electronics, 3rd ed.,
+§1.2.2 and §1.4.1 (resistor and capacitor types).
+"""
+
+from __future__ import annotations
+
+import math
+from collections.abc import Mapping
+from dataclasses import dataclass, replace
+
+import numpy as np
+
+from core.errors import InputError, SetupError
+from core.model.timing import Oscillator, frequency, make_oscillator
+
+REFERENCE_C = 25.0
+"""The temperature [°C] at which values, tolerances and data-sheet typicals are given."""
+
+
+@dataclass(frozen=True)
+class Envelope:
+    """A part's relative change against temperature: (°C, lowest, highest) points."""
+
+    points: tuple[tuple[float, float, float], ...]
+    source: str
+
+    @property
+    def rated_c(self) -> tuple[float, float]:
+        """The temperature range [°C] the envelope covers (its rated range)."""
+        return self.points[0][0], self.points[-1][0]
+
+    def change(self, temp_c: float | np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+        """(lowest, highest) relative change [1] at ``temp_c`` [°C]; held at the ends outside."""
+        t, lo, hi = (np.array(col, dtype=float) for col in zip(*self.points, strict=True))
+        return np.interp(temp_c, t, lo), np.interp(temp_c, t, hi)
+
+
+def coefficient(ppm_lo: float, ppm_hi: float, rated_c: tuple[float, float],
+                source: str) -> Envelope:
+    """A linear temperature coefficient between ``ppm_lo`` and ``ppm_hi`` [ppm/K]."""
+    def at(t: float) -> tuple[float, float, float]:
+        a, b = ppm_lo * 1e-6 * (t - REFERENCE_C), ppm_hi * 1e-6 * (t - REFERENCE_C)
+        return (t, min(a, b), max(a, b))
+    return Envelope((at(rated_c[0]), at(REFERENCE_C), at(rated_c[1])), source)
+
+
+def class_limit(minus_pct: float, plus_pct: float, rated_c: tuple[float, float],
+                source: str) -> Envelope:
+    """An EIA-198 class-2 code: the change stays within −minus…+plus % over ``rated_c``.
+
+    The standard bounds the change anywhere in the rated range, not its shape;
+    we let the limit grow linearly from 0 at 25 °C to the full limit at the
+    range's ends (our assumption: typical curves stay well inside it near room
+    temperature, from memory of makers' typical curves).
+    """
+    lo_c, hi_c = rated_c
+    return Envelope(((lo_c, -minus_pct / 100, plus_pct / 100), (REFERENCE_C, 0.0, 0.0),
+                     (hi_c, -minus_pct / 100, plus_pct / 100)), source)
+
+
+def widest(*envelopes: Envelope, source: str) -> Envelope:
+    """The envelope holding all of ``envelopes`` (a part that may be any one of them)."""
+    temps = sorted({p[0] for e in envelopes for p in e.points})
+    changes = [e.change(np.array(temps)) for e in envelopes]
+    lo = np.min([c[0] for c in changes], axis=0)
+    hi = np.max([c[1] for c in changes], axis=0)
+    return Envelope(tuple((t, float(a), float(b)) for t, a, b in zip(temps, lo, hi,
+                                                                     strict=True)), source)
+
+
+_EIA = "EIA-198 class code"
+POLYESTER = coefficient(200, 600, (-55, 105), "polyester (PET) film: +200…+600 ppm/K, "
+                        "typical, from memory of film capacitor data sheets")
+POLYPROPYLENE = coefficient(-300, -100, (-55, 105), "polypropylene film: −100…−300 ppm/K, "
+                            "typical, from memory of film capacitor data sheets")
+CAPACITOR_DRIFT: dict[str, Envelope] = {
+    "c0g": coefficient(-30, 30, (-55, 125), f"{_EIA} C0G: 0 ± 30 ppm/K, −55…125 °C"),
+    "x7r": class_limit(15, 15, (-55, 125), f"{_EIA} X7R: ±15 % over −55…125 °C"),
+    "x5r": class_limit(15, 15, (-55, 85), f"{_EIA} X5R: ±15 % over −55…85 °C"),
+    "y5v": class_limit(82, 22, (-30, 85), f"{_EIA} Y5V: +22/−82 % over −30…85 °C"),
+    "z5u": class_limit(56, 22, (10, 85), f"{_EIA} Z5U: +22/−56 % over +10…85 °C"),
+    # A drawer says "film" without the plastic: the envelope of both common ones.
+    "film": widest(POLYESTER, POLYPROPYLENE, source="film of unknown plastic: the envelope "
+                   "of polyester (PET) and polypropylene, −55…105 °C (typical, from memory)"),
+    "electrolytic": Envelope(((-40, -0.30, -0.10), (-25, -0.20, -0.05), (REFERENCE_C, 0, 0),
+                              (85, 0.02, 0.10), (105, 0.03, 0.12)),
+                             "aluminium electrolytic: typical capacitance-against-"
+                             "temperature curves, from memory of makers' data sheets "
+                             "(−10…−30 % at −40 °C, up to +12 % at 105 °C)"),
+    "tantalum": Envelope(((-55, -0.10, -0.04), (REFERENCE_C, 0, 0), (85, 0.04, 0.08),
+                          (125, 0.06, 0.12)),
+                         "solid tantalum: typical curves, from memory of makers' data "
+                         "sheets (about −10 % at −55 °C, +12 % at 125 °C)"),
+}
+CAPACITOR_DRIFT["np0"] = CAPACITOR_DRIFT["c0g"]
+# An unmarked ceramic is assumed as poor as Y5V (as in core.parts.drawer's stability ranks).
+CAPACITOR_DRIFT[""] = replace(CAPACITOR_DRIFT["y5v"],
+                              source="unmarked ceramic taken as Y5V: " +
+                              CAPACITOR_DRIFT["y5v"].source)
+
+RESISTOR_DRIFT: dict[str, Envelope] = {
+    "metal film": coefficient(-50, 50, (-55, 155), "metal film: ±50 ppm/K, typical data-sheet "
+                              "TCR class, from memory"),
+    "carbon film": coefficient(-500, -200, (-55, 155), "carbon film: −200…−500 ppm/K, "
+                               "typical, from memory (higher values drift more)"),
+}
+POT_DRIFT = coefficient(-100, 100, (-55, 125), "cermet trimmer: ±100 ppm/K, typical, "
+                        "from memory of trimmer data sheets")
+
+CHIP_DRIFT_PPM_PER_K: dict[str, tuple[float, str]] = {
+    "NE555": (150.0, "TI NE555 data sheet, electrical characteristics: astable timing "
+              "interval drift 150 ppm/°C typical (from memory)"),
+}
+"""The chip's own frequency drift ± [ppm/K] where its data sheet gives one. None is
+given for the Schmitt inverters (their data sheets give threshold limits over
+−40…85 °C, already in the worst case, and no coefficient) nor for the CMOS 555s:
+those chips add no drift here."""
+
+
+def resistor_kind(tolerance_pct: float) -> str:
+    """Metal film at 2 % or better, else carbon film (common practice, no published source)."""
+    return "metal film" if tolerance_pct <= 2.0 + 1e-9 else "carbon film"
+
+
+def part_envelopes(values: Mapping[str, float], dielectric: str,
+                   resistor: str = "carbon film") -> dict[str, Envelope]:
+    """The temperature envelope of each part key (``R``, ``RA``, ``RB``, ``P``, ``C``)."""
+    if dielectric not in CAPACITOR_DRIFT:
+        raise InputError(f"no temperature data for the dielectric {dielectric!r}")
+    return {k: CAPACITOR_DRIFT[dielectric] if k == "C" else POT_DRIFT if k == "P"
+            else RESISTOR_DRIFT[resistor] for k in values}
+
+
+def _temperatures(lo_c: float, hi_c: float, envelopes: Mapping[str, Envelope]) -> np.ndarray:
+    """The range's ends and every table point inside it: where the extremes can lie."""
+    inside = [p[0] for e in envelopes.values() for p in e.points if lo_c < p[0] < hi_c]
+    return np.unique(np.array([lo_c, hi_c, *inside], dtype=float))
+
+
+def drift_ranges(values: Mapping[str, float], envelopes: Mapping[str, Envelope],
+                 lo_c: float, hi_c: float) -> dict[str, tuple[float, float]]:
+    """Per key, the (lowest, highest) factor [1] its part reaches over lo_c…hi_c [°C]."""
+    temps = _temperatures(lo_c, hi_c, envelopes)
+    out = {}
+    for k in values:
+        lo, hi = envelopes[k].change(temps)
+        out[k] = (1.0 + float(lo.min()), 1.0 + float(hi.max()))
+    return out
+
+
+def chip_factor(osc: Oscillator, lo_c: float, hi_c: float) -> float:
+    """The chip's own relative frequency drift ± [1] over lo_c…hi_c [°C] (0 if none given)."""
+    ppm = CHIP_DRIFT_PPM_PER_K.get(osc.family.name, (0.0, ""))[0]
+    return ppm * 1e-6 * max(abs(lo_c - REFERENCE_C), abs(hi_c - REFERENCE_C))
+
+
+def temperature_hz(osc: Oscillator, values: Mapping[str, float], lo_c: float, hi_c: float,
+                   envelopes: Mapping[str, Envelope], diode_steered: bool = False
+                   ) -> tuple[float, float]:
+    """(lowest, highest) frequency [Hz] of the nominal parts over lo_c…hi_c [°C].
+
+    Nominal thresholds; each part at its envelope's top (slowest) or bottom
+    (fastest) at every table temperature in the range; the chip's own drift on top.
+    """
+    temps = _temperatures(lo_c, hi_c, envelopes)
+    slow, fast = {}, {}
+    for k, v in values.items():
+        lo, hi = envelopes[k].change(temps)
+        slow[k], fast[k] = v * (1.0 + hi), v * (1.0 + lo)
+    chip = chip_factor(osc, lo_c, hi_c)
+    f_slow = frequency(osc, slow, diode_steered)
+    f_fast = frequency(osc, fast, diode_steered)
+    if np.isnan(f_slow).any() or np.isnan(f_fast).any():
+        return 0.0, float(np.nanmax(f_fast)) * (1 + chip)
+    return float(f_slow.min()) * (1 - chip), float(f_fast.max()) * (1 + chip)
+
+
+def out_of_rating(envelopes: Mapping[str, Envelope], lo_c: float, hi_c: float) -> list[str]:
+    """Warnings for parts taken outside the temperatures their figures cover."""
+    out = []
+    for k, e in envelopes.items():
+        a, b = e.rated_c
+        if lo_c < a - 1e-9 or hi_c > b + 1e-9:
+            out.append(f"{k}: {lo_c:g}…{hi_c:g} °C goes beyond the {a:g}…{b:g} °C its "
+                       f"figures cover ({e.source}); the drift there is held at the ends")
+    return out
+
+
+# ---------------------------------------------------------------- supply
+
+def at_supply(osc: Oscillator, supply_v: float) -> Oscillator:
+    """The same chip and thresholds at ``supply_v`` [V].
+
+    Table thresholds are interpolated over supply by the device table; a
+    calibration gives its own for the new supply; thresholds typed in by hand
+    scale with the supply (CMOS and 555 thresholds are ratios of the supply,
+    common practice, no published source).
+    """
+    new = make_oscillator(osc.circuit, osc.family, supply_v, calibration=osc.calibration,
+                          stray_capacitance_f=osc.stray_capacitance_f, load_ohm=osc.load_ohm)
+    if osc.thresholds_given and osc.calibration is None:
+        scale = supply_v / osc.supply_v
+        new = new.with_thresholds(osc.vt_plus_v * scale, osc.vt_minus_v * scale)
+    return replace(new, steering_diode=osc.steering_diode)
+
+
+def check_supply_range(osc: Oscillator, lo_v: float, hi_v: float) -> None:
+    """SetupError unless lo_v…hi_v [V] lies inside the family's supply range."""
+    a, b = osc.family.supply_range_v
+    if lo_v < a - 1e-9 or hi_v > b + 1e-9:
+        raise SetupError(f"supply range {lo_v:g}…{hi_v:g} V goes outside the "
+                         f"{osc.family.name}'s {a:g}…{b:g} V")
+
+
+def supply_oscillators(osc: Oscillator, lo_v: float, hi_v: float) -> list[Oscillator]:
+    """The oscillator at the range's ends, every listed supply inside and a fine grid.
+
+    Between listed supplies the table is linear but the frequency is not, so a
+    grid of 16 steps catches a bend.
+    """
+    check_supply_range(osc, lo_v, hi_v)
+    listed = [v for v in osc.family.supplies_v if lo_v < v < hi_v]
+    grid = np.unique(np.concatenate([np.linspace(lo_v, hi_v, 17), listed]))
+    return [at_supply(osc, float(v)) for v in grid]
+
+
+def supply_hz(osc: Oscillator, values: Mapping[str, float], lo_v: float, hi_v: float,
+              diode_steered: bool = False) -> tuple[float, float]:
+    """(lowest, highest) frequency [Hz] of the nominal parts for supplies lo_v…hi_v [V]."""
+    f = np.array([float(frequency(o, values, diode_steered))
+                  for o in supply_oscillators(osc, lo_v, hi_v)])
+    if np.isnan(f).any():
+        return 0.0, float(np.nanmax(f)) if not np.isnan(f).all() else 0.0
+    return float(f.min()), float(f.max())
+
+
+# ---------------------------------------------------------------- DC bias and age
+
+CLASS_2 = frozenset({"x7r", "x5r", "y5v", "z5u", ""})
+
+DC_BIAS_LOSS_AT_RATED: dict[str, float] = {
+    "0402": 0.75, "0603": 0.65, "0805": 0.55, "1206": 0.45, "1210": 0.35, "1812": 0.30,
+    "radial": 0.25,
+}
+"""X7R/X5R capacitance lost at the rated DC voltage, by case [1]: typical, from memory of
+makers' published DC-bias characteristic curves (smaller cases use thinner layers and lose
+more). Y5V and Z5U lose ``HIGH_K_LOSS_AT_RATED`` whatever the case (from memory)."""
+HIGH_K_LOSS_AT_RATED = 0.80
+DEFAULT_CASE = "0805"
+"""Case assumed when the drawer does not give one (common practice, no published source:
+the commonest hand-soldered chip size)."""
+# Shape of the typical curve: loss as a share of the loss at rated voltage against
+# V / V_rated (from memory of makers' typical curves: flat at first, steepening).
+_BIAS_SHAPE = ((0.0, 0.0), (0.25, 0.2), (0.5, 0.5), (1.0, 1.0))
+
+AGEING_PCT_PER_DECADE: dict[str, float] = {"x7r": 2.5, "x5r": 5.0, "y5v": 7.0, "z5u": 7.0,
+                                           "": 7.0}
+"""Class-2 capacitance lost per decade of hours since the last heating above the Curie
+point (soldering) [%]: X7R ~2.5, Y5V ~7 (makers' ageing notes, from memory); X5R 5 and
+Z5U 7 from memory; unmarked ceramic as Y5V. Class 1 and film do not age this way."""
+
+
+def case_name(text: str) -> str:
+    """A case as typed (``0805``, ``Radial``, ``leaded``) in our name; InputError if unknown."""
+    name = text.strip().lower()
+    name = "radial" if name in ("leaded", "through-hole", "tht", "axial") else name
+    if name not in DC_BIAS_LOSS_AT_RATED:
+        raise InputError("expected a case: " + ", ".join(DC_BIAS_LOSS_AT_RATED),
+                         text=text, what="case")
+    return name
+
+
+def dc_bias_factor(dielectric: str, bias_v: float | np.ndarray, rated_v: float | np.ndarray,
+                   case: str = DEFAULT_CASE) -> np.ndarray:
+    """Effective capacitance / marked capacitance [1] at ``bias_v`` [V] DC (typical curves).
+
+    1 for class 1, film and electrolytics (their DC-bias change is small).
+    """
+    if dielectric not in CLASS_2:
+        return np.ones_like(np.asarray(bias_v, dtype=float))
+    full = (DC_BIAS_LOSS_AT_RATED[case] if dielectric in ("x7r", "x5r")
+            else HIGH_K_LOSS_AT_RATED)
+    x, share = zip(*_BIAS_SHAPE, strict=True)
+    ratio = np.clip(np.asarray(bias_v, dtype=float) / rated_v, 0.0, 1.0)
+    return 1.0 - full * np.interp(ratio, x, share)
+
+
+def ageing_factor(dielectric: str, hours: float | np.ndarray) -> np.ndarray:
+    """Capacitance after ``hours`` [h] / capacitance at 1 h [1] (log-linear ageing)."""
+    rate = AGEING_PCT_PER_DECADE.get(dielectric, 0.0) / 100
+    return 1.0 - rate * np.log10(np.maximum(np.asarray(hours, dtype=float), 1.0))
+
+
+def timing_bias_v(osc: Oscillator) -> float:
+    """The DC voltage [V] the timing capacitor sits at: about the thresholds' midpoint."""
+    return 0.5 * (osc.vt_plus_v + osc.vt_minus_v)
+
+
+def effective_capacitance(osc: Oscillator, c_f: float, dielectric: str,
+                          rated_v: float | None, case: str | None) -> tuple[float, list[str]]:
+    """The capacitance [F] the circuit sees under its DC bias, and notes saying so."""
+    if dielectric not in CLASS_2 or rated_v is None:
+        return c_f, []
+    if not (math.isfinite(rated_v) and rated_v > 0):
+        raise InputError("a capacitor's rated voltage must be above zero")
+    bias = timing_bias_v(osc)
+    case = case or DEFAULT_CASE
+    factor = float(dc_bias_factor(dielectric, bias, rated_v, case))
+    shown = dielectric.upper() or "unmarked ceramic"
+    return c_f * factor, [f"{shown} {case} rated {rated_v:g} V at {bias:.2g} V DC: about "
+                          f"{100 * (1 - factor):.0f} % less capacitance (typical DC-bias "
+                          "curve, from memory of makers' curves)"]
