@@ -197,3 +197,61 @@ def test_predict_applies_dc_bias(tmp_path):
     assert biased["effective_c_f"] < 1e-6
     assert biased["frequency_hz"] > plain["frequency_hz"]
     assert math.isclose(biased["values"]["C"], 1e-6)
+
+
+def _drawer(tmp_path, rows):
+    path = tmp_path / "drawer.csv"
+    path.write_text("kind,value,tolerance,quantity,dielectric\n" + "\n".join(rows) + "\n",
+                    encoding="utf-8")
+    return str(path)
+
+
+def _lines(node):
+    """Stock lines of a network as the JSON gives it (DESIGN.md NODE)."""
+    if "line" in node:
+        return {node["line"]}
+    return set().union(*(_lines(n) for n in node.get("series", node.get("parallel", []))))
+
+
+def test_search_worst_case_widens_by_the_parts_drift(tmp_path):
+    stock = _drawer(tmp_path, ["R,10k,1%,5,", "C,10n,5%,5,C0G"])
+    base = ("search", "--stock", stock, "--target", "7kHz", "--accept", "50", "--json")
+    plain = json.loads(run_tickbin(tmp_path, *base).stdout)["candidates"][0]
+    hot = json.loads(run_tickbin(tmp_path, *base, "--temperature=25..85").stdout)
+    wide = hot["candidates"][0]
+    # Metal film ±50 ppm/K (1 % resistor), C0G ±30 ppm/K (EIA-198) over 60 K; f ∝ 1/RC
+    # (textbook), so each end moves by about that product.
+    drift_low = (1 + 50e-6 * 60) * (1 + 30e-6 * 60)
+    assert wide["worst_case_hz"][0] == pytest.approx(plain["worst_case_hz"][0] / drift_low,
+                                                     rel=2e-4)
+    assert wide["worst_case_hz"][1] > plain["worst_case_hz"][1]
+    assert any("25…85 °C" in n for n in hot["notes"])
+
+
+def test_a_steadier_capacitor_wins_a_tie(tmp_path):
+    # Same value in X7R and C0G: equal error and part count; C0G drifts less (EIA-198).
+    stock = _drawer(tmp_path, ["R,10k,1%,5,", "C,10n,5%,5,X7R", "C,10n,5%,5,C0G"])
+    out = json.loads(run_tickbin(tmp_path, "search", "--stock", stock, "--target", "7kHz",
+                                 "--accept", "50", "--temperature=-20..70", "--json").stdout)
+    first = out["candidates"][0]
+    assert _lines(first["networks"]["C"]) == {4}  # the C0G line
+
+
+def test_trim_designs_cover_their_band_over_the_range(tmp_path):
+    rows = ["R,15k,1%,5,", "R,12k,1%,5,", "P,10k,10%,2,"]
+    base = ("trim", "--band", "700..800", "--vt-plus", "2.6", "--vt-minus", "1.7", "--json")
+    c0g = _drawer(tmp_path, [*rows, "C,100n,5%,5,C0G"])
+    out = json.loads(run_tickbin(tmp_path, *base, "--stock", c0g,
+                                 "--temperature=-20..70").stdout)
+    assert out["candidates"], out["notes"]
+    for cand in out["candidates"]:
+        lo, hi = cand["guaranteed_hz"]
+        assert lo <= 700 and hi >= 800
+    # The same design in X7R covers the band at room temperature but not over −20…70 °C:
+    # the EIA-198 X7R code lets C move by several per cent there, more than the margin.
+    x7r = _drawer(tmp_path, [*rows, "C,100n,5%,5,X7R"])
+    assert json.loads(run_tickbin(tmp_path, *base, "--stock", x7r).stdout)["candidates"]
+    out = json.loads(run_tickbin(tmp_path, *base, "--stock", x7r,
+                                 "--temperature=-20..70").stdout)
+    assert out["candidates"] == []
+    assert any("no longer cover the band over -20…70 °C" in n for n in out["notes"])

@@ -22,8 +22,11 @@ from core.cli.common import (
     percent_arg,
     value_arg,
 )
+from core.cli.drift_options import add_drift_options
+from core.design.robust import ROBUST_DEPTH, robust_search, robust_trim
 from core.design.search import DUTY_WITHIN_POINTS, Candidate, SearchResult, search
 from core.design.trim import TrimCandidate, TrimResult, trim
+from core.model.drift import Conditions
 from core.model.timing import Oscillator
 from core.parts.drawer import (
     Drawer,
@@ -91,6 +94,7 @@ def add_design_options(parser: argparse.ArgumentParser, search_required: bool = 
                         metavar="LIST",
                         help="only capacitors of these dielectrics, e.g. film,c0g (C0G, NP0, "
                         "film, X7R, X5R, Y5V, Z5U, tantalum, electrolytic; default: any)")
+    add_drift_options(parser)
 
 
 def read_stock(args: argparse.Namespace) -> tuple[Drawer, list[str]]:
@@ -105,14 +109,19 @@ def find_designs(args: argparse.Namespace, osc: Oscillator, parts: list[Part],
                  top: int) -> SearchResult | TrimResult:
     """The trim (``--band``) or search (``--target``) the options describe."""
     parts = with_dielectrics(parts, args.dielectric)
+    conditions = Conditions(args.temperature, args.supply_range)
     if getattr(args, "band", None) is not None:
+        # Over a range some designs fall out: look deeper, keep ``top``.
         result: SearchResult | TrimResult = trim(
-            parts, osc, args.band, top=top, max_resistors=args.max_resistors,
+            parts, osc, args.band, top=top * ROBUST_DEPTH if conditions else top,
+            max_resistors=args.max_resistors,
             max_capacitors=args.max_capacitors)
     else:
         result = search(parts, osc, args.target, duty_pct=args.duty,
                         max_resistors=args.max_resistors, max_capacitors=args.max_capacitors,
                         accept_pct=args.accept, top=top, duty_within=args.duty_within)
+    result = (robust_trim(osc, result, conditions, top) if isinstance(result, TrimResult)
+              else robust_search(osc, result, conditions))
     if args.dielectric is not None:
         result.notes.insert(0, dielectric_note(args.dielectric))
     return result

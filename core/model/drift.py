@@ -23,6 +23,7 @@ from __future__ import annotations
 import math
 from collections.abc import Mapping
 from dataclasses import dataclass, replace
+from typing import Any
 
 import numpy as np
 
@@ -248,6 +249,64 @@ def supply_hz(osc: Oscillator, values: Mapping[str, float], lo_v: float, hi_v: f
     if np.isnan(f).any():
         return 0.0, float(np.nanmax(f)) if not np.isnan(f).all() else 0.0
     return float(f.min()), float(f.max())
+
+
+# ---------------------------------------------------------------- worst case
+
+@dataclass(frozen=True)
+class Conditions:
+    """Where a build must keep working: temperatures [°C] and supplies [V] (None: as built)."""
+
+    temperature_c: tuple[float, float] | None = None
+    supply_v: tuple[float, float] | None = None
+
+    def __bool__(self) -> bool:
+        return self.temperature_c is not None or self.supply_v is not None
+
+    def describe(self) -> str:
+        """The conditions in words, for notes."""
+        parts = []
+        if self.temperature_c is not None:
+            parts.append(f"{self.temperature_c[0]:g}…{self.temperature_c[1]:g} °C")
+        if self.supply_v is not None:
+            parts.append(f"a {self.supply_v[0]:g}…{self.supply_v[1]:g} V supply")
+        return " and ".join(parts)
+
+
+def conditions_oscillators(osc: Oscillator, conditions: Conditions) -> list[Oscillator]:
+    """The oscillators a supply range spans (just ``osc`` without one)."""
+    if conditions.supply_v is None:
+        return [osc]
+    return supply_oscillators(osc, *conditions.supply_v)
+
+
+def drifted_ranges(ranges: Mapping[str, tuple[float, float]], conditions: Conditions,
+                   envelopes: Mapping[str, Envelope]) -> dict[str, tuple[float, float]]:
+    """Tolerance ranges stretched by each part's drift over the temperature range."""
+    if conditions.temperature_c is None:
+        return dict(ranges)
+    factors = drift_ranges(ranges, envelopes, *conditions.temperature_c)
+    return {k: (lo * factors[k][0], hi * factors[k][1]) for k, (lo, hi) in ranges.items()}
+
+
+def conditions_chip_factor(osc: Oscillator, conditions: Conditions) -> float:
+    """The chip's own drift ± [1] over the conditions' temperatures (0 without them)."""
+    return 0.0 if conditions.temperature_c is None else chip_factor(osc, *conditions.temperature_c)
+
+
+def drift_worst_case(osc: Oscillator, values: Mapping[str, float],
+                     ranges: Mapping[str, tuple[float, float]], conditions: Conditions,
+                     envelopes: Mapping[str, Envelope], **kwargs: Any) -> tuple[float, float]:
+    """``worst_case_hz`` over the conditions too: every supply corner, each part's range
+    stretched by its temperature drift, and the chip's own drift on the ends."""
+    from core.model.spread import worst_case_hz
+
+    stretched = drifted_ranges(ranges, conditions, envelopes)
+    ends = [worst_case_hz(o, values, stretched, **kwargs)
+            for o in conditions_oscillators(osc, conditions)]
+    chip = conditions_chip_factor(osc, conditions)
+    return (float(min(lo for lo, _ in ends)) * (1 - chip),
+            float(max(hi for _, hi in ends)) * (1 + chip))
 
 
 # ---------------------------------------------------------------- DC bias and age
