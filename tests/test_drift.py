@@ -255,3 +255,32 @@ def test_trim_designs_cover_their_band_over_the_range(tmp_path):
                                  "--temperature=-20..70").stdout)
     assert out["candidates"] == []
     assert any("no longer cover the band over -20…70 °C" in n for n in out["notes"])
+
+
+def test_sheet_prints_the_drift_lines():
+    from core.design.robust import robust_search
+    from core.design.search import search
+    from core.model.drift import Conditions
+    from core.output.sheet import build_sheet
+    from core.parts.drawer import Part
+    from core.units import Tolerance
+
+    osc = make_oscillator("schmitt", "74HC14", 5.0)
+    parts = [Part("R", 10e3, Tolerance(0.01, 0.01), 5, line=2),
+             Part("C", 100e-9, Tolerance(0.05, 0.05), 5, dielectric="x7r", line=3)]
+    conditions = Conditions((-10.0, 50.0), (4.5, 5.5))
+    result = robust_search(osc, search(parts, osc, 1440.0, accept_pct=20), conditions)
+    rows = dict(build_sheet(osc, result.candidates[0], "1.44 kHz",
+                            conditions=conditions).predictions)
+    assert "Nominal parts over -10…50 °C" in rows and "Nominal parts over 4.5…5.5 V" in rows
+    assert rows["Worst case over -10…50 °C and a 4.5…5.5 V supply"].endswith(
+        "(tolerances, thresholds and drift)")
+    plain = dict(build_sheet(osc, result.candidates[0], "1.44 kHz").predictions)
+    assert not any(k.startswith("Nominal parts over") for k in plain)
+    # X7R over −10…50 °C: the EIA-198 limit reached linearly by 25 K of the 80 K down to
+    # −55 °C is 15 % × 35/80; ideal f ∝ 1/C (textbook), so the nominal line's low end is
+    # about the nominal frequency / (1 + 0.066 + resistor drift).
+    f0 = float(frequency(osc, {"R": 10e3, "C": 100e-9}))
+    lo = drift.temperature_hz(osc, {"R": 10e3, "C": 100e-9}, -10, 50,
+                              drift.part_envelopes({"R": 1, "C": 1}, "x7r", "metal film"))[0]
+    assert lo == pytest.approx(f0 / ((1 + 0.15 * 35 / 80) * (1 + 50e-6 * 35)), rel=3e-3)

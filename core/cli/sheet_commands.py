@@ -19,6 +19,7 @@ from core.cli.search_commands import add_design_options, find_designs, read_stoc
 from core.design.search import Candidate
 from core.design.trim import TrimCandidate
 from core.errors import InputError, SetupError, TickbinError
+from core.model.drift import Conditions
 from core.model.timing import Oscillator
 from core.output.netlist import (
     model_prediction,
@@ -129,7 +130,8 @@ def run_sheet(args: argparse.Namespace) -> int:
         design = design_from_args(args)
         drawer = design.drawer
         sheet = build_sheet(design.osc, design.candidate, design.target, stock=drawer.parts(),
-                            ratings=voltage_ratings(drawer))
+                            ratings=voltage_ratings(drawer),
+                            conditions=Conditions(args.temperature, args.supply_range))
         pages = renderer(sheet, out, page_size=args.page_size)
         taken = []
         if args.take:

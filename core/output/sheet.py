@@ -17,10 +17,12 @@ from typing import Any
 
 import numpy as np
 
+from core.design.robust import network_envelope
 from core.design.search import Candidate
 from core.design.trim import TrimCandidate, frequency_at_rotation, pot_resistance, rotation_for
 from core.errors import InputError
 from core.model.diode import SMALL_SIGNAL_DIODE
+from core.model.drift import Conditions, supply_hz, temperature_hz
 from core.model.spread import monte_carlo
 from core.model.timing import Oscillator, predict, waveform
 from core.output.schematic import Network, Schematic, astable_schematic, schmitt_schematic
@@ -278,14 +280,15 @@ def _parts_list(osc: Oscillator, schematic: Schematic, networks: Mapping[str, No
 
 def build_sheet(osc: Oscillator, candidate: Candidate | TrimCandidate, target: str, *,
                 stock: Sequence[Part] = (), ratings: Mapping[int, str] | None = None,
-                today: _dt.date | None = None) -> Sheet:
+                today: _dt.date | None = None, conditions: Conditions | None = None) -> Sheet:
     """The build sheet for ``candidate`` on ``osc``.
 
     ``target`` is the person's target as text (``1 kHz``, ``900 Hz … 1.1 kHz``; the duty
     asked comes from the candidate and is stated beside the predicted one);
     ``stock`` the drawer's parts, to find the decoupling capacitors in it;
     ``ratings`` stock line -> voltage rating text (``voltage_ratings``), used
-    to check polarised capacitors against the supply.
+    to check polarised capacitors against the supply; ``conditions`` the
+    temperature and supply ranges the build must work over (their drift lines).
     """
     trim = isinstance(candidate, TrimCandidate)
     family = osc.family
@@ -339,6 +342,8 @@ def build_sheet(osc: Oscillator, candidate: Candidate | TrimCandidate, target: s
     where = " at the starting position" if trim else ""
     predictions.append((f"Worst case{where}", f"{_hz(lo)} … {_hz(hi)} (every tolerance "
                                               "and threshold corner)"))
+    predictions += _drift_rows(osc, candidate, model_values, conditions or Conditions(),
+                               steered)
     mc = monte_carlo(osc, model_values, model_tol, n=MONTE_CARLO_DRAWS, seed=0, **extra)
     m_lo, m_hi = mc.interval_95
     predictions.append((f"95 % of builds{where}", f"{_hz(m_lo)} … {_hz(m_hi)} (Monte Carlo, "
@@ -389,6 +394,34 @@ def build_sheet(osc: Oscillator, candidate: Candidate | TrimCandidate, target: s
         cautions=_cautions(take, ratings or {}, supply),
         take=tuple(take),
     )
+
+
+def _drift_rows(osc: Oscillator, candidate: Candidate | TrimCandidate,
+                model_values: Mapping[str, float], conditions: Conditions, steered: bool
+                ) -> list[tuple[str, str]]:
+    """The drift lines: nominal parts over the temperature and supply ranges, and the
+    worst case (or the trim's guaranteed band) over them (core.model.drift)."""
+    if not conditions:
+        return []
+    rows = []
+    if conditions.temperature_c is not None:
+        lo_c, hi_c = conditions.temperature_c
+        envelopes = {k: network_envelope(k, n) for k, n in candidate.networks.items()}
+        lo, hi = temperature_hz(osc, model_values, lo_c, hi_c, envelopes, steered)
+        rows.append((f"Nominal parts over {lo_c:g}…{hi_c:g} °C", f"{_hz(lo)} … {_hz(hi)}"))
+    if conditions.supply_v is not None:
+        lo_v, hi_v = conditions.supply_v
+        lo, hi = supply_hz(osc, model_values, lo_v, hi_v, steered)
+        rows.append((f"Nominal parts over {lo_v:g}…{hi_v:g} V", f"{_hz(lo)} … {_hz(hi)}"))
+    if isinstance(candidate, TrimCandidate):
+        lo, hi = candidate.guaranteed_hz
+        rows.append((f"Reached by every build over {conditions.describe()}",
+                     f"{_hz(lo)} … {_hz(hi)}"))
+    else:
+        lo, hi = candidate.worst_case_hz
+        rows.append((f"Worst case over {conditions.describe()}",
+                     f"{_hz(lo)} … {_hz(hi)} (tolerances, thresholds and drift)"))
+    return rows
 
 
 def refs_of(schematic: Schematic, kind: str) -> str:
