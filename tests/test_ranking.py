@@ -199,7 +199,10 @@ def test_a_slow_target_lists_no_build_the_leakage_stops() -> None:
     osc = make_oscillator("schmitt", "74HC14", 5.0)
     parts = read_drawer(demo_drawer_path()).parts()
     result = search(parts, osc, 0.001)
-    assert 0.01 * 940 * 5.0 * 1e-6 * 1e6 > 5.0  # the rule: 47 µA through 1 MΩ ≫ 5 V
+    # The model agrees with the rule for the build the old search ranked first.
+    limit_a = 0.01 * 940 * 5.0 * 1e-6  # the data-sheet limit in amperes: 47 µA
+    low, _ = worst_case_hz(osc, {"R": 1.47e6, "C": 940e-6}, {}, capacitor_leakage_a=limit_a)
+    assert low == 0.0
     assert not any(c.hit for c in result.candidates)
     assert all(not c.stops for c in result.candidates)
     assert any("stop oscillating" in n for n in result.notes)
