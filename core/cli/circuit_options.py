@@ -12,20 +12,22 @@ import argparse
 
 from core.cli.common import value_arg
 from core.model.calibration import load_calibration
+from core.model.circuits import CIRCUITS, DEFAULT_CIRCUIT
+from core.model.circuits.base import DEFAULT_STRAY_F, Oscillator
 from core.model.devices import device_table
-from core.model.timing import DEFAULT_FAMILY, DEFAULT_STRAY_F, Oscillator, make_oscillator
+from core.model.timing import make_oscillator
 
 DEFAULT_SUPPLY_V = 5.0
 
 
 def add_circuit_options(parser: argparse.ArgumentParser) -> None:
     group = parser.add_argument_group("circuit")
-    group.add_argument("--circuit", choices=("schmitt", "555"),
+    group.add_argument("--circuit", choices=tuple(CIRCUITS),
                        help="Schmitt-trigger inverter or 555 astable (default: the family's; "
                        "else schmitt)")
     group.add_argument("--family", metavar="NAME",
                        help="device table entry, e.g. 74HC14, CD40106B, NE555, TLC555 "
-                       f"(default {DEFAULT_FAMILY['schmitt']} or {DEFAULT_FAMILY['555']})")
+                       f"(default {' or '.join(c.default_family for c in CIRCUITS.values())})")
     group.add_argument("--supply", type=value_arg("voltage"), metavar="V",
                        help=f"supply voltage (default {DEFAULT_SUPPLY_V:g} V, or the "
                        "calibration's)")
@@ -59,7 +61,7 @@ def oscillator_from_args(args: argparse.Namespace) -> Oscillator:
         family_name = family_name or calibration.family
         supply = supply if supply is not None else calibration.supply_v
     if family_name is None:
-        family_name = DEFAULT_FAMILY[circuit or "schmitt"]
+        family_name = (CIRCUITS[circuit] if circuit else DEFAULT_CIRCUIT).default_family
     family = device_table().family(family_name)
     if circuit is None:
         circuit = family.circuit

@@ -122,7 +122,7 @@ def _add_part_options(parser: argparse.ArgumentParser) -> None:
 
 
 def _values(osc: Oscillator, args: argparse.Namespace) -> dict[str, float]:
-    if osc.circuit == "schmitt":
+    if osc.circuit.name == "schmitt":
         given = {"R": args.r, "C": args.c}
         flags = "--r R --c C"
     else:
@@ -166,7 +166,7 @@ def run_predict(args: argparse.Namespace) -> int:
                      diode_steered=args.diode_steered)
     result = pred.to_json()
     result.update({
-        "circuit": osc.circuit, "family": osc.family.name, "supply_v": osc.supply_v,
+        "circuit": osc.circuit.name, "family": osc.family.name, "supply_v": osc.supply_v,
         "values": values, "diode_steered": bool(args.diode_steered),
         "tolerances": {k: [t.minus * 100, t.plus * 100] for k, t in tolerances.items()},
         "vt_plus_v": osc.vt_plus_v, "vt_minus_v": osc.vt_minus_v,
@@ -255,7 +255,7 @@ def _measurement_rows(path: str) -> Iterator[tuple[int, dict[str, str]]]:
 
 
 def _read_measurements(path: str, osc: Oscillator) -> list[Measurement]:
-    keys = ("r", "c") if osc.circuit == "schmitt" else ("ra", "rb", "c")
+    keys = ("r", "c") if osc.circuit.name == "schmitt" else ("ra", "rb", "c")
     out = []
     for line, row in _measurement_rows(path):
         try:

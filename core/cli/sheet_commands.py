@@ -176,7 +176,7 @@ def run_netlist(args: argparse.Namespace) -> int:
     pred = model_prediction(design.osc, design.candidate, args.rotation)
     model = {"frequency_hz": pred.frequency_hz, "period_s": pred.period_s,
              "duty_pct": pred.duty_pct}
-    result: dict[str, Any] = {"out": str(out), "circuit": design.osc.circuit,
+    result: dict[str, Any] = {"out": str(out), "circuit": design.osc.circuit.name,
                               "family": design.osc.family.name, "model": model,
                               "candidate": design.candidate.to_json(), "notes": design.notes}
     if args.simulate:

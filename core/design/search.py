@@ -353,7 +353,7 @@ def search(parts: list[Part], osc: Oscillator, target_hz: float, duty_pct: float
     if duty_pct is not None and not 0 < duty_pct < 100:
         raise InputError("a duty cycle lies between 0 and 100 %", text=str(duty_pct),
                          what="duty")
-    if duty_pct is not None and osc.circuit != "555":
+    if duty_pct is not None and osc.circuit.name != "555":
         raise InputError("--duty applies to the 555 astable; a Schmitt inverter's duty follows "
                          "from its thresholds", text=str(duty_pct), what="duty")
     if index is None or not index.covers(max_resistors, max_capacitors):
@@ -371,7 +371,7 @@ def search(parts: list[Part], osc: Oscillator, target_hz: float, duty_pct: float
         missing = "resistors" if not len(index.resistors) else "capacitors"
         notes.append(f"the drawer has no {missing} in stock, so nothing can be built")
         return SearchResult(target_hz, limits, notes, [])
-    if osc.circuit == "555":
+    if osc.circuit.name == "555":
         shortlist = _shortlist_555(index, osc, target_hz, duty_pct, max_resistors,
                                    max_capacitors, limits, notes, top, accept_pct, duty_within)
     else:
@@ -688,7 +688,7 @@ def _candidates(index: DrawerIndex, osc: Oscillator, target_hz: float, s: _Short
         if s.diode_steered:
             notes.append("diode-steered astable: a diode across RB (anode at pin 7) so RA "
                          "alone charges C")
-        out.append(Candidate(osc.circuit, vals, networks, prediction.frequency_hz,
+        out.append(Candidate(osc.circuit.name, vals, networks, prediction.frequency_hz,
                              (prediction.frequency_hz - target_hz) / target_hz * 100.0,
                              prediction.duty_pct, prediction.worst_case_hz, s.diode_steered,
                              notes, duty_pct, bool(score[i] <= 1.0) and not stops))
@@ -743,7 +743,7 @@ def suggest(index: DrawerIndex, osc: Oscillator, target_hz: float, accept_pct: f
     for series in BUY_SERIES:
         c_series = series if series in CAPACITOR_SERIES else CAPACITOR_SERIES[-1]
         options: list[tuple[float, int, dict[str, Any]]] = []
-        if osc.circuit == "schmitt" and len(caps):
+        if osc.circuit.name == "schmitt" and len(caps):
             ce = caps.entries(max_capacitors)
             r = schmitt_resistance(osc, target_hz, caps.values[ce], limits)
             buy = np.clip(nearest(r, series), *BUY_RANGE["R"])
@@ -751,7 +751,7 @@ def suggest(index: DrawerIndex, osc: Oscillator, target_hz: float, accept_pct: f
             f, _ = schmitt_frequency(osc, buy, caps.values[ce])
             options += _options(index, osc, "R", buy, {"C": ce},
                                 {"R": buy, "C": caps.values[ce]}, f, target_hz, series)
-        if osc.circuit == "schmitt" and len(res):
+        if osc.circuit.name == "schmitt" and len(res):
             re = res.entries(max_resistors, *limits)
             rv = res.values[re]
             c0 = 1.0 / (target_hz * rv)  # f ≈ 1/(RC) to start; refined with the model
@@ -761,7 +761,7 @@ def suggest(index: DrawerIndex, osc: Oscillator, target_hz: float, accept_pct: f
             f, _ = schmitt_frequency(osc, rv, buy)
             options += _options(index, osc, "C", buy, {"R": re}, {"R": rv, "C": buy}, f,
                                 target_hz, c_series)
-        if osc.circuit == "555" and len(res):
+        if osc.circuit.name == "555" and len(res):
             singles = res.entries(1, *limits)
             ra, rb = (a.ravel() for a in np.meshgrid(singles, singles, indexing="ij"))
             fits = ~res.overused(ra, rb)

@@ -215,7 +215,8 @@ def fit(osc: Oscillator, measurements: Sequence[Measurement], name: str | None =
     """
     import numpy as np  # loaded on first fit: listing calibrations needs none
 
-    from core.model.timing import check_values, frequency, uniform_sum_sigma
+    from core.model.circuits.base import uniform_sum_sigma
+    from core.model.timing import check_values, frequency
 
     if not measurements:
         raise InputError("a calibration needs at least one measurement")
@@ -269,7 +270,7 @@ def fit(osc: Oscillator, measurements: Sequence[Measurement], name: str | None =
         warnings.append(f"with R {tol['R']} and C {tol['C']} parts, predictions made with "
                         f"this calibration are uncertain by ±{100 * uncertainty:.1f} % "
                         f"(1 sigma); {ADVICE}")
-    return Calibration(name=name, family=d.family.name, circuit=osc.circuit,
+    return Calibration(name=name, family=d.family.name, circuit=osc.circuit.name,
                        supply_v=d.supply_v, vt_plus_v=float(a), vt_minus_v=float(b),
                        scale=scale, mode="both" if both else "ratio",
                        residual_pct=residual_pct, table_vt_plus_v=a0, table_vt_minus_v=b0,

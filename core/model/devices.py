@@ -19,8 +19,9 @@ from typing import Any, Literal
 
 from core.errors import InputError, SetupError, TickbinError
 
-Circuit = Literal["schmitt", "555"]
-CIRCUITS: tuple[Circuit, ...] = ("schmitt", "555")
+CircuitName = Literal["schmitt", "555"]
+CIRCUIT_NAMES: tuple[CircuitName, ...] = ("schmitt", "555")
+"""The circuits a family may name; core.model.circuits has one object per name."""
 Triplet = tuple[float, float, float]
 
 F_MAX_DELAY_SHARE = 0.10
@@ -128,7 +129,7 @@ class DeviceAtSupply:
     source: str
 
     @property
-    def circuit(self) -> Circuit:
+    def circuit(self) -> CircuitName:
         return self.family.circuit
 
     @property
@@ -151,7 +152,7 @@ class Family:
     """
 
     name: str
-    circuit: Circuit
+    circuit: CircuitName
     description: str
     supply_range_v: tuple[float, float]
     source: str
@@ -351,7 +352,7 @@ def _package(packages: Mapping[str, Any], key: str, where: str) -> Package:
 
 def _family(name: str, raw: Mapping[str, Any], packages: Mapping[str, Any]) -> Family:
     circuit = raw.get("circuit")
-    if circuit not in CIRCUITS:
+    if circuit not in CIRCUIT_NAMES:
         raise TickbinError(f"devices.toml: {name}: circuit must be schmitt or 555")
     entries = sorted(raw.get("supply", ()), key=lambda e: float(e["v"]))
     if not entries:

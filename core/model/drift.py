@@ -213,7 +213,7 @@ def at_supply(osc: Oscillator, supply_v: float) -> Oscillator:
     scale with the supply (CMOS and 555 thresholds are ratios of the supply,
     common practice, no published source).
     """
-    new = make_oscillator(osc.circuit, osc.family, supply_v, calibration=osc.calibration,
+    new = make_oscillator(osc.circuit.name, osc.family, supply_v, calibration=osc.calibration,
                           stray_capacitance_f=osc.stray_capacitance_f, load_ohm=osc.load_ohm)
     if osc.thresholds_given and osc.calibration is None:
         scale = supply_v / osc.supply_v

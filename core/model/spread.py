@@ -134,8 +134,7 @@ def draw_thresholds(osc: Oscillator, n: int, rng: np.random.Generator
     d = osc.device
     a = _triangular(rng, d.vt_plus, n)
     b = _triangular(rng, d.vt_minus, n)
-    h, h_max = ((d.hysteresis_min_v, d.hysteresis_max_v) if osc.circuit == "schmitt"
-                else (0.0, np.inf))
+    h, h_max = osc.circuit.hysteresis_limits(d)
     for _ in range(50):
         bad = (a - b < h) | (a - b > h_max)
         if not bad.any():

@@ -191,7 +191,7 @@ def spice_netlist(osc: Oscillator, candidate: Candidate | TrimCandidate,
     pred = model_prediction(osc, candidate, rotation_pct)
     _, v_cap, _ = waveform(osc, values, periods=1, points=2, diode_steered=steered)
     v_start = float(v_cap[0])
-    circuit = ("555 astable" + (", diode-steered" if steered else "") if osc.circuit == "555"
+    circuit = ("555 astable" + (", diode-steered" if steered else "") if osc.circuit.name == "555"
                else "Schmitt-trigger inverter RC oscillator")
     head = [
         f"* {title or circuit}: {d.family.name} at {d.supply_v:g} V",
@@ -209,7 +209,7 @@ def spice_netlist(osc: Oscillator, candidate: Candidate | TrimCandidate,
     names = _node_names()
     body = [f"Vsupply vdd 0 DC {_num(d.supply_v)}", "Vone one 0 DC 1"]
     c_extra = d.input_capacitance_f + osc.stray_capacitance_f
-    if osc.circuit == "555":
+    if osc.circuit.name == "555":
         body.append("* RA from the supply to DIS (pin 7)")
         body += _elements(networks["RA"], "vdd", "dis", counters, names)
         body.append("* RB from DIS to THR/TRIG (pins 6 and 2)")
@@ -239,7 +239,7 @@ def spice_netlist(osc: Oscillator, candidate: Candidate | TrimCandidate,
         f".model hysteresis sw vt={_num((upper + lower) / 2)} vh={_num((upper - lower) / 2)} "
         "ron=1e-3 roff=1e12",
     ]
-    if osc.circuit == "555":
+    if osc.circuit.name == "555":
         extra = ["* discharge transistor (pin 7): on while the output is low",
                  "Sdis dis 0 lob 0 discharge",
                  f".model discharge sw vt=0.5 vh=0 ron={_num(d.discharge_r_ohm)} roff=1e12"]

@@ -214,7 +214,7 @@ def _schematic(osc: Oscillator, networks: Mapping[str, Node], supply_text: str,
     """The circuit drawn from the candidate's networks and the family's package pins."""
     family = osc.family
     pins = family.package.pins
-    if osc.circuit == "555":
+    if osc.circuit.name == "555":
         roles = {"gnd": "gnd", "trig": "trigger", "out": "output", "reset": "reset",
                  "ctrl": "control", "thr": "threshold", "dis": "discharge", "vcc": "vcc"}
         return astable_schematic(
@@ -250,7 +250,7 @@ def _parts_list(osc: Oscillator, schematic: Schematic, networks: Mapping[str, No
     used = Counter(p.stock_line for p in take)
     rows = []
     for key, part in first.items():
-        role = f" ({key[1]})" if osc.circuit == "555" and key[1] != "C" else ""
+        role = f" ({key[1]})" if osc.circuit.name == "555" and key[1] != "C" else ""
         note = "; ".join(x for x in ("+ lead to the timing node" if part.polarised else "",
                                      part.note) if x)
         rows.append(PartRow(", ".join(refs[key]), _describe(part) + role,
@@ -262,7 +262,7 @@ def _parts_list(osc: Oscillator, schematic: Schematic, networks: Mapping[str, No
     support = schematic.support
     around = [_support_row(support["decoupling"], "decoupling, ceramic", DECOUPLING_F, stock,
                            used, take)]
-    if osc.circuit == "555":
+    if osc.circuit.name == "555":
         around.append(_support_row(support["control"], "control pin, ceramic", CONTROL_F,
                                    stock, used, take))
         pins = family.package.pins
@@ -355,7 +355,7 @@ def build_sheet(osc: Oscillator, candidate: Candidate | TrimCandidate, target: s
     summary = [
         ("Target", target + ("" if asked is None else f", duty {asked:g} %")),
         ("Circuit", "555 astable" + (" (diode-steered)" if steered else "")
-         if osc.circuit == "555" else "Schmitt-trigger inverter RC oscillator"),
+         if osc.circuit.name == "555" else "Schmitt-trigger inverter RC oscillator"),
         ("Chip", f"{family.name} — {family.description}"),
         ("Supply", f"{supply_text} (range {family.supply_range_v[0]:g}–"
                    f"{family.supply_range_v[1]:g} V)"),
@@ -371,7 +371,7 @@ def build_sheet(osc: Oscillator, candidate: Candidate | TrimCandidate, target: s
     warnings = list(dict.fromkeys([*prediction.warnings, *notes]))
     # The title states the duty the build will give, never only the one asked for.
     title = (f"{TITLE_START}{target} "
-             f"{'555 astable' if osc.circuit == '555' else 'Schmitt oscillator'}"
+             f"{'555 astable' if osc.circuit.name == '555' else 'Schmitt oscillator'}"
              f"{' with trimmer' if trim else ''}")
     if asked is not None:
         title += f", duty {prediction.duty_pct:.1f} % (asked {asked:g} %)"
@@ -381,7 +381,7 @@ def build_sheet(osc: Oscillator, candidate: Candidate | TrimCandidate, target: s
         summary=summary,
         schematic=schematic,
         package=package.name,
-        pins=_pin_rows(osc.circuit, package),
+        pins=_pin_rows(osc.circuit.name, package),
         parts=rows,
         predictions=predictions,
         frequency_hz=frequency,
@@ -524,7 +524,7 @@ def _pin_rows(circuit: str, package: Any) -> list[PinRow]:
 
 
 def _threshold_text(osc: Oscillator) -> str:
-    if osc.circuit == "555":
+    if osc.circuit.name == "555":
         return f"comparators at {osc.vt_plus_v:.2f} V and {osc.vt_minus_v:.2f} V"
     text = f"VT+ {osc.vt_plus_v:.2f} V, VT− {osc.vt_minus_v:.2f} V"
     if osc.calibration:
@@ -538,7 +538,7 @@ def _build_notes(osc: Oscillator, package: Any, networks: Mapping[str, Node],
                  trim: bool) -> list[str]:
     """What an experienced builder would tell a newcomer (common practice, no published source)."""
     notes = [n[:1].upper() + n[1:] for n in package.notes]
-    if osc.circuit == "555":
+    if osc.circuit.name == "555":
         notes += [
             "Keep the timing capacitor and RB close to pins 2 and 6, and its ground lead "
             "short to pin 1.",

@@ -1,0 +1,108 @@
+"""One request: what a person asks core to design, built alike by the window and the command line.
+
+The target form (gui/target_form.py) and the command line's options
+(core/cli/circuit_options.py, search_commands.py) each fill a ``Request``; core
+resolves it into an oscillator and runs the search (``target_hz``) or the trim
+(``band_hz``) it describes. Defaults that depend on each other are settled
+here once: the family's circuit, the circuit's default family, and a saved
+calibration's family and supply. The engines are imported on first use: the
+window builds requests before its first paint, when numpy is not loaded yet.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+from typing import TYPE_CHECKING
+
+from core.errors import InputError
+
+if TYPE_CHECKING:
+    from core.design.search import SearchResult
+    from core.design.trim import TrimResult
+    from core.model.circuits.base import Oscillator
+    from core.parts.drawer import Part
+    from core.parts.networks import DrawerIndex
+
+DEFAULT_SUPPLY_V = 5.0
+"""The supply [V] when neither the person nor a calibration names one."""
+
+
+@dataclass(frozen=True)
+class Request:
+    """A design request in SI units (Hz, V, %, F, Ω).
+
+    ``circuit``/``family``/``supply_v`` None: settled as the command line
+    documents (the family's circuit, the circuit's default family, the
+    calibration's family and supply, else DEFAULT_SUPPLY_V). A ``band_hz``
+    asks for a trim design, else ``target_hz`` for a search; ``dielectrics``
+    (lower-case drawer names) restricts the capacitors, None allows any;
+    ``stray_capacitance_f`` None is the model's breadboard default.
+    """
+
+    circuit: str | None = None
+    family: str | None = None
+    supply_v: float | None = None
+    target_hz: float | None = None
+    band_hz: tuple[float, float] | None = None
+    duty_pct: float | None = None
+    accept_pct: float = 1.0
+    max_resistors: int = 2
+    max_capacitors: int = 2
+    top: int = 10
+    calibration: str | None = None
+    vt_plus_v: float | None = None
+    vt_minus_v: float | None = None
+    stray_capacitance_f: float | None = None
+    load_ohm: float | None = None
+    dielectrics: frozenset[str] | None = None
+
+    @property
+    def trim(self) -> bool:
+        """A band to cover with a pot rather than a frequency to hit."""
+        return self.band_hz is not None
+
+    def oscillator(self) -> Oscillator:
+        """The oscillator the request describes (InputError/SetupError if impossible)."""
+        from core.model.calibration import load_calibration
+        from core.model.circuits import CIRCUITS, DEFAULT_CIRCUIT
+        from core.model.devices import device_table
+        from core.model.timing import make_oscillator
+
+        family_name, supply, cal = self.family, self.supply_v, None
+        if self.calibration is not None:
+            cal = load_calibration(self.calibration)
+            family_name = family_name or cal.family
+            supply = supply if supply is not None else cal.supply_v
+        if family_name is None:
+            family_name = (CIRCUITS[self.circuit] if self.circuit else
+                           DEFAULT_CIRCUIT).default_family
+        family = device_table().family(family_name)
+        stray = {} if self.stray_capacitance_f is None else {
+            "stray_capacitance_f": self.stray_capacitance_f}
+        return make_oscillator(self.circuit or family.circuit, family,
+                               DEFAULT_SUPPLY_V if supply is None else supply,
+                               vt_plus=self.vt_plus_v, vt_minus=self.vt_minus_v,
+                               calibration=cal, load_ohm=self.load_ohm, **stray)
+
+    def usable(self, parts: tuple[Part, ...] | list[Part]) -> tuple[Part, ...]:
+        """The drawer's parts this request may use (the dielectric filter applied)."""
+        from core.parts.drawer import with_dielectrics
+
+        return tuple(with_dielectrics(parts, self.dielectrics))
+
+    def run(self, parts: tuple[Part, ...] | list[Part], osc: Oscillator,
+            index: DrawerIndex | None = None, top: int | None = None
+            ) -> SearchResult | TrimResult:
+        """The trim or search this request asks for, over the usable ``parts``."""
+        from core.design.search import search
+        from core.design.trim import trim
+
+        usable, top = list(self.usable(parts)), self.top if top is None else top
+        if self.band_hz is not None:
+            return trim(usable, osc, self.band_hz, top=top, max_resistors=self.max_resistors,
+                        max_capacitors=self.max_capacitors, index=index)
+        if self.target_hz is None:
+            raise InputError("a request needs a target frequency or a band")
+        return search(usable, osc, self.target_hz, duty_pct=self.duty_pct,
+                      max_resistors=self.max_resistors, max_capacitors=self.max_capacitors,
+                      accept_pct=self.accept_pct, top=top, index=index)

@@ -1,0 +1,114 @@
+"""The timing node as two exact exponential phases, and its steady cycle.
+
+Every circuit reduces to this picture: the timing capacitor charges toward one
+Thevenin source while the output is high and toward another while it is low, and
+the output flips a propagation delay after a threshold is crossed. A circuit
+module (schmitt.py, astable.py) builds the two phases; this module turns them
+into times and turning voltages, vectorised over numpy arrays.
+
+References: P. Horowitz and W. Hill, The Art of Electronics, 3rd ed., §1.4 (RC
+charging) and §7.1 (relaxation oscillators).
+"""
+
+from __future__ import annotations
+
+from typing import Any, NamedTuple
+
+import numpy as np
+
+from core.model.diode import SteeringBranch
+
+
+class Steered(NamedTuple):
+    """A charge through a steering diode: the branch, the node's capacitance [F] and the
+    current drawn from the node [A] (broadcast like the node's arrays)."""
+
+    branch: SteeringBranch
+    capacitance: Any
+    drawn: Any
+
+
+class Phases(NamedTuple):
+    """The timing node as two Thevenin phases: targets [V], time constants [s], delays [s].
+
+    With ``steering`` the charge runs through a diode wherever it conducts;
+    (``v_high``, ``tau_high``) are then the diode-off phase (C through RA + RB).
+    """
+
+    vt_plus: Any
+    vt_minus: Any
+    v_high: Any
+    tau_high: Any
+    v_low: Any
+    tau_low: Any
+    delay_lh: float
+    delay_hl: float
+    steering: Steered | None = None
+
+
+DIODE_OFF_SHARE = 1e-6
+"""Below this relative effect on the charge time the steering diode counts as off and
+the closed form (C through RA + RB) is used."""
+
+
+def diode_conducts(n: Phases, v_start: Any) -> np.ndarray:
+    """Where the steering diode changes the charge time by more than DIODE_OFF_SHARE.
+
+    Upper bound of its share: the diode's current at RB's drop at the start of the
+    charge (largest there; the diode only lowers it), against RB's current, times
+    RB's share of the charging resistance.
+    """
+    s = n.steering
+    assert s is not None
+    br = s.branch
+    with np.errstate(all="ignore"):
+        v_rb = br.r_across_ohm * (br.source_v - v_start) / (br.r_series_ohm + br.r_across_ohm)
+        share = (br.diode.junction_current(v_rb) * br.r_across_ohm / v_rb
+                 * br.r_across_ohm / (br.r_series_ohm + br.r_across_ohm))
+    return np.asarray(share > DIODE_OFF_SHARE)
+
+
+def cycle(n: Phases) -> tuple[np.ndarray, np.ndarray, Any, Any]:
+    """Steady-state (t_high, t_low) [s] and the turning voltages (v_start, v_peak) [V].
+
+    After the node crosses VT- the output stays low for delay_lh, so the next
+    charge starts below VT- (at ``v_start``); likewise it overshoots VT+ to
+    ``v_peak``. Times are NaN where a phase does not pass its threshold.
+    """
+    a, b = n.vt_plus, n.vt_minus
+    with np.errstate(all="ignore"):
+        v_start = n.v_low + (b - n.v_low) * np.exp(-n.delay_lh / n.tau_low)
+        v_peak = n.v_high - (n.v_high - a) * np.exp(-n.delay_hl / n.tau_high)
+        t_high = np.where(n.v_high > a, n.tau_high * np.log((n.v_high - v_start)
+                                                             / (n.v_high - a)), np.nan)
+        t_high = t_high + n.delay_hl
+        if n.steering is not None:
+            t_high, v_peak = steered_charge(n, v_start, t_high, v_peak)
+        t_low = n.tau_low * np.log((v_peak - n.v_low) / (b - n.v_low)) + n.delay_lh
+    ok = (n.v_low < b) & (a > b) & np.isfinite(t_high)
+    return np.where(ok, t_high, np.nan), np.where(ok, t_low, np.nan), v_start, v_peak
+
+
+def steered_charge(n: Phases, v_start: Any, t_high: Any, v_peak: Any) -> tuple[Any, Any]:
+    """The charge time [s] and peak [V] where the steering diode conducts (integrated);
+    the closed form elsewhere. Over the delay after VT+ the node rises at its current slope."""
+    s = n.steering
+    assert s is not None
+    br = s.branch
+    src, r_ser, r_acr, ct, drawn, v0, a, t_out, peak = (
+        np.array(x, dtype=float) for x in np.broadcast_arrays(
+            br.source_v, br.r_series_ohm, br.r_across_ohm, s.capacitance, s.drawn, v_start,
+            n.vt_plus, t_high, v_peak))
+    on = np.broadcast_to(diode_conducts(n, v_start), src.shape)
+    if on.any():
+        branch = SteeringBranch(br.diode, src[on], r_ser[on], r_acr[on])
+        t, net = branch.charge_time(ct[on], drawn[on], v0[on], a[on])
+        t_out[on] = t + n.delay_hl
+        peak[on] = a[on] + net * n.delay_hl / ct[on]
+    return t_out, peak
+
+
+def phase_times(n: Phases) -> tuple[np.ndarray, np.ndarray]:
+    """Steady-state (t_high, t_low) [s]; NaN where a target does not pass its threshold."""
+    t_high, t_low, _, _ = cycle(n)
+    return t_high, t_low

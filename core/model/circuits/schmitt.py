@@ -1,0 +1,111 @@
+"""The Schmitt-trigger inverter oscillator: R from output to input, C from input to ground.
+
+    t_high = R C ln((VOH - VT-) / (VOH - VT+))    output high, C charges
+    t_low  = R C ln((VT+ - VOL) / (VT- - VOL))    output low, C discharges
+
+plus output resistance in series with R, input and stray capacitance beside
+C, a TTL input's current through R (a Thevenin source at the input) and the
+propagation delay on each edge.
+
+References: the device data sheets in resources/devices.toml; P. Horowitz and
+W. Hill, The Art of Electronics, 3rd ed., §1.4 and §7.1.
+"""
+
+from __future__ import annotations
+
+import math
+from collections.abc import Mapping
+from dataclasses import dataclass
+
+import numpy as np
+
+from core.model.circuits.base import (
+    ArrayLike,
+    Circuit,
+    Oscillator,
+    Role,
+    drawn,
+    output_sources,
+    thresholds,
+    timing_capacitance,
+)
+from core.model.circuits.phases import Phases
+from core.model.devices import DeviceAtSupply
+from core.units import format_quantity
+
+
+def schmitt_phases(osc: Oscillator, r: ArrayLike, c: ArrayLike, vt_plus: ArrayLike = None,
+                  vt_minus: ArrayLike = None, i_high: ArrayLike = 0.0,
+                  i_low: ArrayLike = 0.0) -> Phases:
+    d = osc.device
+    r = np.asarray(r, dtype=float)
+    ct = timing_capacitance(osc, c)
+    voh, roh, vol, rol = output_sources(osc)
+    r_high, r_low = r + roh, r + rol
+    v_high, v_low = voh, vol
+    if math.isfinite(d.input_r_ohm):
+        # TTL input: a source v_open behind r_in feeds the node as well.
+        ri, vi = d.input_r_ohm, d.input_v_open_v
+        v_high = (voh * ri + vi * r_high) / (r_high + ri)
+        v_low = (vol * ri + vi * r_low) / (r_low + ri)
+        r_high = r_high * ri / (r_high + ri)
+        r_low = r_low * ri / (r_low + ri)
+    v_high, v_low = drawn(v_high, r_high, i_high), drawn(v_low, r_low, i_low)
+    a, b = thresholds(osc, vt_plus, vt_minus)
+    return Phases(a, b, v_high, r_high * ct, v_low, r_low * ct, d.delay_lh_s, d.delay_hl_s)
+
+
+
+@dataclass(frozen=True)
+class SchmittInverter(Circuit):
+    """A Schmitt-trigger inverter with R from output to input and C to ground."""
+
+    def phases(self, osc: Oscillator, values: Mapping[str, ArrayLike],
+               diode_steered: bool = False, vt_plus: ArrayLike = None,
+               vt_minus: ArrayLike = None, i_high: ArrayLike = 0.0,
+               i_low: ArrayLike = 0.0) -> Phases:
+        return schmitt_phases(osc, values["R"], values["C"], vt_plus, vt_minus, i_high, i_low)
+
+    def hysteresis_limits(self, device: DeviceAtSupply) -> tuple[float, float]:
+        return device.hysteresis_min_v, device.hysteresis_max_v
+
+    def threshold_corners(self, device: DeviceAtSupply) -> list[tuple[float, float]]:
+        """The feasible thresholds form the box min…max of each, cut by the guaranteed
+        hysteresis hysteresis_min ≤ VT+ − VT- ≤ hysteresis_max. The period rises with
+        VT+ and falls with VT-, so its extremes lie on the polygon's vertices, except
+        the fastest point on the minimum-hysteresis edge, which is where the window is
+        centred between the output levels (added explicitly)."""
+        d = device
+        (a_lo, _, a_hi), (b_lo, _, b_hi) = d.vt_plus, d.vt_minus
+        h, h_max = self.hysteresis_limits(d)
+        candidates = super().threshold_corners(d)
+        for width in (h, h_max) if math.isfinite(h_max) else (h,):
+            candidates += [(a_lo, a_lo - width), (b_hi + width, b_hi), (a_hi, a_hi - width),
+                           (b_lo + width, b_lo)]
+        centre = 0.5 * (d.voh_v + d.vol_v + h)
+        candidates.append((centre, centre - h))
+        eps = 1e-12
+        corners: list[tuple[float, float]] = []
+        for a, b in candidates:
+            inside = (a_lo - eps <= a <= a_hi + eps and b_lo - eps <= b <= b_hi + eps
+                      and h - eps <= a - b <= h_max + eps)
+            if inside and all(abs(a - p) > 1e-9 or abs(b - q) > 1e-9 for p, q in corners):
+                corners.append((a, b))
+        return corners
+
+    def why_stopped(self, osc: Oscillator, values: Mapping[str, float],
+                    n: Phases) -> str | None:
+        d, b = osc.device, float(n.vt_minus)
+        if float(n.v_low) < b or not math.isfinite(d.input_r_ohm):
+            return None
+        _, _, vol, rol = output_sources(osc)
+        r_limit = d.input_r_ohm * (b - vol) / (d.input_v_open_v - b) - rol
+        return (f"will not oscillate: the {osc.family.name}'s input current through R = "
+                f"{format_quantity(values['R'], 'resistance')} holds the input above VT- "
+                f"({b:.2f} V); R must stay below about "
+                f"{format_quantity(max(r_limit, 0.0), 'resistance')}")
+
+
+SCHMITT = SchmittInverter(name="schmitt", title="Schmitt-trigger inverter",
+                          roles=(Role("R", "R"), Role("C", "C")), default_family="74HC14",
+                          trimmable=("R",), output_drives_timing=True)
