@@ -25,8 +25,6 @@ from core.errors import InputError, TickbinError
 from core.model.calibration import ADVICE, Calibration
 from gui.target_form import Target
 
-KEYS = {"schmitt": ("R", "C"), "555": ("RA", "RB", "C")}
-
 
 class CalibrationDialog(QDialog):
     """Fields for the parts used, the measured frequency and duty, and a name."""
@@ -58,12 +56,14 @@ class CalibrationDialog(QDialog):
             layout.addWidget(self.buttons)
             return
         form = QFormLayout()
-        circuit = "555 astable" if target.circuit == "555" else "Schmitt inverter"
-        form.addRow("Chip", QLabel(f"{target.family} at {target.supply_v:g} V ({circuit})"))
-        values = dict(getattr(candidate, "values", {}) or {})
+        from core.model.circuits import CIRCUITS
         from core.units import format_part_value
 
-        for key in KEYS[target.circuit]:
+        circuit = CIRCUITS[target.circuit]
+        form.addRow("Chip", QLabel(f"{target.family} at {target.supply_v:g} V "
+                                   f"({circuit.short})"))
+        values = dict(getattr(candidate, "values", {}) or {})
+        for key in circuit.keys:
             edit = QLineEdit()
             if key in values:
                 edit.setText(format_part_value(values[key], key[0], 4))

@@ -89,7 +89,7 @@ def chip_spread_advice(outcome: Outcome, cand: Any) -> str:
         f"move it {_band(spread.parts_hz)}. Measure one build made with 1 % resistors and a "
         f'C0G or film capacitor and <a href="calibrate">calibrate from that measurement</a>' + (
             ', or <a href="trim">search a band with a trimmer</a>.'
-            if outcome.target.circuit == "schmitt" else "."))
+            if outcome.oscillator.circuit.trimmable else "."))
 
 
 def _band(lo_hi: tuple[float, float]) -> str:

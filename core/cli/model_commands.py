@@ -24,6 +24,7 @@ from core.model.calibration import (
     list_calibrations,
     save_calibration,
 )
+from core.model.circuits import CIRCUITS
 from core.model.devices import device_table
 from core.model.drift import case_name, effective_capacitance
 from core.model.spread import monte_carlo
@@ -122,14 +123,9 @@ def _add_part_options(parser: argparse.ArgumentParser) -> None:
 
 
 def _values(osc: Oscillator, args: argparse.Namespace) -> dict[str, float]:
-    if osc.circuit.name == "schmitt":
-        given = {"R": args.r, "C": args.c}
-        flags = "--r R --c C"
-    else:
-        given = {"RA": args.ra, "RB": args.rb, "C": args.c}
-        flags = "--ra R --rb R --c C"
+    given = {k: getattr(args, k.lower()) for k in osc.circuit.keys}
     if any(v is None for v in given.values()):
-        raise InputError(f"the {osc.family.name} circuit needs {flags}")
+        raise InputError(f"the {osc.family.name} circuit needs {osc.circuit.value_flags}")
     return {k: float(v) for k, v in given.items() if v is not None}
 
 
@@ -187,8 +183,8 @@ def run_predict(args: argparse.Namespace) -> int:
 
 def _predict_text(r: dict[str, Any]) -> str:
     f = format_quantity
-    circuit = ("Schmitt-trigger inverter" if r["circuit"] == "schmitt" else
-               "555 astable" + (", diode-steered" if r["diode_steered"] else ""))
+    circuit = (CIRCUITS[r["circuit"]].oscillator
+               + (", diode-steered" if r["diode_steered"] else ""))
     tol = ", ".join(f"{k} ±{t[1]:g}%" if t[0] == t[1] else f"{k} +{t[1]:g}/-{t[0]:g}%"
                     for k, t in r["tolerances"].items())
     spread = (", thresholds min…max" if r["thresholds"] == "table typ" else
@@ -255,7 +251,7 @@ def _measurement_rows(path: str) -> Iterator[tuple[int, dict[str, str]]]:
 
 
 def _read_measurements(path: str, osc: Oscillator) -> list[Measurement]:
-    keys = ("r", "c") if osc.circuit.name == "schmitt" else ("ra", "rb", "c")
+    keys = tuple(k.lower() for k in osc.circuit.keys)
     out = []
     for line, row in _measurement_rows(path):
         try:

@@ -160,8 +160,7 @@ def _table(header: list[str], rows: list[list[str]]) -> list[str]:
 
 
 def _device_line(osc: Oscillator) -> str:
-    circuit = "astable" if osc.circuit.name == "555" else "Schmitt-trigger inverter oscillator"
-    return f"{osc.family.name} {circuit} at {osc.device.supply_v:g} V"
+    return f"{osc.family.name} {osc.circuit.oscillator} at {osc.device.supply_v:g} V"
 
 
 def _band_text(band: tuple[float, float]) -> str:
@@ -170,7 +169,7 @@ def _band_text(band: tuple[float, float]) -> str:
 
 def _search_text(data: dict[str, Any], result: SearchResult, osc: Oscillator) -> str:
     out = [f"Target {format_frequency(result.target_hz)}: {_device_line(osc)}"]
-    roles = ("RA", "RB", "C") if osc.circuit.name == "555" else ("R", "C")
+    roles = osc.circuit.keys
     with_duty = any(c.duty_asked_pct is not None for c in result.candidates)
     rows = []
     for k, c in enumerate(result.candidates, 1):

@@ -353,7 +353,7 @@ def search(parts: list[Part], osc: Oscillator, target_hz: float, duty_pct: float
     if duty_pct is not None and not 0 < duty_pct < 100:
         raise InputError("a duty cycle lies between 0 and 100 %", text=str(duty_pct),
                          what="duty")
-    if duty_pct is not None and osc.circuit.name != "555":
+    if duty_pct is not None and not osc.circuit.steerable:
         raise InputError("--duty applies to the 555 astable; a Schmitt inverter's duty follows "
                          "from its thresholds", text=str(duty_pct), what="duty")
     if index is None or not index.covers(max_resistors, max_capacitors):

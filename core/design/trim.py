@@ -153,7 +153,7 @@ def trim(parts: list[Part], osc: Oscillator, band_hz: tuple[float, float], top: 
     lo_band, hi_band = (float(x) for x in band_hz)
     if not (0 < lo_band < hi_band and math.isfinite(hi_band)):
         raise InputError("a band needs 0 < LO < HI", text=f"{lo_band}..{hi_band}", what="band")
-    if osc.circuit.name != "schmitt":
+    if not osc.circuit.trimmable:
         raise InputError("trim designs are for the Schmitt inverter oscillator "
                          "(--circuit schmitt)", text=osc.circuit.name, what="circuit")
     if top < 1:

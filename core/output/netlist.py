@@ -191,8 +191,7 @@ def spice_netlist(osc: Oscillator, candidate: Candidate | TrimCandidate,
     pred = model_prediction(osc, candidate, rotation_pct)
     _, v_cap, _ = waveform(osc, values, periods=1, points=2, diode_steered=steered)
     v_start = float(v_cap[0])
-    circuit = ("555 astable" + (", diode-steered" if steered else "") if osc.circuit.name == "555"
-               else "Schmitt-trigger inverter RC oscillator")
+    circuit = osc.circuit.oscillator + (", diode-steered" if steered else "")
     head = [
         f"* {title or circuit}: {d.family.name} at {d.supply_v:g} V",
         f"* Tickbin {__version__}. Run: ngspice -b THIS_FILE.cir",
@@ -209,23 +208,8 @@ def spice_netlist(osc: Oscillator, candidate: Candidate | TrimCandidate,
     names = _node_names()
     body = [f"Vsupply vdd 0 DC {_num(d.supply_v)}", "Vone one 0 DC 1"]
     c_extra = d.input_capacitance_f + osc.stray_capacitance_f
-    if osc.circuit.name == "555":
-        body.append("* RA from the supply to DIS (pin 7)")
-        body += _elements(networks["RA"], "vdd", "dis", counters, names)
-        body.append("* RB from DIS to THR/TRIG (pins 6 and 2)")
-        body += _elements(networks["RB"], "dis", "tn", counters, names)
-        if steered:
-            diode = osc.steering_diode
-            body += [f"* steering diode ({diode.name}) across RB, anode at DIS; DC model "
-                     "as in the timing model",
-                     f"D1 dis tn {diode.name.lower()}", diode.spice_model()]
-    else:
-        r_nets = [networks["R"]] + ([networks["P"]] if trim else [])
-        body.append("* timing resistance from the gate output to the timing node"
-                    + (", then the pot (wiper tied to pin 3)" if trim else ""))
-        ends = ["out", *(next(names) for _ in r_nets[:-1]), "tn"]
-        for net, a, b in zip(r_nets, ends, ends[1:], strict=False):
-            body += _elements(net, a, b, counters, names, share)
+    resistors, output_stage = ELEMENTS[osc.circuit.name]
+    body += resistors(osc, networks, steered, share, counters, names)
     body.append("* timing capacitor from the timing node to ground")
     body += _elements(networks["C"], "tn", "0", counters, names)
     body.append(f"Cnode tn 0 {_num(c_extra)} ; input "
@@ -239,26 +223,72 @@ def spice_netlist(osc: Oscillator, candidate: Candidate | TrimCandidate,
         f".model hysteresis sw vt={_num((upper + lower) / 2)} vh={_num((upper - lower) / 2)} "
         "ron=1e-3 roff=1e12",
     ]
-    if osc.circuit.name == "555":
-        extra = ["* discharge transistor (pin 7): on while the output is low",
-                 "Sdis dis 0 lob 0 discharge",
-                 f".model discharge sw vt=0.5 vh=0 ron={_num(d.discharge_r_ohm)} roff=1e12"]
-        body += _delay_and_output(osc, d.output_high_v, 0.0, 1.0, 1.0, extra)
-        v_mid = 0.5 * d.output_high_v
-    else:
-        extra = []
-        if math.isfinite(d.input_r_ohm):
-            extra += ["* TTL input: its Thevenin source at the timing node",
-                      f"Vin vin 0 DC {_num(d.input_v_open_v)}",
-                      f"Rin tn vin {_num(d.input_r_ohm)}"]
-        if osc.load_ohm is not None:
-            extra.append(f"Rload out 0 {_num(osc.load_ohm)}")
-        body += _delay_and_output(osc, d.voh_v, d.vol_v, d.r_out_high_ohm, d.r_out_low_ohm,
-                                  extra)
-        v_mid = 0.5 * (d.voh_v + d.vol_v)
+    output, v_mid = output_stage(osc)
+    body += output
     shortest = min(pred.t_high_s, pred.t_low_s)
     lines = [*head, *body, *_run_lines(pred.period_s, shortest, v_start, v_mid)]
     return "\n".join(spice_text(line) for line in lines) + "\n"
+
+
+def _astable_resistors(osc: Oscillator, networks: dict[str, Node], steered: bool,
+                       pot_ohm: float, counters: dict[str, int], names: Iterator[str]
+                       ) -> list[str]:
+    """RA and RB (and the steering diode across RB)."""
+    body = ["* RA from the supply to DIS (pin 7)"]
+    body += _elements(networks["RA"], "vdd", "dis", counters, names)
+    body.append("* RB from DIS to THR/TRIG (pins 6 and 2)")
+    body += _elements(networks["RB"], "dis", "tn", counters, names)
+    if steered:
+        diode = osc.steering_diode
+        body += [f"* steering diode ({diode.name}) across RB, anode at DIS; DC model "
+                 "as in the timing model",
+                 f"D1 dis tn {diode.name.lower()}", diode.spice_model()]
+    return body
+
+
+def _schmitt_resistors(osc: Oscillator, networks: dict[str, Node], steered: bool,
+                       pot_ohm: float, counters: dict[str, int], names: Iterator[str]
+                       ) -> list[str]:
+    """R (then the pot, if the design has one) from the gate output to the timing node."""
+    trim = "P" in networks
+    r_nets = [networks["R"]] + ([networks["P"]] if trim else [])
+    body = ["* timing resistance from the gate output to the timing node"
+            + (", then the pot (wiper tied to pin 3)" if trim else "")]
+    ends = ["out", *(next(names) for _ in r_nets[:-1]), "tn"]
+    for net, a, b in zip(r_nets, ends, ends[1:], strict=False):
+        body += _elements(net, a, b, counters, names, pot_ohm)
+    return body
+
+
+def _astable_output(osc: Oscillator) -> tuple[list[str], float]:
+    """The discharge transistor and the output stage; the output's middle level [V]."""
+    d = osc.device
+    extra = ["* discharge transistor (pin 7): on while the output is low",
+             "Sdis dis 0 lob 0 discharge",
+             f".model discharge sw vt=0.5 vh=0 ron={_num(d.discharge_r_ohm)} roff=1e12"]
+    return (_delay_and_output(osc, d.output_high_v, 0.0, 1.0, 1.0, extra),
+            0.5 * d.output_high_v)
+
+
+def _schmitt_output(osc: Oscillator) -> tuple[list[str], float]:
+    """A TTL input's source, a load, and the gate's output stage; its middle level [V]."""
+    d = osc.device
+    extra = []
+    if math.isfinite(d.input_r_ohm):
+        extra += ["* TTL input: its Thevenin source at the timing node",
+                  f"Vin vin 0 DC {_num(d.input_v_open_v)}",
+                  f"Rin tn vin {_num(d.input_r_ohm)}"]
+    if osc.load_ohm is not None:
+        extra.append(f"Rload out 0 {_num(osc.load_ohm)}")
+    return (_delay_and_output(osc, d.voh_v, d.vol_v, d.r_out_high_ohm, d.r_out_low_ohm, extra),
+            0.5 * (d.voh_v + d.vol_v))
+
+
+ELEMENTS = {"schmitt": (_schmitt_resistors, _schmitt_output),
+            "555": (_astable_resistors, _astable_output)}
+"""Each circuit's netlist elements by name: its timing resistors from the supply or output
+to the timing node ``tn``, and its output stage (the capacitor and the input switch are
+shared)."""
 
 
 _ASCII = str.maketrans({"Ω": "ohm", "µ": "u", "−": "-", "…": "...", "∥": "||"})

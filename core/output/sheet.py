@@ -11,7 +11,7 @@ from __future__ import annotations
 import datetime as _dt
 import re
 from collections import Counter
-from collections.abc import Iterable, Mapping, Sequence
+from collections.abc import Callable, Iterable, Mapping, Sequence
 from dataclasses import dataclass, field
 from typing import Any
 
@@ -21,6 +21,7 @@ from core.design.robust import network_envelope
 from core.design.search import Candidate
 from core.design.trim import TrimCandidate, frequency_at_rotation, pot_resistance, rotation_for
 from core.errors import InputError
+from core.model.circuits.base import Circuit
 from core.model.diode import SMALL_SIGNAL_DIODE
 from core.model.drift import Conditions, supply_hz, temperature_hz
 from core.model.spread import monte_carlo
@@ -209,22 +210,26 @@ def _value_text(part: Part) -> str:
     return format_part_value(part.value, part.kind)
 
 
-def _schematic(osc: Oscillator, networks: Mapping[str, Node], supply_text: str,
-               steered: bool) -> Schematic:
-    """The circuit drawn from the candidate's networks and the family's package pins."""
+def _astable_drawing(osc: Oscillator, networks: Mapping[str, Node], supply_text: str,
+                     steered: bool) -> Schematic:
     family = osc.family
     pins = family.package.pins
-    if osc.circuit.name == "555":
-        roles = {"gnd": "gnd", "trig": "trigger", "out": "output", "reset": "reset",
-                 "ctrl": "control", "thr": "threshold", "dis": "discharge", "vcc": "vcc"}
-        return astable_schematic(
-            Network(networks["RA"], "RA", _value_text), Network(networks["RB"], "RB", _value_text),
-            Network(networks["C"], "C", _value_text),
-            pins={role: str(pins[key]) for role, key in roles.items()},
-            chip=f"U1 {family.name}", supply_text=supply_text,
-            decoupling_text=format_capacitance(DECOUPLING_F),
-            control_text=format_capacitance(CONTROL_F),
-            diode_text=STEERING_DIODE if steered else None)
+    roles = {"gnd": "gnd", "trig": "trigger", "out": "output", "reset": "reset",
+             "ctrl": "control", "thr": "threshold", "dis": "discharge", "vcc": "vcc"}
+    return astable_schematic(
+        Network(networks["RA"], "RA", _value_text), Network(networks["RB"], "RB", _value_text),
+        Network(networks["C"], "C", _value_text),
+        pins={role: str(pins[key]) for role, key in roles.items()},
+        chip=f"U1 {family.name}", supply_text=supply_text,
+        decoupling_text=format_capacitance(DECOUPLING_F),
+        control_text=format_capacitance(CONTROL_F),
+        diode_text=STEERING_DIODE if steered else None)
+
+
+def _schmitt_drawing(osc: Oscillator, networks: Mapping[str, Node], supply_text: str,
+                     steered: bool) -> Schematic:
+    family = osc.family
+    pins = family.package.pins
     feedback = [Network(networks["R"], "R", _value_text)]
     if "P" in networks:
         feedback.append(Network(networks["P"], "P", _value_text))
@@ -234,6 +239,11 @@ def _schematic(osc: Oscillator, networks: Mapping[str, Node], supply_text: str,
         vcc_pin=str(pins["vcc"]), gnd_pin=str(pins["gnd"]), supply_text=supply_text,
         decoupling_text=format_capacitance(DECOUPLING_F),
         gate_note=f"NAND: pin {pins['tie_high']} to VCC" if "tie_high" in pins else "")
+
+
+DRAWINGS: dict[str, Callable[[Oscillator, Mapping[str, Node], str, bool], Schematic]] = {
+    "schmitt": _schmitt_drawing, "555": _astable_drawing}
+"""Each circuit's schematic from its networks and the family's package pins, by name."""
 
 
 def _parts_list(osc: Oscillator, schematic: Schematic, networks: Mapping[str, Node],
@@ -250,7 +260,8 @@ def _parts_list(osc: Oscillator, schematic: Schematic, networks: Mapping[str, No
     used = Counter(p.stock_line for p in take)
     rows = []
     for key, part in first.items():
-        role = f" ({key[1]})" if osc.circuit.name == "555" and key[1] != "C" else ""
+        several = len(osc.circuit.resistors) > 1  # name the role among alike resistors
+        role = f" ({key[1]})" if several and key[1] != "C" else ""
         note = "; ".join(x for x in ("+ lead to the timing node" if part.polarised else "",
                                      part.note) if x)
         rows.append(PartRow(", ".join(refs[key]), _describe(part) + role,
@@ -262,7 +273,7 @@ def _parts_list(osc: Oscillator, schematic: Schematic, networks: Mapping[str, No
     support = schematic.support
     around = [_support_row(support["decoupling"], "decoupling, ceramic", DECOUPLING_F, stock,
                            used, take)]
-    if osc.circuit.name == "555":
+    if "control" in support:
         around.append(_support_row(support["control"], "control pin, ceramic", CONTROL_F,
                                    stock, used, take))
         pins = family.package.pins
@@ -297,7 +308,7 @@ def build_sheet(osc: Oscillator, candidate: Candidate | TrimCandidate, target: s
     supply_text = format_quantity(supply, "voltage")
     networks: dict[str, Node] = dict(candidate.networks)
     steered = bool(getattr(candidate, "diode_steered", False))
-    schematic = _schematic(osc, networks, f"+{supply_text}", steered)
+    schematic = DRAWINGS[osc.circuit.name](osc, networks, f"+{supply_text}", steered)
     rows, take = _parts_list(osc, schematic, networks, stock, steered)
 
     extra = {"diode_steered": True} if steered else {}
@@ -354,8 +365,7 @@ def build_sheet(osc: Oscillator, candidate: Candidate | TrimCandidate, target: s
 
     summary = [
         ("Target", target + ("" if asked is None else f", duty {asked:g} %")),
-        ("Circuit", "555 astable" + (" (diode-steered)" if steered else "")
-         if osc.circuit.name == "555" else "Schmitt-trigger inverter RC oscillator"),
+        ("Circuit", osc.circuit.oscillator + (" (diode-steered)" if steered else "")),
         ("Chip", f"{family.name} — {family.description}"),
         ("Supply", f"{supply_text} (range {family.supply_range_v[0]:g}–"
                    f"{family.supply_range_v[1]:g} V)"),
@@ -371,7 +381,7 @@ def build_sheet(osc: Oscillator, candidate: Candidate | TrimCandidate, target: s
     warnings = list(dict.fromkeys([*prediction.warnings, *notes]))
     # The title states the duty the build will give, never only the one asked for.
     title = (f"{TITLE_START}{target} "
-             f"{'555 astable' if osc.circuit.name == '555' else 'Schmitt oscillator'}"
+             f"{osc.circuit.short}"
              f"{' with trimmer' if trim else ''}")
     if asked is not None:
         title += f", duty {prediction.duty_pct:.1f} % (asked {asked:g} %)"
@@ -381,7 +391,7 @@ def build_sheet(osc: Oscillator, candidate: Candidate | TrimCandidate, target: s
         summary=summary,
         schematic=schematic,
         package=package.name,
-        pins=_pin_rows(osc.circuit.name, package),
+        pins=_pin_rows(osc.circuit, package),
         parts=rows,
         predictions=predictions,
         frequency_hz=frequency,
@@ -497,25 +507,9 @@ def _adjustment(osc: Oscillator, candidate: TrimCandidate, start: float, f_start
     ]
 
 
-_SCHMITT_PIN_ROLES = (("input", "gate input", "timing node: C to GND, R (and pot) from output"),
-                      ("tie_high", "second NAND input", "VCC (the NAND works as an inverter)"),
-                      ("output", "gate output", "R (and pot) back to the input; OUT"),
-                      ("vcc", "supply", "+ supply; 100 nF to GND right at the pin"),
-                      ("gnd", "ground", "supply 0 V"))
-_TIMER_PIN_ROLES = (("gnd", "GND", "supply 0 V"),
-                    ("trigger", "TRIG", "timing node (join to THR, 6)"),
-                    ("output", "OUT", "output; buffer heavy loads"),
-                    ("reset", "RESET", "VCC (held high: always running)"),
-                    ("control", "CV", "10 nF to GND"),
-                    ("threshold", "THR", "timing node: C to GND, RB to DIS"),
-                    ("discharge", "DIS", "between RA and RB"),
-                    ("vcc", "VCC", "+ supply; 100 nF to GND right at the pin"))
-
-
-def _pin_rows(circuit: str, package: Any) -> list[PinRow]:
-    roles = _TIMER_PIN_ROLES if circuit == "555" else _SCHMITT_PIN_ROLES
-    rows = [PinRow(str(package.pins[key]), name, connect) for key, name, connect in roles
-            if key in package.pins]
+def _pin_rows(circuit: Circuit, package: Any) -> list[PinRow]:
+    rows = [PinRow(str(package.pins[key]), name, connect)
+            for key, name, connect in circuit.pins if key in package.pins]
     if package.unused_inputs:
         rows.append(PinRow(", ".join(str(p) for p in package.unused_inputs),
                            "unused gate inputs", "GND (never leave them open)"))
@@ -524,37 +518,19 @@ def _pin_rows(circuit: str, package: Any) -> list[PinRow]:
 
 
 def _threshold_text(osc: Oscillator) -> str:
-    if osc.circuit.name == "555":
-        return f"comparators at {osc.vt_plus_v:.2f} V and {osc.vt_minus_v:.2f} V"
-    text = f"VT+ {osc.vt_plus_v:.2f} V, VT− {osc.vt_minus_v:.2f} V"
-    if osc.calibration:
-        return f"{text} (calibration “{osc.calibration}”)"
-    if osc.thresholds_given:
-        return f"{text} (given; no threshold spread)"
-    return f"{text} (device table, typical)"
+    source = (f"calibration “{osc.calibration}”" if osc.calibration else
+              "given; no threshold spread" if osc.thresholds_given else "device table, typical")
+    return osc.circuit.threshold_words.format(plus=osc.vt_plus_v, minus=osc.vt_minus_v,
+                                              source=source)
 
 
 def _build_notes(osc: Oscillator, package: Any, networks: Mapping[str, Node],
                  trim: bool) -> list[str]:
     """What an experienced builder would tell a newcomer (common practice, no published source)."""
     notes = [n[:1].upper() + n[1:] for n in package.notes]
-    if osc.circuit.name == "555":
-        notes += [
-            "Keep the timing capacitor and RB close to pins 2 and 6, and its ground lead "
-            "short to pin 1.",
-            "Drive loads from pin 3 through a series resistor; a relay or motor needs a "
-            "flyback diode across it.",
-        ]
-    else:
-        notes += [
-            "Keep the timing leads short: the capacitor right at the input pin, its ground "
-            "end straight to the chip's GND pin; route the resistor away from other signals.",
-            "Buffer any load through another gate of the same chip (its input on OUT): a "
-            "load on the timing output shifts the output levels and with them the frequency.",
-        ]
-        if not trim:  # the adjustment procedure says where to measure
-            notes.append("Measure at a buffered output, never with a probe on the timing "
-                         "capacitor: a probe's 10–15 pF adds to C.")
+    notes += osc.circuit.layout_notes
+    if osc.circuit.measure_note and not trim:  # else the adjustment says where to measure
+        notes.append(osc.circuit.measure_note)
     caps = [p for p in networks["C"].parts()]
     if any(p.dielectric in ("x7r", "x5r", "y5v", "z5u") for p in caps):
         notes.append("The timing capacitor is a high-k ceramic (X7R/X5R/Y5V): its value moves "

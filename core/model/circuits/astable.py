@@ -124,6 +124,26 @@ class Astable555(Circuit):
         return 0.0
 
 
+PINS = (("gnd", "GND", "supply 0 V"),
+        ("trigger", "TRIG", "timing node (join to THR, 6)"),
+        ("output", "OUT", "output; buffer heavy loads"),
+        ("reset", "RESET", "VCC (held high: always running)"),
+        ("control", "CV", "10 nF to GND"),
+        ("threshold", "THR", "timing node: C to GND, RB to DIS"),
+        ("discharge", "DIS", "between RA and RB"),
+        ("vcc", "VCC", "+ supply; 100 nF to GND right at the pin"))
+"""The timer's pins for the build sheet (NE555 data sheet pin functions)."""
+LAYOUT_NOTES = (
+    "Keep the timing capacitor and RB close to pins 2 and 6, and its ground lead "
+    "short to pin 1.",
+    "Drive loads from pin 3 through a series resistor; a relay or motor needs a "
+    "flyback diode across it.",
+)
+"""Common practice, no published source."""
+
 ASTABLE = Astable555(name="555", title="555 timer",
                      roles=(Role("RA", "R"), Role("RB", "R"), Role("C", "C")),
-                     default_family="NE555", steerable=True)
+                     default_family="NE555", steerable=True, oscillator="555 astable",
+                     short="555 astable",
+                     threshold_words="comparators at {plus:.2f} V and {minus:.2f} V",
+                     pins=PINS, layout_notes=LAYOUT_NOTES)

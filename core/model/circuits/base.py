@@ -49,6 +49,12 @@ class Circuit(ABC):
     may be put in series with; ``steerable`` whether a steering diode (and so a
     duty target) applies; ``output_drives_timing`` whether the timing resistor
     hangs on the output pin (a load there then moves the frequency).
+    ``oscillator`` names the whole oscillator, ``short`` in a heading;
+    ``threshold_words`` formats the thresholds (``plus``, ``minus`` [V] and
+    where they come from, ``source``). As data for core.output: ``pins``, the
+    pin hookup (package role, pin name, what it connects to), and
+    ``layout_notes``, what a builder should know about the layout, and
+    ``measure_note``, where to measure (when no adjustment procedure says it).
     """
 
     name: str
@@ -58,11 +64,22 @@ class Circuit(ABC):
     trimmable: tuple[str, ...] = ()
     steerable: bool = False
     output_drives_timing: bool = False
+    oscillator: str = ""
+    short: str = ""
+    threshold_words: str = ""
+    pins: tuple[tuple[str, str, str], ...] = ()
+    layout_notes: tuple[str, ...] = ()
+    measure_note: str = ""
 
     @property
     def keys(self) -> tuple[str, ...]:
         """The part values the circuit needs, as keys of ``values``."""
         return tuple(r.key for r in self.roles)
+
+    @property
+    def value_flags(self) -> str:
+        """The command line's flags for the part values: ``--r R --c C``."""
+        return " ".join(f"--{r.key.lower()} {r.kind}" for r in self.roles)
 
     @property
     def resistors(self) -> tuple[str, ...]:

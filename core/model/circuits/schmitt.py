@@ -106,6 +106,26 @@ class SchmittInverter(Circuit):
                 f"{format_quantity(max(r_limit, 0.0), 'resistance')}")
 
 
+PINS = (("input", "gate input", "timing node: C to GND, R (and pot) from output"),
+        ("tie_high", "second NAND input", "VCC (the NAND works as an inverter)"),
+        ("output", "gate output", "R (and pot) back to the input; OUT"),
+        ("vcc", "supply", "+ supply; 100 nF to GND right at the pin"),
+        ("gnd", "ground", "supply 0 V"))
+"""The gate's pins for the build sheet (a NAND's second input where the package has one)."""
+LAYOUT_NOTES = (
+    "Keep the timing leads short: the capacitor right at the input pin, its ground "
+    "end straight to the chip's GND pin; route the resistor away from other signals.",
+    "Buffer any load through another gate of the same chip (its input on OUT): a "
+    "load on the timing output shifts the output levels and with them the frequency.",
+)
+"""Common practice, no published source."""
+
 SCHMITT = SchmittInverter(name="schmitt", title="Schmitt-trigger inverter",
                           roles=(Role("R", "R"), Role("C", "C")), default_family="74HC14",
-                          trimmable=("R",), output_drives_timing=True)
+                          trimmable=("R",), output_drives_timing=True,
+                          oscillator="Schmitt-trigger inverter RC oscillator",
+                          short="Schmitt oscillator",
+                          threshold_words="VT+ {plus:.2f} V, VT− {minus:.2f} V ({source})",
+                          pins=PINS, layout_notes=LAYOUT_NOTES,
+                          measure_note="Measure at a buffered output, never with a probe on "
+                          "the timing capacitor: a probe's 10–15 pF adds to C.")
