@@ -12,7 +12,7 @@ from typing import Any
 
 import numpy as np
 
-from core.units import Tolerance, format_frequency
+from core.units import format_frequency
 from gui.search_worker import Outcome
 
 MC_BUILDS = 10_000
@@ -63,7 +63,7 @@ def builds(osc: Any, cand: Any) -> Any:
     """Monte Carlo of ``MC_BUILDS`` builds of a search candidate (core.model.spread.MonteCarlo)."""
     from core.model.spread import monte_carlo
 
-    return monte_carlo(osc, cand.values, network_tolerances(cand.networks), n=MC_BUILDS,
+    return monte_carlo(osc, cand.values, cand.tolerances_at(), n=MC_BUILDS,
                        seed=0, diode_steered=cand.diode_steered)
 
 
@@ -94,16 +94,6 @@ def chip_spread_advice(outcome: Outcome, cand: Any) -> str:
 
 def _band(lo_hi: tuple[float, float]) -> str:
     return f"{format_frequency(lo_hi[0])} … {format_frequency(lo_hi[1])}"
-
-
-def network_tolerances(networks: dict[str, Any]) -> dict[str, Tolerance]:
-    """Each network's spread as a tolerance about its nominal value (from its parts)."""
-    out = {}
-    for key, node in networks.items():
-        lo, hi = node.value_range()
-        value = node.value
-        out[key] = Tolerance(max(0.0, 1 - lo / value), max(0.0, hi / value - 1))
-    return out
 
 
 def draw_steps(plots: Any, outcome: Outcome, candidate: Any) -> Iterator[None]:
@@ -143,7 +133,7 @@ def _draw_search(plots: Any, outcome: Outcome, cand: Any) -> Iterator[None]:
 
 
 def _draw_trim(plots: Any, outcome: Outcome, cand: Any) -> Iterator[None]:
-    from core.design.trim import frequency_at_rotation, pot_resistance, rotation_for
+    from core.design.trim import frequency_at_rotation, rotation_for
 
     osc, target = outcome.oscillator, outcome.target
     assert target.band_hz is not None
@@ -159,7 +149,5 @@ def _draw_trim(plots: Any, outcome: Outcome, cand: Any) -> Iterator[None]:
     yield
     centre = float(np.sqrt(lo_band * hi_band))
     turn = rotation_for(osc, cand, centre)
-    pot = float(pot_resistance(cand.values["P"], turn, cand.taper))
-    values = {"R": cand.values["R"] + pot, "C": cand.values["C"]}
-    _waveform(plots, osc, values, False,
+    _waveform(plots, osc, cand.values_at(turn), False,
               f"At {turn:.0f} % rotation: {format_frequency(centre)}")

@@ -16,8 +16,7 @@ from typing import Any
 from core.cli.circuit_options import oscillator_from_args
 from core.cli.common import add_json_option, count_arg, emit, percent_arg
 from core.cli.search_commands import add_design_options, find_designs, read_stock
-from core.design.search import Candidate
-from core.design.trim import TrimCandidate
+from core.design.design import Design
 from core.errors import InputError, SetupError, TickbinError
 from core.model.drift import Conditions
 from core.model.timing import Oscillator
@@ -78,17 +77,17 @@ def _page_size(text: str) -> str:
 
 
 @dataclass
-class Design:
-    """The candidate a command works on, with where it came from."""
+class Picked:
+    """The design a command works on, with where it came from."""
 
     osc: Oscillator
     drawer: Drawer
-    candidate: Candidate | TrimCandidate
+    candidate: Design
     target: str
     notes: list[str]
 
 
-def design_from_args(args: argparse.Namespace) -> Design:
+def design_from_args(args: argparse.Namespace) -> Picked:
     """Run the search or trim the options describe and pick the ``--pick``-th candidate."""
     if (args.target is None) == (args.band is None):
         raise InputError("give --target FREQ (a fixed design) or --band LO..HI (a trim "
@@ -107,7 +106,7 @@ def design_from_args(args: argparse.Namespace) -> Design:
     if args.pick > len(found):
         raise InputError(f"--pick {args.pick}: there {'is' if len(found) == 1 else 'are'} "
                          f"only {len(found)} candidate{'s' if len(found) != 1 else ''}")
-    return Design(osc, drawer, found[args.pick - 1], target, notes)
+    return Picked(osc, drawer, found[args.pick - 1], target, notes)
 
 
 def output_path(args: argparse.Namespace) -> Path:
@@ -168,7 +167,7 @@ def _sheet_text(result: dict[str, Any]) -> str:
 def run_netlist(args: argparse.Namespace) -> int:
     out = output_path(args)
     design = design_from_args(args)
-    if args.rotation is not None and not isinstance(design.candidate, TrimCandidate):
+    if args.rotation is not None and not design.candidate.has_pot:
         raise InputError("--rotation applies to trim designs (--band)")
     text = spice_netlist(design.osc, design.candidate, rotation_pct=args.rotation,
                          title=f"Tickbin design for {design.target}")

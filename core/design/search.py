@@ -40,6 +40,7 @@ from typing import Any
 
 import numpy as np
 
+from core.design.design import Design
 from core.errors import InputError
 from core.model.leakage import capacitor_leakage_a, network_leakage_a
 from core.model.spread import worst_case_hz
@@ -69,7 +70,7 @@ LN2 = math.log(2.0)
 
 
 @dataclass(frozen=True)
-class Candidate:
+class Candidate(Design):
     """One build from the drawer: values [Ω, F], their networks, and what it will do.
 
     ``frequency_hz`` is the full model's; ``error_pct`` is (f − target)/target × 100;
@@ -88,11 +89,6 @@ class Candidate:
     notes: list[str] = field(default_factory=list)
     duty_asked_pct: float | None = None
     hit: bool = False
-
-    @property
-    def part_count(self) -> int:
-        """Parts over all the networks (the ranking's "fewest parts")."""
-        return sum(n.part_count for n in self.networks.values())
 
     @property
     def duty_error_pct(self) -> float | None:

@@ -10,11 +10,9 @@ end the lowest zero-rotation frequency (DESIGN.md contract). Designs are
 ranked finest adjustment first (smallest nominal range_hz[1] / range_hz[0]),
 then fewest parts.
 
-Taper laws (rotation x from 0 to 1, resistance as a share of end-to-end):
-linear r = x; logarithmic ("audio") r = (81^x − 1) / 80, an exponential law
-through 0, 10 % at mid-rotation and 100 %: the usual description of an A
-taper (common practice, no published source; real log pots are often two
-straight segments meeting near 10–15 % at mid-rotation).
+The pot's taper laws and "fixed R plus pot at a rotation" live with the
+design shape (core/design/design.py); real log pots are often two straight
+segments meeting near 10–15 % at mid-rotation.
 """
 
 from __future__ import annotations
@@ -26,6 +24,7 @@ from typing import Any
 
 import numpy as np
 
+from core.design.design import Design, pot_resistance, rotation_for_share
 from core.design.search import schmitt_frequency, schmitt_resistance
 from core.errors import InputError
 from core.model.spread import calibration_factors
@@ -34,30 +33,13 @@ from core.parts.drawer import Part
 from core.parts.networks import DrawerIndex, NetworkIndex, Node, drawer_index, single
 from core.units import format_frequency
 
-LOG_TAPER_BASE = 81.0
-"""Base of the log taper law r = (b^x − 1)/(b − 1); b = 81 puts 10 % at mid-rotation."""
 MARGIN = 1e-7
 """Relative margin on the corner conditions, far above the 1e-9 to which the needed
 resistances are solved, so a network picked by them passes the full corner check."""
 
 
-def pot_resistance(end_to_end_ohm: Any, rotation_pct: Any, taper: str = "lin") -> np.ndarray:
-    """Resistance [Ω] between wiper and the tied end at ``rotation_pct`` [%] (0…100)."""
-    x = np.clip(np.asarray(rotation_pct, dtype=float) / 100.0, 0.0, 1.0)
-    share = x if taper == "lin" else (LOG_TAPER_BASE ** x - 1.0) / (LOG_TAPER_BASE - 1.0)
-    return np.asarray(end_to_end_ohm, dtype=float) * share
-
-
-def rotation_for_share(share: Any, taper: str = "lin") -> np.ndarray:
-    """Rotation [%] that puts ``share`` (0…1) of the end-to-end resistance in circuit."""
-    s = np.asarray(share, dtype=float)
-    if taper == "lin":
-        return 100.0 * s
-    return 100.0 * np.log1p(s * (LOG_TAPER_BASE - 1.0)) / math.log(LOG_TAPER_BASE)
-
-
 @dataclass(frozen=True)
-class TrimCandidate:
+class TrimCandidate(Design):
     """A trim design: fixed R, pot P, capacitor C (values [Ω, F]) and what it reaches.
 
     ``range_hz`` (at full rotation, at zero rotation) is nominal;
@@ -73,16 +55,6 @@ class TrimCandidate:
     rotation_pct: tuple[float, float]
     resolution_hz_per_pct: float
     notes: list[str] = field(default_factory=list)
-
-    @property
-    def part_count(self) -> int:
-        """Parts over R, P and C (the ranking's "fewest parts")."""
-        return sum(n.part_count for n in self.networks.values())
-
-    @property
-    def taper(self) -> str:
-        """The pot's taper, ``lin`` or ``log``."""
-        return self.networks["P"].parts()[0].taper
 
     def to_json(self) -> dict[str, Any]:
         return {
@@ -305,3 +277,16 @@ def rotation_for(osc: Oscillator, candidate: TrimCandidate, frequency_hz: Any) -
     share = np.where((share >= -1e-9) & (share <= 1 + 1e-9), np.clip(share, 0.0, 1.0), np.nan)
     rotation = rotation_for_share(share, candidate.taper)
     return rotation if rotation.ndim else float(rotation)
+
+
+def design_band(osc: Oscillator, candidate: TrimCandidate) -> tuple[float, float]:
+    """The band the design was found for (low, high) [Hz], from its rotations."""
+    rot_high, rot_low = candidate.rotation_pct
+    f = frequency_at_rotation(osc, candidate, np.array([rot_low, rot_high]))
+    return float(f[0]), float(f[1])
+
+
+def start_rotation(osc: Oscillator, candidate: TrimCandidate) -> float:
+    """Rotation [%] that puts a nominal build in the middle of its band."""
+    lo, hi = design_band(osc, candidate)
+    return float(rotation_for(osc, candidate, 0.5 * (lo + hi)))

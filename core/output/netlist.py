@@ -36,11 +36,10 @@ from collections.abc import Iterator, Mapping
 from pathlib import Path
 
 from core import __version__
-from core.design.search import Candidate
-from core.design.trim import TrimCandidate, pot_resistance
+from core.design.design import Design
+from core.design.trim import start_rotation
 from core.errors import SetupError, TickbinError
 from core.model.timing import Oscillator, Prediction, predict, waveform
-from core.output.sheet import start_rotation
 from core.parts.networks import Node
 from core.units import format_part_value, format_quantity
 
@@ -154,39 +153,37 @@ def _run_lines(period: float, shortest: float, v_start: float, v_mid: float) -> 
     ]
 
 
-def model_values(osc: Oscillator, candidate: Candidate | TrimCandidate,
+def model_values(osc: Oscillator, candidate: Design,
                  rotation_pct: float | None = None) -> tuple[dict[str, float], float, float]:
     """(model values [Ω, F], pot rotation [%], pot resistance in circuit [Ω]) of a design.
 
     A trim design's pot sits at ``rotation_pct`` (default: the middle of the
     band); fixed designs give rotation and pot resistance 0.
     """
-    if not isinstance(candidate, TrimCandidate):
-        return {k: float(v) for k, v in candidate.values.items()}, 0.0, 0.0
+    if not candidate.has_pot:
+        return candidate.values_at(), 0.0, 0.0
     rotation = start_rotation(osc, candidate) if rotation_pct is None else float(rotation_pct)
-    share = float(pot_resistance(candidate.networks["P"].value, rotation, candidate.taper))
-    return ({"R": candidate.networks["R"].value + share, "C": candidate.networks["C"].value},
-            rotation, share)
+    return candidate.values_at(rotation), rotation, candidate.pot_share(rotation)
 
 
-def model_prediction(osc: Oscillator, candidate: Candidate | TrimCandidate,
+def model_prediction(osc: Oscillator, candidate: Design,
                      rotation_pct: float | None = None) -> Prediction:
     """What the timing model predicts for the design the netlist describes."""
     values, _, _ = model_values(osc, candidate, rotation_pct)
-    return predict(osc, values, diode_steered=bool(getattr(candidate, "diode_steered", False)))
+    return predict(osc, values, diode_steered=candidate.diode_steered)
 
 
-def spice_netlist(osc: Oscillator, candidate: Candidate | TrimCandidate,
+def spice_netlist(osc: Oscillator, candidate: Design,
                   rotation_pct: float | None = None, title: str = "") -> str:
     """The design as a SPICE netlist (text), ready for ``ngspice -b``.
 
     For a trim design the pot sits at ``rotation_pct`` [%] (default: the middle
     of the band, as on the build sheet).
     """
-    trim = isinstance(candidate, TrimCandidate)
+    trim = candidate.has_pot
     networks = dict(candidate.networks)
     d = osc.device
-    steered = bool(getattr(candidate, "diode_steered", False))
+    steered = candidate.diode_steered
     values, rotation, share = model_values(osc, candidate, rotation_pct)
     pred = model_prediction(osc, candidate, rotation_pct)
     _, v_cap, _ = waveform(osc, values, periods=1, points=2, diode_steered=steered)

@@ -17,9 +17,14 @@ from typing import Any
 
 import numpy as np
 
+from core.design.design import Design
 from core.design.robust import network_envelope
-from core.design.search import Candidate
-from core.design.trim import TrimCandidate, frequency_at_rotation, pot_resistance, rotation_for
+from core.design.trim import (
+    TrimCandidate,
+    design_band,
+    frequency_at_rotation,
+    start_rotation,
+)
 from core.errors import InputError
 from core.model.circuits.base import Circuit
 from core.model.diode import SMALL_SIGNAL_DIODE
@@ -31,7 +36,6 @@ from core.parts.drawer import Drawer, Part
 from core.parts.networks import Node
 from core.parts.notation import NOTATION
 from core.units import (
-    Tolerance,
     format_capacitance,
     format_part_value,
     format_quantity,
@@ -142,13 +146,6 @@ class Sheet:
 
 def _hz(value: float) -> str:
     return format_quantity(value, "frequency")
-
-
-def _network_tolerance(node: Node) -> Tolerance:
-    """The network's value range as a tolerance about its nominal value."""
-    lo, hi = node.value_range()
-    v = node.value
-    return Tolerance(max(0.0, 1 - lo / v), max(0.0, hi / v - 1))
 
 
 def _describe(part: Part) -> str:
@@ -289,7 +286,7 @@ def _parts_list(osc: Oscillator, schematic: Schematic, networks: Mapping[str, No
     return rows, take
 
 
-def build_sheet(osc: Oscillator, candidate: Candidate | TrimCandidate, target: str, *,
+def build_sheet(osc: Oscillator, candidate: Design, target: str, *,
                 stock: Sequence[Part] = (), ratings: Mapping[int, str] | None = None,
                 today: _dt.date | None = None, conditions: Conditions | None = None) -> Sheet:
     """The build sheet for ``candidate`` on ``osc``.
@@ -301,13 +298,13 @@ def build_sheet(osc: Oscillator, candidate: Candidate | TrimCandidate, target: s
     to check polarised capacitors against the supply; ``conditions`` the
     temperature and supply ranges the build must work over (their drift lines).
     """
-    trim = isinstance(candidate, TrimCandidate)
+    trim = candidate.has_pot
     family = osc.family
     package = family.package
     supply = osc.supply_v
     supply_text = format_quantity(supply, "voltage")
     networks: dict[str, Node] = dict(candidate.networks)
-    steered = bool(getattr(candidate, "diode_steered", False))
+    steered = candidate.diode_steered
     schematic = DRAWINGS[osc.circuit.name](osc, networks, f"+{supply_text}", steered)
     rows, take = _parts_list(osc, schematic, networks, stock, steered)
 
@@ -317,7 +314,7 @@ def build_sheet(osc: Oscillator, candidate: Candidate | TrimCandidate, target: s
     adjustment: list[str] = []
     if trim:
         start = start_rotation(osc, candidate)
-        model_values, model_tol = _values_at_rotation(candidate, start)
+        model_values, model_tol = candidate.values_at(start), candidate.tolerances_at(start)
         frequency = float(frequency_at_rotation(osc, candidate, start))
         prediction = predict(osc, model_values, model_tol, dielectric=dielectric)
         adjustment = _adjustment(osc, candidate, start, frequency, refs_of(schematic, "P"))
@@ -337,8 +334,7 @@ def build_sheet(osc: Oscillator, candidate: Candidate | TrimCandidate, target: s
                     strict=True))),
         ]
     else:
-        model_values = {k: float(v) for k, v in candidate.values.items()}
-        model_tol = {k: _network_tolerance(n) for k, n in networks.items()}
+        model_values, model_tol = candidate.values_at(), candidate.tolerances_at()
         prediction = predict(osc, model_values, model_tol, dielectric=dielectric, **extra)
         frequency = float(candidate.frequency_hz)
         predictions += [("Predicted frequency", _hz(frequency)),
@@ -406,7 +402,7 @@ def build_sheet(osc: Oscillator, candidate: Candidate | TrimCandidate, target: s
     )
 
 
-def _drift_rows(osc: Oscillator, candidate: Candidate | TrimCandidate,
+def _drift_rows(osc: Oscillator, candidate: Any,
                 model_values: Mapping[str, float], conditions: Conditions, steered: bool
                 ) -> list[tuple[str, str]]:
     """The drift lines: nominal parts over the temperature and supply ranges, and the
@@ -423,7 +419,7 @@ def _drift_rows(osc: Oscillator, candidate: Candidate | TrimCandidate,
         lo_v, hi_v = conditions.supply_v
         lo, hi = supply_hz(osc, model_values, lo_v, hi_v, steered)
         rows.append((f"Nominal parts over {lo_v:g}…{hi_v:g} V", f"{_hz(lo)} … {_hz(hi)}"))
-    if isinstance(candidate, TrimCandidate):
+    if candidate.has_pot:  # a trim design: the band it guarantees
         lo, hi = candidate.guaranteed_hz
         rows.append((f"Reached by every build over {conditions.describe()}",
                      f"{_hz(lo)} … {_hz(hi)}"))
@@ -446,37 +442,10 @@ def _common_dielectric(node: Node) -> str:
     return kinds.pop() if len(kinds) == 1 else ""
 
 
-def _band(osc: Oscillator, candidate: TrimCandidate) -> tuple[float, float]:
-    """The band the design was found for (low, high) [Hz], from its rotations."""
-    rot_high, rot_low = candidate.rotation_pct
-    f = frequency_at_rotation(osc, candidate, np.array([rot_low, rot_high]))
-    return float(f[0]), float(f[1])
-
-
-def start_rotation(osc: Oscillator, candidate: TrimCandidate) -> float:
-    """Rotation [%] that puts a nominal build in the middle of its band."""
-    lo, hi = _band(osc, candidate)
-    return float(rotation_for(osc, candidate, 0.5 * (lo + hi)))
-
-
-def _values_at_rotation(candidate: TrimCandidate, rotation_pct: float
-                        ) -> tuple[dict[str, float], dict[str, Tolerance]]:
-    """Schmitt model values (R = fixed R + pot share, C) and their tolerances at one rotation."""
-    r, p, c = (candidate.networks[k] for k in ("R", "P", "C"))
-    (r_lo, r_hi), (p_lo, p_hi) = r.value_range(), p.value_range()
-
-    def total(fixed: float, pot: float) -> float:
-        return fixed + float(pot_resistance(pot, rotation_pct, candidate.taper))
-
-    nominal = total(r.value, p.value)
-    tol = Tolerance(1 - total(r_lo, p_lo) / nominal, total(r_hi, p_hi) / nominal - 1)
-    return {"R": nominal, "C": c.value}, {"R": tol, "C": _network_tolerance(c)}
-
-
 def _adjustment(osc: Oscillator, candidate: TrimCandidate, start: float, f_start: float,
                 pot_ref: str) -> list[str]:
     """The bench procedure for a trim design (common practice, no published source)."""
-    lo, hi = _band(osc, candidate)
+    lo, hi = design_band(osc, candidate)
     rot_high, rot_low = candidate.rotation_pct
     pot = candidate.networks["P"].parts()[0]
     resolution = _hz(candidate.resolution_hz_per_pct)
@@ -592,7 +561,7 @@ class Taken:
                 "count": self.count, "before": self.before, "after": self.after}
 
 
-def take_parts(drawer: Drawer, used: Sheet | Candidate | TrimCandidate) -> list[Taken]:
+def take_parts(drawer: Drawer, used: Sheet | Design) -> list[Taken]:
     """Lower the drawer's quantities by the parts a build used, as one undo step.
 
     ``used`` is the build sheet (its timing parts and the decoupling
