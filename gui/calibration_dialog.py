@@ -165,11 +165,12 @@ def _fitted(cal: Calibration) -> str:
 
 def _part_tolerances(candidate: Any) -> dict[str, str]:
     """The widest tolerance of the candidate's resistors and of its capacitor, as text."""
-    from gui.plot_data import network_tolerances
+    from core.design.design import network_tolerance
 
-    networks = getattr(candidate, "networks", None)
+    networks = getattr(candidate, "networks", None) or {}
     widest: dict[str, float] = {}
-    for key, tol in network_tolerances(dict(networks or {})).items():
+    for key, node in networks.items():
+        tol = network_tolerance(node)
         if key[0] in "RC":
             widest[key[0]] = max(widest.get(key[0], 0.0), tol.minus, tol.plus)
     return {kind: f"{100 * w:.3g}%" for kind, w in widest.items()}
