@@ -6,6 +6,7 @@ The model keeps a reference to core's candidate list and formats it with
 
 from __future__ import annotations
 
+import math
 from collections import Counter
 from collections.abc import Callable, Sequence
 from typing import Any
@@ -18,6 +19,9 @@ from core.units import format_frequency, format_signed_pct
 
 CANDIDATE_ROLE = Qt.ItemDataRole.UserRole + 10
 """Role giving the core candidate object of a row."""
+
+SORT_ROLE = Qt.ItemDataRole.UserRole + 11
+"""Role giving the number a column sorts by (a value, not its text)."""
 
 GOOD = QColor(40, 110, 70)
 FAR = QColor(150, 90, 30)
@@ -73,6 +77,21 @@ def _band(lo_hi: Sequence[float]) -> str:
 
 
 Column = tuple[str, str, Callable[[Any], str]]
+
+SORT_KEYS: dict[str, Callable[[Any], float]] = {
+    "Frequency": lambda c: c.frequency_hz,
+    "Error": lambda c: abs(c.error_pct),  # nearest the target first, either side
+    "Duty": lambda c: c.duty_pct,
+    "Duty error": lambda c: abs(c.duty_error_pct),
+    # Narrowest first; a candidate that may stop at some corner last.
+    "Worst case": lambda c: math.inf if c.stops else c.worst_case_hz[1] / c.worst_case_hz[0],
+    "Guaranteed": lambda c: c.guaranteed_hz[1] / c.guaranteed_hz[0],
+    "Nominal range": lambda c: c.range_hz[1] / c.range_hz[0],
+    "Rotation at band": lambda c: abs(c.rotation_pct[1] - c.rotation_pct[0]),
+    "Resolution": lambda c: c.resolution_hz_per_pct,
+}
+"""What a column sorts by where its text would sort wrongly; networks sort by value."""
+NETWORK_OF = {**{heading: key for key, heading in NETWORK_HEADINGS.items()}, "Fixed R": "R"}
 
 
 STOPS_MARK = "⚠ stops"
@@ -136,13 +155,10 @@ class CandidatesModel(QAbstractTableModel):
         self._candidates: list[Any] = []
         self._columns: list[Column] = _search_columns(("R", "C"), False)
         self.trim = False
-        self.columns_changed = True
-        """Whether the last ``set_result`` changed the columns (views refit them then)."""
 
     def set_result(self, candidates: Sequence[Any], trim: bool) -> None:
         """Show ``candidates`` (core Candidate or TrimCandidate objects)."""
         self.beginResetModel()
-        before = self.headings()
         self._candidates = list(candidates)
         self.trim = trim
         if trim:
@@ -151,7 +167,6 @@ class CandidatesModel(QAbstractTableModel):
             keys = list(self._candidates[0].networks) if self._candidates else ["R", "C"]
             with_duty = any(c.duty_asked_pct is not None for c in self._candidates)
             self._columns = _search_columns(keys, with_duty)
-        self.columns_changed = self.headings() != before
         self.endResetModel()
 
     def headings(self) -> list[str]:
@@ -176,6 +191,8 @@ class CandidatesModel(QAbstractTableModel):
             return fmt(cand)
         if role == CANDIDATE_ROLE:
             return cand
+        if role == SORT_ROLE:
+            return self._sort_key(cand, heading, fmt)
         stops = not self.trim and cand.stops
         if role == Qt.ItemDataRole.ToolTipRole:
             notes = list(getattr(cand, "notes", []) or [])
@@ -189,6 +206,14 @@ class CandidatesModel(QAbstractTableModel):
                 "Frequency", "Error", "Duty", "Duty error"):
             return int(Qt.AlignmentFlag.AlignRight | Qt.AlignmentFlag.AlignVCenter)
         return None
+
+    @staticmethod
+    def _sort_key(cand: Any, heading: str, fmt: Callable[[Any], str]) -> Any:
+        if heading in SORT_KEYS:
+            return float(SORT_KEYS[heading](cand))
+        if heading in NETWORK_OF and NETWORK_OF[heading] in cand.networks:
+            return float(cand.networks[NETWORK_OF[heading]].value)
+        return fmt(cand)
 
     def headerData(self, section: int, orientation: Qt.Orientation,  # noqa: N802
                    role: int = Qt.ItemDataRole.DisplayRole) -> Any:

@@ -21,6 +21,7 @@ from PySide6.QtCore import (
     QEvent,
     QItemSelectionModel,
     QObject,
+    QSortFilterProxyModel,
     Qt,
     QTimer,
     Signal,
@@ -54,7 +55,7 @@ from core.storage.atomic import write_text_atomically
 from core.storage.locations import demo_drawer_path
 from gui import settings as keys
 from gui.autosave import INTERVAL_MS, Autosave
-from gui.candidates_model import CandidatesModel, parts_list, used_rows
+from gui.candidates_model import SORT_ROLE, CandidatesModel, parts_list, used_rows
 from gui.drawer_model import DrawerTableModel
 from gui.drawer_panel import DrawerPanel
 from gui.search_worker import Outcome, SearchRunner
@@ -157,6 +158,10 @@ class MainWindow(QMainWindow):
         self.drawer_panel = DrawerPanel(self.drawer_model)
         self.form = TargetForm()
         self.candidates = CandidatesModel(self)
+        self.candidate_order = QSortFilterProxyModel(self)
+        """The candidates as the view shows them: ranked, or sorted by a clicked header."""
+        self.candidate_order.setSourceModel(self.candidates)
+        self.candidate_order.setSortRole(SORT_ROLE)
         self.candidate_view = self._candidate_view()
         self.details = QLabel()
         self.details.setWordWrap(True)
@@ -216,7 +221,7 @@ class MainWindow(QMainWindow):
     # ------------------------------------------------------------ building
     def _candidate_view(self) -> QTableView:
         view = QTableView()
-        view.setModel(self.candidates)
+        view.setModel(self.candidate_order)
         view.setAccessibleName("candidates")
         view.setSelectionBehavior(QAbstractItemView.SelectionBehavior.SelectRows)
         view.setSelectionMode(QAbstractItemView.SelectionMode.SingleSelection)
@@ -228,7 +233,9 @@ class MainWindow(QMainWindow):
         header = view.horizontalHeader()
         header.setStretchLastSection(True)
         header.setSectionResizeMode(QHeaderView.ResizeMode.Interactive)
-        self._fitted = False
+        header.setSortIndicator(-1, Qt.SortOrder.AscendingOrder)  # ranked until a click
+        view.setSortingEnabled(True)
+        self._fitted_for: list[str] = []
         self.candidates.modelReset.connect(lambda: self._fit_columns(view))
         # Room for the header and four candidates however small the window.
         view.setMinimumHeight(view.horizontalHeader().sizeHint().height()
@@ -236,17 +243,18 @@ class MainWindow(QMainWindow):
         return view
 
     def _fit_columns(self, view: QTableView) -> None:
-        """Fit columns to the first rows of a new kind of result (cheap), then leave them."""
-        if self._fitted and not self.candidates.columns_changed:
+        """Size the columns of each new kind of result (search, band, 555) to their headings
+        and first rows, then leave them to the person; a new kind also goes back to ranked."""
+        headings = self.candidates.headings()
+        if headings == self._fitted_for or not self.candidates.rowCount():
             return
-        if not self.candidates.rowCount():
-            return
-        self._fitted = True
+        self._fitted_for = headings
+        view.horizontalHeader().setSortIndicator(-1, Qt.SortOrder.AscendingOrder)
+        self.candidate_order.sort(-1)
         view.resizeColumnsToContents()
-        cap = view.fontMetrics().horizontalAdvance("M") * 18
-        for column in range(view.model().columnCount() - 1):
-            if view.columnWidth(column) > cap:
-                view.setColumnWidth(column, cap)
+        last = len(headings) - 1  # the places: long, and whole in its tooltip
+        view.setColumnWidth(last, min(view.columnWidth(last),
+                                      view.fontMetrics().horizontalAdvance("M") * 18))
 
     def _build_layout(self) -> None:
         candidates_box = QWidget()
@@ -885,7 +893,8 @@ class MainWindow(QMainWindow):
         return self._slowest_ms
 
     def select_candidate(self, row: int) -> None:
-        index = self.candidates.index(row, 0)
+        """Select the candidate of rank ``row`` (0: the best), wherever the sort shows it."""
+        index = self.candidate_order.mapFromSource(self.candidates.index(row, 0))
         self.candidate_view.selectionModel().setCurrentIndex(
             index, QItemSelectionModel.SelectionFlag.ClearAndSelect
             | QItemSelectionModel.SelectionFlag.Rows)
@@ -893,7 +902,8 @@ class MainWindow(QMainWindow):
 
     def selected_candidate(self) -> Any:
         """The chosen core Candidate or TrimCandidate, or None."""
-        index = self.candidate_view.selectionModel().currentIndex()
+        index = self.candidate_order.mapToSource(
+            self.candidate_view.selectionModel().currentIndex())
         return self.candidates.candidate(index.row()) if index.isValid() else None
 
     def current_oscillator(self) -> Any:

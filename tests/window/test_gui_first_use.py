@@ -140,3 +140,83 @@ def test_saving_unreadable_cells_names_them_and_asks(qtbot, make_window, answers
     answers.append(b.Save)
     assert window.save()
     assert read_drawer(path, strict=False).rows[0].get("value") == "10kk"
+
+
+def _columns_read_whole(window) -> None:
+    """Every heading and every cell but the last column's (its places are whole in the
+    tooltip) fits its column."""
+    from PySide6.QtCore import Qt
+
+    view = window.candidate_view
+    header = view.horizontalHeader()
+    model = view.model()
+    metrics = view.fontMetrics()
+    padding = 2 * view.style().pixelMetric(view.style().PixelMetric.PM_FocusFrameHMargin) + 2
+    for column in range(model.columnCount() - 1):
+        heading = str(model.headerData(column, Qt.Orientation.Horizontal))
+        assert header.sectionSize(column) >= header.fontMetrics().horizontalAdvance(heading) \
+            + padding, heading
+        for row in range(model.rowCount()):
+            text = str(model.index(row, column).data())
+            assert metrics.horizontalAdvance(text) + padding <= header.sectionSize(column), (
+                heading, text)
+
+
+@pytest.mark.parametrize("width", [1024, 1600])
+def test_candidate_columns_fit_each_kind_of_result(qtbot, window, width):
+    window.resize(width, 900)
+    qtbot.waitUntil(lambda: window.width() == width)
+    _columns_read_whole(window)
+    supply = window.form.supply.text()
+    search_with(qtbot, window, mode="band", target="900..1100")
+    assert window.candidates.trim
+    _columns_read_whole(window)
+    search_with(qtbot, window, supply="fifty")  # an empty result between two kinds
+    search_with(qtbot, window, mode="target", target="1kHz", supply=supply)
+    assert not window.candidates.trim
+    _columns_read_whole(window)
+    search_with(qtbot, window, circuit="555")
+    assert "RA" in window.candidates.headings()
+    _columns_read_whole(window)
+    search_with(qtbot, window, circuit="schmitt")
+    _columns_read_whole(window)
+
+
+def test_every_candidates_heading_has_a_tooltip(qtbot, window):
+    from PySide6.QtCore import Qt
+
+    def tips() -> None:
+        model = window.candidate_view.model()
+        for column in range(model.columnCount()):
+            tip = model.headerData(column, Qt.Orientation.Horizontal, Qt.ItemDataRole.ToolTipRole)
+            assert tip and tip.strip(), model.headerData(column, Qt.Orientation.Horizontal)
+
+    tips()
+    search_with(qtbot, window, mode="band", target="900..1100")
+    tips()
+
+
+def test_clicking_a_heading_sorts_and_the_selection_follows(qtbot, window):
+    from PySide6.QtCore import QPoint, Qt
+
+    from gui.candidates_model import CANDIDATE_ROLE
+
+    view = window.candidate_view
+    model = view.model()
+    column = window.candidates.headings().index("Frequency")
+    window.select_candidate(2)
+    chosen = window.selected_candidate()
+    header = view.horizontalHeader()
+    qtbot.mouseClick(header.viewport(), Qt.MouseButton.LeftButton,
+                     pos=QPoint(header.sectionViewportPosition(column) + 5, 5))
+    shown = [model.index(r, 0).data(CANDIDATE_ROLE) for r in range(model.rowCount())]
+    frequencies = [c.frequency_hz for c in shown]
+    assert frequencies == sorted(frequencies) and shown != [
+        window.candidates.candidate(r) for r in range(model.rowCount())]
+    # The same candidate stays chosen, wherever the sort put it.
+    assert window.selected_candidate() is chosen
+    view.setCurrentIndex(model.index(0, 0))
+    assert window.selected_candidate() is shown[0]
+    # The vertical header still gives each candidate's rank.
+    rank = [window.candidates.candidate(r) for r in range(model.rowCount())].index(shown[0])
+    assert model.headerData(0, Qt.Orientation.Vertical) == str(rank + 1)
