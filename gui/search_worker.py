@@ -46,14 +46,6 @@ class Outcome:
     seconds: float
 
 
-def make_oscillator_for(target: Target) -> Any:
-    """The oscillator model for ``target`` (SetupError when the chip cannot do it)."""
-    from core.model.timing import make_oscillator
-
-    return make_oscillator(target.circuit, target.family, target.supply_v,
-                           calibration=target.calibration)
-
-
 class _Indexes:
     """Resistor and capacitor indexes, each cached on its kind's electrical content only
     (``core.parts.networks.electrical_key``): editing a location or note, or the other
@@ -115,26 +107,11 @@ class _Indexes:
 def compute(target: Target, parts: tuple[Part, ...], indexes: _Indexes,
             step: Callable[[str, float], None]) -> tuple[Any, Any]:
     """Oscillator model and core's search or trim result for ``target`` over ``parts``."""
-    osc = make_oscillator_for(target)
+    osc = target.oscillator()
     parts = target.usable(parts)
     index = indexes.get(parts, target.max_resistors, target.max_capacitors, step)
     step("Searching…", 1.0)
-    if target.trim:
-        from core.design.trim import trim
-
-        assert target.band_hz is not None
-        result = trim(list(parts), osc, target.band_hz, top=TOP,
-                      max_resistors=target.max_resistors,
-                      max_capacitors=target.max_capacitors, index=index)
-        return osc, result
-    from core.design.search import search
-
-    assert target.target_hz is not None
-    result = search(list(parts), osc, target.target_hz, duty_pct=target.duty_pct,
-                    max_resistors=target.max_resistors, max_capacitors=target.max_capacitors,
-                    accept_pct=target.accept_pct, top=TOP, index=index,
-                    duty_within=target.duty_within)
-    return osc, result
+    return osc, target.run(parts, osc, index=index, top=TOP)
 
 
 class _Signals(QObject):

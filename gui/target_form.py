@@ -27,6 +27,7 @@ from PySide6.QtWidgets import (
     QWidget,
 )
 
+from core.design.request import Request
 from core.errors import InputError, TickbinError
 
 Mode = Literal["frequency", "period", "band"]
@@ -49,34 +50,11 @@ wide enough for 5 % parts once the chip is trimmed out, fine enough to set by ha
 
 
 @dataclass(frozen=True)
-class Target:
-    """What the person asked for, parsed: SI units (Hz, V, %)."""
+class Target(Request):
+    """What the person asked for, parsed (SI units: Hz, V, %): core's request, and how the
+    target was typed (``mode``)."""
 
-    circuit: str
-    family: str
-    supply_v: float
-    mode: Mode
-    target_hz: float | None
-    band_hz: tuple[float, float] | None
-    duty_pct: float | None
-    accept_pct: float
-    max_resistors: int
-    max_capacitors: int
-    calibration: str | None
-    dielectrics: frozenset[str] | None = None
-    """Capacitor dielectrics allowed (lower-case drawer names); None: any."""
-    duty_within: float = 1.0
-    """Duty error [percentage points] that still counts as a hit."""
-
-    @property
-    def trim(self) -> bool:
-        return self.band_hz is not None
-
-    def usable(self, parts: tuple[Any, ...]) -> tuple[Any, ...]:
-        """The drawer's parts this target may use (the dielectric filter applied)."""
-        from core.parts.drawer import with_dielectrics
-
-        return tuple(with_dielectrics(parts, self.dielectrics))
+    mode: Mode = "frequency"
 
     def describe(self, duty: bool = True) -> str:
         """Short words for titles and sheets: ``1.00 kHz ±1 %`` or ``band 400 Hz … 480 Hz``

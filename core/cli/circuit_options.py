@@ -1,9 +1,10 @@
 """Options every circuit-aware sub-command shares, and the oscillator they describe.
 
 ``add_circuit_options(parser)`` adds --circuit, --family, --supply, --vt-plus,
---vt-minus, --calibration, --stray and --load; ``oscillator_from_args(args)``
-turns them into a ``core.model.timing.Oscillator`` (predict, calibrate, search, trim,
-sheet and netlist all use it).
+--vt-minus, --calibration, --stray and --load; ``request_from_args(args)`` turns
+them (and a design command's goal) into the ``core.design.request.Request`` the
+window builds too, and ``oscillator_from_args(args)`` into its oscillator
+(predict, calibrate, search, trim, sheet and netlist all use it).
 """
 
 from __future__ import annotations
@@ -11,13 +12,9 @@ from __future__ import annotations
 import argparse
 
 from core.cli.common import value_arg
-from core.model.calibration import load_calibration
-from core.model.circuits import CIRCUITS, DEFAULT_CIRCUIT
+from core.design.request import DEFAULT_SUPPLY_V, Request
+from core.model.circuits import CIRCUITS
 from core.model.circuits.base import DEFAULT_STRAY_F, Oscillator
-from core.model.devices import device_table
-from core.model.timing import make_oscillator
-
-DEFAULT_SUPPLY_V = 5.0
 
 
 def add_circuit_options(parser: argparse.ArgumentParser) -> None:
@@ -52,20 +49,25 @@ def _capacitance_or_zero(text: str) -> float:
     return value_arg("capacitance")(text)
 
 
+def request_from_args(args: argparse.Namespace) -> Request:
+    """The request the options describe: the circuit options, and the goal (target or band,
+    duty, accept, network sizes, --top, --dielectric) where the command has one."""
+    def goal(name: str, default: object = None) -> object:
+        value = getattr(args, name, None)
+        return default if value is None else value
+
+    return Request(circuit=args.circuit, family=args.family, supply_v=args.supply,
+                   calibration=args.calibration, vt_plus_v=args.vt_plus,
+                   vt_minus_v=args.vt_minus, stray_capacitance_f=args.stray,
+                   load_ohm=args.load, target_hz=goal("target"),  # type: ignore[arg-type]
+                   band_hz=goal("band"), duty_pct=goal("duty"),  # type: ignore[arg-type]
+                   duty_within=goal("duty_within"),  # type: ignore[arg-type]
+                   accept_pct=goal("accept", 1.0),  # type: ignore[arg-type]
+                   max_resistors=goal("max_resistors", 2),  # type: ignore[arg-type]
+                   max_capacitors=goal("max_capacitors", 2),  # type: ignore[arg-type]
+                   top=goal("top", 10), dielectrics=goal("dielectric"))  # type: ignore[arg-type]
+
+
 def oscillator_from_args(args: argparse.Namespace) -> Oscillator:
     """The oscillator the circuit options describe (InputError/SetupError if impossible)."""
-    circuit, family_name, supply = args.circuit, args.family, args.supply
-    calibration = None
-    if args.calibration is not None:
-        calibration = load_calibration(args.calibration)
-        family_name = family_name or calibration.family
-        supply = supply if supply is not None else calibration.supply_v
-    if family_name is None:
-        family_name = (CIRCUITS[circuit] if circuit else DEFAULT_CIRCUIT).default_family
-    family = device_table().family(family_name)
-    if circuit is None:
-        circuit = family.circuit
-    return make_oscillator(circuit, family, DEFAULT_SUPPLY_V if supply is None else supply,
-                           vt_plus=args.vt_plus, vt_minus=args.vt_minus,
-                           calibration=calibration, stray_capacitance_f=args.stray,
-                           load_ohm=args.load)
+    return request_from_args(args).oscillator()

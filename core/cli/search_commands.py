@@ -12,7 +12,7 @@ from collections.abc import Callable, Sequence
 from pathlib import Path
 from typing import Any
 
-from core.cli.circuit_options import add_circuit_options, oscillator_from_args
+from core.cli.circuit_options import add_circuit_options, request_from_args
 from core.cli.common import (
     add_json_option,
     arg_type,
@@ -24,8 +24,8 @@ from core.cli.common import (
 )
 from core.cli.drift_options import add_drift_options
 from core.design.robust import ROBUST_DEPTH, robust_search, robust_trim
-from core.design.search import DUTY_WITHIN_POINTS, Candidate, SearchResult, search
-from core.design.trim import TrimCandidate, TrimResult, trim
+from core.design.search import DUTY_WITHIN_POINTS, Candidate, SearchResult
+from core.design.trim import TrimCandidate, TrimResult
 from core.model.drift import Conditions
 from core.model.timing import Oscillator
 from core.parts.drawer import (
@@ -34,7 +34,6 @@ from core.parts.drawer import (
     dielectric_note,
     parse_dielectrics,
     read_drawer,
-    with_dielectrics,
 )
 from core.parts.networks import MAX_PARTS, Node
 from core.parts.notation import NOTATION
@@ -108,18 +107,11 @@ def read_stock(args: argparse.Namespace) -> tuple[Drawer, list[str]]:
 def find_designs(args: argparse.Namespace, osc: Oscillator, parts: list[Part],
                  top: int) -> SearchResult | TrimResult:
     """The trim (``--band``) or search (``--target``) the options describe."""
-    parts = with_dielectrics(parts, args.dielectric)
+    request = request_from_args(args)
     conditions = Conditions(args.temperature, args.supply_range)
-    if getattr(args, "band", None) is not None:
-        # Over a range some designs fall out: look deeper, keep ``top``.
-        result: SearchResult | TrimResult = trim(
-            parts, osc, args.band, top=top * ROBUST_DEPTH if conditions else top,
-            max_resistors=args.max_resistors,
-            max_capacitors=args.max_capacitors)
-    else:
-        result = search(parts, osc, args.target, duty_pct=args.duty,
-                        max_resistors=args.max_resistors, max_capacitors=args.max_capacitors,
-                        accept_pct=args.accept, top=top, duty_within=args.duty_within)
+    # Over a range some trim designs fall out: look deeper, keep ``top``.
+    result = request.run(parts, osc, top=top * ROBUST_DEPTH if conditions and request.trim
+                         else top)
     result = (robust_trim(osc, result, conditions, top) if isinstance(result, TrimResult)
               else robust_search(osc, result, conditions))
     if args.dielectric is not None:
@@ -136,7 +128,7 @@ def run_trim(args: argparse.Namespace) -> int:
 
 
 def _run_design(args: argparse.Namespace, as_text: Callable[..., str]) -> int:
-    osc = oscillator_from_args(args)
+    osc = request_from_args(args).oscillator()
     drawer, notes = read_stock(args)
     result = find_designs(args, osc, drawer.parts(), args.top)
     data = result.to_json()

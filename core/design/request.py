@@ -36,7 +36,8 @@ class Request:
     calibration's family and supply, else DEFAULT_SUPPLY_V). A ``band_hz``
     asks for a trim design, else ``target_hz`` for a search; ``dielectrics``
     (lower-case drawer names) restricts the capacitors, None allows any;
-    ``stray_capacitance_f`` None is the model's breadboard default.
+    ``stray_capacitance_f`` None is the model's breadboard default, ``duty_within``
+    [percentage points] None the search's.
     """
 
     circuit: str | None = None
@@ -45,6 +46,7 @@ class Request:
     target_hz: float | None = None
     band_hz: tuple[float, float] | None = None
     duty_pct: float | None = None
+    duty_within: float | None = None
     accept_pct: float = 1.0
     max_resistors: int = 2
     max_capacitors: int = 2
@@ -103,6 +105,7 @@ class Request:
                         max_capacitors=self.max_capacitors, index=index)
         if self.target_hz is None:
             raise InputError("a request needs a target frequency or a band")
+        within = {} if self.duty_within is None else {"duty_within": self.duty_within}
         return search(usable, osc, self.target_hz, duty_pct=self.duty_pct,
                       max_resistors=self.max_resistors, max_capacitors=self.max_capacitors,
-                      accept_pct=self.accept_pct, top=top, index=index)
+                      accept_pct=self.accept_pct, top=top, index=index, **within)
