@@ -503,14 +503,10 @@ class MainWindow(QMainWindow):
         QTimer.singleShot(1, self, lambda: self._in_steps(steps, done, generation))
 
     def _install_build_actions(self) -> None:
-        """Let the build-sheet module add its actions, if it offers them."""
-        try:
-            from gui import sheet_render
-        except ImportError:
-            return
-        install = getattr(sheet_render, "install_window_actions", None)
-        if install is not None:
-            install(self)
+        """Add the build actions (PDF, print, netlist, take parts) once the window is shown."""
+        from gui.sheet_actions import install
+
+        install(self)
 
     @property
     def plots(self) -> Any:

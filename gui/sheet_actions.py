@@ -1,7 +1,7 @@
 """The window's build actions: save the sheet as PDF, print it, export the netlist, take parts.
 
 ``install(window)`` adds them to the window's Build menu and tool bar (the window calls it
-through ``gui.sheet_render.install_window_actions`` once it is on screen). Each action
+once it is on screen; the PDF drawing in gui.sheet_render is loaded on first use). Each action
 works on the selected candidate; the sheet itself is built by core.
 """
 

@@ -561,10 +561,3 @@ class _Schematic:
         self.p.drawRect(r)
         self.f.draw_text(r.left(), r.center().y() - 2.0, r.width(), item.title,
                          _font(_Flow.BODY, True), Qt.AlignmentFlag.AlignHCenter)
-
-
-def install_window_actions(window: object) -> object:
-    """The window's hook (MainWindow._install_build_actions): PDF, print, netlist, take parts."""
-    from gui.sheet_actions import install
-
-    return install(window)

@@ -46,8 +46,8 @@ from core.units import Tolerance, format_quantity
 if TYPE_CHECKING:
     import numpy as np
 
+    from core.model.circuits.base import Oscillator
     from core.model.devices import DeviceAtSupply
-    from core.model.timing import Oscillator
 
 FORMAT_VERSION = 1
 FREQUENCY_READING = 0.005
@@ -147,7 +147,7 @@ def _residuals(osc: Oscillator, measurements: Sequence[Measurement], vt_plus: fl
     """Log misfits of the measured times (t_high, t_low where the duty is known, else T)."""
     import numpy as np  # loaded on first fit: listing calibrations needs none
 
-    from core.model.timing import times
+    from core.model.circuits.base import times
 
     out = []
     for m in measurements:
@@ -215,8 +215,7 @@ def fit(osc: Oscillator, measurements: Sequence[Measurement], name: str | None =
     """
     import numpy as np  # loaded on first fit: listing calibrations needs none
 
-    from core.model.circuits.base import uniform_sum_sigma
-    from core.model.timing import check_values, frequency
+    from core.model.circuits.base import check_values, frequency, uniform_sum_sigma
 
     if not measurements:
         raise InputError("a calibration needs at least one measurement")
@@ -332,7 +331,7 @@ def _propagate(osc: Oscillator, ms: Sequence[Measurement], p: np.ndarray,
     """First-order propagation of the inputs' tolerances through the fit (see the module)."""
     import numpy as np  # loaded on first fit: listing calibrations needs none
 
-    from core.model.timing import frequency
+    from core.model.circuits.base import frequency
 
     inputs = _inputs(ms, tol)
     j_p = _jacobian(fun, p)

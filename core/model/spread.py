@@ -31,8 +31,8 @@ from dataclasses import dataclass
 
 import numpy as np
 
+from core.model.circuits.base import Oscillator, frequency
 from core.model.leakage import node_current_corners
-from core.model.timing import Oscillator, frequency
 from core.units import Tolerance
 
 

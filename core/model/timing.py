@@ -19,19 +19,27 @@ from __future__ import annotations
 import math
 from collections.abc import Mapping
 from dataclasses import dataclass, field, replace
-from typing import TYPE_CHECKING, Any
+from typing import Any
 
 import numpy as np
 
 from core.errors import InputError, SetupError
+from core.model.calibration import Calibration, load_calibration
 from core.model.circuits import ASTABLE, SCHMITT, circuit_named
-from core.model.circuits.base import DEFAULT_STRAY_F, ArrayLike, Oscillator
+from core.model.circuits.base import (
+    DEFAULT_STRAY_F,
+    ArrayLike,
+    Oscillator,
+    check_values,
+    times,
+)
+from core.model.circuits.base import frequency as frequency  # predict's callers use it here
 from core.model.circuits.phases import cycle, diode_conducts, phase_times
 from core.model.devices import Family, device_table
+from core.model.leakage import capacitor_leakage_a
+from core.model.spread import worst_case_hz
+from core.parts.drawer import DEFAULT_TOLERANCE, DIELECTRIC_TOLERANCE, ELECTROLYTIC
 from core.units import Tolerance, format_quantity
-
-if TYPE_CHECKING:
-    from core.model.calibration import Calibration
 
 
 def make_oscillator(circuit: str, family: str | Family, supply_v: float,
@@ -65,8 +73,6 @@ def make_oscillator(circuit: str, family: str | Family, supply_v: float,
     if calibration is not None:
         if vt_plus is not None:
             raise InputError("give thresholds or a calibration, not both")
-        from core.model.calibration import Calibration, load_calibration
-
         cal = calibration if isinstance(calibration, Calibration) else load_calibration(
             calibration)
         plus, minus, notes = cal.thresholds_for(device)
@@ -106,27 +112,6 @@ def astable_times(osc: Oscillator, ra: ArrayLike, rb: ArrayLike, c: ArrayLike,
     """
     return phase_times(ASTABLE.phases(osc, {"RA": ra, "RB": rb, "C": c}, diode_steered,
                                       vt_plus, vt_minus))
-
-
-def times(osc: Oscillator, values: Mapping[str, ArrayLike], diode_steered: bool = False,
-          vt_plus: ArrayLike = None, vt_minus: ArrayLike = None, i_high: ArrayLike = 0.0,
-          i_low: ArrayLike = 0.0) -> tuple[np.ndarray, np.ndarray]:
-    """(t_high, t_low) [s] for either circuit; ``values`` keyed as the circuit's roles [Ω, F].
-
-    ``i_high``/``i_low`` [A] are currents drawn from the timing node while the
-    output is high/low (leakage, comparator inputs; core.model.leakage);
-    negative pushes current in. All arguments broadcast.
-    """
-    return phase_times(osc.circuit.phases(osc, values, diode_steered, vt_plus, vt_minus,
-                                          i_high, i_low))
-
-
-def frequency(osc: Oscillator, values: Mapping[str, ArrayLike], diode_steered: bool = False,
-              vt_plus: ArrayLike = None, vt_minus: ArrayLike = None, i_high: ArrayLike = 0.0,
-              i_low: ArrayLike = 0.0) -> np.ndarray:
-    """Frequency [Hz] for either circuit; NaN where it will not oscillate."""
-    t_high, t_low = times(osc, values, diode_steered, vt_plus, vt_minus, i_high, i_low)
-    return 1.0 / (t_high + t_low)
 
 
 ROOT_STEPS = 60
@@ -215,24 +200,8 @@ class Prediction:
                 "worst_case_hz": list(self.worst_case_hz), "warnings": list(self.warnings)}
 
 
-def check_values(osc: Oscillator, values: Mapping[str, float]) -> dict[str, float]:
-    """The circuit's part values as floats; InputError if one is missing or not positive."""
-    keys = osc.circuit.keys
-    missing = [k for k in keys if k not in values]
-    if missing:
-        raise InputError(f"the {osc.circuit.title} needs {', '.join(keys)}; "
-                         f"missing {', '.join(missing)}")
-    out = {k: float(values[k]) for k in keys}
-    bad = [k for k, v in out.items() if not (math.isfinite(v) and v > 0)]
-    if bad:
-        raise InputError(f"{', '.join(bad)} must be above zero")
-    return out
-
-
 def default_tolerances(osc: Oscillator, dielectric: str = "") -> dict[str, Tolerance]:
     """Tolerances when none are given: the drawer's defaults (core.parts.drawer)."""
-    from core.parts.drawer import DEFAULT_TOLERANCE, DIELECTRIC_TOLERANCE
-
     tol = {k: DEFAULT_TOLERANCE["R"] for k in osc.circuit.resistors}
     tol["C"] = DIELECTRIC_TOLERANCE.get(dielectric, DIELECTRIC_TOLERANCE[""])
     return tol
@@ -248,9 +217,6 @@ def predict(osc: Oscillator, values: Mapping[str, float],
     capacitor's by ``dielectric``). Raises SetupError when the nominal circuit
     will not oscillate, saying why.
     """
-    from core.model.leakage import capacitor_leakage_a
-    from core.model.spread import worst_case_hz
-
     vals = check_values(osc, values)
     t_high, t_low = (float(t) for t in times(osc, vals, diode_steered))
     if not (math.isfinite(t_high) and math.isfinite(t_low)):
@@ -285,9 +251,6 @@ def why_no_oscillation(osc: Oscillator, values: Mapping[str, float],
 def practitioner_warnings(osc: Oscillator, values: Mapping[str, float], pred: Prediction, *,
                           dielectric: str = "", diode_steered: bool = False) -> list[str]:
     """What an experienced builder would point out about this circuit."""
-    from core.model.leakage import capacitor_leakage_a
-    from core.parts.drawer import ELECTROLYTIC
-
     d, name = osc.device, osc.family.name
     fq = format_quantity
     out: list[str] = list(osc.notes)

@@ -20,7 +20,7 @@ from typing import Any
 import numpy as np
 
 from core.errors import InputError, SetupError
-from core.model.circuits.phases import Phases
+from core.model.circuits.phases import Phases, phase_times
 from core.model.devices import DeviceAtSupply, Family
 from core.model.diode import SMALL_SIGNAL_DIODE, Diode
 
@@ -229,3 +229,38 @@ def thresholds(osc: Oscillator, vt_plus: ArrayLike, vt_minus: ArrayLike) -> tupl
 def drawn(v_target: Any, r: Any, current: ArrayLike) -> Any:
     """A Thevenin phase's target [V] with ``current`` [A] drawn from the node: V − I·R."""
     return v_target - np.asarray(current, dtype=float) * r
+
+
+def check_values(osc: Oscillator, values: Mapping[str, float]) -> dict[str, float]:
+    """The circuit's part values as floats; InputError if one is missing or not positive."""
+    keys = osc.circuit.keys
+    missing = [k for k in keys if k not in values]
+    if missing:
+        raise InputError(f"the {osc.circuit.title} needs {', '.join(keys)}; "
+                         f"missing {', '.join(missing)}")
+    out = {k: float(values[k]) for k in keys}
+    bad = [k for k, v in out.items() if not (math.isfinite(v) and v > 0)]
+    if bad:
+        raise InputError(f"{', '.join(bad)} must be above zero")
+    return out
+
+
+def times(osc: Oscillator, values: Mapping[str, ArrayLike], diode_steered: bool = False,
+          vt_plus: ArrayLike = None, vt_minus: ArrayLike = None, i_high: ArrayLike = 0.0,
+          i_low: ArrayLike = 0.0) -> tuple[np.ndarray, np.ndarray]:
+    """(t_high, t_low) [s] for either circuit; ``values`` keyed as the circuit's roles [Ω, F].
+
+    ``i_high``/``i_low`` [A] are currents drawn from the timing node while the
+    output is high/low (leakage, comparator inputs; core.model.leakage);
+    negative pushes current in. All arguments broadcast.
+    """
+    return phase_times(osc.circuit.phases(osc, values, diode_steered, vt_plus, vt_minus,
+                                          i_high, i_low))
+
+
+def frequency(osc: Oscillator, values: Mapping[str, ArrayLike], diode_steered: bool = False,
+              vt_plus: ArrayLike = None, vt_minus: ArrayLike = None, i_high: ArrayLike = 0.0,
+              i_low: ArrayLike = 0.0) -> np.ndarray:
+    """Frequency [Hz] for either circuit; NaN where it will not oscillate."""
+    t_high, t_low = times(osc, values, diode_steered, vt_plus, vt_minus, i_high, i_low)
+    return 1.0 / (t_high + t_low)
