@@ -10,7 +10,7 @@ from __future__ import annotations
 from pathlib import Path
 from typing import Any
 
-from PySide6.QtCore import QLocale
+from PySide6.QtCore import QLocale, Qt
 from PySide6.QtGui import QAction, QKeySequence
 from PySide6.QtWidgets import QFileDialog, QMessageBox, QWidget
 
@@ -20,6 +20,7 @@ from core.output.sheet import Sheet, build_sheet, take_parts, voltage_ratings
 from core.storage.atomic import check_output, write_text_atomically
 
 PDF_FILTER = "PDF files (*.pdf)"
+CSV_FILTER = "CSV files (*.csv);;All files (*)"
 NETLIST_FILTER = "SPICE netlists (*.cir *.sp *.net);;All files (*)"
 
 
@@ -48,7 +49,14 @@ class SheetActions:
                                         "parts on the sheet and save the drawer (undoable)")
         for action in (self.pdf_action, self.print_action):
             window.add_build_action(action)
-        for action in (self.netlist_action, self.take_action):
+        self.candidates_csv_action = self._action(
+            "Export &candidates as CSV…", self.save_candidates_csv, None,
+            "Write the candidates as listed (in the shown order) to a CSV file")
+        self.parts_csv_action = self._action(
+            "Export &parts list as CSV…", self.save_parts_csv, None,
+            "Write the parts list of the selected candidate's build sheet to a CSV file")
+        for action in (self.netlist_action, self.candidates_csv_action, self.parts_csv_action,
+                       self.take_action):
             window.add_build_action(action, toolbar=False)
 
     def _action(self, text: str, slot: Any, shortcut: Any, tip: str) -> QAction:
@@ -129,6 +137,40 @@ class SheetActions:
             w.tell("Netlist not saved", str(e))
             return
         w.say(f"Netlist saved: {path} (check it with: ngspice -b {Path(path).name})")
+
+    def save_candidates_csv(self) -> None:
+        from core.output.table import csv_text
+
+        view = self.window.candidate_view.model()  # the order the person sees
+        if not view.rowCount():
+            self.window.tell("No candidates", "There are no candidates to export.")
+            return
+        header = [view.headerData(c, Qt.Orientation.Horizontal)
+                  for c in range(view.columnCount())]
+        rows = [[view.index(r, c).data() for c in range(view.columnCount())]
+                for r in range(view.rowCount())]
+        self._write_csv("Export candidates", "tickbin-candidates.csv", csv_text(header, rows))
+
+    def save_parts_csv(self) -> None:
+        from core.output.table import parts_csv_text
+
+        sheet = self.sheet()
+        if sheet is not None:
+            self._write_csv("Export parts list", f"{sheet.file_stem()}-parts.csv",
+                            parts_csv_text(sheet))
+
+    def _write_csv(self, title: str, name: str, text: str) -> None:
+        w = self.window
+        path = self.ask_path(w, title, self._start(name), CSV_FILTER)
+        if path is None:
+            return
+        try:
+            check_output(path, w.drawer.path)
+            write_text_atomically(path, text, backup=False)
+        except TickbinError as e:
+            w.tell(f"{title}: not saved", str(e))
+            return
+        w.say(f"Saved {path}.")
 
     def take(self) -> None:
         w = self.window

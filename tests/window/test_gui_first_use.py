@@ -220,3 +220,38 @@ def test_clicking_a_heading_sorts_and_the_selection_follows(qtbot, window):
     # The vertical header still gives each candidate's rank.
     rank = [window.candidates.candidate(r) for r in range(model.rowCount())].index(shown[0])
     assert model.headerData(0, Qt.Orientation.Vertical) == str(rank + 1)
+
+
+def test_candidates_and_parts_list_export_as_csv_with_formulas_neutralised(
+        qtbot, window, tmp_path, monkeypatch):
+    import csv
+
+    from gui.sheet_actions import SheetActions
+
+    out = {}
+
+    def ask_path(cls, parent, title, start, file_filter):
+        out[title] = tmp_path / start.rsplit("/", 1)[-1]
+        return str(out[title])
+
+    monkeypatch.setattr(SheetActions, "ask_path", classmethod(ask_path))
+    # A drawer cell that a spreadsheet would run (OWASP, "CSV Injection": cells starting
+    # with = + - @ are formulas; a leading apostrophe makes them text).
+    from gui.candidates_model import used_rows
+
+    row = min(used_rows(window.selected_candidate()))
+    model = window.drawer_model
+    search_done(qtbot, window, lambda: model.setData(
+        model.index(row, model.column_of("location")), "=1+2"))
+    window.sheet_actions.candidates_csv_action.trigger()
+    with open(out["Export candidates"], newline="", encoding="utf-8") as f:
+        rows = list(csv.reader(f))
+    view = window.candidate_view.model()
+    assert rows[0] == window.candidates.headings()
+    assert len(rows) == 1 + view.rowCount()
+    assert rows[1][0] == view.index(0, 0).data()  # as shown, first row first
+    window.sheet_actions.parts_csv_action.trigger()
+    with open(out["Export parts list"], newline="", encoding="utf-8") as f:
+        parts = list(csv.reader(f))
+    assert parts[0][:3] == ["Ref", "Part", "Value"]
+    assert "'=1+2" in [r[5] for r in parts[1:]] and "=1+2" not in [r[5] for r in parts[1:]]
