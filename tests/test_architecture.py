@@ -30,3 +30,4 @@ def test_import_contract_holds() -> None:
     assert out.returncode == 0, out.stdout + out.stderr
     assert " 0 broken" in out.stdout
     assert "layered" in out.stdout  # the layers contract is among those checked
+    assert "never import the main window KEPT" in out.stdout.replace(" (it composes them)", "")
