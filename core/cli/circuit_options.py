@@ -1,7 +1,7 @@
 """Options every circuit-aware sub-command shares, and the oscillator they describe.
 
 ``add_circuit_options(parser)`` adds --circuit, --family, --supply, --vt-plus,
---vt-minus, --calibration, --stray and --load; ``request_from_args(args)`` turns
+--vt-minus, --threshold, --calibration, --stray and --load; ``request_from_args(args)`` turns
 them (and a design command's goal) into the ``core.design.request.Request`` the
 window builds too, and ``oscillator_from_args(args)`` into its oscillator
 (predict, calibrate, search, trim, sheet and netlist all use it).
@@ -13,6 +13,7 @@ import argparse
 
 from core.cli.common import value_arg
 from core.design.request import DEFAULT_SUPPLY_V, Request
+from core.errors import InputError
 from core.model.circuits import CIRCUITS
 from core.model.circuits.base import DEFAULT_STRAY_F, Oscillator
 
@@ -20,8 +21,8 @@ from core.model.circuits.base import DEFAULT_STRAY_F, Oscillator
 def add_circuit_options(parser: argparse.ArgumentParser) -> None:
     group = parser.add_argument_group("circuit")
     group.add_argument("--circuit", choices=tuple(CIRCUITS),
-                       help="Schmitt-trigger inverter or 555 astable (default: the family's; "
-                       "else schmitt)")
+                       help="Schmitt-trigger inverter, 555 astable or two-inverter CMOS "
+                       "astable (default: the family's; else schmitt)")
     group.add_argument("--family", metavar="NAME",
                        help="device table entry, e.g. 74HC14, CD40106B, NE555, TLC555 "
                        f"(default {' or '.join(c.default_family for c in CIRCUITS.values())})")
@@ -33,6 +34,9 @@ def add_circuit_options(parser: argparse.ArgumentParser) -> None:
                        "(with --vt-minus; no threshold spread then)")
     group.add_argument("--vt-minus", type=value_arg("voltage"), metavar="V",
                        help="falling input threshold to use instead of the table's")
+    group.add_argument("--threshold", type=value_arg("voltage"), metavar="V",
+                       help="cmos-astable, divider: the inverter's switching voltage instead "
+                       "of the table's (no threshold spread then)")
     group.add_argument("--calibration", metavar="NAME",
                        help="use the thresholds of a calibration saved with "
                        "'tickbin calibrate --save NAME' (its chip and supply unless given)")
@@ -56,9 +60,14 @@ def request_from_args(args: argparse.Namespace) -> Request:
         value = getattr(args, name, None)
         return default if value is None else value
 
+    vt_plus, vt_minus = args.vt_plus, args.vt_minus
+    if args.threshold is not None:
+        if vt_plus is not None or vt_minus is not None:
+            raise InputError("give --threshold or --vt-plus/--vt-minus, not both")
+        vt_plus = vt_minus = args.threshold  # one switching voltage: VT+ = VT-
     return Request(circuit=args.circuit, family=args.family, supply_v=args.supply,
-                   calibration=args.calibration, vt_plus_v=args.vt_plus,
-                   vt_minus_v=args.vt_minus, stray_capacitance_f=args.stray,
+                   calibration=args.calibration, vt_plus_v=vt_plus,
+                   vt_minus_v=vt_minus, stray_capacitance_f=args.stray,
                    load_ohm=args.load, target_hz=goal("target"),  # type: ignore[arg-type]
                    band_hz=goal("band"), duty_pct=goal("duty"),  # type: ignore[arg-type]
                    duty_within=goal("duty_within"),  # type: ignore[arg-type]

@@ -111,7 +111,10 @@ def _add_tolerance_options(parser: argparse.ArgumentParser,
 def _add_part_options(parser: argparse.ArgumentParser) -> None:
     parts = parser.add_argument_group("parts")
     parts.add_argument("--r", type=value_arg("resistance"), metavar="R",
-                       help="timing resistor (Schmitt)")
+                       help="timing resistor (Schmitt, cmos-astable)")
+    parts.add_argument("--rs", type=value_arg("resistance"), metavar="R",
+                       help="cmos-astable: resistor from the timing node to the first "
+                       "inverter's input")
     parts.add_argument("--c", type=value_arg("capacitance"), metavar="C",
                        help="timing capacitor")
     parts.add_argument("--ra", type=value_arg("resistance"), metavar="R",
@@ -196,8 +199,9 @@ def _predict_text(r: dict[str, Any]) -> str:
     s_lo, s_hi = r["spread_95_hz"]
     rows = [
         f"{r['family']} at {r['supply_v']:g} V, {circuit}: {_describe_values(r['values'])}",
-        f"  thresholds      VT+ {r['vt_plus_v']:.3g} V, VT- {r['vt_minus_v']:.3g} V "
-        f"({r['thresholds']}{sure})",
+        (f"  switching at    {r['vt_plus_v']:.3g} V " if CIRCUITS[r["circuit"]].one_threshold
+         else f"  thresholds      VT+ {r['vt_plus_v']:.3g} V, VT- {r['vt_minus_v']:.3g} V ")
+        + f"({r['thresholds']}{sure})",
         f"  frequency       {f(r['frequency_hz'], 'frequency')}   "
         f"(period {f(r['period_s'], 'time')})",
         f"  output high     {r['duty_pct']:.1f} %   (t_high {f(r['t_high_s'], 'time')}, "

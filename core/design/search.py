@@ -352,6 +352,7 @@ def search(parts: list[Part], osc: Oscillator, target_hz: float, duty_pct: float
     if duty_pct is not None and not osc.circuit.steerable:
         raise InputError("--duty applies to the 555 astable; a Schmitt inverter's duty follows "
                          "from its thresholds", text=str(duty_pct), what="duty")
+    osc.circuit.require_designed("search")
     if index is None or not index.covers(max_resistors, max_capacitors):
         index = drawer_index(parts, max_resistors, max_capacitors)
     device = osc.device

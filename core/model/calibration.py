@@ -213,6 +213,7 @@ def fit(osc: Oscillator, measurements: Sequence[Measurement], name: str | None =
     how sure the result is. Raises SetupError when no thresholds between the
     output levels come close (the parts or reading are likely wrong).
     """
+    osc.circuit.require_designed("calibration")
     import numpy as np  # loaded on first fit: listing calibrations needs none
 
     from core.model.circuits.base import check_values, frequency, uniform_sum_sigma

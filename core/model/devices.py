@@ -19,8 +19,8 @@ from typing import Any, Literal
 
 from core.errors import InputError, SetupError, TickbinError
 
-CircuitName = Literal["schmitt", "555"]
-CIRCUIT_NAMES: tuple[CircuitName, ...] = ("schmitt", "555")
+CircuitName = Literal["schmitt", "555", "cmos-astable"]
+CIRCUIT_NAMES: tuple[CircuitName, ...] = ("schmitt", "555", "cmos-astable")
 """The circuits a family may name; core.model.circuits has one object per name."""
 Triplet = tuple[float, float, float]
 
@@ -164,6 +164,7 @@ class Family:
     span_of: tuple[str, ...] = ()
     threshold_current_a: tuple[float, float] = (0.0, 0.0)
     trigger_current_a: tuple[float, float] = (0.0, 0.0)
+    input_clamp_v: float = 0.0
 
     def __str__(self) -> str:
         return self.name
@@ -275,8 +276,12 @@ def _point(family: Mapping[str, Any], entry: Mapping[str, Any], circuit: str,
                       r_max=r_max, discharge_r=float(entry["discharge_r_ohm"]),
                       output_high_drop=float(entry.get("output_high_drop_v", 0.0)),
                       source=source)
-    vt_plus = _triplet(entry, "vt_plus", where)
-    vt_minus = _triplet(entry, "vt_minus", where)
+    if circuit == "cmos-astable":
+        # One switching voltage: both thresholds carry it; no hysteresis.
+        vt_plus = vt_minus = _triplet(entry, "switching_v", where)
+    else:
+        vt_plus = _triplet(entry, "vt_plus", where)
+        vt_minus = _triplet(entry, "vt_minus", where)
     voh_open = float(entry.get("voh_open", v))
     vol_open = float(entry.get("vol_open", 0.0))
     if "r_out_ohm" in entry:
@@ -294,13 +299,13 @@ def _point(family: Mapping[str, Any], entry: Mapping[str, Any], circuit: str,
         input_v_open = vt_plus[1] + (-i_plus) * input_r
         input_current = 0.5 * (i_plus + i_minus)
     point = _Point(v=v, vt_plus=vt_plus, vt_minus=vt_minus,
-                   hysteresis_min=float(entry["hysteresis_min"]),
+                   hysteresis_min=float(entry.get("hysteresis_min", 0.0)),
                    hysteresis_max=float(entry.get("hysteresis_max", math.inf)), voh_open=voh_open,
                    vol_open=vol_open, r_out_high=r_high, r_out_low=r_low, input_r=input_r,
                    input_v_open=input_v_open, input_current=input_current, delay_lh=delay_lh,
                    delay_hl=delay_hl, r_min=r_min, r_max=r_max, discharge_r=0.0,
                    output_high_drop=0.0, source=source)
-    _check_point(point, where)
+    _check_point(point, where, circuit)
     return point
 
 
@@ -327,13 +332,15 @@ def _output_line(entry: Mapping[str, Any], level: str, v_open: float,
     return mean_v - slope * mean_i, abs(slope)
 
 
-def _check_point(p: _Point, where: str) -> None:
+def _check_point(p: _Point, where: str, circuit: str) -> None:
     problems = []
     if not (p.vol_open < p.vt_minus[0] and p.vt_plus[2] < p.voh_open):
         problems.append("thresholds must lie between the output levels")
-    if not p.hysteresis_min <= p.vt_plus[1] - p.vt_minus[1] <= p.hysteresis_max:
+    hysteresis = circuit != "cmos-astable"  # one switching voltage has none
+    if hysteresis and not p.hysteresis_min <= p.vt_plus[1] - p.vt_minus[1] <= p.hysteresis_max:
         problems.append("typ thresholds are outside hysteresis_min … hysteresis_max")
-    if p.vt_plus[2] - p.vt_minus[0] < p.hysteresis_min or p.hysteresis_min <= 0:
+    if hysteresis and (p.vt_plus[2] - p.vt_minus[0] < p.hysteresis_min
+                       or p.hysteresis_min <= 0):
         problems.append("no threshold pair meets hysteresis_min")
     if p.r_out_high < 0 or p.r_out_low < 0 or not p.r_min < p.r_max:
         problems.append("output resistance or r_range_ohm out of order")
@@ -353,7 +360,8 @@ def _package(packages: Mapping[str, Any], key: str, where: str) -> Package:
 def _family(name: str, raw: Mapping[str, Any], packages: Mapping[str, Any]) -> Family:
     circuit = raw.get("circuit")
     if circuit not in CIRCUIT_NAMES:
-        raise TickbinError(f"devices.toml: {name}: circuit must be schmitt or 555")
+        raise TickbinError(f"devices.toml: {name}: circuit must be one of "
+                           f"{', '.join(CIRCUIT_NAMES)}")
     entries = sorted(raw.get("supply", ()), key=lambda e: float(e["v"]))
     if not entries:
         raise TickbinError(f"devices.toml: {name}: no [[supply]] entries")
@@ -368,7 +376,8 @@ def _family(name: str, raw: Mapping[str, Any], packages: Mapping[str, Any]) -> F
                   input_leakage_a=float(raw.get("input_leakage_a", 0.0)),
                   r_range_source=raw.get("r_range_source", ""), points=points,
                   threshold_current_a=_typ_max(raw, "threshold_current_a", name),
-                  trigger_current_a=_typ_max(raw, "trigger_current_a", name))
+                  trigger_current_a=_typ_max(raw, "trigger_current_a", name),
+                  input_clamp_v=float(raw.get("input_clamp_v", 0.0)))
 
 
 def _typ_max(raw: Mapping[str, Any], key: str, where: str) -> tuple[float, float]:

@@ -180,6 +180,7 @@ def spice_netlist(osc: Oscillator, candidate: Design,
     For a trim design the pot sits at ``rotation_pct`` [%] (default: the middle
     of the band, as on the build sheet).
     """
+    osc.circuit.require_designed("the netlist")
     trim = candidate.has_pot
     networks = dict(candidate.networks)
     d = osc.device

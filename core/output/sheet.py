@@ -298,6 +298,7 @@ def build_sheet(osc: Oscillator, candidate: Design, target: str, *,
     to check polarised capacitors against the supply; ``conditions`` the
     temperature and supply ranges the build must work over (their drift lines).
     """
+    osc.circuit.require_designed("a build sheet")
     trim = candidate.has_pot
     family = osc.family
     package = family.package

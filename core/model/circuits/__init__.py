@@ -5,9 +5,10 @@ from __future__ import annotations
 from core.errors import InputError
 from core.model.circuits.astable import ASTABLE
 from core.model.circuits.base import Circuit
+from core.model.circuits.cmos_astable import CMOS_ASTABLE
 from core.model.circuits.schmitt import SCHMITT
 
-CIRCUITS: dict[str, Circuit] = {c.name: c for c in (SCHMITT, ASTABLE)}
+CIRCUITS: dict[str, Circuit] = {c.name: c for c in (SCHMITT, ASTABLE, CMOS_ASTABLE)}
 """Every circuit by its ``--circuit`` name, in the order menus list them."""
 DEFAULT_CIRCUIT: Circuit = SCHMITT
 """The circuit when neither it nor a family is named."""
@@ -18,5 +19,5 @@ def circuit_named(name: str) -> Circuit:
     try:
         return CIRCUITS[name]
     except KeyError:
-        raise InputError(f"expected {' or '.join(CIRCUITS)}", text=str(name),
+        raise InputError(f"expected {', '.join(CIRCUITS)}", text=str(name),
                          what="circuit") from None

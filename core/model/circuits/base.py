@@ -55,6 +55,9 @@ class Circuit(ABC):
     pin hookup (package role, pin name, what it connects to), and
     ``layout_notes``, what a builder should know about the layout, and
     ``measure_note``, where to measure (when no adjustment procedure says it).
+    ``one_threshold``: the circuit switches at one voltage (``--threshold``), carried
+    as VT+ = VT-. ``designed``: search, sheet, netlist and calibration know the
+    circuit (else only predict does; ``require_designed`` says so).
     """
 
     name: str
@@ -70,6 +73,8 @@ class Circuit(ABC):
     pins: tuple[tuple[str, str, str], ...] = ()
     layout_notes: tuple[str, ...] = ()
     measure_note: str = ""
+    one_threshold: bool = False
+    designed: bool = True
 
     @property
     def keys(self) -> tuple[str, ...]:
@@ -92,6 +97,12 @@ class Circuit(ABC):
                vt_minus: ArrayLike = None, i_high: ArrayLike = 0.0,
                i_low: ArrayLike = 0.0) -> Phases:
         """The timing node's two phases for ``values`` [Ω, F] (all broadcast)."""
+
+    def require_designed(self, what: str) -> None:
+        """SetupError where ``what`` (search, sheet, ...) does not know this circuit yet."""
+        if not self.designed:
+            raise SetupError(f"{what} does not handle the {self.title} yet; 'tickbin predict "
+                             f"--circuit {self.name} {self.value_flags}' does")
 
     def hysteresis_limits(self, device: DeviceAtSupply) -> tuple[float, float]:
         """The least and most VT+ − VT- [V] the table guarantees (none by default)."""
@@ -165,7 +176,7 @@ class Oscillator:
 
     def with_thresholds(self, vt_plus_v: float, vt_minus_v: float) -> Oscillator:
         """The same oscillator with fixed thresholds [V] (no threshold spread)."""
-        check_thresholds(self.device, vt_plus_v, vt_minus_v)
+        check_thresholds(self.device, vt_plus_v, vt_minus_v, self.circuit.one_threshold)
         return replace(self, vt_plus_v=float(vt_plus_v), vt_minus_v=float(vt_minus_v),
                        thresholds_given=True)
 
@@ -193,10 +204,16 @@ def uniform_sum_sigma(half_widths: tuple[float, ...]) -> float:
     return math.sqrt(sum(h * h for h in half_widths) / 3)
 
 
-def check_thresholds(device: DeviceAtSupply, vt_plus: float, vt_minus: float) -> None:
+def check_thresholds(device: DeviceAtSupply, vt_plus: float, vt_minus: float,
+                     one_threshold: bool = False) -> None:
     if not (math.isfinite(vt_plus) and math.isfinite(vt_minus)):
         raise InputError("thresholds must be finite voltages")
-    if vt_plus <= vt_minus:
+    if one_threshold and vt_plus != vt_minus:
+        raise InputError("the circuit switches at one voltage: give --threshold")
+    if vt_plus == vt_minus and not one_threshold:
+        raise InputError("--threshold is for circuits with one switching voltage "
+                         "(cmos-astable, divider); this one takes --vt-plus and --vt-minus")
+    if vt_plus <= vt_minus and not one_threshold:
         raise InputError(f"VT+ ({vt_plus:.3g} V) must be above VT- ({vt_minus:.3g} V)")
     if not device.vol_v < vt_minus or not vt_plus < device.voh_v:
         raise SetupError(f"thresholds {vt_plus:.3g} V / {vt_minus:.3g} V must lie between "

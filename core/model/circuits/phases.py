@@ -28,11 +28,31 @@ class Steered(NamedTuple):
     drawn: Any
 
 
+class Clamp(NamedTuple):
+    """Input clamp diodes fed through a resistor: while the capacitor voltage is beyond
+    a level the phase runs toward another Thevenin source (both ends broadcast).
+
+    In the high phase the node runs toward ``v_high`` [V] with ``tau_high`` [s]
+    until it rises past ``below`` [V]; in the low phase toward ``v_low`` with
+    ``tau_low`` until it falls past ``above``. Where the phase starts inside the
+    level, the clamp never conducts.
+    """
+
+    below: Any
+    v_high: Any
+    tau_high: Any
+    above: Any
+    v_low: Any
+    tau_low: Any
+
+
 class Phases(NamedTuple):
     """The timing node as two Thevenin phases: targets [V], time constants [s], delays [s].
 
     With ``steering`` the charge runs through a diode wherever it conducts;
     (``v_high``, ``tau_high``) are then the diode-off phase (C through RA + RB).
+    With ``clamp`` each phase starts with a clamped segment where it starts beyond
+    the clamp's level (core.model.circuits.cmos_astable).
     """
 
     vt_plus: Any
@@ -44,6 +64,7 @@ class Phases(NamedTuple):
     delay_lh: float
     delay_hl: float
     steering: Steered | None = None
+    clamp: Clamp | None = None
 
 
 DIODE_OFF_SHARE = 1e-6
@@ -85,8 +106,25 @@ def cycle(n: Phases) -> tuple[np.ndarray, np.ndarray, Any, Any]:
         if n.steering is not None:
             t_high, v_peak = steered_charge(n, v_start, t_high, v_peak)
         t_low = n.tau_low * np.log((v_peak - n.v_low) / (b - n.v_low)) + n.delay_lh
+        if n.clamp is not None:
+            t_high, t_low = clamped_times(n, v_start, v_peak)
     ok = (n.v_low < b) & (a > b) & np.isfinite(t_high)
     return np.where(ok, t_high, np.nan), np.where(ok, t_low, np.nan), v_start, v_peak
+
+
+def clamped_times(n: Phases, v_start: Any, v_peak: Any) -> tuple[Any, Any]:
+    """(t_high, t_low) [s] with the clamp: a clamped segment up to its level (where the
+    phase starts beyond it), then the plain exponential on to the threshold."""
+    k = n.clamp
+    assert k is not None
+    from_high = np.maximum(v_start, k.below)
+    from_low = np.minimum(v_peak, k.above)
+    t_high = (k.tau_high * np.log((k.v_high - v_start) / (k.v_high - from_high))
+              + n.tau_high * np.log((n.v_high - from_high) / (n.v_high - n.vt_plus))
+              + n.delay_hl)
+    t_low = (k.tau_low * np.log((v_peak - k.v_low) / (from_low - k.v_low))
+             + n.tau_low * np.log((from_low - n.v_low) / (n.vt_minus - n.v_low)) + n.delay_lh)
+    return np.where(n.v_high > n.vt_plus, t_high, np.nan), t_low
 
 
 def steered_charge(n: Phases, v_start: Any, t_high: Any, v_peak: Any) -> tuple[Any, Any]:
