@@ -63,8 +63,8 @@ def test_predict_answers_for_every_family(family, capsys):
     r_ohm = math.sqrt(d.r_min_ohm * d.r_max_ohm) if fam.circuit == "schmitt" else 10e3
     if fam.name in ("74LS14", "7414"):
         r_ohm = d.r_min_ohm
-    parts = (["--r", f"{r_ohm:.6g}"] if fam.circuit == "schmitt"
-             else ["--ra", "10k", "--rb", "22k"])
+    parts = {"schmitt": ["--r", f"{r_ohm:.6g}"], "555": ["--ra", "10k", "--rb", "22k"],
+             "cmos-astable": ["--r", "100k", "--rs", "470k"]}[fam.circuit]
     r = run_json(capsys, "predict", "--circuit", fam.circuit, "--family", family,
                  "--supply", f"{fam.supply_range_v[1]}V", *parts, "--c", "10n")
     assert r["frequency_hz"] > 0 and r["worst_case_hz"][0] <= r["frequency_hz"]
