@@ -64,7 +64,8 @@ def test_predict_answers_for_every_family(family, capsys):
     if fam.name in ("74LS14", "7414"):
         r_ohm = d.r_min_ohm
     parts = {"schmitt": ["--r", f"{r_ohm:.6g}"], "555": ["--ra", "10k", "--rb", "22k"],
-             "cmos-astable": ["--r", "100k", "--rs", "470k"]}[fam.circuit]
+             "cmos-astable": ["--r", "100k", "--rs", "470k"],
+             "divider": ["--r", "100k", "--rs", "470k", "--divide-by", "16"]}[fam.circuit]
     r = run_json(capsys, "predict", "--circuit", fam.circuit, "--family", family,
                  "--supply", f"{fam.supply_range_v[1]}V", *parts, "--c", "10n")
     assert r["frequency_hz"] > 0 and r["worst_case_hz"][0] <= r["frequency_hz"]
@@ -160,3 +161,15 @@ def test_devices_lists_the_table(capsys):
     assert one["at"][0]["vt_plus_v"] == [1.7, 2.36, 3.15]
     assert one["pins"]["input"] == 1
     assert "supply range" in run_error(capsys, "devices", "74HC14", "--supply", "9V")
+
+
+def test_predict_divider_keys(capsys) -> None:
+    # DESIGN.md "Second round": divide_by, tap and oscillator_hz; frequency_hz is the
+    # divided output (the contract).
+    r = run_json(capsys, "predict", "--circuit", "divider", "--family", "CD4060B",
+                 "--supply", "10V", "--r", "100k", "--rs", "470k", "--c", "10n",
+                 "--divide-by", "1024")
+    assert r["divide_by"] == 1024 and r["tap"] == "Q10"
+    assert r["oscillator_hz"] == pytest.approx(1024 * r["frequency_hz"], rel=1e-12)
+    lo, hi = r["worst_case_hz"]
+    assert lo < r["frequency_hz"] < hi

@@ -25,6 +25,7 @@ from core.model.calibration import (
     save_calibration,
 )
 from core.model.circuits import CIRCUITS
+from core.model.circuits.divider import DIVIDER, tap, with_divide_by
 from core.model.devices import device_table
 from core.model.drift import case_name, effective_capacitance
 from core.model.spread import monte_carlo
@@ -121,6 +122,8 @@ def _add_part_options(parser: argparse.ArgumentParser) -> None:
                        help="555: resistor from VCC to discharge (pin 7)")
     parts.add_argument("--rb", type=value_arg("resistance"), metavar="R",
                        help="555: resistor from discharge (pin 7) to the timing node")
+    parts.add_argument("--divide-by", type=int, metavar="N",
+                       help="divider: the counter stage's ratio (a pinned-out power of two)")
     parts.add_argument("--diode-steered", action="store_true",
                        help="555: a diode across RB (charge through RA only)")
 
@@ -147,6 +150,10 @@ def _describe_values(values: dict[str, float]) -> str:
 
 def run_predict(args: argparse.Namespace) -> int:
     osc = oscillator_from_args(args)
+    if (args.divide_by is not None) != (osc.circuit is DIVIDER):
+        raise InputError("--divide-by N goes with --circuit divider (and it needs one)")
+    if args.divide_by is not None:
+        osc = with_divide_by(osc, args.divide_by)
     values = _values(osc, args)
     tolerances = default_tolerances(osc, args.dielectric)
     if args.r_tolerance is not None:
@@ -181,6 +188,9 @@ def run_predict(args: argparse.Namespace) -> int:
                                          args.diode_steered)
     result.update(drift)
     result["warnings"].extend(drift_warnings)
+    if osc.circuit is DIVIDER:
+        result.update({"divide_by": osc.divide_by, "tap": tap(osc.divide_by),
+                       "oscillator_hz": osc.divide_by * pred.frequency_hz})
     return emit(args, result, _predict_text)
 
 
@@ -202,6 +212,8 @@ def _predict_text(r: dict[str, Any]) -> str:
         (f"  switching at    {r['vt_plus_v']:.3g} V " if CIRCUITS[r["circuit"]].one_threshold
          else f"  thresholds      VT+ {r['vt_plus_v']:.3g} V, VT- {r['vt_minus_v']:.3g} V ")
         + f"({r['thresholds']}{sure})",
+        *([f"  counter         {r['tap']} (÷{r['divide_by']}) of the oscillator's "
+           f"{f(r['oscillator_hz'], 'frequency')}"] if "tap" in r else []),
         f"  frequency       {f(r['frequency_hz'], 'frequency')}   "
         f"(period {f(r['period_s'], 'time')})",
         f"  output high     {r['duty_pct']:.1f} %   (t_high {f(r['t_high_s'], 'time')}, "

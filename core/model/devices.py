@@ -19,8 +19,10 @@ from typing import Any, Literal
 
 from core.errors import InputError, SetupError, TickbinError
 
-CircuitName = Literal["schmitt", "555", "cmos-astable"]
-CIRCUIT_NAMES: tuple[CircuitName, ...] = ("schmitt", "555", "cmos-astable")
+CircuitName = Literal["schmitt", "555", "cmos-astable", "divider"]
+CIRCUIT_NAMES: tuple[CircuitName, ...] = ("schmitt", "555", "cmos-astable", "divider")
+ONE_THRESHOLD = ("cmos-astable", "divider")
+"""Circuits whose table entries give one switching voltage (``switching_v``)."""
 """The circuits a family may name; core.model.circuits has one object per name."""
 Triplet = tuple[float, float, float]
 
@@ -276,7 +278,7 @@ def _point(family: Mapping[str, Any], entry: Mapping[str, Any], circuit: str,
                       r_max=r_max, discharge_r=float(entry["discharge_r_ohm"]),
                       output_high_drop=float(entry.get("output_high_drop_v", 0.0)),
                       source=source)
-    if circuit == "cmos-astable":
+    if circuit in ONE_THRESHOLD:
         # One switching voltage: both thresholds carry it; no hysteresis.
         vt_plus = vt_minus = _triplet(entry, "switching_v", where)
     else:
@@ -336,7 +338,7 @@ def _check_point(p: _Point, where: str, circuit: str) -> None:
     problems = []
     if not (p.vol_open < p.vt_minus[0] and p.vt_plus[2] < p.voh_open):
         problems.append("thresholds must lie between the output levels")
-    hysteresis = circuit != "cmos-astable"  # one switching voltage has none
+    hysteresis = circuit not in ONE_THRESHOLD  # one switching voltage has none
     if hysteresis and not p.hysteresis_min <= p.vt_plus[1] - p.vt_minus[1] <= p.hysteresis_max:
         problems.append("typ thresholds are outside hysteresis_min … hysteresis_max")
     if hysteresis and (p.vt_plus[2] - p.vt_minus[0] < p.hysteresis_min

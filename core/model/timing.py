@@ -289,9 +289,11 @@ def practitioner_warnings(osc: Oscillator, values: Mapping[str, float], pred: Pr
                    f"({fq(d.input_capacitance_f, 'capacitance')}) and stray "
                    f"({fq(osc.stray_capacitance_f, 'capacitance')}) capacitance are a large "
                    "share of it, so the frequency depends on the layout")
-    delay_share = (d.delay_lh_s + d.delay_hl_s) / pred.period_s
-    if pred.frequency_hz > 0.5 * d.f_max_hz:
-        out.append(f"at {fq(pred.frequency_hz, 'frequency')} the propagation delays "
+    # The edge delays belong to the oscillator, before any counter.
+    f_osc = pred.frequency_hz * osc.divide_by
+    delay_share = (d.delay_lh_s + d.delay_hl_s) * f_osc
+    if f_osc > 0.5 * d.f_max_hz:
+        out.append(f"at {fq(f_osc, 'frequency')} the propagation delays "
                    f"({fq(d.delay_s, 'time')} per edge) are {100 * delay_share:.0f} % of the "
                    f"period, near the {name}'s limit; they vary with temperature and load, "
                    "so expect a larger error")

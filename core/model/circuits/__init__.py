@@ -6,9 +6,10 @@ from core.errors import InputError
 from core.model.circuits.astable import ASTABLE
 from core.model.circuits.base import Circuit
 from core.model.circuits.cmos_astable import CMOS_ASTABLE
+from core.model.circuits.divider import DIVIDER
 from core.model.circuits.schmitt import SCHMITT
 
-CIRCUITS: dict[str, Circuit] = {c.name: c for c in (SCHMITT, ASTABLE, CMOS_ASTABLE)}
+CIRCUITS: dict[str, Circuit] = {c.name: c for c in (SCHMITT, ASTABLE, CMOS_ASTABLE, DIVIDER)}
 """Every circuit by its ``--circuit`` name, in the order menus list them."""
 DEFAULT_CIRCUIT: Circuit = SCHMITT
 """The circuit when neither it nor a family is named."""

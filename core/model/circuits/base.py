@@ -104,6 +104,12 @@ class Circuit(ABC):
             raise SetupError(f"{what} does not handle the {self.title} yet; 'tickbin predict "
                              f"--circuit {self.name} {self.value_flags}' does")
 
+    def output_times(self, osc: Oscillator, t_high: ArrayLike, t_low: ArrayLike
+                     ) -> tuple[Any, Any]:
+        """(t_high, t_low) [s] at the output from the timing node's phases (the same,
+        unless a counter follows the oscillator)."""
+        return t_high, t_low
+
     def hysteresis_limits(self, device: DeviceAtSupply) -> tuple[float, float]:
         """The least and most VT+ − VT- [V] the table guarantees (none by default)."""
         return 0.0, math.inf
@@ -142,6 +148,7 @@ class Oscillator:
     ``load_ohm`` [Ω] is a load from the timing output to ground, if any;
     ``steering_diode`` is the 555 steering diode's model (Shockley curve).
     ``circuit`` is the circuit object (core.model.circuits), not its name.
+    ``divide_by`` is a counter's ratio after the oscillator (1: none).
     """
 
     circuit: Circuit
@@ -155,6 +162,7 @@ class Oscillator:
     load_ohm: float | None = None
     steering_diode: Diode = SMALL_SIGNAL_DIODE
     notes: tuple[str, ...] = field(default=())
+    divide_by: int = 1
 
     @property
     def family(self) -> Family:
@@ -271,8 +279,9 @@ def times(osc: Oscillator, values: Mapping[str, ArrayLike], diode_steered: bool 
     output is high/low (leakage, comparator inputs; core.model.leakage);
     negative pushes current in. All arguments broadcast.
     """
-    return phase_times(osc.circuit.phases(osc, values, diode_steered, vt_plus, vt_minus,
-                                          i_high, i_low))
+    t_high, t_low = phase_times(osc.circuit.phases(osc, values, diode_steered, vt_plus,
+                                                   vt_minus, i_high, i_low))
+    return osc.circuit.output_times(osc, t_high, t_low)
 
 
 def frequency(osc: Oscillator, values: Mapping[str, ArrayLike], diode_steered: bool = False,

@@ -1,0 +1,51 @@
+"""The oscillator-and-counter chip (CD4060B, 74HC4060) against outside sources.
+
+References named beside each check: the CD4060B and 74HC4060 data sheets (pinned-out
+stages, Qn = oscillator / 2^n, RC-oscillator note; from memory) and the two-inverter
+astable's textbook period.
+"""
+
+from __future__ import annotations
+
+import math
+
+import pytest
+
+from core.errors import InputError
+from core.model.circuits.divider import tap, with_divide_by
+from core.model.timing import make_oscillator, predict, times
+
+
+def test_stage_divides_the_oscillator_with_an_even_duty() -> None:
+    # CD4060B data sheet: a ripple counter, Qn toggles once per 2^(n-1) oscillator
+    # cycles, so Qn runs at f_osc / 2^n with 50 % duty (textbook binary counter).
+    osc = make_oscillator("divider", "CD4060B", 10.0)
+    bare = make_oscillator("cmos-astable", "CD4069UB", 10.0)
+    values = {"R": 100e3, "RS": 470e3, "C": 10e-9}
+    q10 = with_divide_by(osc, 1024)
+    t_high, t_low = (float(t) for t in times(q10, values))
+    assert t_high == pytest.approx(t_low, rel=1e-12)
+    # The built-in oscillator is the two-inverter astable: ≈ ln 9 R C at half the supply
+    # (textbook; CD4060B RC-oscillator note, f ≈ 1 / (2.2…2.3 R C); from memory).
+    t_osc = (t_high + t_low) / 1024
+    assert t_osc == pytest.approx(math.log(9) * 100e3 * 10e-9, rel=0.01)
+    osc_high, osc_low = (float(t) for t in times(bare.idealised(), values))
+    assert t_osc == pytest.approx(osc_high + osc_low, rel=0.01)
+
+
+def test_only_pinned_stages() -> None:
+    # CD4060B / 74HC4060 pinout: Q4…Q10 and Q12…Q14; Q11 is not pinned out (from memory).
+    osc = make_oscillator("divider", "74HC4060", 5.0)
+    with pytest.raises(InputError, match=r"Q10.*Q12"):
+        with_divide_by(osc, 2048)
+    with pytest.raises(InputError):
+        with_divide_by(osc, 8)
+    assert [tap(2 ** n) for n in (4, 10, 14)] == ["Q4", "Q10", "Q14"]
+
+
+def test_minutes_long_periods_from_a_film_capacitor() -> None:
+    # The issue's reason for the divider: a 2-minute period from Q14 with a small film
+    # capacitor (period = 16384 × ln 9 R C at half the supply; textbook).
+    osc = with_divide_by(make_oscillator("divider", "CD4060B", 9.0), 16384)
+    pred = predict(osc, {"R": 330e3, "RS": 1.5e6, "C": 10e-9}, dielectric="film")
+    assert 100 < pred.period_s < 140
