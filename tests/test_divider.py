@@ -49,3 +49,17 @@ def test_minutes_long_periods_from_a_film_capacitor() -> None:
     osc = with_divide_by(make_oscillator("divider", "CD4060B", 9.0), 16384)
     pred = predict(osc, {"R": 330e3, "RS": 1.5e6, "C": 10e-9}, dielectric="film")
     assert 100 < pred.period_s < 140
+
+
+def test_supply_range_keeps_the_stage() -> None:
+    # DESIGN.md "Second round": frequency_hz is the divided output, so supply_hz is too
+    # (the oscillator scales with the supply as the two-inverter astable; textbook ln 9 RC
+    # at half the supply, the table's typ at every listed supply).
+    from core.model.drift import at_supply
+
+    q14 = with_divide_by(make_oscillator("divider", "CD4060B", 9.0), 16384)
+    values = {"R": 330e3, "RS": 1.5e6, "C": 10e-9}
+    for supply in (5.0, 15.0):
+        t_high, t_low = times(at_supply(q14, supply).idealised(), values)
+        assert float(t_high + t_low) == pytest.approx(
+            16384 * math.log(9) * 330e3 * 10e-9, rel=0.01)
