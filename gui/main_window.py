@@ -34,6 +34,7 @@ from PySide6.QtWidgets import (
     QHeaderView,
     QLabel,
     QMainWindow,
+    QMenu,
     QMessageBox,
     QProgressBar,
     QSplitter,
@@ -229,6 +230,8 @@ class MainWindow(QMainWindow):
         view.setAlternatingRowColors(True)
         view.setWordWrap(False)
         view.setTabKeyNavigation(False)
+        view.setContextMenuPolicy(Qt.ContextMenuPolicy.CustomContextMenu)
+        view.customContextMenuRequested.connect(self._candidate_menu)
         view.verticalHeader().setDefaultSectionSize(view.fontMetrics().height() + 8)
         header = view.horizontalHeader()
         header.setStretchLastSection(True)
@@ -255,6 +258,24 @@ class MainWindow(QMainWindow):
         last = len(headings) - 1  # the places: long, and whole in its tooltip
         view.setColumnWidth(last, min(view.columnWidth(last),
                                       view.fontMetrics().horizontalAdvance("M") * 18))
+
+    def _candidate_menu(self, where: Any) -> None:
+        """Right-click on a candidate: compare it with the selected one."""
+        clicked = self.candidate_order.mapToSource(self.candidate_view.indexAt(where))
+        chosen = self.candidate_order.mapToSource(
+            self.candidate_view.selectionModel().currentIndex())
+        if not clicked.isValid() or not chosen.isValid() or clicked.row() == chosen.row():
+            return
+        menu = QMenu(self)
+        menu.addAction(f"Compare with candidate {chosen.row() + 1} (selected)",
+                       lambda: self.compare_candidates(chosen.row(), clicked.row()))
+        menu.popup(self.candidate_view.viewport().mapToGlobal(where))
+
+    def compare_candidates(self, first: int, second: int) -> Any:
+        """Candidates of rank ``first`` and ``second`` (0: the best) side by side."""
+        from gui.compare_dialog import compare
+
+        return compare(self, self.candidates, (first, second))
 
     def _build_layout(self) -> None:
         candidates_box = QWidget()

@@ -255,3 +255,28 @@ def test_candidates_and_parts_list_export_as_csv_with_formulas_neutralised(
         parts = list(csv.reader(f))
     assert parts[0][:3] == ["Ref", "Part", "Value"]
     assert "'=1+2" in [r[5] for r in parts[1:]] and "=1+2" not in [r[5] for r in parts[1:]]
+
+
+def test_two_candidates_side_by_side(qtbot, window, monkeypatch):
+    from PySide6.QtCore import QPoint
+    from PySide6.QtWidgets import QMenu, QWidget
+
+    menus = []
+    monkeypatch.setattr(QMenu, "popup", lambda self, *a: menus.append(self))
+    view = window.candidate_view
+    window.select_candidate(0)
+    window._candidate_menu(QPoint(5, view.rowViewportPosition(2) + 3))  # right-click row 3
+    (action,) = menus[0].actions()
+    assert "candidate 1" in action.text()
+    action.trigger()
+    dialog = next(w for w in window.findChildren(QWidget) if w.objectName() == ""
+                  and w.windowTitle() == "Candidates 1 and 3 side by side")
+    rows = {heading: (a, b) for heading, a, b in dialog.texts()}
+    first, third = window.candidates.candidate(0), window.candidates.candidate(2)
+    model = window.candidates
+    column = model.headings().index("Frequency")
+    assert rows["Frequency"] == (model.index(0, column).data(), model.index(2, column).data())
+    assert first.frequency_hz != third.frequency_hz
+    # Each one's parts with their drawer places.
+    assert "Parts" in rows and "line" in rows["Parts"][0] and "line" in rows["Parts"][1]
+    dialog.close()
