@@ -17,7 +17,7 @@ from core.cli import main
 from core.model.leakage import capacitor_leakage_a, network_leakage_a, node_current_corners
 from core.model.spread import worst_case_hz
 from core.model.timing import make_oscillator, predict
-from core.parts.drawer import Part
+from core.parts.drawer import Part, read_drawer
 from core.parts.networks import Node
 from core.storage.locations import resource
 from core.units import Tolerance
@@ -143,25 +143,34 @@ def _lines(node: dict) -> list[int]:
 
 def test_search_marks_a_stopping_electrolytic_design(capsys):
     # Issue 11: at 0.001 Hz the demo drawer offered 1.47 MΩ with a 940 µF electrolytic
-    # that may leak 47 µA: 69 V across R, far past the threshold margin. Every such
-    # design's band must start at 0 Hz (the hand formula says it stops).
+    # that may leak 47 µA: 69 V across R, far past the threshold margin. The hand formula
+    # (data-sheet limit max(0.01 C V, 3 µA), C in µF, V in volts) says such builds stop:
+    # the model's worst case must start at 0 Hz for every demo electrolytic it condemns,
+    # and the search must list none of them.
     path = resource("demo_drawer.csv")
     rows = list(csv.reader(path.read_text(encoding="utf-8").splitlines()))
     header = [h.strip().lower() for h in rows[0]]
-    dielectric = {n: dict(zip(header, row, strict=False)).get("dielectric", "").lower()
-                  for n, row in enumerate(rows[1:], start=2)}
+    cells = [dict(zip(header, row, strict=False)) for row in rows[1:]]
+    electrolytics = [n for n, row in enumerate(cells, start=2)
+                     if row.get("dielectric", "").lower() == "electrolytic"]
+    osc = make_oscillator("schmitt", "74HC14", 5.0)
+    margin = osc.device.voh_v - osc.device.vt_plus[0]  # the widest charge margin
+    parts = {p.line: p for p in read_drawer(path).parts()}
+    checked = 0
+    for line in electrolytics:
+        c = parts[line].value
+        for r in (1e5, 4.7e5, 1.47e6, 2.2e6):
+            limit_a = max(0.01 * c * 5.0, 3e-6)
+            if limit_a * r > margin:
+                low, _ = worst_case_hz(osc, {"R": r, "C": c}, {}, capacitor_leakage_a=limit_a)
+                assert low == 0.0, (r, c)
+                checked += 1
+    assert checked
     code = main(["search", "--stock", str(path), "--target", "0.001Hz", "--top", "10",
                  "--json"])
     assert code == 0
     data = json.loads(capsys.readouterr().out)
-    osc = make_oscillator("schmitt", "74HC14", 5.0)
-    margin = osc.device.voh_v - osc.device.vt_plus[0]  # the widest charge margin
-    checked = 0
     for cand in data["candidates"]:
-        lines = _lines(cand["networks"]["C"])
-        if any(dielectric[n] == "electrolytic" for n in lines):
+        if any(n in electrolytics for n in _lines(cand["networks"]["C"])):
             c, r = cand["values"]["C"], cand["values"]["R"]
-            if max(0.01 * c * 5.0, 3e-6) * r > margin:
-                assert cand["worst_case_hz"][0] == 0.0, cand["values"]
-                checked += 1
-    assert checked
+            assert max(0.01 * c * 5.0, 3e-6) * r <= margin, cand["values"]
