@@ -284,3 +284,14 @@ def test_sheet_prints_the_drift_lines():
     lo = drift.temperature_hz(osc, {"R": 10e3, "C": 100e-9}, -10, 50,
                               drift.part_envelopes({"R": 1, "C": 1}, "x7r", "metal film"))[0]
     assert lo == pytest.approx(f0 / ((1 + 0.15 * 35 / 80) * (1 + 50e-6 * 35)), rel=3e-3)
+
+
+def test_predict_says_how_a_class_2_capacitor_ages(tmp_path):
+    # From memory of makers' ageing notes: X7R about 2.5 % per decade of hours.
+    out = json.loads(run_tickbin(tmp_path, "predict", "--r", "10k", "--c", "1u",
+                                 "--dielectric", "x7r", "--json").stdout)
+    assert any("2.5 % capacitance per decade" in w and "7.5 % by 1000 h" in w
+               for w in out["warnings"])
+    c0g = json.loads(run_tickbin(tmp_path, "predict", "--r", "10k", "--c", "1n",
+                                 "--dielectric", "c0g", "--json").stdout)
+    assert not any("ages" in w for w in c0g["warnings"])

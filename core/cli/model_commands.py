@@ -27,7 +27,7 @@ from core.model.calibration import (
 from core.model.circuits import CIRCUITS
 from core.model.circuits.divider import DIVIDER, tap, with_divide_by
 from core.model.devices import device_table
-from core.model.drift import case_name, effective_capacitance
+from core.model.drift import ageing_note, case_name, effective_capacitance
 from core.model.spread import monte_carlo
 from core.model.timing import Oscillator, default_tolerances, predict
 from core.storage.atomic import read_regular_file
@@ -167,7 +167,7 @@ def run_predict(args: argparse.Namespace) -> int:
     seen = {**values, "C": c_seen}
     pred = predict(osc, seen, tolerances, diode_steered=args.diode_steered,
                    dielectric=args.dielectric)
-    pred.warnings.extend(bias_notes)
+    pred.warnings.extend([*bias_notes, *ageing_note(args.dielectric)])
     mc = monte_carlo(osc, seen, tolerances, n=args.draws, seed=0,
                      diode_steered=args.diode_steered)
     result = pred.to_json()

@@ -366,6 +366,18 @@ def ageing_factor(dielectric: str, hours: float | np.ndarray) -> np.ndarray:
     return 1.0 - rate * np.log10(np.maximum(np.asarray(hours, dtype=float), 1.0))
 
 
+def ageing_note(dielectric: str) -> list[str]:
+    """What a class-2 capacitor loses with age, in words (nothing for the others)."""
+    rate = AGEING_PCT_PER_DECADE.get(dielectric) if dielectric in CLASS_2 else None
+    if not rate:
+        return []
+    shown = dielectric.upper() or "unmarked ceramic"
+    return [f"{shown} ages: about −{rate:g} % capacitance per decade of hours after "
+            f"soldering ({100 * (1 - float(ageing_factor(dielectric, 1e3))):.1f} % by "
+            f"1000 h, {100 * (1 - float(ageing_factor(dielectric, 1e5))):.1f} % by "
+            "100 000 h; typical, from memory), so the frequency creeps up by as much"]
+
+
 def timing_bias_v(osc: Oscillator) -> float:
     """The DC voltage [V] the timing capacitor sits at: about the thresholds' midpoint."""
     return 0.5 * (osc.vt_plus_v + osc.vt_minus_v)
