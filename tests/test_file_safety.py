@@ -169,9 +169,11 @@ def work(path):
 """
 
 _RENDERER = """
+import os, sys
 import core.cli, gui.entry
 
 def work(path):
+    sys.stdout = open(os.devnull, "w")  # its "wrote ..." lines must not reach the parent's pipe
     while True:
         core.cli.main(["sheet", "--target", "1kHz", "--out", path],
                       render_sheet=gui.entry.render_sheet)
