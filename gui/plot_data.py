@@ -52,7 +52,7 @@ def chip_spread(outcome: Outcome, cand: Any) -> ChipSpread | None:
     if target.trim or osc.thresholds_given or target.target_hz is None:
         return None
     known = osc.with_thresholds(osc.vt_plus_v, osc.vt_minus_v)
-    ranges = {key: node.value_range() for key, node in cand.networks.items()}
+    ranges = {key: node.value_range for key, node in cand.networks.items()}
     parts = worst_case_hz(known, cand.values, ranges, cand.diode_steered)
     if not parts[0] > 0:
         return None

@@ -21,7 +21,7 @@ from core.model.diode import SMALL_SIGNAL_DIODE, SteeringBranch
 from core.model.timing import astable_times, make_oscillator, predict, waveform
 from core.output.netlist import model_prediction, simulate, spice_netlist
 from core.parts.drawer import Part
-from core.parts.networks import Node
+from core.parts.networks import Network
 from core.units import Tolerance
 
 D = SMALL_SIGNAL_DIODE
@@ -190,8 +190,8 @@ def test_waveform_follows_the_integrated_charge():
 
 
 def _candidate(osc, ra: float, rb: float, c: float) -> Candidate:
-    def node(kind: str, value: float, line: int) -> Node:
-        return Node(part=Part(kind=kind, value=value, tolerance=Tolerance(0.01, 0.01),
+    def node(kind: str, value: float, line: int) -> Network:
+        return Network(part=Part(kind=kind, value=value, tolerance=Tolerance(0.01, 0.01),
                               quantity=1, line=line, dielectric="film" if kind == "C" else ""))
     pred = predict(osc, {"RA": ra, "RB": rb, "C": c}, diode_steered=True)
     return Candidate("555", {"RA": ra, "RB": rb, "C": c},

@@ -18,7 +18,7 @@ from core.model.leakage import capacitor_leakage_a, network_leakage_a, node_curr
 from core.model.spread import worst_case_hz
 from core.model.timing import make_oscillator, predict
 from core.parts.drawer import Part, read_drawer
-from core.parts.networks import Node
+from core.parts.networks import Network
 from core.storage.locations import resource
 from core.units import Tolerance
 
@@ -37,16 +37,16 @@ def test_electrolytic_leakage_limit_is_the_data_sheet_formula():
     assert capacitor_leakage_a(1e-6, "film", 5.0) == 0.0
 
 
-def _cap(value: float, dielectric: str) -> Node:
-    return Node(part=Part(kind="C", value=value, tolerance=Tolerance(0.2, 0.2), quantity=1,
+def _cap(value: float, dielectric: str) -> Network:
+    return Network(part=Part(kind="C", value=value, tolerance=Tolerance(0.2, 0.2), quantity=1,
                           line=2, dielectric=dielectric))
 
 
 def test_network_leakage_adds_in_parallel_and_takes_the_leakiest_in_series():
     big, film = _cap(1000e-6, "electrolytic"), _cap(1e-6, "film")
-    assert network_leakage_a(Node(parallel=(big, film)), 5.0) == pytest.approx(50e-6)
-    assert network_leakage_a(Node(parallel=(big, big)), 5.0) == pytest.approx(100e-6)
-    assert network_leakage_a(Node(series=(big, film)), 5.0) == pytest.approx(50e-6)
+    assert network_leakage_a(Network(parallel=(big, film)), 5.0) == pytest.approx(50e-6)
+    assert network_leakage_a(Network(parallel=(big, big)), 5.0) == pytest.approx(100e-6)
+    assert network_leakage_a(Network(series=(big, film)), 5.0) == pytest.approx(50e-6)
 
 
 def test_leakage_beyond_the_threshold_margin_stops_that_corner():

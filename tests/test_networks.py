@@ -23,7 +23,7 @@ from core.errors import InputError
 from core.parts.drawer import Part
 from core.parts.networks import (
     RESOLUTION,
-    Node,
+    Network,
     build_drawer_index,
     build_index,
     electrical_key,
@@ -41,32 +41,32 @@ def part(kind: str, value: float, quantity: int = 5, line: int = 2,
 
 def test_node_values_follow_the_textbook_rules() -> None:
     # Horowitz & Hill §1.2.1: 10k + 4.7k = 14.7k; 10k ∥ 10k = 5k.
-    r1, r2 = Node(part=part("R", 10e3)), Node(part=part("R", 4.7e3, line=3))
-    assert Node(series=(r1, r2)).value == pytest.approx(14.7e3, rel=1e-12)
-    assert Node(parallel=(r1, r1)).value == pytest.approx(5e3, rel=1e-12)
+    r1, r2 = Network(part=part("R", 10e3)), Network(part=part("R", 4.7e3, line=3))
+    assert Network(series=(r1, r2)).value == pytest.approx(14.7e3, rel=1e-12)
+    assert Network(parallel=(r1, r1)).value == pytest.approx(5e3, rel=1e-12)
     # §1.4.1: 22n ∥ 10n = 32n; 22n in series with 22n = 11n.
-    c1, c2 = Node(part=part("C", 22e-9)), Node(part=part("C", 10e-9, line=3))
-    assert Node(parallel=(c1, c2)).value == pytest.approx(32e-9, rel=1e-12)
-    assert Node(series=(c1, c1)).value == pytest.approx(11e-9, rel=1e-12)
-    nested = Node(series=(Node(parallel=(r1, r1)), r2))
+    c1, c2 = Network(part=part("C", 22e-9)), Network(part=part("C", 10e-9, line=3))
+    assert Network(parallel=(c1, c2)).value == pytest.approx(32e-9, rel=1e-12)
+    assert Network(series=(c1, c1)).value == pytest.approx(11e-9, rel=1e-12)
+    nested = Network(series=(Network(parallel=(r1, r1)), r2))
     assert nested.value == pytest.approx(9.7e3, rel=1e-12)
     # Issue 11 §3: "+" reads as "added", so networks are written with words.
     assert nested.describe() == "(10 kΩ par 10 kΩ) ser 4.7 kΩ"
-    assert Node(series=(c1, c2)).describe() == "22 nF ser 10 nF"
+    assert Network(series=(c1, c2)).describe() == "22 nF ser 10 nF"
     assert nested.to_json() == {"series": [{"parallel": [{"line": 2}, {"line": 2}]},
                                            {"line": 3}]}
     assert nested.part_count == 3
-    lo, hi = nested.value_range()
+    lo, hi = nested.value_range
     assert lo == pytest.approx(9.7e3 * 0.95, rel=1e-12)
     assert hi == pytest.approx(9.7e3 * 1.05, rel=1e-12)
 
 
 def test_a_node_is_one_part_or_several_children() -> None:
-    r = Node(part=part("R", 1e3))
+    r = Network(part=part("R", 1e3))
     with pytest.raises(InputError):
-        Node(series=(r,))
+        Network(series=(r,))
     with pytest.raises(InputError):
-        Node()
+        Network()
 
 
 def _series(kind: str, x: float, y: float) -> float:
@@ -134,7 +134,7 @@ def test_index_reaches_every_network_of_a_small_drawer(kind: str, max_parts: int
     nodes = [index.nodes([e])[0] for e in range(len(index))]
     for entry, node in enumerate(nodes):
         assert node.value == pytest.approx(index.values[entry], rel=1e-12)
-        lo, hi = node.value_range()
+        lo, hi = node.value_range
         assert (lo, hi) == pytest.approx((index.lo[entry], index.hi[entry]), rel=1e-12)
         used = Counter(p.stock_line for p in node.parts())
         assert all(used[p.stock_line] <= p.quantity for p in parts)
@@ -179,7 +179,7 @@ def test_index_over_distinct_values_equals_the_plain_set(kind: str, look_up: boo
         assert (round(v, 9 - math.floor(math.log10(v))), node.part_count) in plain
         assert v == pytest.approx(index.values[entry], rel=1e-12)
         # Closest tolerance first: the index's extremes are those of the lines handed out.
-        assert node.value_range() == pytest.approx((index.lo[entry], index.hi[entry]),
+        assert node.value_range == pytest.approx((index.lo[entry], index.hi[entry]),
                                                    rel=1e-12)
         used = Counter(p.stock_line for p in node.parts())
         assert all(used[p.stock_line] <= p.quantity for p in parts)
@@ -318,7 +318,7 @@ def test_chunked_three_part_layer_matches_one_pass(monkeypatch: pytest.MonkeyPat
         assert np.allclose(a, b, rtol=2 * RESOLUTION, atol=0)
 
 
-def _series_holds_polarised(node: Node) -> bool:
+def _series_holds_polarised(node: Network) -> bool:
     """True if any series join of the tree has an electrolytic or tantalum part in it."""
     if node.part is not None:
         return False

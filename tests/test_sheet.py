@@ -26,7 +26,7 @@ from core.model.timing import make_oscillator
 from core.output import schematic as sch
 from core.output.sheet import build_sheet, start_rotation, take_parts, voltage_ratings
 from core.parts.drawer import Part, parse_drawer_text, read_drawer, write_drawer
-from core.parts.networks import Node
+from core.parts.networks import Network
 from core.storage.locations import demo_drawer_path
 from core.units import Tolerance, format_frequency, format_quantity
 
@@ -126,12 +126,13 @@ def _part(kind: str, value: float, polarised: bool = False) -> Part:
 
 def _tree(kind: str):
     scale = 1e-12 if kind == "C" else 1.0
-    leaf = st.floats(10.0, 1e6).map(lambda v: Node(part=_part(kind, v * scale)))
+    leaf = st.floats(10.0, 1e6).map(lambda v: Network(part=_part(kind, v * scale)))
     pair = st.lists(leaf, min_size=2, max_size=2)
-    two = st.one_of(pair.map(lambda c: Node(series=tuple(c))),
-                    pair.map(lambda c: Node(parallel=tuple(c))))
+    two = st.one_of(pair.map(lambda c: Network(series=tuple(c))),
+                    pair.map(lambda c: Network(parallel=tuple(c))))
     three = st.tuples(two, leaf).flatmap(lambda t: st.sampled_from([
-        Node(series=t), Node(parallel=t), Node(series=(t[1], t[0])), Node(parallel=(t[1], t[0]))]))
+        Network(series=t), Network(parallel=t),
+        Network(series=(t[1], t[0])), Network(parallel=(t[1], t[0]))]))
     return st.one_of(leaf, two, three)
 
 
@@ -146,10 +147,10 @@ def _values(drawing: sch.Schematic) -> dict[str, float]:
 @settings(max_examples=40, deadline=None)
 @given(r=_tree("R"), c=_tree("C"), pot=st.booleans())
 def test_schmitt_schematic_wires_each_network_as_the_candidate(r, c, pot):
-    feedback = [sch.Network(r, "R", _text)]
+    feedback = [sch.NetworkDrawing(r, "R", _text)]
     if pot:
-        feedback.append(sch.Network(Node(part=_part("P", 1e4)), "P", _text))
-    drawing = sch.schmitt_schematic(feedback, sch.Network(c, "C", _text), gate_ref="U1a X",
+        feedback.append(sch.NetworkDrawing(Network(part=_part("P", 1e4)), "P", _text))
+    drawing = sch.schmitt_schematic(feedback, sch.NetworkDrawing(c, "C", _text), gate_ref="U1a X",
                                     input_pin="1", output_pin="2", vcc_pin="14", gnd_pin="7",
                                     supply_text="+5 V", decoupling_text="100 nF")
     values = _values(drawing)
@@ -169,8 +170,9 @@ def test_schmitt_schematic_wires_each_network_as_the_candidate(r, c, pot):
 @given(ra=_tree("R"), rb=_tree("R"), c=_tree("C"), diode=st.booleans())
 def test_555_schematic_wires_each_network_as_the_candidate(ra, rb, c, diode):
     pins = dict(gnd="1", trig="2", out="3", reset="4", ctrl="5", thr="6", dis="7", vcc="8")
-    drawing = sch.astable_schematic(sch.Network(ra, "RA", _text), sch.Network(rb, "RB", _text),
-                                    sch.Network(c, "C", _text), pins=pins, chip="U1 NE555",
+    drawing = sch.astable_schematic(*(sch.NetworkDrawing(n, role, _text)
+                                      for n, role in ((ra, "RA"), (rb, "RB"), (c, "C"))),
+                                    pins=pins, chip="U1 NE555",
                                     supply_text="+9 V", decoupling_text="100 nF",
                                     control_text="10 nF", diode_text="1N4148" if diode else None)
     values = _values(drawing)
@@ -288,7 +290,7 @@ def test_polarised_timing_capacitor_is_checked_against_its_rating():
     osc = make_oscillator("schmitt", "CD40106B", 10.0)
     for cap, expect in ((parts[1], "too close"), (parts[2], "no voltage rating")):
         cand = Candidate("schmitt", {"R": 1e4, "C": cap.value},
-                         {"R": Node(part=parts[0]), "C": Node(part=cap)}, 1.0, 0.0, 50.0,
+                         {"R": Network(part=parts[0]), "C": Network(part=cap)}, 1.0, 0.0, 50.0,
                          (0.9, 1.1))
         sheet = build_sheet(osc, cand, "1 Hz", stock=parts, ratings=voltage_ratings(drawer),
                             today=TODAY)
@@ -365,7 +367,8 @@ def test_take_parts_counts_a_line_used_twice():
     drawer = parse_drawer_text("kind,value,quantity,location\nR,10k,9,A1\nC,100n,8,B1\n")
     r, c = drawer.parts()
     cand = Candidate("schmitt", {"R": 2e4, "C": 1e-7},
-                     {"R": Node(series=(Node(part=r), Node(part=r))), "C": Node(part=c)},
+                     {"R": Network(series=(Network(part=r), Network(part=r))),
+                      "C": Network(part=c)},
                      1.0, 0.0, 50.0, (0.9, 1.1))
     taken = take_parts(drawer, cand)
     assert {t.line: (t.count, t.before, t.after) for t in taken} == {2: (2, 9, 7), 3: (1, 8, 7)}

@@ -109,7 +109,7 @@ def test_real_schmitt_against_solve_ivp(family, supply, r, c):
 
 @pytest.mark.parametrize("u", CASES[8:11])
 def test_555_against_solve_ivp(u):
-    # Node equations written out for the 555 (not the Thevenin shortcut the model
+    # Network equations written out for the 555 (not the Thevenin shortcut the model
     # uses): while discharging, pin 7 sits at x where (V − x)/RA + (Vc − x)/RB = x/r_dis.
     # The diode-steered astable is checked the same way in tests/test_diode.py.
     osc = make_oscillator("555", "NE555", 5.0 + 10 * u[0])

@@ -35,7 +35,7 @@ from core.parts.drawer import (
     parse_dielectrics,
     read_drawer,
 )
-from core.parts.networks import MAX_PARTS, Node
+from core.parts.networks import MAX_PARTS, Network
 from core.parts.notation import NOTATION
 from core.storage.locations import demo_drawer_path
 from core.units import format_frequency, format_signed_pct, parse_band
@@ -138,7 +138,7 @@ def _run_design(args: argparse.Namespace, as_text: Callable[..., str]) -> int:
 
 # ---------------------------------------------------------------- text tables
 
-def where(node: Node) -> str:
+def where(node: Network) -> str:
     """Drawer locations of a network's parts: ``B1-06 ×2 (line 11), B2-04 (line 35)``."""
     used = Counter((one_line(p.location) or "no location", p.stock_line) for p in node.parts())
     return ", ".join(f"{loc}{f' ×{n}' if n > 1 else ''} (line {line})"

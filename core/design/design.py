@@ -14,7 +14,7 @@ from typing import Any
 
 import numpy as np
 
-from core.parts.networks import Node
+from core.parts.networks import Network
 from core.units import Tolerance
 
 POT = "P"
@@ -47,9 +47,9 @@ def rotation_for_share(share: Any, taper: str = "lin") -> np.ndarray:
     return 100.0 * np.log1p(s * (LOG_TAPER_BASE - 1.0)) / math.log(LOG_TAPER_BASE)
 
 
-def network_tolerance(node: Node) -> Tolerance:
+def network_tolerance(node: Network) -> Tolerance:
     """A network's value range as a tolerance about its nominal value."""
-    lo, hi = node.value_range()
+    lo, hi = node.value_range
     v = node.value
     return Tolerance(max(0.0, 1 - lo / v), max(0.0, hi / v - 1))
 
@@ -63,7 +63,7 @@ class Design:
     """
 
     values: dict[str, float]
-    networks: dict[str, Node]
+    networks: dict[str, Network]
     notes: list[str]
     diode_steered: bool = False
 
@@ -101,7 +101,7 @@ class Design:
         tol = {k: network_tolerance(n) for k, n in self.networks.items() if k != POT}
         if self.has_pot:
             r, p = self.networks[TRIMMED], self.networks[POT]
-            (r_lo, r_hi), (p_lo, p_hi) = r.value_range(), p.value_range()
+            (r_lo, r_hi), (p_lo, p_hi) = r.value_range, p.value_range
 
             def total(fixed: float, pot: float) -> float:
                 return fixed + float(pot_resistance(pot, rotation_pct, self.taper))

@@ -31,10 +31,10 @@ from core.model.drift import (
 )
 from core.model.leakage import network_leakage_a
 from core.model.timing import Oscillator
-from core.parts.networks import Node
+from core.parts.networks import Network
 
 
-def network_envelope(role: str, node: Node) -> Envelope:
+def network_envelope(role: str, node: Network) -> Envelope:
     """The drift of a network: the widest of its parts' (a series or parallel
     combination's relative change lies between its parts' changes)."""
     parts = node.parts()
@@ -49,12 +49,12 @@ def network_envelope(role: str, node: Node) -> Envelope:
         *envs, source="; ".join(dict.fromkeys(e.source for e in envs)))
 
 
-def _envelopes(networks: dict[str, Node]) -> dict[str, Envelope]:
+def _envelopes(networks: dict[str, Network]) -> dict[str, Envelope]:
     return {role: network_envelope(role, node) for role, node in networks.items()}
 
 
-def _ranges(networks: dict[str, Node]) -> dict[str, tuple[float, float]]:
-    return {role: node.value_range() for role, node in networks.items()}
+def _ranges(networks: dict[str, Network]) -> dict[str, tuple[float, float]]:
+    return {role: node.value_range for role, node in networks.items()}
 
 
 def robust_candidate(osc: Oscillator, cand: Candidate, conditions: Conditions) -> Candidate:

@@ -55,7 +55,7 @@ from core.model.timing import (
 )
 from core.parts.drawer import Part
 from core.parts.eseries import nearest
-from core.parts.networks import DrawerIndex, NetworkIndex, Node, drawer_index
+from core.parts.networks import DrawerIndex, Network, NetworkIndex, drawer_index
 from core.units import format_frequency, format_part_value, format_resistance, format_signed_pct
 
 NEAR_COPY = 0.02
@@ -80,7 +80,7 @@ class Candidate(Design):
 
     circuit: str
     values: dict[str, float]
-    networks: dict[str, Node]
+    networks: dict[str, Network]
     frequency_hz: float
     error_pct: float
     duty_pct: float
@@ -653,7 +653,7 @@ def _candidates(index: DrawerIndex, osc: Oscillator, target_hz: float, s: _Short
     chosen = []
     for i in picked:
         taken: Counter[int] = Counter()
-        networks: dict[str, Node] = {}
+        networks: dict[str, Network] = {}
         for role, entries in s.entries.items():
             net_index: NetworkIndex = index.capacitors if role == "C" else index.resistors
             (networks[role],) = net_index.nodes([int(entries[i])], taken)
@@ -662,7 +662,7 @@ def _candidates(index: DrawerIndex, osc: Oscillator, target_hz: float, s: _Short
         return []
     roles = list(chosen[0])
     values = {r: np.array([n[r].value for n in chosen]) for r in roles}
-    ranges = {r: tuple(np.array(x) for x in zip(*(n[r].value_range() for n in chosen),
+    ranges = {r: tuple(np.array(x) for x in zip(*(n[r].value_range for n in chosen),
                                                   strict=True)) for r in roles}
     leakage = np.array([network_leakage_a(n["C"], osc.supply_v) for n in chosen])
     low, high = worst_case_hz(osc, values, ranges, diode_steered=s.diode_steered,

@@ -30,7 +30,7 @@ from core.errors import InputError
 from core.model.spread import calibration_factors
 from core.model.timing import Oscillator, schmitt_resistance_for
 from core.parts.drawer import Part
-from core.parts.networks import DrawerIndex, NetworkIndex, Node, drawer_index, single
+from core.parts.networks import DrawerIndex, Network, NetworkIndex, drawer_index, single
 from core.units import format_frequency
 
 MARGIN = 1e-7
@@ -49,7 +49,7 @@ class TrimCandidate(Design):
     """
 
     values: dict[str, float]
-    networks: dict[str, Node]
+    networks: dict[str, Network]
     range_hz: tuple[float, float]
     guaranteed_hz: tuple[float, float]
     rotation_pct: tuple[float, float]
@@ -223,7 +223,7 @@ def _why_none(pots: tuple[Part, ...], lo: float, hi: float) -> str:
             "calibration")
 
 
-def _design(osc: Oscillator, r_node: Node, p_node: Node, c_node: Node,
+def _design(osc: Oscillator, r_node: Network, p_node: Network, c_node: Network,
             band: tuple[float, float], range_hz: tuple[float, float],
             guaranteed: tuple[float, float]) -> TrimCandidate:
     pot = p_node.parts()[0]
@@ -261,7 +261,7 @@ def frequency_at_rotation(osc: Oscillator, candidate: TrimCandidate, rotation_pc
         return schmitt_frequency(osc, total, np.full(np.shape(total), c.value))[0]
     if corner not in ("low", "high"):
         raise InputError("corner is None, 'low' or 'high'", text=str(corner), what="corner")
-    (r_lo, r_hi), (p_lo, p_hi), (c_lo, c_hi) = (n.value_range() for n in (r, p, c))
+    (r_lo, r_hi), (p_lo, p_hi), (c_lo, c_hi) = (n.value_range for n in (r, p, c))
     slow = corner == "low"
     total = (r_hi if slow else r_lo) + pot_resistance(p_hi if slow else p_lo, rotation_pct,
                                                       candidate.taper)

@@ -33,7 +33,7 @@ from typing import Any
 import numpy as np
 
 from core.model.devices import DeviceAtSupply
-from core.parts.networks import Node
+from core.parts.networks import Network
 
 CAPACITOR_LEAKAGE_RULE: dict[str, tuple[float, float]] = {
     "electrolytic": (0.01, 3e-6),
@@ -64,7 +64,7 @@ def capacitor_leakage_a(c_f: Any, dielectric: str, supply_v: float) -> Any:
     return np.maximum(k * np.asarray(c_f, dtype=float) * supply_v, floor)[()]
 
 
-def network_leakage_a(node: Node, supply_v: float) -> float:
+def network_leakage_a(node: Network, supply_v: float) -> float:
     """Leakage limit [A] of a capacitor network at ``supply_v`` [V].
 
     Parallel parts add; a series string passes at most its leakiest part's

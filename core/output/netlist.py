@@ -40,7 +40,7 @@ from core.design.design import Design
 from core.design.trim import start_rotation
 from core.errors import SetupError, TickbinError
 from core.model.timing import Oscillator, Prediction, predict, waveform
-from core.parts.networks import Node
+from core.parts.networks import Network
 from core.units import format_part_value, format_quantity
 
 MEASURES = ("period_s", "frequency_hz", "t_high_s", "duty_pct")
@@ -53,7 +53,7 @@ def _num(x: float) -> str:
     return f"{x:.9g}"
 
 
-def _elements(node: Node, a: str, b: str, counters: dict[str, int], nodes: Iterator[str],
+def _elements(node: Network, a: str, b: str, counters: dict[str, int], nodes: Iterator[str],
               pot_ohm: float = 0.0) -> list[str]:
     """SPICE lines for ``node`` between nodes ``a`` and ``b``, numbering parts in order.
 
@@ -228,7 +228,7 @@ def spice_netlist(osc: Oscillator, candidate: Design,
     return "\n".join(spice_text(line) for line in lines) + "\n"
 
 
-def _astable_resistors(osc: Oscillator, networks: dict[str, Node], steered: bool,
+def _astable_resistors(osc: Oscillator, networks: dict[str, Network], steered: bool,
                        pot_ohm: float, counters: dict[str, int], names: Iterator[str]
                        ) -> list[str]:
     """RA and RB (and the steering diode across RB)."""
@@ -244,7 +244,7 @@ def _astable_resistors(osc: Oscillator, networks: dict[str, Node], steered: bool
     return body
 
 
-def _schmitt_resistors(osc: Oscillator, networks: dict[str, Node], steered: bool,
+def _schmitt_resistors(osc: Oscillator, networks: dict[str, Network], steered: bool,
                        pot_ohm: float, counters: dict[str, int], names: Iterator[str]
                        ) -> list[str]:
     """R (then the pot, if the design has one) from the gate output to the timing node."""

@@ -27,12 +27,12 @@ GATE = 7.0
 """Inverter symbol from input terminal to output terminal, grid units."""
 
 
-class NetworkNode(Protocol):
-    """What the layout needs of ``core.parts.networks.Node``."""
+class NetworkTree(Protocol):
+    """What the layout needs of ``core.parts.networks.Network``."""
 
     part: object | None
-    series: tuple[NetworkNode, ...]
-    parallel: tuple[NetworkNode, ...]
+    series: tuple[NetworkTree, ...]
+    parallel: tuple[NetworkTree, ...]
 
 
 @dataclass(frozen=True)
@@ -177,7 +177,7 @@ def _leaf_extent(axis: Axis, pot: bool) -> _Extent:
     return _Extent(LEAF, 2.2 if pot else 1.0, 6.5)
 
 
-def _extent(node: NetworkNode, axis: Axis, kinds: dict[int, str]) -> _Extent:
+def _extent(node: NetworkTree, axis: Axis, kinds: dict[int, str]) -> _Extent:
     if node.part is not None:
         return _leaf_extent(axis, kinds.get(id(node)) == "P")
     if node.series:
@@ -201,7 +201,7 @@ class _Pen:
         self.counters[kind] = self.counters.get(kind, 0) + 1
         return f"{kind}{self.counters[kind]}"
 
-    def network(self, net: Network, start: Point, axis: Axis, grow: int,
+    def network(self, net: NetworkDrawing, start: Point, axis: Axis, grow: int,
                 kinds: dict[int, str], values: dict[int, str]) -> Point:
         """Draw ``net`` from ``start`` along ``axis``; parallel branches go ``grow`` (±1).
 
@@ -216,7 +216,7 @@ class _Pen:
         self._draw(node, 0.0, 0.0, at, axis, grow, kinds, values)
         return at(_extent(node, axis, kinds).length, 0.0)
 
-    def _draw(self, node: NetworkNode, s: float, t: float, at, axis: Axis, grow: int,
+    def _draw(self, node: NetworkTree, s: float, t: float, at, axis: Axis, grow: int,
               kinds: dict[int, str], values: dict[int, str]) -> None:
         items = self.s.items
         if node.part is not None:
@@ -281,7 +281,7 @@ class _Pen:
             items.append(Junction(at(end, t + o)))
 
 
-def _leaves(node: NetworkNode) -> Iterator[NetworkNode]:
+def _leaves(node: NetworkTree) -> Iterator[NetworkTree]:
     if node.part is not None:
         yield node
     for child in (*node.series, *node.parallel):
@@ -291,10 +291,10 @@ def _leaves(node: NetworkNode) -> Iterator[NetworkNode]:
 # ---------------------------------------------------------------- circuits
 
 @dataclass(frozen=True)
-class Network:
+class NetworkDrawing:
     """A network to draw: the node, its role (R, P, C, RA, RB) and each part's label."""
 
-    node: NetworkNode
+    node: NetworkTree
     role: str
     value_text: Callable[[Any], str]
 
@@ -303,7 +303,7 @@ class Network:
         return "R" if self.role in ("RA", "RB") else self.role
 
 
-def _maps(networks: list[Network]) -> tuple[dict[int, str], dict[int, str]]:
+def _maps(networks: list[NetworkDrawing]) -> tuple[dict[int, str], dict[int, str]]:
     kinds, values = {}, {}
     for net in networks:
         for leaf in _leaves(net.node):
@@ -312,7 +312,7 @@ def _maps(networks: list[Network]) -> tuple[dict[int, str], dict[int, str]]:
     return kinds, values
 
 
-def schmitt_schematic(feedback: list[Network], capacitor: Network, *, gate_ref: str,
+def schmitt_schematic(feedback: list[NetworkDrawing], capacitor: NetworkDrawing, *, gate_ref: str,
                       input_pin: str, output_pin: str, vcc_pin: str, gnd_pin: str,
                       supply_text: str, decoupling_text: str,
                       gate_note: str = "") -> Schematic:
@@ -388,8 +388,8 @@ def _power_unit(sheet: Schematic, x: float, chip: str, vcc_pin: str, gnd_pin: st
     items.append(Label((cx + 1.2, 0.1), decoupling_text, "right", "bottom"))
 
 
-def astable_schematic(ra: Network, rb: Network, capacitor: Network, *, pins: dict[str, str],
-                      chip: str, supply_text: str, decoupling_text: str,
+def astable_schematic(ra: NetworkDrawing, rb: NetworkDrawing, capacitor: NetworkDrawing, *,
+                      pins: dict[str, str], chip: str, supply_text: str, decoupling_text: str,
                       control_text: str, diode_text: str | None) -> Schematic:
     """555 astable: RA from the supply to DIS, RB from DIS to THR/TRIG, C to ground.
 

@@ -31,9 +31,9 @@ from core.model.diode import SMALL_SIGNAL_DIODE
 from core.model.drift import Conditions, supply_hz, temperature_hz
 from core.model.spread import monte_carlo
 from core.model.timing import Oscillator, predict, waveform
-from core.output.schematic import Network, Schematic, astable_schematic, schmitt_schematic
+from core.output.schematic import NetworkDrawing, Schematic, astable_schematic, schmitt_schematic
 from core.parts.drawer import Drawer, Part
-from core.parts.networks import Node
+from core.parts.networks import Network
 from core.parts.notation import NOTATION
 from core.units import (
     format_capacitance,
@@ -207,15 +207,14 @@ def _value_text(part: Part) -> str:
     return format_part_value(part.value, part.kind)
 
 
-def _astable_drawing(osc: Oscillator, networks: Mapping[str, Node], supply_text: str,
+def _astable_drawing(osc: Oscillator, networks: Mapping[str, Network], supply_text: str,
                      steered: bool) -> Schematic:
     family = osc.family
     pins = family.package.pins
     roles = {"gnd": "gnd", "trig": "trigger", "out": "output", "reset": "reset",
              "ctrl": "control", "thr": "threshold", "dis": "discharge", "vcc": "vcc"}
     return astable_schematic(
-        Network(networks["RA"], "RA", _value_text), Network(networks["RB"], "RB", _value_text),
-        Network(networks["C"], "C", _value_text),
+        *(NetworkDrawing(networks[role], role, _value_text) for role in ("RA", "RB", "C")),
         pins={role: str(pins[key]) for role, key in roles.items()},
         chip=f"U1 {family.name}", supply_text=supply_text,
         decoupling_text=format_capacitance(DECOUPLING_F),
@@ -223,27 +222,27 @@ def _astable_drawing(osc: Oscillator, networks: Mapping[str, Node], supply_text:
         diode_text=STEERING_DIODE if steered else None)
 
 
-def _schmitt_drawing(osc: Oscillator, networks: Mapping[str, Node], supply_text: str,
+def _schmitt_drawing(osc: Oscillator, networks: Mapping[str, Network], supply_text: str,
                      steered: bool) -> Schematic:
     family = osc.family
     pins = family.package.pins
-    feedback = [Network(networks["R"], "R", _value_text)]
+    feedback = [NetworkDrawing(networks["R"], "R", _value_text)]
     if "P" in networks:
-        feedback.append(Network(networks["P"], "P", _value_text))
+        feedback.append(NetworkDrawing(networks["P"], "P", _value_text))
     return schmitt_schematic(
-        feedback, Network(networks["C"], "C", _value_text), gate_ref=f"U1a {family.name}",
+        feedback, NetworkDrawing(networks["C"], "C", _value_text), gate_ref=f"U1a {family.name}",
         input_pin=str(pins["input"]), output_pin=str(pins["output"]),
         vcc_pin=str(pins["vcc"]), gnd_pin=str(pins["gnd"]), supply_text=supply_text,
         decoupling_text=format_capacitance(DECOUPLING_F),
         gate_note=f"NAND: pin {pins['tie_high']} to VCC" if "tie_high" in pins else "")
 
 
-DRAWINGS: dict[str, Callable[[Oscillator, Mapping[str, Node], str, bool], Schematic]] = {
+DRAWINGS: dict[str, Callable[[Oscillator, Mapping[str, Network], str, bool], Schematic]] = {
     "schmitt": _schmitt_drawing, "555": _astable_drawing}
 """Each circuit's schematic from its networks and the family's package pins, by name."""
 
 
-def _parts_list(osc: Oscillator, schematic: Schematic, networks: Mapping[str, Node],
+def _parts_list(osc: Oscillator, schematic: Schematic, networks: Mapping[str, Network],
                 stock: Sequence[Part], steered: bool) -> tuple[list[PartRow], list[Part]]:
     """Rows in reference order (one per stock line and role) and the drawer parts used."""
     refs: dict[tuple[int, str], list[str]] = {}
@@ -304,7 +303,7 @@ def build_sheet(osc: Oscillator, candidate: Design, target: str, *,
     package = family.package
     supply = osc.supply_v
     supply_text = format_quantity(supply, "voltage")
-    networks: dict[str, Node] = dict(candidate.networks)
+    networks: dict[str, Network] = dict(candidate.networks)
     steered = candidate.diode_steered
     schematic = DRAWINGS[osc.circuit.name](osc, networks, f"+{supply_text}", steered)
     rows, take = _parts_list(osc, schematic, networks, stock, steered)
@@ -437,7 +436,7 @@ def refs_of(schematic: Schematic, kind: str) -> str:
                      if p.part.kind == kind)  # type: ignore[attr-defined]
 
 
-def _common_dielectric(node: Node) -> str:
+def _common_dielectric(node: Network) -> str:
     """The capacitors' dielectric when they share one (for the model's warnings)."""
     kinds = {p.dielectric for p in node.parts()}
     return kinds.pop() if len(kinds) == 1 else ""
@@ -494,7 +493,7 @@ def _threshold_text(osc: Oscillator) -> str:
                                               source=source)
 
 
-def _build_notes(osc: Oscillator, package: Any, networks: Mapping[str, Node],
+def _build_notes(osc: Oscillator, package: Any, networks: Mapping[str, Network],
                  trim: bool) -> list[str]:
     """What an experienced builder would tell a newcomer (common practice, no published source)."""
     notes = [n[:1].upper() + n[1:] for n in package.notes]

@@ -1,6 +1,6 @@
 """Networks of stock parts: every value the drawer can make from one, two or three parts.
 
-A network is a small tree (``Node``) of stock parts in series and in parallel.
+A network is a small tree (``Network``) of stock parts in series and in parallel.
 ``NetworkIndex`` holds every network the drawer can build for one kind of part
 as sorted numpy arrays, one layer per part count, so a search looks values up
 with ``numpy.searchsorted`` instead of enumerating combinations.
@@ -72,7 +72,7 @@ _PART_COUNT = np.array([1, 2, 2, 3, 3, 3, 3], dtype=np.int8)
 # ---------------------------------------------------------------- one network
 
 @dataclass(frozen=True)
-class Node:
+class Network:
     """A single stock part, or parts in ``series`` / ``parallel`` (child nodes).
 
     ``value`` is in Ω for resistors, F for capacitors (series capacitors add
@@ -80,13 +80,13 @@ class Node:
     """
 
     part: Part | None = None
-    series: tuple[Node, ...] = ()
-    parallel: tuple[Node, ...] = ()
+    series: tuple[Network, ...] = ()
+    parallel: tuple[Network, ...] = ()
 
     def __post_init__(self) -> None:
         shapes = (self.part is not None) + bool(self.series) + bool(self.parallel)
         if shapes != 1 or len(self.series) == 1 or len(self.parallel) == 1:
-            raise InputError("a network node is one part, or two or more nodes in series "
+            raise InputError("a network is one part, or two or more networks in series "
                              "or in parallel")
 
     @property
@@ -106,6 +106,7 @@ class Node:
         """Nominal value of the network (Ω or F)."""
         return self._combine(lambda p: p.value)
 
+    @property
     def value_range(self) -> tuple[float, float]:
         """(lowest, highest) value with every part at its tolerance extreme.
 
@@ -143,8 +144,8 @@ class Node:
         return sign.join(shown)
 
 
-def single(part: Part) -> Node:
-    return Node(part=part)
+def single(part: Part) -> Network:
+    return Network(part=part)
 
 
 # ---------------------------------------------------------------- the index
@@ -416,7 +417,7 @@ class NetworkIndex:
             bad[rows] = ~within_stock(use, self.group_quantity)
         return bad
 
-    def nodes(self, entries: Iterable[int], taken: Counter[int] | None = None) -> list[Node]:
+    def nodes(self, entries: Iterable[int], taken: Counter[int] | None = None) -> list[Network]:
         """The networks of ``entries`` with concrete stock lines, sharing the quantities.
 
         ``taken`` (stock line -> parts already used by this candidate) is updated,
@@ -439,18 +440,18 @@ class NetworkIndex:
         return out
 
 
-def _tree(code: int, leaves: list[Node]) -> Node:
+def _tree(code: int, leaves: list[Network]) -> Network:
     if code == SINGLE:
         return leaves[0]
     a, b = leaves[0], leaves[1]
     c = leaves[2] if len(leaves) > 2 else None
     shapes = {
-        SERIES2: lambda: Node(series=(a, b)),
-        PARALLEL2: lambda: Node(parallel=(a, b)),
-        SERIES3: lambda: Node(series=(a, b, c)),
-        PARALLEL3: lambda: Node(parallel=(a, b, c)),
-        PAR_THEN_SERIES: lambda: Node(series=(Node(parallel=(a, b)), c)),
-        SER_THEN_PARALLEL: lambda: Node(parallel=(Node(series=(a, b)), c)),
+        SERIES2: lambda: Network(series=(a, b)),
+        PARALLEL2: lambda: Network(parallel=(a, b)),
+        SERIES3: lambda: Network(series=(a, b, c)),
+        PARALLEL3: lambda: Network(parallel=(a, b, c)),
+        PAR_THEN_SERIES: lambda: Network(series=(Network(parallel=(a, b)), c)),
+        SER_THEN_PARALLEL: lambda: Network(parallel=(Network(series=(a, b)), c)),
     }
     return shapes[code]()
 
