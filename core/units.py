@@ -25,6 +25,7 @@ from functools import cache, lru_cache
 from typing import TYPE_CHECKING, Literal
 
 from core.errors import InputError
+from core.preferred_numbers import E24_FIGURES
 
 if TYPE_CHECKING:
     import pint
@@ -499,9 +500,7 @@ def format_code(value: float, kind: str, digits: int = 3) -> str:
     return f"{'' if whole == '0' and fraction else whole}{letter}{fraction}"
 
 
-_E24_LEADS = frozenset({10, 11, 12, 13, 15, 16, 18, 20, 22, 24, 27, 30, 33, 36, 39, 43, 47,
-                        51, 56, 62, 68, 75, 82, 91})
-"""The two significant digits of the IEC 60063 E24 series."""
+_E24_LEADS = frozenset(E24_FIGURES)
 
 
 def capacitor_code_value(text: str) -> float | None:

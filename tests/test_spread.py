@@ -8,7 +8,7 @@ import pytest
 from core.model.leakage import node_current_corners
 from core.model.spread import draw_thresholds, monte_carlo, worst_case_hz
 from core.model.timing import default_tolerances, frequency, make_oscillator, predict
-from core.parts.drawer import DEFAULT_TOLERANCE, DIELECTRIC_TOLERANCE
+from core.parts.tolerances import DEFAULT_TOLERANCE, DIELECTRIC_TOLERANCE
 from core.units import Tolerance
 
 VALUES = {"R": 21.7e3, "C": 1e-6}

@@ -40,7 +40,7 @@ from pathlib import Path
 from typing import TYPE_CHECKING, Any, NamedTuple
 
 from core.errors import InputError, SetupError, TickbinError
-from core.parts.drawer import DEFAULT_TOLERANCE, DIELECTRIC_TOLERANCE
+from core.parts.tolerances import DEFAULT_TOLERANCE, DIELECTRIC_TOLERANCE
 from core.units import Tolerance, format_quantity
 
 if TYPE_CHECKING:

@@ -38,7 +38,8 @@ from core.model.circuits.phases import cycle, diode_conducts, phase_times
 from core.model.devices import Family, device_table
 from core.model.leakage import capacitor_leakage_a
 from core.model.spread import worst_case_hz
-from core.parts.drawer import DEFAULT_TOLERANCE, DIELECTRIC_TOLERANCE, ELECTROLYTIC
+from core.parts.drawer import ELECTROLYTIC
+from core.parts.tolerances import DEFAULT_TOLERANCE, DIELECTRIC_TOLERANCE
 from core.units import Tolerance, format_quantity
 
 

@@ -20,6 +20,7 @@ from pathlib import Path
 from typing import Literal
 
 from core.errors import DrawerFileError, InputError, LineProblem, TickbinError
+from core.parts.tolerances import DEFAULT_TOLERANCE, DIELECTRIC_TOLERANCE
 from core.storage.atomic import (
     DiskState,
     FileTooLargeError,
@@ -58,24 +59,6 @@ MAX_FILE_BYTES = 50 * 1024 * 1024
 MAX_LINE_CHARS = 10_000
 _FORMULA_START = ("=", "+", "-", "@", "\t", "\r")
 
-# Default tolerances when a line gives none (common practice, no published source):
-# carbon-film resistors ±5 %, trimmers ±20 %; capacitors by dielectric below.
-DEFAULT_TOLERANCE: dict[str, Tolerance] = {
-    "R": Tolerance(0.05, 0.05),
-    "P": Tolerance(0.20, 0.20),
-}
-DIELECTRIC_TOLERANCE: dict[str, Tolerance] = {
-    "c0g": Tolerance(0.05, 0.05),
-    "np0": Tolerance(0.05, 0.05),
-    "film": Tolerance(0.05, 0.05),
-    "x7r": Tolerance(0.10, 0.10),
-    "x5r": Tolerance(0.10, 0.10),
-    "y5v": Tolerance(0.20, 0.80),
-    "z5u": Tolerance(0.20, 0.80),
-    "tantalum": Tolerance(0.10, 0.10),
-    "electrolytic": Tolerance(0.20, 0.20),
-    "": Tolerance(0.20, 0.20),
-}
 ELECTROLYTIC = frozenset({"electrolytic", "tantalum"})
 DIELECTRIC_STABILITY: dict[str, int] = {
     "c0g": 0, "np0": 0, "film": 0, "x7r": 1, "x5r": 2, "y5v": 3, "z5u": 3, "": 3,
@@ -591,89 +574,114 @@ def _is_note(line: str) -> bool:
     return not stripped or stripped.startswith("#")
 
 
+def _screen_lines(lines: list[str], name: str) -> str:
+    """The delimiter the header line uses; DrawerFileError for binary data, an empty file
+    or over-long lines (all of them listed)."""
+    binary = next((i for i, ln in enumerate(lines) if "\x00" in ln), None)
+    if binary is not None:
+        raise DrawerFileError([LineProblem(name, binary + 1,
+                                           "binary data (a NUL byte), not a CSV text file")])
+    first = next((i for i, ln in enumerate(lines) if not _is_note(ln)), None)
+    if first is None:
+        raise DrawerFileError([LineProblem(name, 1, "empty file; expected a header line "
+                                           "with kind,value,quantity")])
+    problems = [LineProblem(name, i + 1, f"line longer than {MAX_LINE_CHARS:,} characters")
+                for i, ln in enumerate(lines) if len(ln) > MAX_LINE_CHARS]
+    if problems:
+        raise DrawerFileError(problems)
+    return _sniff_delimiter(lines[first])
+
+
+def _header(record: list[str], name: str, line: int) -> list[str]:
+    """The column names of a header record (aliases resolved); DrawerFileError when a
+    required column is missing or one is named twice."""
+    header = [_HEADER_ALIASES.get(h.strip().lower(), h.strip().lower())
+              for h in map(_unneutralise, record)]
+    missing = [c for c in REQUIRED if c not in header]
+    if missing:
+        why = ("; an unclosed quote joins the lines from here on"
+               if any("\n" in h for h in header) else
+               "; a drawer file needs kind, value and quantity")
+        raise DrawerFileError([LineProblem(
+            name, line, f"header lacks the column{'s' if len(missing) > 1 else ''}"
+            f" {', '.join(missing)}{why}")])
+    if len(set(header)) != len(header):
+        raise DrawerFileError([LineProblem(name, line, "header names a column twice")])
+    return header
+
+
+def _cells(record: list[str], header: list[str]) -> dict[str, str] | None:
+    """A data record's cells by column; None when it has more filled fields than the
+    header has columns (empty fields past the header are allowed)."""
+    if len(record) > len(header) and any(cell.strip() for cell in record[len(header):]):
+        return None
+    return {h: _unneutralise(record[i].strip()) if i < len(record) else ""
+            for i, h in enumerate(header)}
+
+
+class _Records:
+    """CSV records read one at a time from the file's physical lines, remembering where
+    each starts, so its exact text (line ending included) is kept."""
+
+    def __init__(self, text: str, delimiter: str):
+        self.physical = io.StringIO(text, newline="").readlines()
+        self.at = 0
+        self.line = 1
+        """The line the record being read starts on (for a CSV error's message)."""
+        self.reader = csv.reader(self._feed(), delimiter=delimiter)
+
+    def _feed(self) -> Iterator[str]:
+        while self.at < len(self.physical):
+            self.at += 1
+            yield self.physical[self.at - 1]
+
+    def __iter__(self) -> Iterator[tuple[int, str, list[str] | None]]:
+        """(line, raw text, record) per record; record None for a comment or blank line."""
+        while self.at < len(self.physical):
+            start = self.at
+            self.line = start + 1
+            if _is_note(self.physical[start]):
+                self.at += 1
+                yield start + 1, self.physical[start], None
+                continue
+            record = next(self.reader)
+            yield start + 1, "".join(self.physical[start:self.at]), record
+
+
 def parse_drawer_text(text: str, name: str = "<drawer>") -> Drawer:
     """Rows from CSV text; structural problems (header, field counts) raise at once.
 
     Value problems are kept in the rows (see ``Drawer.problems``). Lines
     starting with ``#`` (between records) are comments: kept, never read as parts.
     """
-    lines = text.splitlines()
-    binary = next((i for i, ln in enumerate(lines) if "\x00" in ln), None)
-    if binary is not None:
-        raise DrawerFileError([LineProblem(name, binary + 1,
-                                           "binary data (a NUL byte), not a CSV text file")])
-    problems: list[LineProblem] = []
-    first = next((i for i, ln in enumerate(lines) if not _is_note(ln)), None)
-    if first is None:
-        raise DrawerFileError([LineProblem(name, 1, "empty file; expected a header line "
-                                           "with kind,value,quantity")])
-    delimiter = _sniff_delimiter(lines[first])
-    for i, ln in enumerate(lines):
-        if len(ln) > MAX_LINE_CHARS:
-            problems.append(LineProblem(name, i + 1,
-                                        f"line longer than {MAX_LINE_CHARS:,} characters"))
-    if problems:
-        raise DrawerFileError(problems)
-    physical = io.StringIO(text, newline="").readlines()
-    at = 0
-
-    def feed() -> Iterator[str]:
-        nonlocal at
-        while at < len(physical):
-            at += 1
-            yield physical[at - 1]
-
-    reader = csv.reader(feed(), delimiter=delimiter)
+    delimiter = _screen_lines(text.splitlines(), name)
     header: list[str] | None = None
     header_record = _Record("", [])
     records: dict[int, _Record] = {}
     notes: list[tuple[int | None, str]] = []
     pending: list[str] = []
     rows: list[Row] = []
-    line = 1
+    problems: list[LineProblem] = []
+    source = _Records(text, delimiter)
     try:
-        while at < len(physical):
-            start = at
-            line = start + 1
-            if _is_note(physical[at]):
-                pending.append(physical[at])
-                at += 1
+        for line, raw, record in source:
+            if record is None or not any(cell.strip() for cell in record):
+                pending.append(raw)  # a comment, a blank line or a line of empty cells
                 continue
-            record = next(reader)
-            raw = "".join(physical[start:at])
-            if not any(cell.strip() for cell in record):
-                pending.append(raw)  # a line of empty cells: kept like a blank line
-                continue
-            notes += [(line, text) for text in pending]
+            notes += [(line, kept) for kept in pending]
             pending = []
             if header is None:
-                header = [_HEADER_ALIASES.get(h.strip().lower(), h.strip().lower())
-                          for h in map(_unneutralise, record)]
-                missing = [c for c in REQUIRED if c not in header]
-                if missing:
-                    why = ("; an unclosed quote joins the lines from here on"
-                           if any("\n" in h for h in header) else
-                           "; a drawer file needs kind, value and quantity")
-                    raise DrawerFileError([LineProblem(
-                        name, line, f"header lacks the column{'s' if len(missing) > 1 else ''}"
-                        f" {', '.join(missing)}{why}")])
-                if len(set(header)) != len(header):
-                    raise DrawerFileError([LineProblem(name, line,
-                                                       "header names a column twice")])
-                header_record = _Record(raw, list(record))
+                header, header_record = _header(record, name, line), _Record(raw, list(record))
                 continue
-            if len(record) > len(header):
-                extra = record[len(header):]
-                if any(cell.strip() for cell in extra):
-                    problems.append(LineProblem(
-                        name, line, f"{len(record)} fields but the header has {len(header)}"))
-                    continue
-            cells = {h: _unneutralise(record[i].strip()) if i < len(record) else ""
-                     for i, h in enumerate(header)}
+            cells = _cells(record, header)
+            if cells is None:
+                problems.append(LineProblem(
+                    name, line, f"{len(record)} fields but the header has {len(header)}"))
+                continue
             records[line] = _Record(raw, [cells[h] for h in header])
             rows.append(Row(cells, line))
     except csv.Error as e:
-        raise DrawerFileError([LineProblem(name, line, f"CSV: {e}")]) from None
+        raise DrawerFileError([LineProblem(name, source.line, f"CSV: {e}")]) from None
     if problems:
         raise DrawerFileError(problems)
     if header is None:  # e.g. one unterminated quote swallowed the whole file
@@ -682,7 +690,7 @@ def parse_drawer_text(text: str, name: str = "<drawer>") -> Drawer:
     drawer = Drawer(rows, header, delimiter=delimiter)
     drawer.layout = FileLayout("utf-8", delimiter, header_record.ending or "\n", header_record,
                                list(header), records,
-                               notes + [(None, text) for text in pending])
+                               notes + [(None, kept) for kept in pending])
     return drawer
 
 
@@ -772,6 +780,20 @@ def _record_text(values: list[str], record: _Record | None, layout: FileLayout) 
     return d.join(_field(v, d) for v in values) + (record.ending if record else layout.newline)
 
 
+def _notes_by_record(drawer: Drawer, layout: FileLayout) -> dict[int | None, list[str]]:
+    """Comment and blank lines by the line of the kept record they go before: -1 before
+    the header, None at the end (their record was deleted and none follows)."""
+    kept = sorted(r.line for r in drawer.rows if r.line in layout.records)
+    notes: dict[int | None, list[str]] = {}
+    for line, note in layout.notes:
+        if line is not None and line not in layout.records:
+            where: int | None = -1  # before the header
+        else:
+            where = next((k for k in kept if line is not None and k >= line), None)
+        notes.setdefault(where, []).append(note)
+    return notes
+
+
 def drawer_file_text(drawer: Drawer) -> tuple[str, FileLayout, list[int]]:
     """The drawer file's new text, its layout and the line each row starts on.
 
@@ -793,14 +815,7 @@ def drawer_file_text(drawer: Drawer) -> tuple[str, FileLayout, list[int]]:
         body = header.raw[:len(header.raw) - len(header.ending)]
         header = _Record(d.join([body, *(_field(c, d) for c in added)])
                          + (header.ending or layout.newline), header.cells + added)
-    kept = sorted(r.line for r in drawer.rows if r.line in layout.records)
-    notes: dict[int | None, list[str]] = {}
-    for line, note in layout.notes:
-        if line is not None and line not in layout.records:
-            where: int | None = -1  # before the header
-        else:
-            where = next((k for k in kept if line is not None and k >= line), None)
-        notes.setdefault(where, []).append(note)
+    notes = _notes_by_record(drawer, layout)
     new = FileLayout(layout.encoding, d, layout.newline, header, columns)
     out: list[str] = []
     waiting: list[str] = []

@@ -16,9 +16,9 @@ import numpy as np
 from numpy.typing import ArrayLike
 
 from core.errors import InputError
+from core.preferred_numbers import E24_FIGURES
 
-_E24 = (1.0, 1.1, 1.2, 1.3, 1.5, 1.6, 1.8, 2.0, 2.2, 2.4, 2.7, 3.0,
-        3.3, 3.6, 3.9, 4.3, 4.7, 5.1, 5.6, 6.2, 6.8, 7.5, 8.2, 9.1)
+_E24 = tuple(figures / 10 for figures in E24_FIGURES)
 
 SERIES = ("E3", "E6", "E12", "E24", "E48", "E96", "E192")
 
