@@ -113,6 +113,12 @@ def _add_part_options(parser: argparse.ArgumentParser) -> None:
     parts = parser.add_argument_group("parts")
     parts.add_argument("--r", type=value_arg("resistance"), metavar="R",
                        help="timing resistor (Schmitt, cmos-astable)")
+    parts.add_argument("--rh", type=value_arg("resistance"), metavar="R",
+                       help="diode-steered Schmitt: resistor charging C (through a diode) "
+                       "while the output is high")
+    parts.add_argument("--rl", type=value_arg("resistance"), metavar="R",
+                       help="diode-steered Schmitt: resistor discharging C (through a diode) "
+                       "while the output is low")
     parts.add_argument("--rs", type=value_arg("resistance"), metavar="R",
                        help="cmos-astable: resistor from the timing node to the first "
                        "inverter's input")
@@ -126,6 +132,19 @@ def _add_part_options(parser: argparse.ArgumentParser) -> None:
                        help="divider: the counter stage's ratio (a pinned-out power of two)")
     parts.add_argument("--diode-steered", action="store_true",
                        help="555: a diode across RB (charge through RA only)")
+
+
+def _wired(osc: Oscillator, args: argparse.Namespace) -> Oscillator:
+    """The oscillator as the part options wire it: RH/RL pick the diode-steered Schmitt."""
+    if getattr(args, "rh", None) is not None or getattr(args, "rl", None) is not None:
+        if osc.circuit.steered_variant is None:
+            raise InputError(f"--rh and --rl are for the diode-steered Schmitt oscillator; "
+                             f"the {osc.circuit.title} takes {osc.circuit.value_flags}")
+        osc = osc.with_steering()
+    elif args.diode_steered and osc.circuit.steered_variant is not None:
+        raise InputError(f"the diode-steered {osc.circuit.title} takes "
+                         f"{osc.circuit.steered_variant.value_flags}")
+    return osc
 
 
 def _values(osc: Oscillator, args: argparse.Namespace) -> dict[str, float]:
@@ -149,7 +168,7 @@ def _describe_values(values: dict[str, float]) -> str:
 # ---------------------------------------------------------------- predict
 
 def run_predict(args: argparse.Namespace) -> int:
-    osc = oscillator_from_args(args)
+    osc = _wired(oscillator_from_args(args), args)
     if (args.divide_by is not None) != (osc.circuit is DIVIDER):
         raise InputError("--divide-by N goes with --circuit divider (and it needs one)")
     if args.divide_by is not None:
@@ -165,15 +184,14 @@ def run_predict(args: argparse.Namespace) -> int:
     c_seen, bias_notes = effective_capacitance(osc, values["C"], args.dielectric,
                                                args.c_voltage, args.case)
     seen = {**values, "C": c_seen}
-    pred = predict(osc, seen, tolerances, diode_steered=args.diode_steered,
-                   dielectric=args.dielectric)
+    steered = bool(args.diode_steered) or osc.circuit.always_steered
+    pred = predict(osc, seen, tolerances, diode_steered=steered, dielectric=args.dielectric)
     pred.warnings.extend([*bias_notes, *ageing_note(args.dielectric)])
-    mc = monte_carlo(osc, seen, tolerances, n=args.draws, seed=0,
-                     diode_steered=args.diode_steered)
+    mc = monte_carlo(osc, seen, tolerances, n=args.draws, seed=0, diode_steered=steered)
     result = pred.to_json()
     result.update({
         "circuit": osc.circuit.name, "family": osc.family.name, "supply_v": osc.supply_v,
-        "values": values, "diode_steered": bool(args.diode_steered),
+        "values": values, "diode_steered": steered,
         "tolerances": {k: [t.minus * 100, t.plus * 100] for k, t in tolerances.items()},
         "vt_plus_v": osc.vt_plus_v, "vt_minus_v": osc.vt_minus_v,
         "thresholds": _threshold_source(osc),
@@ -184,8 +202,7 @@ def run_predict(args: argparse.Namespace) -> int:
     })
     if bias_notes:
         result["effective_c_f"] = c_seen
-    drift, drift_warnings = drift_result(args, osc, seen, args.dielectric, tolerances,
-                                         args.diode_steered)
+    drift, drift_warnings = drift_result(args, osc, seen, args.dielectric, tolerances, steered)
     result.update(drift)
     result["warnings"].extend(drift_warnings)
     if osc.circuit is DIVIDER:

@@ -29,6 +29,7 @@ References: W. Shockley (1949), the ideal diode law; ngspice User's Manual
 
 from __future__ import annotations
 
+import math
 from dataclasses import dataclass
 from functools import cache
 from typing import Any
@@ -83,6 +84,22 @@ SMALL_SIGNAL_DIODE = Diode(
            "SPICE libraries under the maker ON Semiconductor (IS=2.52n RS=.568 N=1.752 "
            "CJO=4p M=.4 TT=20n); DC parameters only")
 """The steering diode the build sheet lists (a 1N4148 small-signal silicon diode)."""
+
+DIODE_DRIFT_V = 0.08
+"""A silicon diode's forward drop moves about −2 mV/K (textbook silicon junction; the
+1N4148 data sheet's forward-voltage curves over temperature): 80 mV over a 40 K swing."""
+DIODE_DRIFT_SHARE = 0.05
+"""Warn when that drift moves a phase's time by more than this share (common practice,
+no published source)."""
+
+
+def drop_drift_share(far_v: float, near_v: float) -> float:
+    """The share by which a phase's time t ∝ ln(far/near) moves when the diode's drop
+    drifts by DIODE_DRIFT_V; ``far_v``/``near_v`` [V] are the drive (source − drop −
+    threshold) at the start and at the end of the phase (inf where it never arrives)."""
+    if not near_v > 0:
+        return math.inf
+    return DIODE_DRIFT_V * (1 / near_v - 1 / far_v) / math.log(far_v / near_v)
 
 
 @cache

@@ -218,7 +218,8 @@ def at_supply(osc: Oscillator, supply_v: float) -> Oscillator:
     if osc.thresholds_given and osc.calibration is None:
         scale = supply_v / osc.supply_v
         new = new.with_thresholds(osc.vt_plus_v * scale, osc.vt_minus_v * scale)
-    return replace(new, steering_diode=osc.steering_diode, divide_by=osc.divide_by)
+    return replace(new, circuit=osc.circuit, steering_diode=osc.steering_diode,
+                   divide_by=osc.divide_by)
 
 
 def check_supply_range(osc: Oscillator, lo_v: float, hi_v: float) -> None:

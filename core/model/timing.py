@@ -335,7 +335,13 @@ def waveform(osc: Oscillator, values: Mapping[str, float], periods: int = 3,
         charge = np.interp(phase, np.append(t_grid, t_high), np.append(v_grid, v_peak))
     else:
         charge = vh - (vh - v_start) * np.exp(-phase / th)
-    v_cap = np.where(high, charge, vl + (v_peak - vl) * np.exp(-(phase - t_high) / tl))
+    discharge = vl + (v_peak - vl) * np.exp(-(phase - t_high) / tl)
+    if n.steering_low is not None:
+        s = n.steering_low
+        v_grid = np.linspace(v_peak, float(n.vt_minus), 200)
+        t_grid, _ = s.time(v_peak, v_grid)
+        discharge = np.interp(phase - t_high, np.append(t_grid, t_low), np.append(v_grid, v_start))
+    v_cap = np.where(high, charge, discharge)
     d = osc.device
     v_out = np.where(high, d.output_high_v, osc.circuit.output_low_v(d))
     return t, v_cap, v_out

@@ -189,7 +189,8 @@ def spice_netlist(osc: Oscillator, candidate: Design,
     pred = model_prediction(osc, candidate, rotation_pct)
     _, v_cap, _ = waveform(osc, values, periods=1, points=2, diode_steered=steered)
     v_start = float(v_cap[0])
-    circuit = osc.circuit.oscillator + (", diode-steered" if steered else "")
+    circuit = osc.circuit.oscillator + (", diode-steered" if steered and not
+                                        osc.circuit.always_steered else "")
     head = [
         f"* {title or circuit}: {d.family.name} at {d.supply_v:g} V",
         f"* Tickbin {__version__}. Run: ngspice -b THIS_FILE.cir",
@@ -206,7 +207,7 @@ def spice_netlist(osc: Oscillator, candidate: Design,
     names = _node_names()
     body = [f"Vsupply vdd 0 DC {_num(d.supply_v)}", "Vone one 0 DC 1"]
     c_extra = d.input_capacitance_f + osc.stray_capacitance_f
-    resistors, output_stage = ELEMENTS[osc.circuit.name]
+    resistors, output_stage = ELEMENTS[osc.circuit.drawing_id]
     body += resistors(osc, networks, steered, share, counters, names)
     body.append("* timing capacitor from the timing node to ground")
     body += _elements(networks["C"], "tn", "0", counters, names)
@@ -258,6 +259,22 @@ def _schmitt_resistors(osc: Oscillator, networks: dict[str, Network], steered: b
     return body
 
 
+def _steered_schmitt_resistors(osc: Oscillator, networks: dict[str, Network], steered: bool,
+                               pot_ohm: float, counters: dict[str, int],
+                               names: Iterator[str]) -> list[str]:
+    """RH and a diode into the timing node, a diode and RL back out of it."""
+    diode = osc.steering_diode
+    body = ["* RH from the gate output, then D1 into the timing node (charges C while high)"]
+    body += _elements(networks["RH"], "out", "ach", counters, names, pot_ohm)
+    body += [f"D1 ach tn {diode.name.lower()}",
+             "* D2 out of the timing node, then RL to the gate output (discharges C while low)",
+             f"D2 tn kdis {diode.name.lower()}"]
+    body += _elements(networks["RL"], "kdis", "out", counters, names, pot_ohm)
+    body += [f"* steering diodes ({diode.name}): DC model as in the timing model",
+             diode.spice_model()]
+    return body
+
+
 def _astable_output(osc: Oscillator) -> tuple[list[str], float]:
     """The discharge transistor and the output stage; the output's middle level [V]."""
     d = osc.device
@@ -283,10 +300,11 @@ def _schmitt_output(osc: Oscillator) -> tuple[list[str], float]:
 
 
 ELEMENTS = {"schmitt": (_schmitt_resistors, _schmitt_output),
+            "schmitt-steered": (_steered_schmitt_resistors, _schmitt_output),
             "555": (_astable_resistors, _astable_output)}
-"""Each circuit's netlist elements by name: its timing resistors from the supply or output
-to the timing node ``tn``, and its output stage (the capacitor and the input switch are
-shared)."""
+"""Each circuit's netlist elements by its drawing id (``Circuit.drawing_id``): its timing
+resistors from the supply or output to the timing node ``tn``, and its output stage (the
+capacitor and the input switch are shared)."""
 
 
 _ASCII = str.maketrans({"Ω": "ohm", "µ": "u", "−": "-", "…": "...", "∥": "||"})

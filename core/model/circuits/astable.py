@@ -28,7 +28,7 @@ from core.model.circuits.base import (
 )
 from core.model.circuits.phases import Phases, Steered, cycle
 from core.model.devices import DeviceAtSupply
-from core.model.diode import SteeringBranch
+from core.model.diode import DIODE_DRIFT_SHARE, SteeringBranch, drop_drift_share
 from core.units import format_quantity
 
 
@@ -59,13 +59,6 @@ STEERING_SHARE_MIN = 0.5
 diode does not steer: C charges mostly through RA + RB (common practice, no published
 source)."""
 
-DIODE_DRIFT_V = 0.08
-"""A silicon diode's forward drop moves about −2 mV/K (textbook silicon junction; the
-1N4148 data sheet's forward-voltage curves over temperature): 80 mV over a 40 K swing."""
-
-DIODE_DRIFT_SHARE = 0.05
-"""Warn when that drift moves the high time by more than this share (common practice,
-no published source)."""
 
 
 
@@ -78,9 +71,7 @@ def steering_warnings(osc: Oscillator, values: Mapping[str, float]) -> list[str]
     v_pair, share = (float(x) for x in n.steering.branch.pair_at_node(v_start))
     # Sensitivity of t_high ∝ ln((V − Vd − VT-)/(V − Vd − VT+)) to the diode's drop.
     a, b = osc.vt_plus_v, osc.vt_minus_v
-    far, near = osc.supply_v - v_pair - b, osc.supply_v - v_pair - a
-    drift = (DIODE_DRIFT_V * (1 / near - 1 / far) / math.log(far / near) if near > 0
-             else math.inf)
+    drift = drop_drift_share(osc.supply_v - v_pair - b, osc.supply_v - v_pair - a)
     if drift > DIODE_DRIFT_SHARE:
         return [f"at {osc.supply_v:g} V the steering diode's drop (about {v_pair:.2f} V) is a "
                 f"large share of the {osc.supply_v - a:.2f} V between the supply and the upper "

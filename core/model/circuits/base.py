@@ -58,6 +58,11 @@ class Circuit(ABC):
     ``one_threshold``: the circuit switches at one voltage (``--threshold``), carried
     as VT+ = VT-. ``designed``: search, sheet, netlist and calibration know the
     circuit (else only predict does; ``require_designed`` says so).
+    ``steered_variant``: the same circuit wired with steering diodes where that changes
+    its parts (the Schmitt inverter's RH, RL, C); a duty target or RH/RL pick it.
+    ``always_steered``: its steering diodes are part of the circuit (no
+    ``--diode-steered``). ``drawing``: which schematic and netlist elements core.output draws for it
+    (default: ``name``).
     """
 
     name: str
@@ -75,6 +80,14 @@ class Circuit(ABC):
     measure_note: str = ""
     one_threshold: bool = False
     designed: bool = True
+    steered_variant: Circuit | None = None
+    always_steered: bool = False
+    drawing: str = ""
+
+    @property
+    def drawing_id(self) -> str:
+        """The key core.output draws this circuit by (its schematic, its netlist)."""
+        return self.drawing or self.name
 
     @property
     def keys(self) -> tuple[str, ...]:
@@ -181,6 +194,12 @@ class Oscillator:
     def calibration_limit(self) -> float:
         """First-order limit of the calibration's relative frequency error."""
         return sum(self.calibration_terms)
+
+    def with_steering(self) -> Oscillator:
+        """The oscillator wired with steering diodes where that is another circuit (the
+        Schmitt inverter's RH, RL, C); unchanged where the diode is a flag (the 555)."""
+        variant = self.circuit.steered_variant
+        return self if variant is None else replace(self, circuit=variant)
 
     def with_thresholds(self, vt_plus_v: float, vt_minus_v: float) -> Oscillator:
         """The same oscillator with fixed thresholds [V] (no threshold spread)."""

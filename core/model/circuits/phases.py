@@ -21,11 +21,32 @@ from core.model.diode import SteeringBranch
 
 class Steered(NamedTuple):
     """A charge through a steering diode: the branch, the node's capacitance [F] and the
-    current drawn from the node [A] (broadcast like the node's arrays)."""
+    current drawn from the node [A] (broadcast like the node's arrays).
+
+    ``falling``: the branch pulls the node down (a discharge through a diode to the
+    output's low level); its ``branch`` is then written in mirrored voltages (−V), so
+    the same rising-charge integral serves. ``time`` and ``net_current`` take and give
+    real voltages and currents.
+    """
 
     branch: SteeringBranch
     capacitance: Any
     drawn: Any
+    falling: bool = False
+
+    def time(self, v_from: Any, v_to: Any) -> tuple[Any, Any]:
+        """(time [s] from ``v_from`` to ``v_to`` [V], net current into the node there [A])."""
+        sign = -1.0 if self.falling else 1.0
+        t, net = self.branch.charge_time(self.capacitance, sign * np.asarray(self.drawn),
+                                         sign * np.asarray(v_from), sign * np.asarray(v_to))
+        return t, sign * net
+
+    def net_current(self, v_node: Any) -> Any:
+        """Net current into the node [A] at node voltage ``v_node`` [V]."""
+        sign = -1.0 if self.falling else 1.0
+        br = self.branch
+        _, current, _ = br.at_junction(br.junction_at_node(sign * np.asarray(v_node)))
+        return sign * (current - sign * np.asarray(self.drawn))
 
 
 class Clamp(NamedTuple):
@@ -51,6 +72,9 @@ class Phases(NamedTuple):
 
     With ``steering`` the charge runs through a diode wherever it conducts;
     (``v_high``, ``tau_high``) are then the diode-off phase (C through RA + RB).
+    With ``steering_low`` the discharge runs through a bare diode (always conducting);
+    (``v_low``, ``tau_low``) are then its zero-drop limit, used only to tell whether the
+    phase can pass its threshold.
     With ``clamp`` each phase starts with a clamped segment where it starts beyond
     the clamp's level (core.model.circuits.cmos_astable).
     """
@@ -65,6 +89,7 @@ class Phases(NamedTuple):
     delay_hl: float
     steering: Steered | None = None
     clamp: Clamp | None = None
+    steering_low: Steered | None = None
 
 
 DIODE_OFF_SHARE = 1e-6
@@ -78,6 +103,7 @@ def diode_conducts(n: Phases, v_start: Any) -> np.ndarray:
     Upper bound of its share: the diode's current at RB's drop at the start of the
     charge (largest there; the diode only lowers it), against RB's current, times
     RB's share of the charging resistance.
+    A bare diode (no resistor across it) carries the whole charge: it always conducts.
     """
     s = n.steering
     assert s is not None
@@ -86,7 +112,7 @@ def diode_conducts(n: Phases, v_start: Any) -> np.ndarray:
         v_rb = br.r_across_ohm * (br.source_v - v_start) / (br.r_series_ohm + br.r_across_ohm)
         share = (br.diode.junction_current(v_rb) * br.r_across_ohm / v_rb
                  * br.r_across_ohm / (br.r_series_ohm + br.r_across_ohm))
-    return np.asarray(share > DIODE_OFF_SHARE)
+    return np.asarray((share > DIODE_OFF_SHARE) | np.isinf(br.r_across_ohm))
 
 
 def cycle(n: Phases) -> tuple[np.ndarray, np.ndarray, Any, Any]:
@@ -97,8 +123,11 @@ def cycle(n: Phases) -> tuple[np.ndarray, np.ndarray, Any, Any]:
     ``v_peak``. Times are NaN where a phase does not pass its threshold.
     """
     a, b = n.vt_plus, n.vt_minus
+    low = n.steering_low
     with np.errstate(all="ignore"):
         v_start = n.v_low + (b - n.v_low) * np.exp(-n.delay_lh / n.tau_low)
+        if low is not None:  # over the delay the node falls on at its slope at VT-
+            v_start = b + low.net_current(b) * n.delay_lh / low.capacitance
         v_peak = n.v_high - (n.v_high - a) * np.exp(-n.delay_hl / n.tau_high)
         t_high = np.where(n.v_high > a, n.tau_high * np.log((n.v_high - v_start)
                                                              / (n.v_high - a)), np.nan)
@@ -106,6 +135,8 @@ def cycle(n: Phases) -> tuple[np.ndarray, np.ndarray, Any, Any]:
         if n.steering is not None:
             t_high, v_peak = steered_charge(n, v_start, t_high, v_peak)
         t_low = n.tau_low * np.log((v_peak - n.v_low) / (b - n.v_low)) + n.delay_lh
+        if low is not None:
+            t_low = low.time(v_peak, b)[0] + n.delay_lh
         if n.clamp is not None:
             t_high, t_low = clamped_times(n, v_start, v_peak)
     ok = (n.v_low < b) & (a > b) & np.isfinite(t_high)
@@ -140,7 +171,7 @@ def steered_charge(n: Phases, v_start: Any, t_high: Any, v_peak: Any) -> tuple[A
     on = np.broadcast_to(diode_conducts(n, v_start), src.shape)
     if on.any():
         branch = SteeringBranch(br.diode, src[on], r_ser[on], r_acr[on])
-        t, net = branch.charge_time(ct[on], drawn[on], v0[on], a[on])
+        t, net = Steered(branch, ct[on], drawn[on], s.falling).time(v0[on], a[on])
         t_out[on] = t + n.delay_hl
         peak[on] = a[on] + net * n.delay_hl / ct[on]
     return t_out, peak

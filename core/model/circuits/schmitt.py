@@ -7,6 +7,14 @@ plus output resistance in series with R, input and stray capacitance beside
 C, a TTL input's current through R (a Thevenin source at the input) and the
 propagation delay on each edge.
 
+With two steering diodes (``STEERED_SCHMITT``: RH, RL, C) the output charges C
+through RH and one diode while high and discharges it through RL and the other
+while low, so the duty is set by RH : RL. Each diode follows the same Shockley
+curve as the 555's steering diode (core.model.diode), integrated exactly.
+It is its own ``Circuit`` (not a flag on the plain one) because its parts differ:
+every generic piece (values, tolerances, sheet, netlist, search) then follows its
+roles without asking which wiring it has.
+
 References: the device data sheets in resources/devices.toml; P. Horowitz and
 W. Hill, The Art of Electronics, 3rd ed., §1.4 and §7.1.
 """
@@ -15,10 +23,11 @@ from __future__ import annotations
 
 import math
 from collections.abc import Mapping
-from dataclasses import dataclass
+from dataclasses import dataclass, replace
 
 import numpy as np
 
+from core.errors import SetupError
 from core.model.circuits.base import (
     ArrayLike,
     Circuit,
@@ -29,8 +38,9 @@ from core.model.circuits.base import (
     thresholds,
     timing_capacitance,
 )
-from core.model.circuits.phases import Phases
+from core.model.circuits.phases import Phases, Steered, cycle
 from core.model.devices import DeviceAtSupply
+from core.model.diode import DIODE_DRIFT_SHARE, SteeringBranch, drop_drift_share
 from core.units import format_quantity
 
 
@@ -53,6 +63,29 @@ def schmitt_phases(osc: Oscillator, r: ArrayLike, c: ArrayLike, vt_plus: ArrayLi
     v_high, v_low = drawn(v_high, r_high, i_high), drawn(v_low, r_low, i_low)
     a, b = thresholds(osc, vt_plus, vt_minus)
     return Phases(a, b, v_high, r_high * ct, v_low, r_low * ct, d.delay_lh_s, d.delay_hl_s)
+
+
+def steered_schmitt_phases(osc: Oscillator, rh: ArrayLike, rl: ArrayLike, c: ArrayLike,
+                           vt_plus: ArrayLike = None, vt_minus: ArrayLike = None,
+                           i_high: ArrayLike = 0.0, i_low: ArrayLike = 0.0) -> Phases:
+    """C charged through RH and a diode, discharged through RL and another (bare diodes:
+    each conducts the whole of its phase, the other is reversed)."""
+    d = osc.device
+    if math.isfinite(d.input_r_ohm):
+        raise SetupError(f"the {d.family.name}'s TTL input current would flow through the "
+                         "steering diodes, which the model does not cover; use a CMOS family "
+                         "(74HC14, CD40106B) for the diode-steered Schmitt oscillator")
+    ct = timing_capacitance(osc, c)
+    voh, roh, vol, rol = output_sources(osc)
+    r_high = np.asarray(rh, dtype=float) + roh
+    r_low = np.asarray(rl, dtype=float) + rol
+    i_high, i_low = np.asarray(i_high, dtype=float), np.asarray(i_low, dtype=float)
+    diode = osc.steering_diode
+    high = Steered(SteeringBranch(diode, voh, r_high, math.inf), ct, i_high)
+    low = Steered(SteeringBranch(diode, -vol, r_low, math.inf), ct, i_low, falling=True)
+    a, b = thresholds(osc, vt_plus, vt_minus)
+    return Phases(a, b, drawn(voh, r_high, i_high), r_high * ct, drawn(vol, r_low, i_low),
+                  r_low * ct, d.delay_lh_s, d.delay_hl_s, steering=high, steering_low=low)
 
 
 
@@ -106,6 +139,61 @@ class SchmittInverter(Circuit):
                 f"{format_quantity(max(r_limit, 0.0), 'resistance')}")
 
 
+EDGE_POINTS = 8
+"""Points along the minimum-hysteresis edge added to the steered circuit's threshold
+corners: with RH ≠ RL and the diode drops its fastest point moves off the centre."""
+
+
+@dataclass(frozen=True)
+class SteeredSchmitt(SchmittInverter):
+    """A Schmitt-trigger inverter whose output charges C through RH and one diode and
+    discharges it through RL and another."""
+
+    def phases(self, osc: Oscillator, values: Mapping[str, ArrayLike],
+               diode_steered: bool = False, vt_plus: ArrayLike = None,
+               vt_minus: ArrayLike = None, i_high: ArrayLike = 0.0,
+               i_low: ArrayLike = 0.0) -> Phases:
+        """Always steered (``diode_steered`` is implied)."""
+        return steered_schmitt_phases(osc, values["RH"], values["RL"], values["C"], vt_plus,
+                                      vt_minus, i_high, i_low)
+
+    def threshold_corners(self, device: DeviceAtSupply) -> list[tuple[float, float]]:
+        """The plain circuit's corners plus points along the minimum-hysteresis edge."""
+        corners = super().threshold_corners(device)
+        (a_lo, _, a_hi), (b_lo, _, b_hi) = device.vt_plus, device.vt_minus
+        h = device.hysteresis_min_v
+        lo, hi = max(a_lo, b_lo + h), min(a_hi, b_hi + h)
+        if lo < hi:
+            corners += [(a, a - h) for a in np.linspace(lo, hi, EDGE_POINTS + 2)[1:-1]]
+        return corners
+
+    def why_stopped(self, osc: Oscillator, values: Mapping[str, float],
+                    n: Phases) -> str | None:
+        """No input current to hold the node (TTL families are refused)."""
+        return None
+
+    def warnings(self, osc: Oscillator, values: Mapping[str, float],
+                 diode_steered: bool) -> list[str]:
+        """Where the diodes' drop (and so its drift) is a large share of a phase's drive."""
+        n = self.phases(osc, values)
+        _, _, v_start, v_peak = cycle(n)
+        assert n.steering is not None and n.steering_low is not None
+        out = []
+        for phase, s, v_from, v_source, near, far in (
+                ("high", n.steering, v_start, float(n.v_high), n.vt_plus, n.vt_minus),
+                ("low", n.steering_low, v_peak, float(n.v_low), n.vt_minus, n.vt_plus)):
+            v_pair = float(s.branch.pair_at_node(-v_from if s.falling else v_from)[0])
+            share = drop_drift_share(abs(v_source - far) - v_pair,
+                                     abs(v_source - near) - v_pair)
+            if share > DIODE_DRIFT_SHARE:
+                out.append(f"the steering diode's drop (about {float(v_pair):.2f} V) is a large "
+                           f"share of the drive in the output-{phase} phase at "
+                           f"{osc.supply_v:g} V: its drift of about −2 mV/K moves the "
+                           f"{phase} time by {100 * share:.0f} % over 40 K; use a higher "
+                           "supply")
+        return out
+
+
 PINS = (("input", "gate input", "timing node: C to GND, R (and pot) from output"),
         ("tie_high", "second NAND input", "VCC (the NAND works as an inverter)"),
         ("output", "gate output", "R (and pot) back to the input; OUT"),
@@ -129,3 +217,21 @@ SCHMITT = SchmittInverter(name="schmitt", title="Schmitt-trigger inverter",
                           pins=PINS, layout_notes=LAYOUT_NOTES,
                           measure_note="Measure at a buffered output, never with a probe on "
                           "the timing capacitor: a probe's 10–15 pF adds to C.")
+
+STEERED_PINS = (("input", "gate input", "timing node: C to GND; D1 cathode, D2 anode"),
+                ("tie_high", "second NAND input", "VCC (the NAND works as an inverter)"),
+                ("output", "gate output", "RH and RL back to the timing node; OUT"),
+                ("vcc", "supply", "+ supply; 100 nF to GND right at the pin"),
+                ("gnd", "ground", "supply 0 V"))
+"""The gate's pins for the diode-steered oscillator's build sheet."""
+
+STEERED_SCHMITT = SteeredSchmitt(
+    name="schmitt", title="diode-steered Schmitt-trigger inverter",
+    roles=(Role("RH", "R"), Role("RL", "R"), Role("C", "C")), default_family="74HC14",
+    steerable=True, output_drives_timing=True,
+    oscillator="Schmitt-trigger inverter RC oscillator, diode-steered",
+    short="Schmitt oscillator", threshold_words=SCHMITT.threshold_words,
+    pins=STEERED_PINS, layout_notes=LAYOUT_NOTES, measure_note=SCHMITT.measure_note,
+    always_steered=True, drawing="schmitt-steered")
+"""The Schmitt oscillator with two steering diodes: RH sets the high time, RL the low."""
+SCHMITT = replace(SCHMITT, steered_variant=STEERED_SCHMITT)
