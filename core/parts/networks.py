@@ -290,7 +290,8 @@ def network_values(topology: np.ndarray, slots: np.ndarray, kind: str) -> np.nda
         PAR_THEN_SERIES: lambda a, b, c: ser(par(a, b), c),
         SER_THEN_PARALLEL: lambda a, b, c: par(ser(a, b), c)}
     out = np.empty(len(topology))
-    for code in np.unique(topology):
+    # Not np.unique here or below: it imports numpy.ma, about 40 ms of a command's start.
+    for code in np.flatnonzero(np.bincount(topology, minlength=1)):
         m = topology == code
         out[m] = shapes[int(code)](*(slots[m, k] for k in range(MAX_PARTS)))
     return out
@@ -575,7 +576,8 @@ class _Buckets:
 def _spread(n: int, pairs: int) -> np.ndarray:
     """Indices of an even spread of ``n`` sorted values small enough for ``pairs`` pairs."""
     keep = min(n, int((math.isqrt(8 * pairs + 1) - 1) // 2))
-    return np.unique(np.linspace(0, n - 1, keep).round().astype(np.int64))
+    spread = np.linspace(0, n - 1, keep).round().astype(np.int64)
+    return spread[np.diff(spread, prepend=-1) > 0]  # sorted: repeats are neighbours
 
 
 def _enumerate_triples(buckets: _Buckets, gv: np.ndarray, gq: np.ndarray,
