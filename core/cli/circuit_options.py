@@ -16,6 +16,7 @@ from core.design.request import DEFAULT_SUPPLY_V, Request
 from core.errors import InputError
 from core.model.circuits import CIRCUITS
 from core.model.circuits.base import DEFAULT_STRAY_F, Oscillator
+from core.model.drift import Conditions
 
 
 def add_circuit_options(parser: argparse.ArgumentParser) -> None:
@@ -74,7 +75,9 @@ def request_from_args(args: argparse.Namespace) -> Request:
                    accept_pct=goal("accept", 1.0),  # type: ignore[arg-type]
                    max_resistors=goal("max_resistors", 2),  # type: ignore[arg-type]
                    max_capacitors=goal("max_capacitors", 2),  # type: ignore[arg-type]
-                   top=goal("top", 10), dielectrics=goal("dielectric"))  # type: ignore[arg-type]
+                   top=goal("top", 10), dielectrics=goal("dielectric"),  # type: ignore[arg-type]
+                   conditions=Conditions(goal("temperature"),  # type: ignore[arg-type]
+                                         goal("supply_range")))  # type: ignore[arg-type]
 
 
 def oscillator_from_args(args: argparse.Namespace) -> Oscillator:

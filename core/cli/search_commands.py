@@ -23,10 +23,9 @@ from core.cli.common import (
     value_arg,
 )
 from core.cli.drift_options import add_drift_options
-from core.design.robust import ROBUST_DEPTH, robust_search, robust_trim
+from core.design.robust import robust_search
 from core.design.search import DUTY_WITHIN_POINTS, Candidate, SearchResult
 from core.design.trim import TrimCandidate, TrimResult
-from core.model.drift import Conditions
 from core.model.timing import Oscillator
 from core.parts.drawer import (
     Drawer,
@@ -108,12 +107,9 @@ def find_designs(args: argparse.Namespace, osc: Oscillator, parts: list[Part],
                  top: int) -> SearchResult | TrimResult:
     """The trim (``--band``) or search (``--target``) the options describe."""
     request = request_from_args(args)
-    conditions = Conditions(args.temperature, args.supply_range)
-    # Over a range some trim designs fall out: look deeper, keep ``top``.
-    result = request.run(parts, osc, top=top * ROBUST_DEPTH if conditions and request.trim
-                         else top)
-    result = (robust_trim(osc, result, conditions, top) if isinstance(result, TrimResult)
-              else robust_search(osc, result, conditions))
+    result = request.run(parts, osc, top=top)
+    if isinstance(result, SearchResult) and request.conditions:
+        result = robust_search(osc, result, request.conditions)
     if args.dielectric is not None:
         result.notes.insert(0, dielectric_note(args.dielectric))
     return result

@@ -20,6 +20,7 @@ if TYPE_CHECKING:
     from core.design.search import SearchResult
     from core.design.trim import TrimResult
     from core.model.circuits.base import Oscillator
+    from core.model.drift import Conditions
     from core.parts.drawer import Part
     from core.parts.networks import DrawerIndex
 
@@ -37,7 +38,8 @@ class Request:
     asks for a trim design, else ``target_hz`` for a search; ``dielectrics``
     (lower-case drawer names) restricts the capacitors, None allows any;
     ``stray_capacitance_f`` None is the model's breadboard default, ``duty_within``
-    [percentage points] None the search's.
+    [percentage points] None the search's. ``conditions`` (temperatures, supplies)
+    a trim design must cover its band over; None: as built.
     """
 
     circuit: str | None = None
@@ -57,6 +59,7 @@ class Request:
     stray_capacitance_f: float | None = None
     load_ohm: float | None = None
     dielectrics: frozenset[str] | None = None
+    conditions: Conditions | None = None
 
     @property
     def trim(self) -> bool:
@@ -102,7 +105,8 @@ class Request:
         usable, top = list(self.usable(parts)), self.top if top is None else top
         if self.band_hz is not None:
             return trim(usable, osc, self.band_hz, top=top, max_resistors=self.max_resistors,
-                        max_capacitors=self.max_capacitors, index=index)
+                        max_capacitors=self.max_capacitors, index=index,
+                        conditions=self.conditions)
         if self.target_hz is None:
             raise InputError("a request needs a target frequency or a band")
         within = {} if self.duty_within is None else {"duty_within": self.duty_within}

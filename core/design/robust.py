@@ -4,8 +4,10 @@ With a temperature or supply range, a search candidate's worst case spans
 it as well (each network's tolerance stretched by its parts' drift, every
 supply corner, the chip's own drift), and among candidates the ranking
 leaves tied (same part count, same error to 0.01 %) the steadier comes
-first. A trim design must cover its band over the range too; one that no
-longer does is dropped, with a note.
+first. A trim design must cover its band over the range too: the trim engine
+(core/design/trim.py) takes every index entry's range stretched by its parts'
+drift (``drifted_index_ranges``), every supply corner and the chip's own drift
+into its corner conditions, so it finds the finest design that still covers.
 """
 
 from __future__ import annotations
@@ -15,38 +17,75 @@ from dataclasses import replace
 import numpy as np
 
 from core.design.search import Candidate, SearchResult
-from core.design.trim import TrimCandidate, TrimResult, guaranteed_band
 from core.model.drift import (
     CAPACITOR_DRIFT,
     POT_DRIFT,
     RESISTOR_DRIFT,
     Conditions,
     Envelope,
-    conditions_chip_factor,
-    conditions_oscillators,
+    drift_ranges,
     drift_worst_case,
-    drifted_ranges,
     resistor_kind,
     widest,
 )
 from core.model.leakage import network_leakage_a
 from core.model.timing import Oscillator
-from core.parts.networks import Network
+from core.parts.drawer import Part
+from core.parts.networks import Network, NetworkIndex
+
+
+def part_envelope(role: str, part: Part) -> Envelope:
+    """A stock part's drift: its dielectric's, the pot's, or the resistor type its
+    tolerance suggests (``resistor_kind``)."""
+    if role == "P":
+        return POT_DRIFT
+    if role == "C":
+        return CAPACITOR_DRIFT[part.dielectric]
+    return RESISTOR_DRIFT[resistor_kind(100 * max(part.tolerance.minus, part.tolerance.plus))]
 
 
 def network_envelope(role: str, node: Network) -> Envelope:
     """The drift of a network: the widest of its parts' (a series or parallel
     combination's relative change lies between its parts' changes)."""
-    parts = node.parts()
-    if role == "P":
-        return POT_DRIFT
-    if role == "C":
-        envs = [CAPACITOR_DRIFT[p.dielectric] for p in parts]
-    else:
-        envs = [RESISTOR_DRIFT[resistor_kind(100 * max(p.tolerance.minus, p.tolerance.plus))]
-                for p in parts]
-    return envs[0] if len({id(e) for e in envs}) == 1 else widest(
+    envs = list({id(e): e for e in (part_envelope(role, p) for p in node.parts())}.values())
+    return envs[0] if len(envs) == 1 else widest(
         *envs, source="; ".join(dict.fromkeys(e.source for e in envs)))
+
+
+def drifted_index_ranges(index: NetworkIndex, conditions: Conditions | None
+                         ) -> tuple[np.ndarray, np.ndarray]:
+    """(low, high) value [Ω, F] of every index entry, stretched by its parts' drift over
+    the conditions' temperatures (the index's own ranges without them).
+
+    A group pools lines of one value and dielectric: its factors span all its lines'.
+    """
+    if conditions is None or conditions.temperature_c is None:
+        return index.lo, index.hi
+    factors = np.array([_span(index.kind, group, conditions.temperature_c)
+                        for group in index.groups]).reshape(-1, 2)
+    used = index.usage >= 0
+    at = np.where(used, index.usage, 0)
+    low = np.where(used, factors[at, 0], np.inf).min(axis=1)
+    high = np.where(used, factors[at, 1], -np.inf).max(axis=1)
+    return index.lo * low, index.hi * high
+
+
+def drifted_part_ranges(role: str, parts: tuple[Part, ...], conditions: Conditions | None
+                        ) -> tuple[np.ndarray, np.ndarray]:
+    """(low, high) value [Ω, F] of each part, stretched by its drift over the conditions."""
+    lo, hi = (np.array([p.value_range[k] for p in parts]) for k in (0, 1))
+    if conditions is None or conditions.temperature_c is None:
+        return lo, hi
+    factors = np.array([_span(role, [p], conditions.temperature_c) for p in parts])
+    return lo * factors[:, 0], hi * factors[:, 1]
+
+
+def _span(role: str, lines: list[Part], temperature_c: tuple[float, float]
+          ) -> tuple[float, float]:
+    """The lowest and highest factor [1] any of ``lines`` reaches over the temperatures."""
+    spans = [drift_ranges({role: 1.0}, {role: part_envelope(role, p)}, *temperature_c)[role]
+             for p in lines]
+    return min(a for a, _ in spans), max(b for _, b in spans)
 
 
 def _envelopes(networks: dict[str, Network]) -> dict[str, Envelope]:
@@ -85,40 +124,3 @@ def robust_search(osc: Oscillator, result: SearchResult, conditions: Conditions
     notes = [*result.notes, f"worst cases cover {conditions.describe()} ("
              "figures: EIA-198 codes, typical film and electrolytic curves, resistor TCR)"]
     return replace(result, candidates=[cands[i] for i in order], notes=notes)
-
-
-def robust_band(osc: Oscillator, cand: TrimCandidate, conditions: Conditions
-                ) -> tuple[float, float]:
-    """The band ``cand`` reaches at every corner and over ``conditions`` [Hz]."""
-    ranges = drifted_ranges(_ranges(cand.networks), conditions, _envelopes(cand.networks))
-    r, p, c = ((np.array([ranges[k][0]]), np.array([ranges[k][1]])) for k in ("R", "P", "C"))
-    ends = [guaranteed_band(o, r, p, c) for o in conditions_oscillators(osc, conditions)]
-    chip = conditions_chip_factor(osc, conditions)
-    low = max(float(lo[0]) for lo, _ in ends) * (1 + chip)
-    high = min(float(hi[0]) for _, hi in ends) * (1 - chip)
-    return low, high
-
-
-ROBUST_DEPTH = 5
-"""How many times more trim designs to check when a range may drop some."""
-
-
-def robust_trim(osc: Oscillator, result: TrimResult, conditions: Conditions,
-                top: int) -> TrimResult:
-    """The first ``top`` of ``result``'s designs that still cover the band over
-    ``conditions``."""
-    if not conditions:
-        return result
-    lo, hi = result.band_hz
-    kept = []
-    for cand in result.candidates:
-        low, high = robust_band(osc, cand, conditions)
-        if low <= lo and high >= hi:  # NaN (a corner stops) fails both
-            kept.append(replace(cand, guaranteed_hz=(low, high)))
-    notes = [*result.notes, f"guaranteed bands cover {conditions.describe()}"]
-    dropped = len(result.candidates) - len(kept)
-    kept = kept[:top]
-    if dropped:
-        notes.append(f"{dropped} design(s) left out: they no longer cover the band over "
-                     f"{conditions.describe()}")
-    return replace(result, candidates=kept, notes=notes)

@@ -25,8 +25,10 @@ from typing import Any
 import numpy as np
 
 from core.design.design import Design, pot_resistance, rotation_for_share
+from core.design.robust import drifted_index_ranges, drifted_part_ranges
 from core.design.search import schmitt_frequency, schmitt_resistance
 from core.errors import InputError
+from core.model.drift import Conditions, conditions_chip_factor, conditions_oscillators
 from core.model.spread import calibration_factors
 from core.model.timing import Oscillator, schmitt_resistance_for
 from core.parts.drawer import Part
@@ -95,33 +97,49 @@ def _corner_frequencies(osc: Oscillator, r: np.ndarray, c: np.ndarray) -> np.nda
 
 
 def guaranteed_band(osc: Oscillator, r: tuple[np.ndarray, np.ndarray],
-                    p: tuple[np.ndarray, np.ndarray],
-                    c: tuple[np.ndarray, np.ndarray]) -> tuple[np.ndarray, np.ndarray]:
+                    p: tuple[np.ndarray, np.ndarray], c: tuple[np.ndarray, np.ndarray],
+                    conditions: Conditions | None = None) -> tuple[np.ndarray, np.ndarray]:
     """(low, high) [Hz] reachable at every corner, from (low, high) ranges of R, P, C [Ω, F].
 
     Low: the highest full-rotation frequency over all corners of R, P, C and
-    thresholds; high: the lowest zero-rotation frequency; both moved inward by a
-    calibration's uncertainty. A corner that does not oscillate makes the band
+    thresholds (at every supply of the ``conditions``); high: the lowest
+    zero-rotation frequency; both moved inward by a calibration's uncertainty
+    and the chip's own drift. A corner that does not oscillate makes the band
     empty (NaN low end).
     """
     full, zero = [], []
-    for rv in r:
-        for cv in c:
-            zero.append(_corner_frequencies(osc, rv, cv))
-            for pv in p:
-                full.append(_corner_frequencies(osc, rv + pv, cv))
-    full_f, zero_f = np.concatenate(full), np.concatenate(zero)
+    for o in _all_corners(osc, conditions):
+        for rv in r:
+            for cv in c:
+                zero.append(schmitt_frequency(o, rv, cv)[0])
+                full.extend(schmitt_frequency(o, rv + pv, cv)[0] for pv in p)
+    full_f, zero_f = np.stack(full), np.stack(zero)
     stops = np.isnan(full_f).any(axis=0) | np.isnan(zero_f).any(axis=0)
-    low_factor, high_factor = calibration_factors(osc)
+    low_factor, high_factor = _inward_factors(osc, conditions)
     low = np.where(stops, np.nan, np.max(full_f, axis=0) * high_factor)
     high = np.where(stops, np.nan, np.min(zero_f, axis=0) * low_factor)
     return low, high
 
 
+def _all_corners(osc: Oscillator, conditions: Conditions | None) -> list[Oscillator]:
+    """The threshold corners at every supply the conditions span."""
+    return [c for o in conditions_oscillators(osc, conditions or Conditions())
+            for c in _corner_oscillators(o)]
+
+
+def _inward_factors(osc: Oscillator, conditions: Conditions | None) -> tuple[float, float]:
+    """(low, high) factors [1] on the guaranteed band's (high, low) ends: a calibration's
+    uncertainty and the chip's own drift over the conditions."""
+    low_factor, high_factor = calibration_factors(osc)
+    chip = conditions_chip_factor(osc, conditions or Conditions())
+    return low_factor * (1 - chip), high_factor * (1 + chip)
+
+
 def trim(parts: list[Part], osc: Oscillator, band_hz: tuple[float, float], top: int = 10,
          max_resistors: int = 2, max_capacitors: int = 2,
-         index: DrawerIndex | None = None) -> TrimResult:
-    """Trim designs from ``parts`` whose guaranteed band covers ``band_hz`` (lo, hi) [Hz]."""
+         index: DrawerIndex | None = None, conditions: Conditions | None = None) -> TrimResult:
+    """Trim designs from ``parts`` whose guaranteed band covers ``band_hz`` (lo, hi) [Hz],
+    over the ``conditions`` (temperatures, supplies) too where given."""
     lo_band, hi_band = (float(x) for x in band_hz)
     if not (0 < lo_band < hi_band and math.isfinite(hi_band)):
         raise InputError("a band needs 0 < LO < HI", text=f"{lo_band}..{hi_band}", what="band")
@@ -144,28 +162,33 @@ def trim(parts: list[Part], osc: Oscillator, band_hz: tuple[float, float], top: 
     if missing:
         notes.append(f"the drawer has no {' or '.join(missing)} in stock")
         return TrimResult((lo_band, hi_band), notes, [])
+    if conditions:
+        notes.append(f"guaranteed bands cover {conditions.describe()}")
     ce = caps.entries(max_capacitors)
-    corners = _corner_oscillators(osc)
+    corners = _all_corners(osc, conditions)
+    (r_lo, r_hi), (c_lo, c_hi) = (drifted_index_ranges(n, conditions) for n in (res, caps))
+    low_factor, high_factor = _inward_factors(osc, conditions)
     # B: largest fixed R (at its high corner) that still reaches HI at zero rotation with C
     # high and the slowest thresholds; A: total resistance at full rotation (low corners)
     # that gets down to LO at the fastest thresholds.
-    b_need = np.min([schmitt_resistance(o, hi_band, caps.hi[ce], limits) for o in corners],
-                    axis=0)
-    a_need = np.max([schmitt_resistance(o, lo_band, caps.lo[ce], limits) for o in corners],
-                    axis=0)
+    b_need = np.min([schmitt_resistance(o, hi_band / low_factor, c_hi[ce], limits)
+                     for o in corners], axis=0)
+    a_need = np.max([schmitt_resistance(o, lo_band / high_factor, c_lo[ce], limits)
+                     for o in corners], axis=0)
     pot_value = np.array([p.value for p in pots])
-    pot_lo, pot_hi = (np.array([p.value_range[k] for p in pots]) for k in (0, 1))
+    pot_lo, pot_hi = drifted_part_ranges("P", pots, conditions)
     # Every (pot, capacitor) pair; the corner conditions above on each fixed R network:
     # its high value at most B, its low value plus the pot's low value at least A.
     pi, cj = (x.ravel() for x in np.meshgrid(np.arange(len(pots)), np.arange(ce.size),
                                              indexing="ij"))
-    re = _finest_fixed_r(res, res.entries(max_resistors, *limits), b_need[cj] * (1 - MARGIN),
-                         (a_need[cj] - pot_lo[pi]) * (1 + MARGIN), limits[1] - pot_value[pi])
+    re = _finest_fixed_r(res, (r_lo, r_hi), res.entries(max_resistors, *limits),
+                         b_need[cj] * (1 - MARGIN), (a_need[cj] - pot_lo[pi]) * (1 + MARGIN),
+                         limits[1] - pot_value[pi])
     pi, cj = pi[re >= 0], cj[re >= 0]
     re = re[re >= 0]
     ce_sel = ce[cj]
-    low, high = guaranteed_band(osc, (res.lo[re], res.hi[re]), (pot_lo[pi], pot_hi[pi]),
-                                (caps.lo[ce_sel], caps.hi[ce_sel]))
+    low, high = guaranteed_band(osc, (r_lo[re], r_hi[re]), (pot_lo[pi], pot_hi[pi]),
+                                (c_lo[ce_sel], c_hi[ce_sel]), conditions)
     with np.errstate(invalid="ignore"):
         ok = (low <= lo_band) & (high >= hi_band)
     if not ok.any():
@@ -189,18 +212,19 @@ def trim(parts: list[Part], osc: Oscillator, band_hz: tuple[float, float], top: 
     return TrimResult((lo_band, hi_band), notes, candidates)
 
 
-def _finest_fixed_r(res: NetworkIndex, entries: np.ndarray, most: np.ndarray,
-                    least: np.ndarray, top_value: np.ndarray) -> np.ndarray:
+def _finest_fixed_r(res: NetworkIndex, ranges: tuple[np.ndarray, np.ndarray],
+                    entries: np.ndarray, most: np.ndarray, least: np.ndarray,
+                    top_value: np.ndarray) -> np.ndarray:
     """Per (pot, capacitor) pair, the fixed R entry with the largest nominal value whose own
-    corners fit: high value ≤ ``most``, low value ≥ ``least``, nominal ≤ ``top_value`` [Ω];
-    -1 where none does.
+    corners (``ranges``: low and high value of every entry [Ω]) fit: high value ≤ ``most``,
+    low value ≥ ``least``, nominal ≤ ``top_value`` [Ω]; -1 where none does.
 
     A larger R with the same pot is a finer adjustment, so the finest covering
     design of a pair is this one. Each pair steps down the value-sorted entries
     from its upper bound until one fits; no entry below ``least`` can.
     """
     order = entries[np.argsort(res.values[entries], kind="stable")]
-    v, lo, hi = res.values[order], res.lo[order], res.hi[order]
+    v, lo, hi = res.values[order], ranges[0][order], ranges[1][order]
     found = np.full(len(most), -1, dtype=np.int64)
     with np.errstate(invalid="ignore"):
         pos = np.searchsorted(v, np.fmin(most, top_value), "right") - 1
