@@ -192,7 +192,7 @@ class SheetActions:
             w.tell("Parts not taken", str(e))
             return
         count = sum(t.count for t in taken)
-        if w.save():
+        if w.files.save():
             w.say(f"Took {count} part{'s' if count != 1 else ''} from the drawer and saved it.")
         else:
             w.say(f"Took {count} parts from the drawer; it is not saved yet.")

@@ -134,7 +134,7 @@ print("result", flush=True)
 if len(sys.argv) > 2:
     settle = QEventLoop()
     shown = []  # after the window's own handler has filled the candidate table
-    w.runner.sigFinished.connect(lambda outcome: shown.append(time.perf_counter()))
+    w.search.runner.sigFinished.connect(lambda outcome: shown.append(time.perf_counter()))
     def edit(change):
         QTimer.singleShot(200, settle.quit); settle.exec()
         t = time.perf_counter(); change(); w.run_search(); loop.exec()

@@ -82,7 +82,7 @@ def test_chip_threshold_spread_is_explained_with_a_way_out(qtbot, window):
     from gui.plot_data import chip_spread
 
     cand = window.selected_candidate()
-    spread = chip_spread(window._outcome, cand)
+    spread = chip_spread(window.search.outcome, cand)
     # Thresholds fixed: f ~ 1/(R C), so the parts alone give about (1 ± tR)(1 ± tC).
     (r_lo, r_hi), (c_lo, c_hi) = (cand.networks[k].value_range for k in ("R", "C"))
     r, c = cand.values["R"], cand.values["C"]

@@ -38,7 +38,7 @@ def test_save_over_a_changed_file_asks_and_reload_keeps_the_edits_in_undo(
     window = make_window(str(mine))
     rows = _edit_then_change_on_disk(window, mine)
     answers.append(QMessageBox.StandardButton.Yes)  # reload from disk
-    assert not window.save()
+    assert not window.files.save()
     assert answers.asked[-1] == "Drawer changed on disk"
     assert mine.read_bytes().endswith(ADDED)  # the other program's line is still there
     assert len(window.drawer.rows) == rows + 1
@@ -53,7 +53,7 @@ def test_keeping_the_window_version_saves_it_and_backs_up_the_other(qtbot, answe
     window = make_window(str(mine))
     _edit_then_change_on_disk(window, mine)
     answers.append(QMessageBox.StandardButton.No)  # keep this window's version
-    assert window.save()
+    assert window.files.save()
     assert read_drawer(mine).rows[0].get("note") == "typed in the window"
     assert (mine.parent / "mine.csv.bak").read_bytes().endswith(ADDED)
 
@@ -62,7 +62,7 @@ def test_cancel_keeps_both(qtbot, answers, make_window, mine):
     window = make_window(str(mine))
     _edit_then_change_on_disk(window, mine)
     answers.append(QMessageBox.StandardButton.Cancel)
-    assert not window.save()
+    assert not window.files.save()
     assert mine.read_bytes().endswith(ADDED)
     assert window.isWindowModified()
     assert window.drawer.rows[0].get("note") == "typed in the window"
@@ -77,24 +77,24 @@ def _crash(window) -> None:
 def test_two_windows_never_take_each_others_autosave(qtbot, answers, make_window, mine):
     first = make_window(str(mine))
     first.drawer.set_cell(0, "note", "live edits of the first window")
-    first.autosave_now()
+    first.files.autosave_now()
     second = make_window(str(mine))  # the same drawer, at the same time
     assert "Restore unsaved edits?" not in answers.asked  # the first one is alive
     second.drawer.set_cell(1, "note", "edits of the second window")
-    second.autosave_now()
-    assert first.autosave.snapshot != second.autosave.snapshot  # one slot per window
-    assert first.autosave.snapshot.exists() and second.autosave.snapshot.exists()
+    second.files.autosave_now()
+    assert first.files.autosave.snapshot != second.files.autosave.snapshot  # one slot per window
+    assert first.files.autosave.snapshot.exists() and second.files.autosave.snapshot.exists()
     second.close()  # a clean exit deletes its own snapshot only
-    assert not second.autosave.snapshot.exists()
-    assert "live edits of the first window" in first.autosave.snapshot.read_text(
+    assert not second.files.autosave.snapshot.exists()
+    assert "live edits of the first window" in first.files.autosave.snapshot.read_text(
         encoding="utf-8")
     _crash(first)
     answers.append(QMessageBox.StandardButton.Yes)
     third = make_window()
     assert answers.asked.count("Restore unsaved edits?") == 1
     assert third.drawer.rows[0].get("note") == "live edits of the first window"
-    assert not first.autosave.snapshot.exists()  # restored: now in the third's own slot
-    assert "live edits of the first window" in third.autosave.snapshot.read_text(
+    assert not first.files.autosave.snapshot.exists()  # restored: now in the third's own slot
+    assert "live edits of the first window" in third.files.autosave.snapshot.read_text(
         encoding="utf-8")
 
 
@@ -107,7 +107,7 @@ def test_a_snapshot_over_the_readers_limits_still_restores(qtbot, answers, make_
     crashed.drawer.set_cell(0, "note", "a NUL \x00 inside")
     crashed.drawer.set_cell(1, "note", long_note)
     crashed.drawer.set_cell(2, "location", 'quote " and, comma\nnew line')
-    crashed.autosave_now()
+    crashed.files.autosave_now()
     _crash(crashed)
     answers.append(QMessageBox.StandardButton.Yes)
     restored = make_window()

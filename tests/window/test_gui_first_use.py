@@ -134,11 +134,11 @@ def test_saving_unreadable_cells_names_them_and_asks(qtbot, make_window, answers
                                                                    "10kk"))
     line = window.drawer.rows[0].line
     answers.append(b.Cancel)
-    assert not window.save()
+    assert not window.files.save()
     assert f"line {line}, value: “10kk”" in texts[0] and "command line" in texts[0]
     assert "10kk" not in path.read_text(encoding="utf-8")
     answers.append(b.Save)
-    assert window.save()
+    assert window.files.save()
     assert read_drawer(path, strict=False).rows[0].get("value") == "10kk"
 
 
@@ -265,7 +265,7 @@ def test_two_candidates_side_by_side(qtbot, window, monkeypatch):
     monkeypatch.setattr(QMenu, "popup", lambda self, *a: menus.append(self))
     view = window.candidate_view
     window.select_candidate(0)
-    window._candidate_menu(QPoint(5, view.rowViewportPosition(2) + 3))  # right-click row 3
+    window.search.candidate_menu(QPoint(5, view.rowViewportPosition(2) + 3))  # right-click row 3
     (action,) = menus[0].actions()
     assert "candidate 1" in action.text()
     action.trigger()

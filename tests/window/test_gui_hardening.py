@@ -38,10 +38,11 @@ def crash(window) -> None:
 
 
 def test_autosave_timer_writes_every_minute(qtbot, window):
-    assert window.autosave_timer.isActive() and window.autosave_timer.interval() == 60_000
+    timer = window.files.autosave_timer
+    assert timer.isActive() and timer.interval() == 60_000
     window.drawer.set_cell(2, "note", "typed a minute ago")
-    window.autosave_timer.timeout.emit()  # what the timer does each minute
-    assert "typed a minute ago" in window.autosave.snapshot.read_text(encoding="utf-8")
+    window.files.autosave_timer.timeout.emit()  # what the timer does each minute
+    assert "typed a minute ago" in window.files.autosave.snapshot.read_text(encoding="utf-8")
 
 
 def test_quit_without_close_keeps_edits_for_next_start(qtbot, answers, make_window, mine):
@@ -66,7 +67,7 @@ def test_restore_after_crash_gives_back_exactly_what_was_typed(qtbot, answers, m
     drawer.remove_rows([10, 11])
     columns = list(drawer.columns)
     typed = [[r.get(c) for c in columns] for r in drawer.rows]
-    crashed.autosave_now()
+    crashed.files.autosave_now()
     crash(crashed)
 
     answers.append(QMessageBox.StandardButton.Yes)
@@ -83,12 +84,12 @@ def test_restore_after_crash_gives_back_exactly_what_was_typed(qtbot, answers, m
 def test_declining_the_restore_discards_the_snapshot(qtbot, answers, make_window, mine):
     crashed = make_window(stock=str(mine))
     crashed.drawer.set_cell(0, "note", "never mind")
-    crashed.autosave_now()
+    crashed.files.autosave_now()
     crash(crashed)
     answers.append(QMessageBox.StandardButton.No)
     fresh = make_window()
     assert fresh.drawer.rows[0].get("note") != "never mind"
-    assert not fresh.autosave.snapshot.exists()
+    assert not fresh.files.autosave.snapshot.exists()
 
 
 @pytest.mark.parametrize("where, code", [("tempfile.mkstemp", errno.EACCES),  # read-only
@@ -117,7 +118,7 @@ def test_failed_save_keeps_old_file_edits_and_dirty_marker(qtbot, make_window, m
 
     with monkeypatch.context() as patched:  # only around the save: pytest needs these too
         patched.setattr(getattr(core.storage.atomic, module), name, fail)
-        saved = window.save()
+        saved = window.files.save()
     assert saved is False
     assert mine.read_bytes() == before                     # old file intact
     assert told and "not saved" in told[0] and "unchanged" in told[0]
@@ -127,9 +128,9 @@ def test_failed_save_keeps_old_file_edits_and_dirty_marker(qtbot, make_window, m
     assert "[*]" in window.windowTitle()
     assert not list(mine.parent.glob(".mine.csv.*.tmp"))  # no half-written leftovers
     if name != "fsync":  # ... and in the autosave folder too, when it can be written
-        assert "edit that must survive" in window.autosave.snapshot.read_text(
+        assert "edit that must survive" in window.files.autosave.snapshot.read_text(
             encoding="utf-8")
-    assert window.save() and read_drawer(mine).rows[0].get("note") == "edit that must survive"
+    assert window.files.save() and read_drawer(mine).rows[0].get("note") == "edit that must survive"
 
 
 def test_worker_exception_is_caught_logged_and_shown(qtbot, window, monkeypatch):

@@ -82,8 +82,8 @@ def test_header_menu_lists_the_optional_columns(qtbot, window, monkeypatch):
 
 def test_standard_shortcuts(window):
     std = QKeySequence.StandardKey
-    wanted = {window.open_action: std.Open, window.save_action: std.Save,
-              window.save_as_action: std.SaveAs, window.undo_action: std.Undo,
+    wanted = {window.files.open_action: std.Open, window.files.save_action: std.Save,
+              window.files.save_as_action: std.SaveAs, window.undo_action: std.Undo,
               window.redo_action: std.Redo, window.find_action: std.Find,
               window.drawer_panel.delete_action: std.Delete}
     for action, key in wanted.items():

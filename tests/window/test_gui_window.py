@@ -205,7 +205,8 @@ def test_superseded_search_is_ignored(qtbot, window, monkeypatch):
 
     monkeypatch.setattr(worker, "compute", compute)
     finished = []
-    window.runner.sigFinished.connect(lambda outcome: finished.append(outcome.target.target_hz))
+    window.search.runner.sigFinished.connect(
+        lambda outcome: finished.append(outcome.target.target_hz))
     window.form.target.setText("3kHz")
     window.run_search()
     assert held.wait(30)
@@ -216,7 +217,7 @@ def test_superseded_search_is_ignored(qtbot, window, monkeypatch):
         release.set()
 
     search_done(qtbot, window, newer_then_release)
-    window.runner.wait(10_000)
+    window.search.runner.wait(10_000)
     qtbot.wait(50)
     assert stale_done.is_set()  # the 3 kHz result was computed and handed back ...
     assert finished == [1500.0]  # ... and only the newer one was passed on and shown
@@ -271,13 +272,13 @@ def test_save_open_and_title(qtbot, window, tmp_path, monkeypatch):
     assert window.drawer.path is None  # the demo is a copy, never the bundled file
     window.drawer.set_cell(0, "note", "checked")
     assert window.isWindowModified()
-    assert window.save()
+    assert window.files.save()
     assert not window.isWindowModified() and "mine.csv" in window.windowTitle()
     assert read_drawer(target).rows[0].get("note") == "checked"
     window.drawer.insert_rows(0, [Row({"kind": "R", "value": "bad", "quantity": "1"})])
     export = tmp_path / "copy.csv"
     monkeypatch.setattr(MainWindow, "ask_path", classmethod(lambda *a, **k: str(export)))
-    window.export_csv()
+    window.files.export_csv()
     assert "bad" in export.read_text() and window.drawer.path == target
 
 
@@ -303,7 +304,7 @@ def test_crash_leaves_autosave_and_restore_is_offered(qtbot, answers, make_windo
     shutil.copy(demo_drawer_path(), mine)
     crashed = make_window(stock=str(mine))
     crashed.drawer.set_cell(0, "note", "unsaved edit")
-    crashed.autosave_now()
+    crashed.files.autosave_now()
     # A crash: no closeEvent; the session marker stays behind.
     crashed.remember = False
     crashed.close()
@@ -402,7 +403,7 @@ def test_demo_given_as_stock_is_opened_as_a_copy(qtbot, answers, make_window):
 
 def test_index_build_reports_progress(qtbot, window):
     fractions = []
-    window.runner.sigProgress.connect(lambda gen, text, f: fractions.append((text, f)))
+    window.search.runner.sigProgress.connect(lambda gen, text, f: fractions.append((text, f)))
     search_done(qtbot, window, lambda: window.form.max_r.setValue(3))
     assert any(text.startswith("Building") for text, _ in fractions)
     steps = [f for text, f in fractions if text.startswith("Building")]
@@ -417,9 +418,9 @@ def test_a_location_edit_rebuilds_no_index(qtbot, window):
             for p in node.parts()}
     row = min(used)
     target = window.current_target()
-    assert not window.runner.needs_index(target, tuple(window.drawer.parts()))
+    assert not window.search.runner.needs_index(target, tuple(window.drawer.parts()))
     fractions = []
-    window.runner.sigProgress.connect(lambda gen, text, f: fractions.append(text))
+    window.search.runner.sigProgress.connect(lambda gen, text, f: fractions.append(text))
     search_done(qtbot, window, lambda: window.drawer.set_cell(row, "location", "tray 9"))
     assert not any(text.startswith("Building") for text in fractions)
     assert "tray 9" in window.details.text()
@@ -434,7 +435,7 @@ def test_import_adds_rows_as_one_step_and_keeps_bad_cells(qtbot, window, tmp_pat
                      encoding="utf-8")
     monkeypatch.setattr(MainWindow, "ask_path", classmethod(lambda *a, **k: str(other)))
     n = len(window.drawer)
-    search_done(qtbot, window, window.import_action.trigger)
+    search_done(qtbot, window, window.files.import_action.trigger)
     assert len(window.drawer) == n + 2
     assert window.drawer.rows[n + 1].get("value") == "33nn"  # kept, and marked
     assert n + 1 in window.drawer.problems()
@@ -459,13 +460,14 @@ def test_closing_with_unsaved_edits_asks_and_cancel_keeps_everything(qtbot, wind
 
 
 def test_autosave_writes_a_snapshot_only_when_dirty(window):
-    snapshot = window.autosave.snapshot
-    window.autosave_now()
+    snapshot = window.files.autosave.snapshot
+    window.files.autosave_now()
     assert not snapshot.exists()
     window.drawer.set_cell(1, "value", "bad value kept")
-    window.autosave_now()
+    window.files.autosave_now()
     assert "bad value kept" in snapshot.read_text(encoding="utf-8")
-    assert window.autosave_timer.isActive() and window.autosave_timer.interval() == 60_000
+    timer = window.files.autosave_timer
+    assert timer.isActive() and timer.interval() == 60_000
 
 
 def test_kind_cell_edits_through_a_list_and_free_text_still_works(qtbot, window):
@@ -504,7 +506,7 @@ def test_typing_into_a_value_cell_like_a_person(qtbot, window):
 
 
 def test_new_empty_drawer_explains_why_there_is_nothing(qtbot, window):
-    search_done(qtbot, window, window.new_action.trigger)
+    search_done(qtbot, window, window.files.new_action.trigger)
     assert len(window.drawer) == 0 and window.candidates.rowCount() == 0
     assert "no resistors" in window.notes.text()
     assert "new drawer" in window.windowTitle()
@@ -525,7 +527,7 @@ def test_plots_are_drawn_one_per_step(window):
     plots = window.plots
     window.select_candidate(0)  # back to the first result's candidate, whose spread is shown
     hist_before = plots.hist_curve.getData()[1].copy()
-    steps = draw_steps(plots, window._outcome, cand)  # ... now step through candidate 4
+    steps = draw_steps(plots, window.search.outcome, cand)  # ... now step through candidate 4
     next(steps)
     assert math.isclose(plots.cap_curve.getData()[0][-1], 3 / cand.frequency_hz, rel_tol=1e-6)
     np.testing.assert_array_equal(plots.hist_curve.getData()[1], hist_before)
