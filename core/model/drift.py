@@ -245,8 +245,7 @@ def supply_oscillators(osc: Oscillator, lo_v: float, hi_v: float) -> list[Oscill
 def supply_hz(osc: Oscillator, values: Mapping[str, float], lo_v: float, hi_v: float,
               diode_steered: bool = False) -> tuple[float, float]:
     """(lowest, highest) frequency [Hz] of the nominal parts for supplies lo_v…hi_v [V]."""
-    f = np.array([float(frequency(o, values, diode_steered))
-                  for o in supply_oscillators(osc, lo_v, hi_v)])
+    f = supply_curve(osc, values, lo_v, hi_v, diode_steered).low_hz
     if np.isnan(f).any():
         return 0.0, float(np.nanmax(f)) if not np.isnan(f).all() else 0.0
     return float(f.min()), float(f.max())
@@ -398,3 +397,54 @@ def effective_capacitance(osc: Oscillator, c_f: float, dielectric: str,
     return c_f * factor, [f"{shown} {case} rated {rated_v:g} V at {bias:.2g} V DC: about "
                           f"{100 * (1 - factor):.0f} % less capacitance (typical DC-bias "
                           "curve, from memory of makers' curves)"]
+
+
+# ---------------------------------------------------------------- curves for plots
+
+TEMPERATURE_POINTS = 61
+"""Temperatures per curve, besides the envelopes' own table points (a smooth line)."""
+
+
+@dataclass(frozen=True)
+class DriftCurve:
+    """Frequency [Hz] of the nominal parts against a condition ``x`` (°C or V).
+
+    At each ``x`` the build lies between ``low_hz`` and ``high_hz`` (equal
+    where only the chip's table moves, as over supply); NaN where it stops.
+    """
+
+    x: np.ndarray
+    low_hz: np.ndarray
+    high_hz: np.ndarray
+
+
+def temperature_curve(osc: Oscillator, values: Mapping[str, float], lo_c: float, hi_c: float,
+                      envelopes: Mapping[str, Envelope], diode_steered: bool = False
+                      ) -> DriftCurve:
+    """``temperature_hz`` as a curve: the band at each temperature in lo_c…hi_c [°C].
+
+    The grid holds the range's ends and every table point inside it, so where
+    the chip has no drift figure the curve's extremes are ``temperature_hz``'s
+    exactly; the chip's own drift is taken at each temperature (ppm/K × |T − 25 °C|)
+    where ``temperature_hz`` bounds it by the range's farthest end, so with
+    one the curve lies inside that band.
+    """
+    temps = np.union1d(np.linspace(lo_c, hi_c, TEMPERATURE_POINTS),
+                       _temperatures(lo_c, hi_c, envelopes))
+    slow, fast = {}, {}
+    for k, v in values.items():
+        lo, hi = envelopes[k].change(temps)
+        slow[k], fast[k] = v * (1.0 + hi), v * (1.0 + lo)
+    ppm = CHIP_DRIFT_PPM_PER_K.get(osc.family.name, (0.0, ""))[0]
+    chip = ppm * 1e-6 * np.abs(temps - REFERENCE_C)
+    return DriftCurve(temps, frequency(osc, slow, diode_steered) * (1 - chip),
+                      frequency(osc, fast, diode_steered) * (1 + chip))
+
+
+def supply_curve(osc: Oscillator, values: Mapping[str, float], lo_v: float, hi_v: float,
+                 diode_steered: bool = False) -> DriftCurve:
+    """Frequency at each supply ``supply_hz`` looks at (lo_v…hi_v [V]); its extremes are
+    ``supply_hz``'s."""
+    oscs = supply_oscillators(osc, lo_v, hi_v)
+    f = np.array([float(frequency(o, values, diode_steered)) for o in oscs])
+    return DriftCurve(np.array([o.supply_v for o in oscs]), f, f)
