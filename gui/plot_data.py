@@ -13,6 +13,7 @@ from typing import Any
 import numpy as np
 
 from core.units import format_frequency
+from gui.drift_plots import drift_subject
 from gui.search_worker import Outcome
 
 MC_BUILDS = 10_000
@@ -130,6 +131,7 @@ def _draw_search(plots: Any, outcome: Outcome, cand: Any) -> Iterator[None]:
         title += f"; {mc.stopped_fraction:.1%} would not oscillate"
     freqs = mc.frequencies_hz
     plots.show_spread(freqs[freqs > 0], target.target_hz, accept, title)
+    plots.drift.set_subject(drift_subject(osc, cand, cand.values, target.target_hz, accept))
 
 
 def _draw_trim(plots: Any, outcome: Outcome, cand: Any) -> Iterator[None]:
@@ -151,3 +153,5 @@ def _draw_trim(plots: Any, outcome: Outcome, cand: Any) -> Iterator[None]:
     turn = rotation_for(osc, cand, centre)
     _waveform(plots, osc, cand.values_at(turn), False,
               f"At {turn:.0f} % rotation: {format_frequency(centre)}")
+    plots.drift.set_subject(drift_subject(osc, cand, cand.values_at(turn), None,
+                                          target.band_hz))

@@ -1,4 +1,5 @@
-"""Live plots (pyqtgraph): the waveform, the spread of frequency, the trimmer's curve.
+"""Live plots (pyqtgraph): the waveform, the spread of frequency, the trimmer's curve,
+and (``gui.drift_plots``) the frequency against temperature and supply.
 
 Each method takes plain arrays in SI units computed by core; the items keep
 their data so tests read it back with ``getData()``. pyqtgraph is imported
@@ -13,7 +14,7 @@ import numpy as np
 import pyqtgraph as pg
 from PySide6.QtCore import Qt
 from PySide6.QtGui import QColor, QFont, QGuiApplication, QPen
-from PySide6.QtWidgets import QGraphicsItem, QHBoxLayout, QStackedWidget, QWidget
+from PySide6.QtWidgets import QGraphicsItem, QHBoxLayout, QStackedWidget, QTabWidget, QWidget
 
 # Our palette: ink for text and axes, a slate blue and a copper for the two traces,
 # a sage green for "acceptable", a muted plum for thresholds.
@@ -69,7 +70,8 @@ def _plot(title: str, accessible: str) -> pg.PlotWidget:
 
 
 class PlotPanel(QWidget):
-    """Waveform on the left; frequency spread (search) or frequency vs rotation (trim) right.
+    """Waveform on the left; on the right, tabs: frequency spread (search) or frequency vs
+    rotation (trim), frequency against temperature, frequency against supply.
 
     Making a pyqtgraph plot takes about 25 ms here, so ``build_steps()`` makes
     one per step (the window runs the steps from its event loop) and the trimmer
@@ -80,6 +82,14 @@ class PlotPanel(QWidget):
         super().__init__(parent)
         pg.setConfigOptions(antialias=True)
         self.right = QStackedWidget()
+        self.tabs = QTabWidget()
+        self.tabs.setDocumentMode(True)
+        # Three short names and the range field in view at 1024 px: compact tabs.
+        self.tabs.tabBar().setUsesScrollButtons(False)
+        self.tabs.tabBar().setStyleSheet("QTabBar::tab { padding: 2px 8px; } "
+                                         "QTabBar::tab:selected { background: white; }")
+        self.tabs.setAccessibleName("plots of the selected candidate")
+        self.tabs.addTab(self.right, "Spread")
         self._layout = QHBoxLayout(self)
         self._layout.setContentsMargins(0, 0, 0, 0)
         self._layout.setSpacing(8)
@@ -93,8 +103,9 @@ class PlotPanel(QWidget):
         yield
         self._make_spread()
         self.right.addWidget(self.spread)
+        self._make_drift()
         yield
-        self._layout.addWidget(self.right, 1)
+        self._layout.addWidget(self.tabs, 1)
         self._rotation_made = False  # made when a trim result first needs it
         self.clear()
         yield  # painted before whatever comes next
@@ -133,6 +144,13 @@ class PlotPanel(QWidget):
                                                                       "color": INK})
         self.spread.addItem(self.target_line)
 
+    def _make_drift(self) -> None:
+        from gui.drift_plots import DriftPlots
+
+        self.drift = DriftPlots(self.tabs, _plot, {
+            "ink": INK, "trace": CAP, "accept": ACCEPT, "edge": ACCEPT_EDGE,
+            "envelope": ENVELOPE}, _pen)
+
     def _make_rotation(self) -> None:
         if self._rotation_made:
             return
@@ -166,6 +184,8 @@ class PlotPanel(QWidget):
             curves += [self.rotation_curve, self.envelope_low, self.envelope_high]
             marks += [self.band_region, *self.turn_lines, self.envelope_fill]
             self.right.setCurrentWidget(self.spread)  # no trim design left to show
+            self.tabs.setTabText(0, "Spread")
+        self.drift.clear()
         for curve in curves:
             curve.setData([], [])
         for item in marks:
@@ -210,6 +230,7 @@ class PlotPanel(QWidget):
                     accept_hz: tuple[float, float], title: str) -> None:
         """Histogram of Monte Carlo frequencies (Hz) as percent of builds per bin."""
         self.right.setCurrentWidget(self.spread)
+        self.tabs.setTabText(0, "Spread")
         freqs = np.asarray(frequencies_hz, dtype=float)
         freqs = freqs[np.isfinite(freqs)]
         if freqs.size == 0:
@@ -236,6 +257,7 @@ class PlotPanel(QWidget):
         """
         self._make_rotation()
         self.right.setCurrentWidget(self.rotation)
+        self.tabs.setTabText(0, "Trimmer")
         self.rotation_curve.setData(rotation_pct, nominal_hz)
         self.envelope_low.setData(rotation_pct, low_hz)
         self.envelope_high.setData(rotation_pct, high_hz)

@@ -17,6 +17,7 @@ SPLITTERS = "window/splitters"
 LAST_DRAWER = "drawer/last"
 HIDDEN_COLUMNS = "drawer/hidden_columns"
 TARGET = "target/fields"
+DRIFT_RANGES = "plots/drift_ranges"
 
 
 def settings() -> QSettings:
