@@ -185,6 +185,37 @@ def test_index_over_distinct_values_equals_the_plain_set(kind: str, look_up: boo
         assert all(used[p.stock_line] <= p.quantity for p in parts)
 
 
+@settings(max_examples=25, deadline=None, derandomize=True)
+@given(st.lists(st.tuples(st.sampled_from([1.0, 1.5, 2.2, 3.3, 4.7, 6.8]),
+                          st.integers(0, 4), st.integers(1, 3)), min_size=2, max_size=9),
+       st.sampled_from(["R", "C"]))
+def test_looked_up_three_part_layer_equals_the_plain_set(lines: list[tuple[float, int, int]],
+                                                         kind: str) -> None:
+    # The three-part layer filled by look-ups from the two-part one (only free buckets,
+    # compacted as they fill; adjacent buckets share an edge) reaches every network that
+    # nested loops over the lines reach, with no more parts, and holds nothing else.
+    # E6 mantissas (IEC 60063) over five decades, repeats allowed: exact ties included.
+    scale = 1.0 if kind == "R" else 1e-12
+    values = [m * 10.0 ** d * scale for m, d, _ in lines]
+    quantities = [q for _, _, q in lines]
+    parts = [part(kind, v, q, line=i + 2) for i, (v, q) in enumerate(zip(values, quantities,
+                                                                          strict=True))]
+    with pytest.MonkeyPatch.context() as patch:
+        patch.setattr("core.parts.networks._enumeration_cheaper", lambda *_: False)
+        index = index_of(parts, kind, 3)  # type: ignore[arg-type]
+    plain = _plain_networks(values, quantities, kind, 3)
+    for value, count in plain:
+        near = np.flatnonzero(np.abs(index.values / value - 1) <= 2 * RESOLUTION)
+        assert near.size and index.part_count[near].min() <= count, (value, count)
+    reachable = np.sort([v for v, _ in plain])
+    for entry in range(len(index)):
+        (node,) = index.nodes([entry])
+        at = np.searchsorted(reachable, node.value)
+        gap = min(abs(reachable[k] / node.value - 1) for k in (at - 1, at)
+                  if 0 <= k < len(reachable))
+        assert gap <= 1e-12 and node.value == pytest.approx(index.values[entry], rel=1e-12)
+
+
 def test_two_networks_never_overuse_a_line() -> None:
     # overused() against a plain count of the concrete lines two networks take.
     parts = [part("R", v, q, line=i + 2, tolerance=Tolerance(t, t))

@@ -617,22 +617,33 @@ def _look_up_triples(buckets: _Buckets, gv: np.ndarray, gq: np.ndarray, kind: st
     shapes = {(SERIES2, True): SERIES3, (PARALLEL2, True): PAR_THEN_SERIES,
               (SERIES2, False): SER_THEN_PARALLEL, (PARALLEL2, False): PARALLEL3}
     for c, vc in enumerate(gv):
+        # Drop the buckets filled meanwhile (a filled bucket stays filled), so each part
+        # below looks up only free ones; a bucket's upper edge is the next one's lower edge.
+        keep = buckets.free(free)
+        free, t_lo, t_hi = free[keep], t_lo[keep], t_hi[keep]
+        next_free = np.append(np.diff(free) == 1, False)
         for outer_series in (True, False):
             outer = series if outer_series else parallel
             # Adding c raises the value; adding it reciprocally keeps it below c.
             if outer is _add:
-                rows = np.arange(int(np.searchsorted(t_lo, vc, "right")), len(free))
+                rows = slice(int(np.searchsorted(t_lo, vc, "right")), len(free))
             else:
-                rows = np.arange(int(np.searchsorted(t_hi, vc, "left")))
-            rows = rows[buckets.free(free[rows])]
-            budget -= 2 * len(rows) + 1_000  # and a round of numpy calls costs something too
+                rows = slice(0, int(np.searchsorted(t_hi, vc, "left")))
+            count = rows.stop - rows.start
+            budget -= 2 * count + 1_000  # and a round of numpy calls costs something too
             if budget < 0:
                 return c
             lo, hi = t_lo[rows], t_hi[rows]
-            want = (lo - vc, hi - vc) if outer is _add else (lo * vc / (vc - lo),
-                                                              hi * vc / (vc - hi))
+            want_lo, want_hi = (lo - vc, hi - vc) if outer is _add else (
+                lo * vc / (vc - lo), hi * vc / (vc - hi))
+            joined = next_free[rows].copy()
+            joined[-1:] = False  # the next bucket is not among these rows
+            alone = ~joined
             for pair_code, (values, groups) in pairs.items():
-                first, stop = (np.searchsorted(values, w) for w in want)
+                first = np.searchsorted(values, want_lo)
+                stop = np.empty_like(first)
+                stop[joined] = first[1:][joined[:-1]]
+                stop[alone] = np.searchsorted(values, want_hi[alone])
                 found = np.flatnonzero(stop > first)
                 # Either end of the range of fitting pairs, whichever leaves c in stock.
                 pick = first[found]
