@@ -548,6 +548,8 @@ class _Schematic:
                                       self.pt((x + g - 1.8, y))]))
         self.p.drawEllipse(self.pt((x + g - 1.45, y)), 0.35 * self.u, 0.35 * self.u)
         self.p.drawLine(self.pt((x + g - 1.1, y)), self.pt((x + g, y)))
+        if not item.schmitt:
+            return
         # Hysteresis mark (IEC 60617-12): a small loop inside the triangle.
         cx = x + 2.55
         loop = [(cx - 0.75, y + 0.45), (cx + 0.25, y + 0.45), (cx + 0.25, y - 0.45),

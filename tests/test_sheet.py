@@ -150,7 +150,7 @@ def test_schmitt_schematic_wires_each_network_as_the_candidate(r, c, pot):
     feedback = [sch.NetworkDrawing(r, "R", _text)]
     if pot:
         feedback.append(sch.NetworkDrawing(Network(part=_part("P", 1e4)), "P", _text))
-    drawing = sch.schmitt_schematic(feedback, sch.NetworkDrawing(c, "C", _text), gate_ref="U1a X",
+    drawing = sch.schmitt_schematic([feedback], sch.NetworkDrawing(c, "C", _text), gate_ref="U1a X",
                                     input_pin="1", output_pin="2", vcc_pin="14", gnd_pin="7",
                                     supply_text="+5 V", decoupling_text="100 nF")
     values = _values(drawing)
@@ -190,6 +190,81 @@ def test_555_schematic_wires_each_network_as_the_candidate(ra, rb, c, diode):
         # application "50 % duty cycle" / diode across RB).
         assert find(_key(d.a)) == find(_key(t["dis"]))
         assert find(_key(d.b)) == find(_key(t["thr"]))
+
+
+def _diodes(drawing: sch.Schematic) -> dict[str, sch.Component]:
+    return {i.ref: i for i in drawing.items if isinstance(i, sch.Component)
+            and i.symbol == "diode"}
+
+
+@settings(max_examples=25, deadline=None)
+@given(rh=_tree("R"), rl=_tree("R"), c=_tree("C"))
+def test_steered_schmitt_schematic_steers_each_phase_through_its_resistor(rh, rl, c):
+    rows = [[sch.DiodeDrawing("D2", "1N4148", forward=True), sch.NetworkDrawing(rl, "RL", _text)],
+            [sch.DiodeDrawing("D1", "1N4148", forward=False),
+             sch.NetworkDrawing(rh, "RH", _text)]]
+    drawing = sch.schmitt_schematic(rows, sch.NetworkDrawing(c, "C", _text), gate_ref="U1a X",
+                                    input_pin="1", output_pin="2", vcc_pin="14", gnd_pin="7",
+                                    supply_text="+5 V", decoupling_text="100 nF")
+    values = _values(drawing)
+    t = drawing.terminals
+    find, _ = _nets(drawing)
+    d = _diodes(drawing)
+    # D1 conducts from the output into the node (its cathode on the input), D2 from the
+    # node out (anode on the input); each diode's other end reaches the output only
+    # through its own resistor (Kirchhoff, with the diode's end as a node).
+    assert find(_key(d["D1"].b)) == find(_key(t["in"]))
+    assert find(_key(d["D2"].a)) == find(_key(t["in"]))
+    assert _between(drawing, values, {"resistor"}, d["D1"].a, t["out"]) == \
+        pytest.approx(rh.value, rel=1e-9)
+    assert _between(drawing, values, {"resistor"}, d["D2"].b, t["out"]) == \
+        pytest.approx(rl.value, rel=1e-9)
+    assert set(drawing.support) >= {"diode D1", "diode D2", "decoupling"}
+
+
+def _ring_values(r, rs, c):
+    return [sch.NetworkDrawing(n, role, _text) for n, role in ((r, "R"), (rs, "RS"), (c, "C"))]
+
+
+@settings(max_examples=25, deadline=None)
+@given(r=_tree("R"), rs=_tree("R"), c=_tree("C"))
+def test_cmos_astable_schematic_wires_r_rs_and_c_as_the_circuit(r, rs, c):
+    pins = dict(input="1", output="2", input2="3", output2="4", vcc="14", gnd="7")
+    drawing = sch.cmos_astable_schematic(*_ring_values(r, rs, c), pins=pins, chip="U1 X",
+                                         supply_text="+9 V", decoupling_text="100 nF")
+    values = _values(drawing)
+    t = drawing.terminals
+    # Issue 13: R from the first output to the node, C from the second output (OUT) to
+    # the node, RS from the node to the first input.
+    assert _between(drawing, values, {"resistor"}, t["a"], t["node"]) == \
+        pytest.approx(r.value, rel=1e-9)
+    assert _between(drawing, values, {"resistor"}, t["node"], t["in"]) == \
+        pytest.approx(rs.value, rel=1e-9)
+    assert _between(drawing, values, {"capacitor", "electrolytic"}, t["out"], t["node"],
+                    capacitive=True) == pytest.approx(c.value, rel=1e-9)
+    plain = [i for i in drawing.items if isinstance(i, sch.Inverter)]
+    assert len(plain) == 2 and not any(i.schmitt for i in plain)
+
+
+@settings(max_examples=25, deadline=None)
+@given(r=_tree("R"), rs=_tree("R"), c=_tree("C"))
+def test_divider_schematic_wires_each_network_to_its_oscillator_pin(r, rs, c):
+    pins = dict(rs="11", r="10", c="9", reset="12", vcc="16", gnd="8", tap="15")
+    drawing = sch.divider_schematic(*_ring_values(r, rs, c), pins=pins, chip="U1 X",
+                                    tap="Q10", supply_text="+9 V", decoupling_text="100 nF")
+    values = _values(drawing)
+    t = drawing.terminals
+    assert _between(drawing, values, {"resistor"}, t["r"], t["node"]) == \
+        pytest.approx(r.value, rel=1e-9)
+    assert _between(drawing, values, {"resistor"}, t["rs"], t["node"]) == \
+        pytest.approx(rs.value, rel=1e-9)
+    assert _between(drawing, values, {"capacitor", "electrolytic"}, t["c"], t["node"],
+                    capacitive=True) == pytest.approx(c.value, rel=1e-9)
+    # The reset pin's lead ends on a ground symbol (CD4060B data sheet: MR high clears
+    # the counter and stops the oscillator).
+    mr = next(i.at for i in drawing.items if isinstance(i, sch.Label) and i.text == "MR")
+    assert any(isinstance(i, sch.Ground) and abs(i.at[0] - mr[0]) < 1e-9
+               for i in drawing.items)
 
 
 # ---------------------------------------------------------------- whole sheets

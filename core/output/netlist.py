@@ -39,6 +39,7 @@ from core import __version__
 from core.design.design import Design
 from core.design.trim import start_rotation
 from core.errors import SetupError, TickbinError
+from core.model.circuits.divider import tap
 from core.model.timing import Oscillator, Prediction, predict, waveform
 from core.parts.networks import Network
 from core.units import format_part_value, format_quantity
@@ -88,8 +89,10 @@ def _node_names() -> Iterator[str]:
 
 
 def _delay_and_output(osc: Oscillator, out_high_v: float, out_low_v: float,
-                      r_high: float, r_low: float, extra: list[str]) -> list[str]:
-    """Switch state -> RC lags per edge -> combined delayed state -> output switches.
+                      r_high: float, r_low: float, extra: list[str],
+                      inverted: str = "out") -> list[str]:
+    """Switch state -> RC lags per edge -> combined delayed state -> output switches
+    (``inverted``: the node of the output that inverts the state).
 
     The output goes low ``delay_hl`` after the input state rises and high
     ``delay_lh`` after it falls; with the longer delay on the rising edge both
@@ -123,34 +126,40 @@ def _delay_and_output(osc: Oscillator, out_high_v: float, out_low_v: float,
         f"Voh voh 0 DC {_num(out_high_v)}",
         f"Vol vol 0 DC {_num(out_low_v)}",
         "Shi outh voh 0 lob logic_inv",
-        f"Roh outh out {_num(r_high)}",
+        f"Roh outh {inverted} {_num(r_high)}",
         "Slo outl vol lob 0 logic",
-        f"Rol outl out {_num(r_low)}",
+        f"Rol outl {inverted} {_num(r_low)}",
         *extra,
         ".model logic sw vt=0.5 vh=0 ron=1e-3 roff=1e12",
         ".model logic_inv sw vt=-0.5 vh=0 ron=1e-3 roff=1e12",
     ]
 
 
-def _run_lines(period: float, shortest: float, v_start: float, v_mid: float) -> list[str]:
+def _run_lines(period: float, shortest: float, v_mid: float, divide_by: int = 1) -> list[str]:
     """Transient run and measurements; the step resolves the shorter phase (``shortest`` [s])
-    in at least 2000 steps as well as the period."""
+    in at least 2000 steps as well as the oscillator's ``period`` [s]. With ``divide_by``
+    the oscillator's period is measured and scaled by the counter's exact ratio."""
     n = _FIRST_RISE, _LAST_RISE
     step = min(period, 10 * shortest) / 2000
-    return [
-        "* start in the steady state: the output has just gone high",
-        f".ic v(tn)={_num(v_start)}",
+    name = "period_s" if divide_by == 1 else "osc_period_s"
+    lines = [
         f".tran {_num(2 * step)} {_num((n[1] + 1.2) * period)} 0 {_num(step)}",
         ".options reltol=1e-5 abstol=1e-12 vntol=1e-7",
         f".meas tran t_rise_a WHEN v(out)={_num(v_mid)} RISE={n[0]}",
         f".meas tran t_rise_b WHEN v(out)={_num(v_mid)} RISE={n[1]}",
         f".meas tran t_fall_a WHEN v(out)={_num(v_mid)} FALL={n[0] + 1}",
-        f".meas tran period_s PARAM='(t_rise_b - t_rise_a) / {n[1] - n[0]}'",
-        ".meas tran frequency_hz PARAM='1 / period_s'",
-        ".meas tran t_high_s PARAM='t_fall_a - t_rise_a'",
-        ".meas tran duty_pct PARAM='100 * t_high_s / period_s'",
-        ".end",
+        f".meas tran {name} PARAM='(t_rise_b - t_rise_a) / {n[1] - n[0]}'",
     ]
+    if divide_by == 1:
+        lines += [".meas tran frequency_hz PARAM='1 / period_s'",
+                  ".meas tran t_high_s PARAM='t_fall_a - t_rise_a'",
+                  ".meas tran duty_pct PARAM='100 * t_high_s / period_s'"]
+    else:
+        lines += [f".meas tran period_s PARAM='{divide_by} * osc_period_s'",
+                  ".meas tran frequency_hz PARAM='1 / period_s'",
+                  ".meas tran t_high_s PARAM='period_s / 2'",
+                  ".meas tran duty_pct PARAM='50 + 0 * period_s'"]
+    return [*lines, ".end"]
 
 
 def model_values(osc: Oscillator, candidate: Design,
@@ -206,63 +215,96 @@ def spice_netlist(osc: Oscillator, candidate: Design,
     counters: dict[str, int] = {}
     names = _node_names()
     body = [f"Vsupply vdd 0 DC {_num(d.supply_v)}", "Vone one 0 DC 1"]
-    c_extra = d.input_capacitance_f + osc.stray_capacitance_f
-    resistors, output_stage = ELEMENTS[osc.circuit.drawing_id]
-    body += resistors(osc, networks, steered, share, counters, names)
-    body.append("* timing capacitor from the timing node to ground")
-    body += _elements(networks["C"], "tn", "0", counters, names)
-    body.append(f"Cnode tn 0 {_num(c_extra)} ; input "
-                f"{format_quantity(d.input_capacitance_f, 'capacitance')} + stray "
-                f"{format_quantity(osc.stray_capacitance_f, 'capacitance')}")
+    timing, output_stage = ELEMENTS[osc.circuit.drawing_id]
+    body += timing(osc, networks, steered, share, counters, names, v_start)
+    output, v_mid = output_stage(osc)
+    body += output
+    if osc.divide_by > 1:
+        head.append(f"* The counter is not simulated: it divides the oscillator by exactly "
+                    f"{osc.divide_by} ({tap(osc.divide_by)}, 50 % duty), so the run measures "
+                    "the oscillator at OUT and scales its period.")
+    n = osc.divide_by
+    shortest = min(pred.t_high_s, pred.t_low_s) / n
+    lines = [*head, *body, *_run_lines(pred.period_s / n, shortest, v_mid, n)]
+    return "\n".join(spice_text(line) for line in lines) + "\n"
+
+
+def _grounded_c(osc: Oscillator, networks: dict[str, Network], counters: dict[str, int],
+                names: Iterator[str], v_start: float) -> list[str]:
+    """C (with input and stray capacitance) from the timing node to ground, the input's
+    hysteresis switch on it, and the steady-state start."""
+    d = osc.device
     upper, lower = osc.vt_plus_v, osc.vt_minus_v
-    body += [
+    return [
+        "* timing capacitor from the timing node to ground",
+        *_elements(networks["C"], "tn", "0", counters, names),
+        f"Cnode tn 0 {_num(d.input_capacitance_f + osc.stray_capacitance_f)} ; input "
+        f"{format_quantity(d.input_capacitance_f, 'capacitance')} + stray "
+        f"{format_quantity(osc.stray_capacitance_f, 'capacitance')}",
         "* input: hysteresis switch, on above the upper threshold, off below the lower",
         "Sst one st tn 0 hysteresis",
         "Rst st 0 1e6",
         f".model hysteresis sw vt={_num((upper + lower) / 2)} vh={_num((upper - lower) / 2)} "
         "ron=1e-3 roff=1e12",
+        "* start in the steady state: the output has just gone high",
+        f".ic v(tn)={_num(v_start)}",
     ]
-    output, v_mid = output_stage(osc)
-    body += output
-    shortest = min(pred.t_high_s, pred.t_low_s)
-    lines = [*head, *body, *_run_lines(pred.period_s, shortest, v_start, v_mid)]
-    return "\n".join(spice_text(line) for line in lines) + "\n"
 
 
-def _astable_resistors(osc: Oscillator, networks: dict[str, Network], steered: bool,
-                       pot_ohm: float, counters: dict[str, int], names: Iterator[str]
-                       ) -> list[str]:
-    """RA and RB (and the steering diode across RB)."""
+def _chain(networks: dict[str, Network], role: str) -> list[Network]:
+    """The role's network, then a trim design's pot where it sits in series with it."""
+    trimmed = "P" in networks and role == _trimmed_role(networks)
+    return [networks[role]] + ([networks["P"]] if trimmed else [])
+
+
+def _trimmed_role(networks: dict[str, Network]) -> str:
+    """The role a trim design's pot is in series with: RB on the 555, else R."""
+    return "RB" if "RB" in networks else "R"
+
+
+def _series(nets: list[Network], a: str, b: str, counters: dict[str, int],
+            names: Iterator[str], pot_ohm: float) -> list[str]:
+    """Networks in series from node ``a`` to node ``b``."""
+    ends = [a, *(next(names) for _ in nets[:-1]), b]
+    lines: list[str] = []
+    for net, x, y in zip(nets, ends, ends[1:], strict=False):
+        lines += _elements(net, x, y, counters, names, pot_ohm)
+    return lines
+
+
+def _astable_timing(osc: Oscillator, networks: dict[str, Network], steered: bool,
+                    pot_ohm: float, counters: dict[str, int], names: Iterator[str],
+                    v_start: float) -> list[str]:
+    """RA and RB (a trim design's pot after RB; the steering diode across them), C."""
     body = ["* RA from the supply to DIS (pin 7)"]
-    body += _elements(networks["RA"], "vdd", "dis", counters, names)
-    body.append("* RB from DIS to THR/TRIG (pins 6 and 2)")
-    body += _elements(networks["RB"], "dis", "tn", counters, names)
+    body += _series(_chain(networks, "RA"), "vdd", "dis", counters, names, pot_ohm)
+    rb = _chain(networks, "RB")
+    body.append("* RB from DIS to THR/TRIG (pins 6 and 2)"
+                + (", then the pot (wiper tied to one end)" if len(rb) > 1 else ""))
+    body += _series(rb, "dis", "tn", counters, names, pot_ohm)
     if steered:
         diode = osc.steering_diode
         body += [f"* steering diode ({diode.name}) across RB, anode at DIS; DC model "
                  "as in the timing model",
                  f"D1 dis tn {diode.name.lower()}", diode.spice_model()]
-    return body
+    return body + _grounded_c(osc, networks, counters, names, v_start)
 
 
-def _schmitt_resistors(osc: Oscillator, networks: dict[str, Network], steered: bool,
-                       pot_ohm: float, counters: dict[str, int], names: Iterator[str]
-                       ) -> list[str]:
-    """R (then the pot, if the design has one) from the gate output to the timing node."""
-    trim = "P" in networks
-    r_nets = [networks["R"]] + ([networks["P"]] if trim else [])
+def _schmitt_timing(osc: Oscillator, networks: dict[str, Network], steered: bool,
+                    pot_ohm: float, counters: dict[str, int], names: Iterator[str],
+                    v_start: float) -> list[str]:
+    """R (then the pot, if the design has one) from the gate output to the timing node, C."""
+    r_nets = _chain(networks, "R")
     body = ["* timing resistance from the gate output to the timing node"
-            + (", then the pot (wiper tied to pin 3)" if trim else "")]
-    ends = ["out", *(next(names) for _ in r_nets[:-1]), "tn"]
-    for net, a, b in zip(r_nets, ends, ends[1:], strict=False):
-        body += _elements(net, a, b, counters, names, pot_ohm)
-    return body
+            + (", then the pot (wiper tied to one end)" if len(r_nets) > 1 else "")]
+    body += _series(r_nets, "out", "tn", counters, names, pot_ohm)
+    return body + _grounded_c(osc, networks, counters, names, v_start)
 
 
-def _steered_schmitt_resistors(osc: Oscillator, networks: dict[str, Network], steered: bool,
-                               pot_ohm: float, counters: dict[str, int],
-                               names: Iterator[str]) -> list[str]:
-    """RH and a diode into the timing node, a diode and RL back out of it."""
+def _steered_schmitt_timing(osc: Oscillator, networks: dict[str, Network], steered: bool,
+                            pot_ohm: float, counters: dict[str, int], names: Iterator[str],
+                            v_start: float) -> list[str]:
+    """RH and a diode into the timing node, a diode and RL back out of it; C."""
     diode = osc.steering_diode
     body = ["* RH from the gate output, then D1 into the timing node (charges C while high)"]
     body += _elements(networks["RH"], "out", "ach", counters, names, pot_ohm)
@@ -272,7 +314,52 @@ def _steered_schmitt_resistors(osc: Oscillator, networks: dict[str, Network], st
     body += _elements(networks["RL"], "kdis", "out", counters, names, pot_ohm)
     body += [f"* steering diodes ({diode.name}): DC model as in the timing model",
              diode.spice_model()]
-    return body
+    return body + _grounded_c(osc, networks, counters, names, v_start)
+
+
+CLAMP_EMISSION = 0.05
+"""Emission coefficient of the netlist's clamp diodes: sharp enough that their drop
+stays within a few tens of millivolts of the model's fixed ``input_clamp_v`` over the
+currents RS passes (the rest is a DC source in series)."""
+
+
+def _ring_timing(osc: Oscillator, networks: dict[str, Network], steered: bool,
+                 pot_ohm: float, counters: dict[str, int], names: Iterator[str],
+                 v_start: float) -> list[str]:
+    """R from the first output (o1) to the timing node, C from the second output (out) to
+    it, RS on to the first input (in1) with its clamp diodes to the rails; the
+    first inverter switches at the one switching voltage."""
+    d = osc.device
+    vd = osc.family.input_clamp_v
+    rs = networks["RS"].value
+    # The clamp's fixed drop: a source plus a sharp diode at the typical clamp current.
+    i_clamp = 0.25 * d.supply_v / rs
+    sharp = CLAMP_EMISSION * 0.025865 * math.log(i_clamp / 1e-14)
+    vth = osc.vt_plus_v
+    voh = d.voh_v
+    node = voh - v_start  # the model's capacitor voltage is V(OUT) - V(node)
+    return [
+        "* R from the first inverter's output to the timing node",
+        *_series(_chain(networks, "R"), "o1", "tn", counters, names, pot_ohm),
+        "* C from the second inverter's output (OUT) to the timing node",
+        *_elements(networks["C"], "out", "tn", counters, names),
+        f"Cnode out tn {_num(d.input_capacitance_f + osc.stray_capacitance_f)} ; input + "
+        "stray, beside C as the model lumps them",
+        "* RS from the timing node to the first inverter's input",
+        *_elements(networks["RS"], "tn", "in1", counters, names),
+        f"* input clamp diodes: {vd:g} V as the model (a source and a sharp diode)",
+        f"Vchi chi vdd DC {_num(vd - sharp)}",
+        "Dhi in1 chi clamp",
+        f"Vclo 0 clo DC {_num(vd - sharp)}",
+        "Dlo clo in1 clamp",
+        f".model clamp d is=1e-14 n={CLAMP_EMISSION:g}",
+        "* first inverter's input: switches at the switching voltage",
+        "Sst one st in1 0 hysteresis",
+        "Rst st 0 1e6",
+        f".model hysteresis sw vt={_num(vth)} vh=1e-3 ron=1e-3 roff=1e12",
+        "* start in the steady state: OUT has just gone high, the node above the rail",
+        f".ic v(tn)={_num(node)} v(in1)={_num(min(node, d.supply_v + vd))}",
+    ]
 
 
 def _astable_output(osc: Oscillator) -> tuple[list[str], float]:
@@ -299,12 +386,25 @@ def _schmitt_output(osc: Oscillator) -> tuple[list[str], float]:
             0.5 * (d.voh_v + d.vol_v))
 
 
-ELEMENTS = {"schmitt": (_schmitt_resistors, _schmitt_output),
-            "schmitt-steered": (_steered_schmitt_resistors, _schmitt_output),
-            "555": (_astable_resistors, _astable_output)}
+def _ring_output(osc: Oscillator) -> tuple[list[str], float]:
+    """Both inverters' outputs from the delayed state: o1 inverts it, OUT follows it."""
+    d = osc.device
+    extra = ["* second inverter (OUT): high while the first input is high",
+             "Shi2 outh2 voh lob 0 logic",
+             f"Roh2 outh2 out {_num(d.r_out_high_ohm)}",
+             "Slo2 outl2 vol 0 lob logic_inv",
+             f"Rol2 outl2 out {_num(d.r_out_low_ohm)}"]
+    return (_delay_and_output(osc, d.voh_v, d.vol_v, d.r_out_high_ohm, d.r_out_low_ohm, extra,
+                              inverted="o1"), 0.5 * (d.voh_v + d.vol_v))
+
+
+ELEMENTS = {"schmitt": (_schmitt_timing, _schmitt_output),
+            "schmitt-steered": (_steered_schmitt_timing, _schmitt_output),
+            "555": (_astable_timing, _astable_output),
+            "cmos-astable": (_ring_timing, _ring_output),
+            "divider": (_ring_timing, _ring_output)}
 """Each circuit's netlist elements by its drawing id (``Circuit.drawing_id``): its timing
-resistors from the supply or output to the timing node ``tn``, and its output stage (the
-capacitor and the input switch are shared)."""
+parts, input switch and start (``.ic``), and its output stage."""
 
 
 _ASCII = str.maketrans({"Ω": "ohm", "µ": "u", "−": "-", "…": "...", "∥": "||"})

@@ -12,7 +12,7 @@ capacitor plates, variable resistor, Schmitt-trigger hysteresis mark, ground).
 
 from __future__ import annotations
 
-from collections.abc import Callable, Iterator
+from collections.abc import Callable, Iterator, Sequence
 from dataclasses import dataclass, field
 from typing import Any, Literal, Protocol
 
@@ -73,9 +73,11 @@ class Label:
 
 @dataclass(frozen=True)
 class Inverter:
-    """Schmitt-trigger inverter: input terminal at ``at``, output ``GATE`` units to the right."""
+    """An inverter, input terminal at ``at``, output ``GATE`` units to the right; ``schmitt``
+    draws the hysteresis mark (a plain unbuffered inverter has none)."""
 
     at: Point
+    schmitt: bool = True
 
 
 @dataclass(frozen=True)
@@ -129,6 +131,8 @@ class Schematic:
     """References of the parts around the networks: decoupling, control, diode."""
     terminals: dict[str, Point] = field(default_factory=dict)
     """Where the circuit's named nodes are drawn (Schmitt: in, out; 555: vcc, dis, thr)."""
+    hookup: dict[str, str] = field(default_factory=dict)
+    """How a support part is connected, by reference (a diode's anode and cathode)."""
 
     def bounds(self) -> tuple[float, float, float, float]:
         """Geometry bounds (x0, y0, x1, y1) in grid units, text not included."""
@@ -300,7 +304,48 @@ class NetworkDrawing:
 
     @property
     def kind(self) -> str:
-        return "R" if self.role in ("RA", "RB") else self.role
+        """The reference letter: C, P, else R (RA, RB, RH, RL, RS are resistors)."""
+        return self.role if self.role in ("C", "P") else "R"
+
+
+@dataclass(frozen=True)
+class DiodeDrawing:
+    """A diode in a row of a drawing: its reference, its label, and whether its anode is
+    at the row's start (``forward``) or at its end."""
+
+    ref: str
+    text: str
+    forward: bool
+
+
+Row = Sequence["NetworkDrawing | DiodeDrawing"]
+
+
+def _row_extent(row: Row, kinds: dict[int, str]) -> _Extent:
+    exts = [_extent(x.node, "h", kinds) if isinstance(x, NetworkDrawing)
+            else _leaf_extent("h", False) for x in row]
+    return _Extent(sum(e.length for e in exts), max(e.near for e in exts),
+                   max(e.far for e in exts))
+
+
+def _draw_row(sheet: Schematic, pen: _Pen, row: Row, start: Point, kinds: dict[int, str],
+              values: dict[int, str]) -> Point:
+    """Networks and diodes in series along +x from ``start`` (parallel branches grow up);
+    the row's far end. A diode is also listed in the sheet's support parts."""
+    point = start
+    for x in row:
+        if isinstance(x, NetworkDrawing):
+            point = pen.network(x, point, "h", -1, kinds, values)
+            continue
+        end = (point[0] + LEAF, point[1])
+        a, b = (point, end) if x.forward else (end, point)
+        sheet.items.append(Component("diode", a, b, ref=x.ref))
+        mid = point[0] + LEAF / 2
+        sheet.items.append(Label((mid, point[1] - 1.0), x.ref, "center", "top"))
+        sheet.items.append(Label((mid, point[1] + 1.0), x.text, "center", "bottom"))
+        sheet.support[f"diode {x.ref}"] = x.ref
+        point = end
+    return point
 
 
 def _maps(networks: list[NetworkDrawing]) -> tuple[dict[int, str], dict[int, str]]:
@@ -312,36 +357,42 @@ def _maps(networks: list[NetworkDrawing]) -> tuple[dict[int, str], dict[int, str
     return kinds, values
 
 
-def schmitt_schematic(feedback: list[NetworkDrawing], capacitor: NetworkDrawing, *, gate_ref: str,
+def schmitt_schematic(feedback: Sequence[Row], capacitor: NetworkDrawing, *, gate_ref: str,
                       input_pin: str, output_pin: str, vcc_pin: str, gnd_pin: str,
                       supply_text: str, decoupling_text: str,
                       gate_note: str = "") -> Schematic:
-    """Inverter with the feedback networks (in series, output → input) and C to ground.
+    """Inverter with feedback rows from the input (left) to the output and C to ground.
 
-    ``feedback`` is the fixed resistor network, then the pot for a trim design.
-    The chip's supply pins are drawn as a separate unit with its decoupling
-    capacitor, as is usual for multi-gate packages.
+    ``feedback`` holds rows drawn one above the other between input and output,
+    each parts in series: the fixed resistor network, then the pot for a trim
+    design; or, diode-steered, the diode and RH in one row, the other diode and
+    RL in the next. The chip's supply pins are drawn as a separate unit with its
+    decoupling capacitor, as is usual for multi-gate packages.
     """
     sheet = Schematic()
     pen = _Pen(sheet, {})
-    kinds, values = _maps([*feedback, capacitor])
+    kinds, values = _maps([x for row in feedback for x in row
+                           if isinstance(x, NetworkDrawing)] + [capacitor])
     items = sheet.items
-    f_ext = [_extent(n.node, "h", kinds) for n in feedback]
-    f_len = sum(e.length for e in f_ext)
-    f_below = max(e.near for e in f_ext)
+    extents = [_row_extent(row, kinds) for row in feedback]
     c_ext = _extent(capacitor.node, "v", kinds)
 
     gate_x = max(3.0, c_ext.far + 1.5)
     out_gate = gate_x + GATE
-    x_out = max(out_gate + 2.0, f_len + 2.0)
-    y_top = -(3.5 + f_below)
-    start = (x_out - f_len) / 2
-    # Feedback path: input node up, across through the networks, down to the output node.
-    items.append(Wire(((0.0, 0.0), (0.0, y_top), (start, y_top))))
-    point = (start, y_top)
-    for net in feedback:
-        point = pen.network(net, point, "h", -1, kinds, values)
-    items.append(Wire((point, (x_out, y_top), (x_out, 0.0))))
+    x_out = max(out_gate + 2.0, max(e.length for e in extents) + 2.0)
+    # Feedback rows: from the input node up, across, down to the output node; each row
+    # hangs on the bus wires of the one below it.
+    y, prev = -3.5, 0.0
+    for row, ext in zip(feedback, extents, strict=True):
+        y -= ext.near
+        start = (x_out - ext.length) / 2
+        items.append(Wire(((0.0, prev), (0.0, y), (start, y))))
+        point = _draw_row(sheet, pen, row, (start, y), kinds, values)
+        items.append(Wire((point, (x_out, y), (x_out, prev))))
+        if prev != 0.0:
+            items += [Junction((0.0, prev)), Junction((x_out, prev))]
+        prev = y
+        y -= ext.far + 1.0
     # Gate, with its pin numbers on the leads.
     items.append(Wire(((0.0, 0.0), (gate_x, 0.0))))
     items.append(Inverter((gate_x, 0.0)))
@@ -386,6 +437,22 @@ def _power_unit(sheet: Schematic, x: float, chip: str, vcc_pin: str, gnd_pin: st
     sheet.support["decoupling"] = ref
     items.append(Label((cx + 1.2, -0.1), ref, "right", "top"))
     items.append(Label((cx + 1.2, 0.1), decoupling_text, "right", "bottom"))
+
+
+def _chip_pin(items: list[Item], outer: Point, inner: Point, number: str, name: str,
+              h: str, v: str) -> None:
+    """A pin lead from ``outer`` to the chip body at ``inner``: its number beside the lead,
+    its name inside the body (``h``/``v``: which side of ``inner`` the name lies on)."""
+    items.append(Wire((outer, inner)))
+    mid = ((outer[0] + inner[0]) / 2, (outer[1] + inner[1]) / 2)
+    if outer[1] == inner[1]:
+        items.append(Label((mid[0], mid[1] - 0.3), number, "center", "top"))
+    else:
+        items.append(Label((mid[0] + 0.3, mid[1]), number, "right", "middle"))
+    inset = {"right": (0.4, 0.0), "left": (-0.4, 0.0), "top": (0.0, -0.4),
+             "bottom": (0.0, 0.4)}[h if h != "center" else v]
+    items.append(Label((inner[0] + inset[0], inner[1] + inset[1]), name, h,  # type: ignore[arg-type]
+                       v))  # type: ignore[arg-type]
 
 
 def astable_schematic(ra: NetworkDrawing, rb: NetworkDrawing, capacitor: NetworkDrawing, *,
@@ -434,19 +501,11 @@ def astable_schematic(ra: NetworkDrawing, rb: NetworkDrawing, capacitor: Network
     by1 = max(y_trig + 2.0, by0 + 10.0)
     items.append(Box((bx0, by0), (bx1, by1), chip))
 
+    names = {"gnd": "GND", "trig": "TRIG", "out": "OUT", "reset": "RESET",
+             "ctrl": "CV", "thr": "THR", "dis": "DIS", "vcc": "VCC"}
+
     def pin(outer: Point, inner: Point, role: str, h: str, v: str) -> None:
-        items.append(Wire((outer, inner)))
-        mid = ((outer[0] + inner[0]) / 2, (outer[1] + inner[1]) / 2)
-        if outer[1] == inner[1]:
-            items.append(Label((mid[0], mid[1] - 0.3), pins[role], "center", "top"))
-        else:
-            items.append(Label((mid[0] + 0.3, mid[1]), pins[role], "right", "middle"))
-        names = {"gnd": "GND", "trig": "TRIG", "out": "OUT", "reset": "RESET",
-                 "ctrl": "CV", "thr": "THR", "dis": "DIS", "vcc": "VCC"}
-        inset = {"right": (0.4, 0.0), "left": (-0.4, 0.0), "top": (0.0, -0.4),
-                 "bottom": (0.0, 0.4)}[h if h != "center" else v]
-        items.append(Label((inner[0] + inset[0], inner[1] + inset[1]), names[role], h,
-                           v))  # type: ignore[arg-type]
+        _chip_pin(items, outer, inner, pins[role], names[role], h, v)
 
     # Left side: DIS, THR, TRIG.
     items.append(Wire(((0.0, y_dis), (x_pin, y_dis))))
@@ -489,4 +548,121 @@ def astable_schematic(ra: NetworkDrawing, rb: NetworkDrawing, capacitor: Network
     sheet.support["decoupling"] = ref
     items.append(Label((xd + 1.2, rail + 3.4), ref, "right", "top"))
     items.append(Label((xd + 1.2, rail + 3.6), decoupling_text, "right", "bottom"))
+    return sheet
+
+
+def _hanging_row(sheet: Schematic, pen: _Pen, net: NetworkDrawing, x0: float, x1: float,
+                 y: float, grow: int, kinds: dict[int, str], values: dict[int, str]) -> None:
+    """``net`` on a row at ``y`` between the verticals x0 and x1 that drop to the gate row
+    (y = 0); parallel branches grow away from it (``grow``)."""
+    ext = _extent(net.node, "h", kinds)
+    start = x0 + (x1 - x0 - ext.length) / 2
+    sheet.items.append(Wire(((x0, 0.0), (x0, y), (start, y))))
+    end = pen.network(net, (start, y), "h", grow, kinds, values)
+    sheet.items.append(Wire((end, (x1, y), (x1, 0.0))))
+
+
+def cmos_astable_schematic(r: NetworkDrawing, rs: NetworkDrawing, capacitor: NetworkDrawing,
+                           *, pins: dict[str, str], chip: str, supply_text: str,
+                           decoupling_text: str) -> Schematic:
+    """Two unbuffered inverters in a ring: RS from the timing node to the first input, R
+    from the first output back to the node (above), C from the second output to it (below).
+
+    ``pins`` maps input, output, input2, output2, vcc, gnd to pin numbers.
+    """
+    sheet = Schematic()
+    pen = _Pen(sheet, {})
+    kinds, values = _maps([rs, r, capacitor])
+    items = sheet.items
+    rs_len = _extent(rs.node, "h", kinds).length
+    # Gate row at y = 0: node X, RS, U1a, node A, U1b, node B (OUT).
+    g1 = rs_len + 3.0
+    a_node = g1 + GATE + 1.5
+    g2 = a_node + 1.5
+    b_node = g2 + GATE + 1.5
+    items.append(Wire(((0.0, 0.0), (1.0, 0.0))))
+    end = pen.network(rs, (1.0, 0.0), "h", -1, kinds, values)
+    items.append(Wire((end, (g1, 0.0))))
+    unit = chip.split(" ")[0]
+    for x, ref, pin_in, pin_out in ((g1, f"{unit}a {chip.split(' ', 1)[-1]}", "input",
+                                     "output"), (g2, f"{unit}b", "input2", "output2")):
+        items.append(Inverter((x, 0.0), schmitt=False))
+        items.append(Label((x + 0.5, -0.3), pins[pin_in], "center", "top"))
+        items.append(Label((x + GATE - 0.5, -0.3), pins[pin_out], "center", "top"))
+        items.append(Label((x + GATE / 2 - 0.3, 2.4), ref, "center", "bottom"))
+    items.append(Wire(((g1 + GATE, 0.0), (g2, 0.0))))
+    items.append(Wire(((g2 + GATE, 0.0), (b_node + 4.0, 0.0))))
+    items.append(Terminal((b_node + 4.0, 0.0)))
+    items.append(Label((b_node + 4.8, 0.0), "OUT", "right", "middle", "normal"))
+    # R above (first output back to the node), C below (second output to the node).
+    r_ext = _extent(r.node, "h", kinds)
+    c_ext = _extent(capacitor.node, "h", kinds)
+    _hanging_row(sheet, pen, r, 0.0, a_node, -(3.5 + r_ext.near), -1, kinds, values)
+    _hanging_row(sheet, pen, capacitor, 0.0, b_node, 3.5 + c_ext.near, 1, kinds, values)
+    items += [Junction((0.0, 0.0)), Junction((a_node, 0.0)), Junction((b_node, 0.0))]
+    sheet.terminals.update({"node": (0.0, 0.0), "in": (g1, 0.0), "a": (a_node, 0.0),
+                            "out": (b_node, 0.0)})
+    _power_unit(sheet, b_node + 11.0, unit, pins["vcc"], pins["gnd"], supply_text,
+                decoupling_text, pen)
+    return sheet
+
+
+def divider_schematic(r: NetworkDrawing, rs: NetworkDrawing, capacitor: NetworkDrawing, *,
+                      pins: dict[str, str], chip: str, tap: str, supply_text: str,
+                      decoupling_text: str) -> Schematic:
+    """The oscillator-and-counter chip: RS, R and C from one timing node to its three
+    oscillator pins, the reset pin to ground, the chosen counter output to OUT.
+
+    ``pins`` maps rs, r, c, reset, vcc, gnd and ``tap`` (the output, e.g. ``q10``) to
+    pin numbers; ``tap`` is the output's name (``Q10``).
+    """
+    sheet = Schematic()
+    pen = _Pen(sheet, {})
+    kinds, values = _maps([rs, r, capacitor])
+    items = sheet.items
+    nets = (("rs", "φI", rs), ("r", "φO", r), ("c", "φO̅", capacitor))
+    exts = [_extent(n.node, "h", kinds) for _, _, n in nets]
+    length = max(e.length for e in exts)
+    bx0 = length + 4.0
+    bx1 = bx0 + 14.0
+    # One row per oscillator pin, each network from the node bus (x = 0) to its pin.
+    rows, y = [], 0.0
+    for (role, name, net), ext in zip(nets, exts, strict=True):
+        y += ext.far if rows else 0.0
+        rows.append(y)
+        start = 2.0 + (length - ext.length) / 2
+        items.append(Wire(((0.0, y), (start, y))))
+        end = pen.network(net, (start, y), "h", -1, kinds, values)
+        _chip_pin(items, (bx0 - 2.0, y), (bx0, y), pins[role], name, "right", "middle")
+        items.append(Wire((end, (bx0 - 2.0, y))))
+        y += ext.near + 1.5
+    items.append(Wire(((0.0, rows[0]), (0.0, rows[-1]))))
+    items.append(Junction((0.0, rows[1])))
+    items.append(Label((-0.4, rows[1]), "timing node", "left", "middle"))
+    by0, by1 = rows[0] - 4.0, max(rows[-1] + 4.0, rows[0] + 12.0)
+    items.append(Box((bx0, by0), (bx1, by1), chip))
+    # Top: VDD from the rail, decoupled at the pin; bottom: VSS and the reset to ground.
+    x_vdd, rail = bx0 + 4.0, by0 - 3.0
+    items.append(Supply((x_vdd, rail), supply_text))
+    _chip_pin(items, (x_vdd, rail), (x_vdd, by0), pins["vcc"], "VDD", "center", "bottom")
+    xd = bx1 + 3.0
+    items.append(Wire(((x_vdd, rail), (xd, rail), (xd, rail + 1.0))))
+    items.append(Junction((x_vdd, rail)))
+    ref = pen.ref("C")
+    items.append(Component("capacitor", (xd, rail + 1.0), (xd, rail + 6.0), ref=ref))
+    items.append(Ground((xd, rail + 6.0)))
+    sheet.support["decoupling"] = ref
+    items.append(Label((xd + 1.2, rail + 3.4), ref, "right", "top"))
+    items.append(Label((xd + 1.2, rail + 3.6), decoupling_text, "right", "bottom"))
+    for x, role, name in ((bx0 + 4.0, "gnd", "VSS"), (bx0 + 10.0, "reset", "MR")):
+        _chip_pin(items, (x, by1 + 2.0), (x, by1), pins[role], name, "center", "top")
+        items.append(Ground((x, by1 + 2.0)))
+    # Right: the chosen counter output.
+    y_out = rows[1]
+    _chip_pin(items, (bx1 + 2.0, y_out), (bx1, y_out), pins["tap"], tap, "left", "middle")
+    items.append(Wire(((bx1 + 2.0, y_out), (bx1 + 8.0, y_out))))
+    items.append(Terminal((bx1 + 8.0, y_out)))
+    items.append(Label((bx1 + 8.8, y_out), "OUT", "right", "middle", "normal"))
+    sheet.terminals.update({"node": (0.0, rows[1]), "rs": (bx0, rows[0]), "r": (bx0, rows[1]),
+                            "c": (bx0, rows[2]), "out": (bx1 + 8.0, y_out)})
     return sheet

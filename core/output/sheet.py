@@ -26,12 +26,20 @@ from core.design.trim import (
     start_rotation,
 )
 from core.errors import InputError
-from core.model.circuits.base import Circuit
+from core.model.circuits.divider import tap
 from core.model.diode import SMALL_SIGNAL_DIODE
 from core.model.drift import Conditions, supply_hz, temperature_hz
 from core.model.spread import monte_carlo
 from core.model.timing import Oscillator, predict, waveform
-from core.output.schematic import NetworkDrawing, Schematic, astable_schematic, schmitt_schematic
+from core.output.schematic import (
+    DiodeDrawing,
+    NetworkDrawing,
+    Schematic,
+    astable_schematic,
+    cmos_astable_schematic,
+    divider_schematic,
+    schmitt_schematic,
+)
 from core.parts.drawer import Drawer, Part
 from core.parts.networks import Network
 from core.parts.notation import NOTATION
@@ -207,28 +215,37 @@ def _value_text(part: Part) -> str:
     return format_part_value(part.value, part.kind)
 
 
+def _drawings(networks: Mapping[str, Network], *roles: str) -> list[NetworkDrawing]:
+    return [NetworkDrawing(networks[role], role, _value_text) for role in roles]
+
+
+def _pin_texts(osc: Oscillator) -> dict[str, str]:
+    return {role: str(pin) for role, pin in osc.family.package.pins.items()}
+
+
 def _astable_drawing(osc: Oscillator, networks: Mapping[str, Network], supply_text: str,
                      steered: bool) -> Schematic:
     family = osc.family
     pins = family.package.pins
     roles = {"gnd": "gnd", "trig": "trigger", "out": "output", "reset": "reset",
              "ctrl": "control", "thr": "threshold", "dis": "discharge", "vcc": "vcc"}
-    return astable_schematic(
-        *(NetworkDrawing(networks[role], role, _value_text) for role in ("RA", "RB", "C")),
+    sheet = astable_schematic(
+        *_drawings(networks, "RA", "RB", "C"),
         pins={role: str(pins[key]) for role, key in roles.items()},
         chip=f"U1 {family.name}", supply_text=supply_text,
         decoupling_text=format_capacitance(DECOUPLING_F),
         control_text=format_capacitance(CONTROL_F),
         diode_text=STEERING_DIODE if steered else None)
+    if steered:
+        sheet.hookup["D1"] = (f"anode to DIS ({pins['discharge']}), cathode to THR "
+                              f"({pins['threshold']})")
+    return sheet
 
 
-def _schmitt_drawing(osc: Oscillator, networks: Mapping[str, Network], supply_text: str,
-                     steered: bool) -> Schematic:
+def _schmitt_gate(osc: Oscillator, feedback: list[list[NetworkDrawing | DiodeDrawing]],
+                  networks: Mapping[str, Network], supply_text: str) -> Schematic:
     family = osc.family
     pins = family.package.pins
-    feedback = [NetworkDrawing(networks["R"], "R", _value_text)]
-    if "P" in networks:
-        feedback.append(NetworkDrawing(networks["P"], "P", _value_text))
     return schmitt_schematic(
         feedback, NetworkDrawing(networks["C"], "C", _value_text), gate_ref=f"U1a {family.name}",
         input_pin=str(pins["input"]), output_pin=str(pins["output"]),
@@ -237,9 +254,50 @@ def _schmitt_drawing(osc: Oscillator, networks: Mapping[str, Network], supply_te
         gate_note=f"NAND: pin {pins['tie_high']} to VCC" if "tie_high" in pins else "")
 
 
+def _schmitt_drawing(osc: Oscillator, networks: Mapping[str, Network], supply_text: str,
+                     steered: bool) -> Schematic:
+    """R (and a trim design's pot) from the output back to the input, C to ground."""
+    trimmed = [role for role in ("R", "P") if role in networks]
+    return _schmitt_gate(osc, [_drawings(networks, *trimmed)], networks, supply_text)
+
+
+def _steered_schmitt_drawing(osc: Oscillator, networks: Mapping[str, Network],
+                             supply_text: str, steered: bool) -> Schematic:
+    """D1 and RH (charging C while the output is high) above D2 and RL (discharging it)."""
+    d1, d2 = (DiodeDrawing("D1", STEERING_DIODE, forward=False),
+              DiodeDrawing("D2", STEERING_DIODE, forward=True))
+    sheet = _schmitt_gate(osc, [[d2, *_drawings(networks, "RL")],
+                                [d1, *_drawings(networks, "RH")]], networks, supply_text)
+    node = osc.family.package.pins["input"]
+    sheet.hookup.update({"D1": f"cathode to the timing node (pin {node}), anode to RH",
+                         "D2": f"anode to the timing node (pin {node}), cathode to RL"})
+    return sheet
+
+
+def _cmos_astable_drawing(osc: Oscillator, networks: Mapping[str, Network], supply_text: str,
+                          steered: bool) -> Schematic:
+    return cmos_astable_schematic(
+        *_drawings(networks, "R", "RS", "C"), pins=_pin_texts(osc),
+        chip=f"U1 {osc.family.name}", supply_text=supply_text,
+        decoupling_text=format_capacitance(DECOUPLING_F))
+
+
+def _divider_drawing(osc: Oscillator, networks: Mapping[str, Network], supply_text: str,
+                     steered: bool) -> Schematic:
+    name = tap(osc.divide_by)
+    pins = _pin_texts(osc)
+    return divider_schematic(
+        *_drawings(networks, "R", "RS", "C"), pins={**pins, "tap": pins[name.lower()]},
+        chip=f"U1 {osc.family.name}", tap=name, supply_text=supply_text,
+        decoupling_text=format_capacitance(DECOUPLING_F))
+
+
 DRAWINGS: dict[str, Callable[[Oscillator, Mapping[str, Network], str, bool], Schematic]] = {
-    "schmitt": _schmitt_drawing, "555": _astable_drawing}
-"""Each circuit's schematic from its networks and the family's package pins, by name."""
+    "schmitt": _schmitt_drawing, "schmitt-steered": _steered_schmitt_drawing,
+    "555": _astable_drawing, "cmos-astable": _cmos_astable_drawing,
+    "divider": _divider_drawing}
+"""Each circuit's schematic from its networks and the family's package pins, by the
+circuit's drawing id (``Circuit.drawing_id``)."""
 
 
 def _parts_list(osc: Oscillator, schematic: Schematic, networks: Mapping[str, Network],
@@ -278,9 +336,8 @@ def _parts_list(osc: Oscillator, schematic: Schematic, networks: Mapping[str, Ne
                                        BULK_DECOUPLING_F, stock, used, take, polarised=True,
                                        note=f"VCC ({pins['vcc']}) to GND ({pins['gnd']}) beside "
                                        f"{support['decoupling']}; not drawn"))
-        if steered:
-            around.append(PartRow(support["diode"], "small-signal diode", STEERING_DIODE, "",
-                                  1, "", None, "anode to DIS (7), cathode to THR (6)"))
+    around += [PartRow(ref, "small-signal diode", STEERING_DIODE, "", 1, "", None, note)
+               for ref, note in schematic.hookup.items()]
     rows += sorted(around, key=lambda r: (r.refs[0], int(r.refs[1:])))
     return rows, take
 
@@ -305,7 +362,7 @@ def build_sheet(osc: Oscillator, candidate: Design, target: str, *,
     supply_text = format_quantity(supply, "voltage")
     networks: dict[str, Network] = dict(candidate.networks)
     steered = candidate.diode_steered
-    schematic = DRAWINGS[osc.circuit.name](osc, networks, f"+{supply_text}", steered)
+    schematic = DRAWINGS[osc.circuit.drawing_id](osc, networks, f"+{supply_text}", steered)
     rows, take = _parts_list(osc, schematic, networks, stock, steered)
 
     extra = {"diode_steered": True} if steered else {}
@@ -340,6 +397,10 @@ def build_sheet(osc: Oscillator, candidate: Design, target: str, *,
         predictions += [("Predicted frequency", _hz(frequency)),
                         ("Error against target", format_signed_pct(float(candidate.error_pct)))]
     predictions.append(("Period", format_quantity(prediction.period_s, "period")))
+    if osc.divide_by > 1:
+        predictions.append(("Oscillator (before the counter)",
+                            f"{_hz(frequency * osc.divide_by)}, divided by {osc.divide_by} "
+                            f"at {tap(osc.divide_by)}"))
     asked = None if trim else candidate.duty_asked_pct
     duty_text = f"{prediction.duty_pct:.1f} %"
     if asked is not None:
@@ -361,7 +422,8 @@ def build_sheet(osc: Oscillator, candidate: Design, target: str, *,
 
     summary = [
         ("Target", target + ("" if asked is None else f", duty {asked:g} %")),
-        ("Circuit", osc.circuit.oscillator + (" (diode-steered)" if steered else "")),
+        ("Circuit", osc.circuit.oscillator + (" (diode-steered)" if steered and not
+                                              osc.circuit.always_steered else "")),
         ("Chip", f"{family.name} — {family.description}"),
         ("Supply", f"{supply_text} (range {family.supply_range_v[0]:g}–"
                    f"{family.supply_range_v[1]:g} V)"),
@@ -387,7 +449,7 @@ def build_sheet(osc: Oscillator, candidate: Design, target: str, *,
         summary=summary,
         schematic=schematic,
         package=package.name,
-        pins=_pin_rows(osc.circuit, package),
+        pins=_pin_rows(osc, package),
         parts=rows,
         predictions=predictions,
         frequency_hz=frequency,
@@ -397,7 +459,7 @@ def build_sheet(osc: Oscillator, candidate: Design, target: str, *,
         adjustment=adjustment,
         build_notes=_build_notes(osc, package, networks, trim),
         warnings=warnings,
-        cautions=_cautions(take, ratings or {}, supply),
+        cautions=_cautions(osc, take, ratings or {}),
         take=tuple(take),
     )
 
@@ -476,12 +538,12 @@ def _adjustment(osc: Oscillator, candidate: TrimCandidate, start: float, f_start
     ]
 
 
-def _pin_rows(circuit: Circuit, package: Any) -> list[PinRow]:
+def _pin_rows(osc: Oscillator, package: Any) -> list[PinRow]:
     rows = [PinRow(str(package.pins[key]), name, connect)
-            for key, name, connect in circuit.pins if key in package.pins]
+            for key, name, connect in osc.circuit.hookup(osc) if key in package.pins]
     if package.unused_inputs:
         rows.append(PinRow(", ".join(str(p) for p in package.unused_inputs),
-                           "unused gate inputs", "GND (never leave them open)"))
+                           "unused gate inputs", "GND or VCC (never leave them open)"))
     rows.sort(key=lambda r: int(r.pin.split(",")[0]))
     return rows
 
@@ -497,7 +559,7 @@ def _build_notes(osc: Oscillator, package: Any, networks: Mapping[str, Network],
                  trim: bool) -> list[str]:
     """What an experienced builder would tell a newcomer (common practice, no published source)."""
     notes = [n[:1].upper() + n[1:] for n in package.notes]
-    notes += osc.circuit.layout_notes
+    notes += osc.circuit.builder_notes(osc)
     if osc.circuit.measure_note and not trim:  # else the adjustment says where to measure
         notes.append(osc.circuit.measure_note)
     caps = [p for p in networks["C"].parts()]
@@ -510,8 +572,10 @@ def _build_notes(osc: Oscillator, package: Any, networks: Mapping[str, Network],
     return notes
 
 
-def _cautions(take: Iterable[Part], ratings: Mapping[int, str], supply: float) -> list[str]:
+def _cautions(osc: Oscillator, take: Iterable[Part], ratings: Mapping[int, str]
+              ) -> list[str]:
     """Safety first (common practice, no published source; mains: local codes apply)."""
+    supply = osc.supply_v
     out = [
         f"Power the circuit from a low-voltage, current-limited supply: a bench supply set to "
         f"{format_quantity(supply, 'voltage')} with its current limit at about 50 mA, or a "
@@ -521,6 +585,10 @@ def _cautions(take: Iterable[Part], ratings: Mapping[int, str], supply: float) -
         "and the voltage rating must exceed the supply with margin. Reversed or over-voltage, "
         "they can vent or burst.",
     ]
+    if osc.circuit.reversing_c:
+        out.append("The timing capacitor's voltage reverses every cycle in this circuit: it "
+                   "must be non-polarised (film or C0G). An electrolytic or tantalum there "
+                   "is reverse-biased half of the time and can fail.")
     for part in dict.fromkeys(p for p in take if p.polarised):
         text = ratings.get(part.stock_line, "")
         where = f"line {part.stock_line}, {part.location or 'no location'}"

@@ -56,8 +56,10 @@ class Circuit(ABC):
     ``layout_notes``, what a builder should know about the layout, and
     ``measure_note``, where to measure (when no adjustment procedure says it).
     ``one_threshold``: the circuit switches at one voltage (``--threshold``), carried
-    as VT+ = VT-. ``designed``: search, sheet, netlist and calibration know the
-    circuit (else only predict does; ``require_designed`` says so).
+    as VT+ = VT-. ``unready``: the commands that do not handle the circuit yet
+    (``search``, ``a build sheet``, ``the netlist``, ``calibration``; predict always
+    does; ``require_designed`` says so). ``reversing_c``: the timing capacitor's
+    voltage changes sign each cycle, so it must not be polarised.
     ``steered_variant``: the same circuit wired with steering diodes where that changes
     its parts (the Schmitt inverter's RH, RL, C); a duty target or RH/RL pick it.
     ``always_steered``: its steering diodes are part of the circuit (no
@@ -79,7 +81,8 @@ class Circuit(ABC):
     layout_notes: tuple[str, ...] = ()
     measure_note: str = ""
     one_threshold: bool = False
-    designed: bool = True
+    unready: tuple[str, ...] = ()
+    reversing_c: bool = False
     steered_variant: Circuit | None = None
     always_steered: bool = False
     drawing: str = ""
@@ -113,9 +116,18 @@ class Circuit(ABC):
 
     def require_designed(self, what: str) -> None:
         """SetupError where ``what`` (search, sheet, ...) does not know this circuit yet."""
-        if not self.designed:
+        if what in self.unready:
             raise SetupError(f"{what} does not handle the {self.title} yet; 'tickbin predict "
                              f"--circuit {self.name} {self.value_flags}' does")
+
+    def hookup(self, osc: Oscillator) -> tuple[tuple[str, str, str], ...]:
+        """The pin hookup for this oscillator (package role, pin name, what it connects to):
+        ``pins``, unless the circuit adds a pin that depends on the build (a counter tap)."""
+        return self.pins
+
+    def builder_notes(self, osc: Oscillator) -> list[str]:
+        """What a builder should know about the layout of this oscillator."""
+        return list(self.layout_notes)
 
     def output_times(self, osc: Oscillator, t_high: ArrayLike, t_low: ArrayLike
                      ) -> tuple[Any, Any]:

@@ -114,7 +114,9 @@ class CmosAstable(Circuit):
 
 
 PINS = (("input", "first inverter input", "RS from the timing node"),
-        ("output", "first inverter output", "R to the timing node; second inverter input"),
+        ("output", "first inverter output", "R to the timing node; the second inverter's "
+         "input"),
+        ("input2", "second inverter input", "the first inverter's output"),
         ("output2", "second inverter output", "C to the timing node; OUT"),
         ("vcc", "supply", "+ supply; 100 nF to GND right at the pin"),
         ("gnd", "ground", "supply 0 V"))
@@ -133,6 +135,6 @@ CMOS_ASTABLE = CmosAstable(name="cmos-astable", title="two-inverter CMOS astable
                            oscillator="two-inverter CMOS astable", short="CMOS astable",
                            threshold_words="switching voltage {plus:.2f} V ({source})",
                            pins=PINS, layout_notes=LAYOUT_NOTES, one_threshold=True,
-                           designed=False,
+                           unready=("search", "calibration"), reversing_c=True,
                            measure_note="Measure at OUT (the second inverter's output), "
                            "never with a probe on the timing node.")

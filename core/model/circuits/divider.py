@@ -15,7 +15,7 @@ from typing import Any
 
 from core.errors import InputError
 from core.model.circuits.base import ArrayLike, Oscillator, Role
-from core.model.circuits.cmos_astable import LAYOUT_NOTES, CmosAstable
+from core.model.circuits.cmos_astable import CmosAstable
 
 PINNED_STAGES = (4, 5, 6, 7, 8, 9, 10, 12, 13, 14)
 """The counter stages the package pins out (from memory: CD4060B and 74HC4060 pinouts,
@@ -47,13 +47,31 @@ class Divider(CmosAstable):
         half = 0.5 * osc.divide_by * (t_high + t_low)
         return half, half
 
+    def hookup(self, osc: Oscillator) -> tuple[tuple[str, str, str], ...]:
+        """The oscillator pins and the chosen counter output."""
+        name = tap(osc.divide_by)
+        return (*self.pins, (name.lower(), f"{name} output", f"OUT (the oscillator ÷ "
+                                                            f"{osc.divide_by})"))
 
-PINS = (("rs", "φI (11)", "RS from the timing node"),
-        ("r", "φO (10)", "R to the timing node"),
-        ("c", "φO̅ (9)", "C to the timing node"),
-        ("reset", "MR (12)", "GND (held low: always counting)"),
-        ("vcc", "VDD (16)", "+ supply; 100 nF to GND right at the pin"),
-        ("gnd", "VSS (8)", "supply 0 V"))
+    def builder_notes(self, osc: Oscillator) -> list[str]:
+        """Where the output is, and how to check the oscillator without waiting a period."""
+        pins = osc.family.package.pins
+        name = tap(osc.divide_by)
+        return [*self.layout_notes,
+                f"Take the output from {name} (pin {pins[name.lower()]}): the oscillator "
+                f"divided by {osc.divide_by}, a square wave of exactly 50 % duty. The other "
+                "Q outputs are outputs: leave them open.",
+                f"To check the oscillator without waiting a whole output period, measure Q4 "
+                f"(pin {pins['q4']}): it runs at the oscillator's frequency ÷ 16. Expect the "
+                "first output edge only after half an output period once power is applied."]
+
+
+PINS = (("rs", "φI, oscillator input", "RS from the timing node"),
+        ("r", "φO, oscillator output", "R to the timing node"),
+        ("c", "φO̅, inverted oscillator output", "C to the timing node"),
+        ("reset", "MR, master reset", "GND (held low: always counting)"),
+        ("vcc", "VDD, supply", "+ supply; 100 nF to GND right at the pin"),
+        ("gnd", "VSS, ground", "supply 0 V"))
 """The oscillator pins of the 16-pin package (from memory: CD4060B pin table)."""
 
 DIVIDER = Divider(name="divider", title="oscillator and binary counter",
@@ -61,8 +79,7 @@ DIVIDER = Divider(name="divider", title="oscillator and binary counter",
                   default_family="CD4060B", oscillator="RC oscillator and binary counter",
                   short="divided oscillator",
                   threshold_words="switching voltage {plus:.2f} V ({source})",
-                  pins=PINS, layout_notes=(*LAYOUT_NOTES[:1],
-                                           "Hold the reset pin (MR, 12) low: high, it stops "
-                                           "the oscillator and clears the counter."),
-                  one_threshold=True, designed=False,
+                  pins=PINS, layout_notes=("Keep RS right at φI (pin 11) and the timing node "
+                                           "small: the node swings beyond the supply rails.",),
+                  one_threshold=True, unready=("search", "calibration"), reversing_c=True,
                   measure_note="Measure at the chosen Q output.")
