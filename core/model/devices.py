@@ -21,8 +21,6 @@ from core.errors import InputError, SetupError, TickbinError
 
 CircuitName = Literal["schmitt", "555", "cmos-astable", "divider"]
 CIRCUIT_NAMES: tuple[CircuitName, ...] = ("schmitt", "555", "cmos-astable", "divider")
-ONE_THRESHOLD = ("cmos-astable", "divider")
-"""Circuits whose table entries give one switching voltage (``switching_v``)."""
 """The circuits a family may name; core.model.circuits has one object per name."""
 Triplet = tuple[float, float, float]
 
@@ -260,25 +258,40 @@ def _triplet(entry: Mapping[str, Any], key: str, where: str) -> Triplet:
     return lo, typ, hi
 
 
-def _point(family: Mapping[str, Any], entry: Mapping[str, Any], circuit: str,
-           where: str) -> _Point:
+def threshold_form(entry: Mapping[str, Any]) -> str:
+    """How a supply entry gives its thresholds, read from its own keys: ``fractions`` of
+    the supply (a timer's internal divider), ``one`` switching voltage (unbuffered
+    inverters), or a ``pair`` VT+/VT- (Schmitt inputs)."""
+    if "threshold_fraction" in entry:
+        return "fractions"
+    return "one" if "switching_v" in entry else "pair"
+
+
+def _timer_point(entry: Mapping[str, Any], v: float, common: Mapping[str, Any],
+                 where: str) -> _Point:
+    """A timer's comparator levels are fractions of the supply; its output swings to the
+    rails less a drop, and its discharge transistor has an on-resistance."""
+    thr = _triplet(entry, "threshold_fraction", where)
+    trg = _triplet(entry, "trigger_fraction", where)
+    return _Point(vt_plus=tuple(x * v for x in thr),  # type: ignore[arg-type]
+                  vt_minus=tuple(x * v for x in trg),  # type: ignore[arg-type]
+                  hysteresis_min=(thr[0] - trg[2]) * v, hysteresis_max=math.inf,
+                  voh_open=v, vol_open=0.0, r_out_high=0.0, r_out_low=0.0, input_r=math.inf,
+                  input_v_open=0.0, input_current=0.0,
+                  discharge_r=float(entry["discharge_r_ohm"]),
+                  output_high_drop=float(entry.get("output_high_drop_v", 0.0)), **common)
+
+
+def _point(family: Mapping[str, Any], entry: Mapping[str, Any], where: str) -> _Point:
     v = float(entry["v"])
     r_min, r_max = (float(x) for x in entry["r_range_ohm"])
     delay_lh, delay_hl = (float(x) for x in entry.get("delay_s", (0.0, 0.0)))
     source = str(entry.get("source", family.get("source", "")))
-    if circuit == "555":
-        thr = _triplet(entry, "threshold_fraction", where)
-        trg = _triplet(entry, "trigger_fraction", where)
-        return _Point(v=v, vt_plus=tuple(x * v for x in thr),  # type: ignore[arg-type]
-                      vt_minus=tuple(x * v for x in trg),  # type: ignore[arg-type]
-                      hysteresis_min=(thr[0] - trg[2]) * v, hysteresis_max=math.inf,
-                      voh_open=v, vol_open=0.0,
-                      r_out_high=0.0, r_out_low=0.0, input_r=math.inf, input_v_open=0.0,
-                      input_current=0.0, delay_lh=delay_lh, delay_hl=delay_hl, r_min=r_min,
-                      r_max=r_max, discharge_r=float(entry["discharge_r_ohm"]),
-                      output_high_drop=float(entry.get("output_high_drop_v", 0.0)),
-                      source=source)
-    if circuit in ONE_THRESHOLD:
+    form = threshold_form(entry)
+    if form == "fractions":
+        return _timer_point(entry, v, dict(v=v, delay_lh=delay_lh, delay_hl=delay_hl,
+                                           r_min=r_min, r_max=r_max, source=source), where)
+    if form == "one":
         # One switching voltage: both thresholds carry it; no hysteresis.
         vt_plus = vt_minus = _triplet(entry, "switching_v", where)
     else:
@@ -307,7 +320,7 @@ def _point(family: Mapping[str, Any], entry: Mapping[str, Any], circuit: str,
                    input_v_open=input_v_open, input_current=input_current, delay_lh=delay_lh,
                    delay_hl=delay_hl, r_min=r_min, r_max=r_max, discharge_r=0.0,
                    output_high_drop=0.0, source=source)
-    _check_point(point, where, circuit)
+    _check_point(point, where, form == "pair")
     return point
 
 
@@ -334,11 +347,11 @@ def _output_line(entry: Mapping[str, Any], level: str, v_open: float,
     return mean_v - slope * mean_i, abs(slope)
 
 
-def _check_point(p: _Point, where: str, circuit: str) -> None:
+def _check_point(p: _Point, where: str, hysteresis: bool) -> None:
+    """``hysteresis``: the entry gives a VT+/VT- pair (one switching voltage has none)."""
     problems = []
     if not (p.vol_open < p.vt_minus[0] and p.vt_plus[2] < p.voh_open):
         problems.append("thresholds must lie between the output levels")
-    hysteresis = circuit not in ONE_THRESHOLD  # one switching voltage has none
     if hysteresis and not p.hysteresis_min <= p.vt_plus[1] - p.vt_minus[1] <= p.hysteresis_max:
         problems.append("typ thresholds are outside hysteresis_min … hysteresis_max")
     if hysteresis and (p.vt_plus[2] - p.vt_minus[0] < p.hysteresis_min
@@ -367,7 +380,10 @@ def _family(name: str, raw: Mapping[str, Any], packages: Mapping[str, Any]) -> F
     entries = sorted(raw.get("supply", ()), key=lambda e: float(e["v"]))
     if not entries:
         raise TickbinError(f"devices.toml: {name}: no [[supply]] entries")
-    points = tuple(_point(raw, e, circuit, f"{name} at {e['v']} V") for e in entries)
+    if len({threshold_form(e) for e in entries}) > 1:
+        raise TickbinError(f"devices.toml: {name}: every [[supply]] entry must give its "
+                           "thresholds the same way")
+    points = tuple(_point(raw, e, f"{name} at {e['v']} V") for e in entries)
     lo, hi = (float(x) for x in raw["supply_range_v"])
     if len(points) > 1 and not (points[0].v <= lo and hi <= points[-1].v):
         raise TickbinError(f"devices.toml: {name}: listed supplies must span supply_range_v")
