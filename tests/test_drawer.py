@@ -137,6 +137,31 @@ def test_undo_redo_and_groups() -> None:
     assert events[:2] == ["changed 0 value", "inserted 1 2"]
 
 
+def _fresh(drawer: Drawer) -> tuple[list[object], dict[int, dict[str, str]]]:
+    """The drawer's rows parsed by a new Drawer: nothing kept from earlier parses."""
+    copy = Drawer([Row(dict(r.cells), r.line) for r in drawer.rows], drawer.columns)
+    return copy.parts(), copy.problems()
+
+
+def test_an_edit_parses_like_a_fresh_read() -> None:
+    # Rows kept from the last parse (same cells, line and place) give what a fresh parse
+    # of the edited rows gives, through edits, inserts, removals, undo and redo.
+    drawer = Drawer([Row({"kind": "R", "value": v, "quantity": "2", "location": "a"}, k + 2)
+                     for k, v in enumerate(["1k", "2k2", "4k7", "bad", "10k"])])
+    steps = [lambda: drawer.set_cell(1, "location", "b"),
+             lambda: drawer.set_cell(3, "value", "3k3"),
+             lambda: drawer.set_cell(0, "kind", "C"),
+             lambda: drawer.insert_rows(1, [Row({"kind": "R", "value": "x", "quantity": "1"})]),
+             lambda: drawer.remove_rows([0, 2]),
+             drawer.undo, drawer.undo, drawer.redo,
+             lambda: drawer.set_cell(2, "quantity", "-1")]
+    assert (drawer.parts(), drawer.problems()) == _fresh(drawer)
+    for step in steps:
+        step()
+        assert (drawer.parts(), drawer.problems()) == _fresh(drawer)
+    assert drawer.problems()  # the bad cells of the last steps are seen
+
+
 def test_cell_problems_name_the_column() -> None:
     bad = cell_problems(Row({"kind": "C", "value": "10 kV", "quantity": "x"}))
     assert set(bad) == {"value", "quantity"}

@@ -17,7 +17,7 @@ import os
 from collections.abc import Callable, Iterable, Iterator
 from dataclasses import dataclass, field
 from pathlib import Path
-from typing import Literal
+from typing import Any, Literal
 
 from core.errors import DrawerFileError, InputError, LineProblem, TickbinError
 from core.parts.tolerances import DEFAULT_TOLERANCE, DIELECTRIC_TOLERANCE
@@ -287,6 +287,7 @@ class Drawer:
         self._group_depth = 0
         self._clean_at: int | None = 0
         self._cache: tuple[list[Part], dict[int, dict[str, str]]] | None = None
+        self._row_results: dict[tuple[Any, ...], tuple[Part | None, dict[str, str]]] = {}
 
     # -- reading the data
     def __len__(self) -> int:
@@ -301,10 +302,17 @@ class Drawer:
         return self._parsed()[1]
 
     def _parsed(self) -> tuple[list[Part], dict[int, dict[str, str]]]:
+        """Every row parsed; a row whose cells, line and place are as at the last parse
+        keeps its result, so an edit of one cell parses one row (a window edit of a large
+        drawer must stay well under 100 ms)."""
         if self._cache is None:
             parts, problems = [], {}
+            earlier, self._row_results = self._row_results, {}
             for i, row in enumerate(self.rows):
-                part, bad = _parse_row(row, i)
+                key = (i, row.line, tuple(row.cells.items()))
+                result = earlier.get(key) or _parse_row(row, i)
+                self._row_results[key] = result
+                part, bad = result
                 if part is not None:
                     parts.append(part)
                 else:
