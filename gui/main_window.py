@@ -306,10 +306,13 @@ class MainWindow(QMainWindow):
         self.search.warm_up(self._first_paint.then)
 
     def _became_ready(self) -> None:
-        """The worker has imported the slow modules: add the build actions (PDF, print,
-        netlist, take parts) and check the drawer's cells, before the first search."""
+        """The worker has imported the slow modules: offer every circuit, add the build
+        actions (PDF, print, netlist, take parts) and check the drawer's cells, before the
+        first search."""
+        from core.model.circuits import CIRCUITS
         from gui.sheet_actions import install
 
+        self.form.offer_circuits(CIRCUITS.values())
         install(self)
         self.drawer_model.start_checking()
 

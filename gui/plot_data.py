@@ -114,7 +114,7 @@ def _waveform(plots: Any, osc: Any, values: dict[str, float], diode_steered: boo
     from core.model.timing import waveform
 
     t, v_cap, v_out = waveform(osc, values, periods=3, diode_steered=diode_steered)
-    plots.show_waveform(t, v_cap, v_out, osc.vt_plus_v, osc.vt_minus_v, osc.circuit.name, title)
+    plots.show_waveform(t, v_cap, v_out, osc.vt_plus_v, osc.vt_minus_v, osc.circuit, title)
 
 
 def _draw_search(plots: Any, outcome: Outcome, cand: Any) -> Iterator[None]:

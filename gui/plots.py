@@ -9,12 +9,16 @@ only here, and this module is imported only after the window is on screen.
 from __future__ import annotations
 
 from collections.abc import Iterator
+from typing import TYPE_CHECKING
 
 import numpy as np
 import pyqtgraph as pg
 from PySide6.QtCore import Qt
 from PySide6.QtGui import QColor, QFont, QGuiApplication, QPen
 from PySide6.QtWidgets import QGraphicsItem, QHBoxLayout, QStackedWidget, QTabWidget, QWidget
+
+if TYPE_CHECKING:
+    from core.model.circuits.base import Circuit
 
 # Our palette: ink for text and axes, a slate blue and a copper for the two traces,
 # a sage green for "acceptable", a muted plum for thresholds.
@@ -27,15 +31,11 @@ ACCEPT_EDGE = QColor(96, 150, 110)
 THRESHOLD = QColor(130, 80, 130)
 ENVELOPE = QColor(47, 94, 150, 50)
 
-THRESHOLD_LABELS = {
-    # circuit: upper and lower threshold label in the trade's words, and the margin kept
-    # right of the traces for them (a share of the time span; 0: labels near the left).
-    "schmitt": ("VT+ {value:.2f} V", "VT− {value:.2f} V", 0.0),
-    "555": ("threshold\n{value:.2f} V", "trigger\n{value:.2f} V", 0.25),
-}
-"""A Schmitt inverter's output swings rail to rail, so its labels fit just above VT+ and
-below VT−. A 555's output high (about VCC − 1.7 V, 3.3 V at 5 V: NE555 data sheet, from
-memory) sits on its 2/3 VCC threshold, so its labels go beside the traces, on their lines."""
+CROWDED_SHARE = 0.1
+"""An output level this close to a threshold (a share of the plot's voltage span) leaves no
+room for a label above or below the line: a 555's output high (about VCC − 1.7 V, 3.3 V at
+5 V: NE555 data sheet, from memory) sits on its 2/3 VCC threshold. Such labels go beside
+the traces, on their lines; a rail-to-rail output leaves room near the left."""
 
 
 def _pen(color: QColor, width: float = 1.0,
@@ -117,8 +117,8 @@ class PlotPanel(QWidget):
         self.out_curve = self.waveform.plot(pen=_pen(OUT, width=1.6))
         self.cap_curve = self.waveform.plot(pen=_pen(CAP, width=2.0))
         dash = _pen(THRESHOLD, width=1.2, style=Qt.PenStyle.DashLine)
-        # Labels on a light backing so traces stay legible; texts and places per circuit
-        # are set in show_waveform (THRESHOLD_LABELS).
+        # Labels on a light backing so traces stay legible; texts (the circuit's words)
+        # and places are set in show_waveform.
         backing = pg.mkBrush(255, 255, 255, 210)
         self.vt_plus_line, self.vt_minus_line = (
             pg.InfiniteLine(angle=0, pen=dash, label="",
@@ -197,22 +197,29 @@ class PlotPanel(QWidget):
             plot.setTitle("", color=INK.name(), size="10pt")
 
     def show_waveform(self, t_s: np.ndarray, v_cap: np.ndarray, v_out: np.ndarray,
-                      vt_plus_v: float, vt_minus_v: float, circuit: str, title: str) -> None:
+                      vt_plus_v: float, vt_minus_v: float, circuit: Circuit,
+                      title: str) -> None:
         """Traces over a few periods; t in s, voltages in V; thresholds as dashed lines,
-        labelled as ``circuit`` ("schmitt" or "555") names them."""
+        labelled in ``circuit``'s words (one line where it switches at one voltage)."""
         self.cap_curve.setData(t_s, v_cap)
         self.out_curve.setData(t_s, v_out)
-        upper, lower, margin = THRESHOLD_LABELS[circuit]
-        for line, text, off_line in ((self.vt_plus_line, upper, (0.5, 1.0)),
+        swing = float(np.ptp(np.concatenate([v_cap, v_out]))) or 1.0
+        crowded = any(abs(level - vt) < CROWDED_SHARE * swing
+                      for level in (float(np.max(v_out)), float(np.min(v_out)))
+                      for vt in (vt_plus_v, vt_minus_v))
+        margin = 0.25 if crowded else 0.0  # kept right of the traces, a share of the time
+        upper, lower = circuit.threshold_names
+        for line, name, off_line in ((self.vt_plus_line, upper, (0.5, 1.0)),
                                      (self.vt_minus_line, lower, (0.5, 0.0))):
             # Beside the traces: centred on the line at the right edge; else just above
-            # VT+ (below VT−) near the left.
+            # the upper line (below the lower one) near the left.
             line.label.anchors = [(1.0, 0.5)] * 2 if margin else [off_line] * 2
             line.label.setPosition(1.0 if margin else 0.12)
-            line.label.setFormat(text)
+            line.label.setFormat(f"{name}\n{{value:.2f}} V" if margin
+                                 else f"{name} {{value:.2f}} V")
         # Show first: a hidden line's label does not follow its value.
         self.vt_plus_line.show()
-        self.vt_minus_line.show()
+        self.vt_minus_line.setVisible(not circuit.one_threshold)
         self.vt_plus_line.setValue(vt_plus_v)
         self.vt_minus_line.setValue(vt_minus_v)
         key = (f'<span style="color:{CAP.name()}">━ C</span> &nbsp; '

@@ -8,8 +8,9 @@ its tooltip, and the form reports no target until it is fixed.
 from __future__ import annotations
 
 import math
+from collections.abc import Iterable
 from dataclasses import dataclass
-from typing import Any, Literal
+from typing import TYPE_CHECKING, Any, Literal
 
 from PySide6.QtCore import Qt, Signal
 from PySide6.QtGui import QAction
@@ -30,16 +31,17 @@ from PySide6.QtWidgets import (
 from core.design.request import Request
 from core.errors import InputError, TickbinError
 
+if TYPE_CHECKING:
+    from core.model.circuits.base import Circuit
+
 Mode = Literal["frequency", "period", "band"]
 
-CIRCUITS = (("Schmitt-trigger inverter", "schmitt"), ("555 astable", "555"))
 MODES: tuple[tuple[str, Mode, str, str], ...] = (
     ("Frequency", "frequency", "1kHz", "The frequency to reach, e.g. 1kHz, 38k, 440 Hz"),
     ("Period", "period", "1ms", "The period to reach, e.g. 2ms, 250us"),
     ("Band (trim)", "band", "900..1100", "A band to cover with a trimmer, e.g. 400..480 "
      "or 1k..1.2kHz: the search then picks a pot, a fixed resistor and a capacitor"),
 )
-DEFAULT_FAMILY = {"schmitt": "74HC14", "555": "NE555"}
 DIELECTRICS = (("C0G/NP0", ("c0g", "np0")), ("film", ("film",)), ("X7R", ("x7r",)),
                ("X5R", ("x5r",)), ("Y5V/Z5U", ("y5v", "z5u")), ("tantalum", ("tantalum",)),
                ("electrolytic", ("electrolytic",)))
@@ -86,12 +88,13 @@ class TargetForm(QWidget):
         self._problems: dict[str, str] = {}
         self._ranges: dict[str, tuple[float, float]] = {}
 
+        self._circuits: dict[str, Circuit] = {}
+        """The circuits offered (filled by ``offer_circuits`` once the models are loaded)."""
         self.circuit = QComboBox()
         self.circuit.setMinimumContentsLength(12)
         self.circuit.setSizeAdjustPolicy(
             QComboBox.SizeAdjustPolicy.AdjustToMinimumContentsLengthWithIcon)
-        for label, key in CIRCUITS:
-            self.circuit.addItem(label, key)
+        self._list_circuit_names()
         self.family = QComboBox()
         self.family.setMinimumContentsLength(9)
         self.family.setSizeAdjustPolicy(QComboBox.SizeAdjustPolicy.AdjustToContents)
@@ -137,15 +140,16 @@ class TargetForm(QWidget):
         self.message.setWordWrap(True)
 
         tips = {
-            self.circuit: "The oscillator: an inverter with hysteresis (R from output to "
-                          "input, C to ground), or a 555 timer in astable mode",
+            self.circuit: "The oscillator circuit to build (each names its parts on the "
+                          "build sheet)",
             self.family: "The chip and its supply range; thresholds and limits come from the "
                          "device table",
             self.supply: "Supply voltage, e.g. 5V or 3.3 (the family's range is shown beside "
                          "its name)",
             self.mode: "Aim at one frequency, a period, or a band to trim over",
             self.target: MODES[0][3],
-            self.duty: "555 only: wanted share of time high, e.g. 60% (empty: any)",
+            self.duty: "Circuits that can steer their duty (555, Schmitt with steering "
+                       "diodes): wanted share of time high, e.g. 60% (empty: any)",
             self.duty_within: "Duty error, in percentage points, that still counts as a hit "
                               "(with a duty asked)",
             self.accept: "Candidates within this error come first, fewest parts first",
@@ -232,9 +236,54 @@ class TargetForm(QWidget):
         self._circuit_changed()
         self.reload_calibrations()
 
+    # -- which circuits
+    def _list_circuit_names(self) -> None:
+        """Before the circuit models are loaded (they need numpy, too slow before the first
+        paint): every circuit the device table names, by name, so a remembered one stays."""
+        try:
+            from core.model.devices import device_table
+
+            table = device_table()
+            names = dict.fromkeys(table.family(n).circuit for n in table.families())
+        except TickbinError as e:
+            self._problems["family"] = str(e)
+            names = {}
+        for name in names:
+            self.circuit.addItem(name, name)
+
+    def offer_circuits(self, circuits: Iterable[Circuit]) -> None:
+        """Offer every circuit the search handles (not ``unready``), named in words; the one
+        chosen stays chosen where it is still offered."""
+        current = self.circuit.currentData()
+        self._circuits = {c.name: c for c in circuits if "search" not in c.unready}
+        self.circuit.blockSignals(True)
+        self.circuit.clear()
+        for circuit in self._circuits.values():
+            self.circuit.addItem(circuit.short or circuit.title, circuit.name)
+            self.circuit.setItemData(self.circuit.count() - 1, circuit.oscillator,
+                                     Qt.ItemDataRole.ToolTipRole)
+        self.circuit.setCurrentIndex(max(0, self.circuit.findData(current)))
+        self.circuit.blockSignals(False)
+        self._circuit_changed()
+
+    def chosen_circuit(self) -> Circuit | None:
+        """The Circuit chosen (None until ``offer_circuits``)."""
+        return self._circuits.get(self.circuit.currentData())
+
+    def duty_offered(self) -> bool:
+        """The chosen circuit can aim at a duty: it steers, or has a steered variant."""
+        c = self.chosen_circuit()
+        return c is not None and (c.steerable or c.steered_variant is not None)
+
+    def band_offered(self) -> bool:
+        """The chosen circuit has a part a pot may trim (a band can be searched)."""
+        c = self.chosen_circuit()
+        return c is not None and bool(c.trimmable)
+
     # -- dependent fields
     def _circuit_changed(self) -> None:
         circuit = self.circuit.currentData()
+        chosen = self.chosen_circuit()
         previous = self.family.currentData()
         self.family.blockSignals(True)
         self.family.clear()
@@ -253,11 +302,14 @@ class TargetForm(QWidget):
                                         Qt.ItemDataRole.ToolTipRole)
         except TickbinError as e:
             self._problems["family"] = str(e)
-        wanted = previous if self.family.findData(previous) >= 0 else DEFAULT_FAMILY[circuit]
+        wanted = previous if self.family.findData(previous) >= 0 else (
+            chosen.default_family if chosen else None)
         self.family.setCurrentIndex(max(0, self.family.findData(wanted)))
         self.family.blockSignals(False)
-        self.duty.setEnabled(circuit == "555")
-        self.duty_within.setEnabled(circuit == "555")
+        self.duty.setEnabled(self.duty_offered())
+        self.duty_within.setEnabled(self.duty_offered())
+        band = self.mode.model().item(self.mode.findData("band"))  # type: ignore[attr-defined]
+        band.setEnabled(chosen is None or self.band_offered())
         self._family_changed()
 
     def _family_changed(self) -> None:
@@ -334,15 +386,16 @@ class TargetForm(QWidget):
         target_hz = band = None
         if mode == "band":
             band = parse("target", parse_band)
-            if circuit != "schmitt" and band is not None:
-                problems["target"] = "trimming a band is offered for the Schmitt inverter"
+            chosen = self.chosen_circuit()
+            if chosen is not None and not self.band_offered() and band is not None:
+                problems["target"] = f"a band to trim is not offered for the {chosen.title}"
         elif mode == "period":
             period = parse("target", parse_quantity, "period")
             target_hz = 1.0 / period if period else None
         else:
             target_hz = parse("target", parse_quantity, "frequency")
         duty = None
-        if circuit == "555" and self.duty.text().strip():
+        if self.duty_offered() and self.duty.text().strip():
             duty = parse("duty", parse_percent)
             if duty is not None and not 0 < duty < 100:
                 problems["duty"] = "a duty cycle lies between 0 and 100 %"
@@ -381,7 +434,10 @@ class TargetForm(QWidget):
         """Switch to a band of ±``share`` (fraction) around ``centre_hz`` [Hz] to trim."""
         from core.units import format_frequency
 
-        self.circuit.setCurrentIndex(self.circuit.findData("schmitt"))
+        if not self.band_offered():
+            trimmable = [c.name for c in self._circuits.values() if c.trimmable]
+            if trimmable:
+                self.circuit.setCurrentIndex(self.circuit.findData(trimmable[0]))
         self.mode.setCurrentIndex(self.mode.findData("band"))
         self.target.setText(f"{format_frequency(centre_hz * (1 - share))}.."
                             f"{format_frequency(centre_hz * (1 + share))}")

@@ -137,4 +137,5 @@ ASTABLE = Astable555(name="555", title="555 timer",
                      default_family="NE555", steerable=True, oscillator="555 astable",
                      short="555 astable",
                      threshold_words="comparators at {plus:.2f} V and {minus:.2f} V",
+                     threshold_names=("threshold", "trigger"),
                      pins=PINS, layout_notes=LAYOUT_NOTES)

@@ -55,6 +55,8 @@ class Circuit(ABC):
     pin hookup (package role, pin name, what it connects to), and
     ``layout_notes``, what a builder should know about the layout, and
     ``measure_note``, where to measure (when no adjustment procedure says it).
+    ``threshold_names``: the trade's words for the upper and lower switching levels (plot
+    labels; the first alone where ``one_threshold``).
     ``one_threshold``: the circuit switches at one voltage (``--threshold``), carried
     as VT+ = VT-. ``unready``: the commands that do not handle the circuit yet
     (``search``, ``a build sheet``, ``the netlist``, ``calibration``; predict always
@@ -77,6 +79,7 @@ class Circuit(ABC):
     oscillator: str = ""
     short: str = ""
     threshold_words: str = ""
+    threshold_names: tuple[str, str] = ("VT+", "VT−")
     pins: tuple[tuple[str, str, str], ...] = ()
     layout_notes: tuple[str, ...] = ()
     measure_note: str = ""

@@ -134,6 +134,7 @@ CMOS_ASTABLE = CmosAstable(name="cmos-astable", title="two-inverter CMOS astable
                            default_family="CD4069UB",
                            oscillator="two-inverter CMOS astable", short="CMOS astable",
                            threshold_words="switching voltage {plus:.2f} V ({source})",
+                           threshold_names=("switching voltage", ""),
                            pins=PINS, layout_notes=LAYOUT_NOTES, one_threshold=True,
                            unready=("search", "calibration"), reversing_c=True,
                            measure_note="Measure at OUT (the second inverter's output), "

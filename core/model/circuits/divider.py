@@ -79,6 +79,7 @@ DIVIDER = Divider(name="divider", title="oscillator and binary counter",
                   default_family="CD4060B", oscillator="RC oscillator and binary counter",
                   short="divided oscillator",
                   threshold_words="switching voltage {plus:.2f} V ({source})",
+                  threshold_names=("switching voltage", ""),
                   pins=PINS, layout_notes=("Keep RS right at φI (pin 11) and the timing node "
                                            "small: the node swings beyond the supply rails.",),
                   one_threshold=True, unready=("search", "calibration"), reversing_c=True,

@@ -1,0 +1,90 @@
+"""The circuit picker is generic over core's circuits; the form and plots ask the circuit."""
+
+from __future__ import annotations
+
+from dataclasses import replace
+
+import pytest
+from support.gui_helpers import QUIET_OFFSCREEN, search_with
+
+from core.model.circuits import CIRCUITS
+from core.model.circuits.astable import ASTABLE
+
+pytest_plugins = ["support.gui_helpers"]  # fixtures: private_settings, answers, make_window, window
+pytestmark = [QUIET_OFFSCREEN, pytest.mark.usefixtures("private_settings")]
+
+
+def offered(form) -> list[str]:
+    return [form.circuit.itemData(i) for i in range(form.circuit.count())]
+
+
+def test_every_searchable_circuit_is_offered_and_no_other(window):
+    assert offered(window.form) == [c.name for c in CIRCUITS.values() if "search" not in c.unready]
+
+
+def test_a_new_circuit_appears_with_no_gui_edit(qtbot):
+    from gui.target_form import TargetForm
+
+    form = TargetForm()
+    qtbot.addWidget(form)
+    made_up = replace(ASTABLE, name="made-up", short="made-up astable", unready=())
+    hidden = replace(ASTABLE, name="not-yet", short="not searched yet",
+                     unready=("search",))
+    form.offer_circuits([*CIRCUITS.values(), made_up, hidden])
+    assert "made-up" in offered(form) and "not-yet" not in offered(form)
+    form.circuit.setCurrentIndex(form.circuit.findData("made-up"))
+    assert form.circuit.currentText() == "made-up astable"
+    # A steerable circuit takes a duty; this one names no pot, so no band.
+    assert form.duty.isEnabled() and not form.band_offered()
+
+
+def test_duty_and_band_follow_the_circuit(qtbot, window):
+    form = window.form
+    band = form.mode.model().item(form.mode.findData("band"))
+    for circuit in (c for c in CIRCUITS.values() if "search" not in c.unready):
+        form.circuit.setCurrentIndex(form.circuit.findData(circuit.name))
+        steers = circuit.steerable or circuit.steered_variant is not None
+        assert form.duty.isEnabled() == steers, circuit.name
+        assert band.isEnabled() == bool(circuit.trimmable), circuit.name
+
+
+def test_a_band_for_a_circuit_without_a_pot_is_refused_by_name(qtbot, window):
+    form = window.form
+    search_with(qtbot, window, mode="band", target="900..1100")
+    no_pot = [c for c in CIRCUITS.values() if "search" not in c.unready and not c.trimmable]
+    if not no_pot:
+        pytest.skip("every circuit searched has a trim")
+    form.circuit.setCurrentIndex(form.circuit.findData(no_pot[0].name))
+    assert form.target_value() is None
+    assert no_pot[0].title in form.message.text()
+
+
+def test_threshold_labels_are_the_circuits_words(qtbot, window):
+    # NE555 data sheet: the comparator inputs are pins 6 THRESHOLD and 2 TRIGGER; a
+    # Schmitt input's levels are VT+ and VT− (74HC14 data sheet).
+    for name in ("555", "schmitt"):  # the window starts on the Schmitt
+        search_with(qtbot, window, circuit=name)
+        qtbot.waitUntil(lambda: window.plots is not None, timeout=10_000)
+        osc = window.current_oscillator()
+        upper, lower = osc.circuit.threshold_names
+        assert upper in window.plots.vt_plus_line.label.toPlainText()
+        assert lower in window.plots.vt_minus_line.label.toPlainText()
+        assert f"{osc.vt_plus_v:.2f} V" in window.plots.vt_plus_line.label.toPlainText()
+
+
+def test_one_switching_voltage_is_one_labelled_line(qtbot):
+    import numpy as np
+
+    from core.model.circuits.cmos_astable import CMOS_ASTABLE
+    from gui.plots import PlotPanel
+
+    panel = PlotPanel()
+    qtbot.addWidget(panel)
+    for _ in panel.build_steps():
+        pass
+    t = np.linspace(0.0, 1e-3, 50)
+    panel.show_waveform(t, 2.5 + np.sin(t * 1e4), 5.0 * (np.sin(t * 1e4) > 0), 2.5, 2.5,
+                        CMOS_ASTABLE, "test")
+    assert CMOS_ASTABLE.one_threshold
+    assert panel.vt_plus_line.label.toPlainText() == "switching voltage 2.50 V"
+    assert not panel.vt_minus_line.isVisible()
