@@ -257,3 +257,69 @@ def test_uncertainty_is_saved_and_an_older_file_reads_as_unknown():
         del data[key]
     path.write_text(json.dumps(data), encoding="utf-8")
     assert load_calibration("sure").uncertainty_pct == 0.0
+
+
+# ---------------------------------------------------------------- one switching voltage
+
+def _textbook_ring(vth: float, v: float, r: float, c: float) -> tuple[float, float]:
+    """(t_high, t_low) [s] of the two-inverter astable with the input clamps isolated and
+    an ideal chip (textbook; the CD4069UB / CD4060B data sheets' RC-oscillator note):
+    OUT high while the node falls from V + Vth to Vth, low while it rises from Vth − V."""
+    return r * c * math.log((v + vth) / vth), r * c * math.log((2 * v - vth) / (v - vth))
+
+
+def test_cmos_astable_calibration_fits_the_switching_voltage():
+    # The one parameter fitted is the switching voltage; a frequency and duty made by the
+    # textbook formula at Vth = 3.5 V give it back (RS so large the clamps never act).
+    osc = make_oscillator("cmos-astable", "CD4069UB", 10.0).idealised()
+    values = {"R": 100e3, "RS": 1e12, "C": 10e-9}
+    t_high, t_low = _textbook_ring(3.5, 10.0, 100e3, 10e-9)
+    cal = calibrate(osc, values, 1 / (t_high + t_low), 100 * t_high / (t_high + t_low))
+    assert cal.mode == "switching"
+    assert cal.vt_plus_v == cal.vt_minus_v == pytest.approx(3.5, abs=1e-6)
+    assert not any("fits these readings as well" in w for w in cal.warnings)
+
+
+def test_frequency_alone_leaves_two_switching_voltages_and_says_so():
+    # Textbook period is symmetric about mid-supply: Vth and V − Vth give the same period
+    # (swap the two logarithms above), so a frequency alone cannot tell them apart.
+    osc = make_oscillator("cmos-astable", "CD4069UB", 10.0).idealised()
+    values = {"R": 100e3, "RS": 1e12, "C": 10e-9}
+    assert sum(_textbook_ring(3.0, 10.0, 1, 1)) == pytest.approx(sum(_textbook_ring(
+        7.0, 10.0, 1, 1)))
+    cal = calibrate(osc, values, 1 / sum(_textbook_ring(3.0, 10.0, 100e3, 10e-9)))
+    assert min(abs(cal.vt_plus_v - 3.0), abs(cal.vt_plus_v - 7.0)) < 1e-4
+    twin = 10.0 - cal.vt_plus_v
+    assert any(f"{twin:.3g} V fits these readings as well" in w for w in cal.warnings)
+
+
+def test_divider_calibrates_from_its_divided_output():
+    # Read at Q10 (÷1024, TI CD4060B data sheet): the fit works on the oscillator behind
+    # the counter; a duty reading is refused (the counter's output is always 50 %).
+    from core.model.circuits.divider import with_divide_by
+    osc = with_divide_by(make_oscillator("divider", "CD4060B", 9.0), 1024)
+    values = {"R": 220e3, "RS": 1e6, "C": 470e-9}
+    truth = float(frequency(osc.with_thresholds(5.9, 5.9), values))
+    cal = calibrate(osc, values, truth)
+    # The table's typical value is mid-supply (4.5 V): the two answers are about as near,
+    # and the lower is kept (the near-mirror of 5.9 V about the fastest point).
+    assert cal.vt_plus_v < 4.5 and any("5.9 V fits" in w for w in cal.warnings)
+    assert float(frequency(osc.with_thresholds(cal.vt_plus_v, cal.vt_plus_v), values)) == \
+        pytest.approx(truth, rel=1e-9)
+    with pytest.raises(InputError, match="50 %"):
+        calibrate(osc, values, truth, 50.0)
+
+
+def test_switching_calibration_round_trips_through_the_command_line(capsys):
+    from core.cli import main
+    base = ["--circuit", "cmos-astable", "--family", "CD4069UB", "--supply", "10V",
+            "--r", "100k", "--rs", "470k", "--c", "10n", "--json"]
+    assert main(["predict", *base, "--threshold", "4V"]) == 0
+    made = json.loads(capsys.readouterr().out)
+    assert main(["calibrate", *base, "--measured", f"{made['frequency_hz']}Hz", "--duty",
+                 f"{made['duty_pct']}", "--save", "ring"]) == 0
+    cal = json.loads(capsys.readouterr().out)
+    assert cal["mode"] == "switching" and cal["vt_plus_v"] == pytest.approx(4.0, abs=1e-3)
+    assert main(["predict", *base, "--calibration", "ring"]) == 0
+    used = json.loads(capsys.readouterr().out)
+    assert used["frequency_hz"] == pytest.approx(made["frequency_hz"], rel=1e-6)

@@ -167,12 +167,19 @@ def _describe_values(values: dict[str, float]) -> str:
 
 # ---------------------------------------------------------------- predict
 
+def _counted(osc: Oscillator, args: argparse.Namespace, needed: bool) -> Oscillator:
+    """The oscillator with its counter stage (``--divide-by``), where it has a counter."""
+    if args.divide_by is not None and osc.circuit is not DIVIDER:
+        raise InputError("--divide-by N goes with --circuit divider")
+    if args.divide_by is None:
+        if needed and osc.circuit is DIVIDER:
+            raise InputError("--circuit divider needs --divide-by N (the counter stage)")
+        return osc
+    return with_divide_by(osc, args.divide_by)
+
+
 def run_predict(args: argparse.Namespace) -> int:
-    osc = _wired(oscillator_from_args(args), args)
-    if (args.divide_by is not None) != (osc.circuit is DIVIDER):
-        raise InputError("--divide-by N goes with --circuit divider (and it needs one)")
-    if args.divide_by is not None:
-        osc = with_divide_by(osc, args.divide_by)
+    osc = _counted(_wired(oscillator_from_args(args), args), args, needed=True)
     values = _values(osc, args)
     tolerances = default_tolerances(osc, args.dielectric)
     if args.r_tolerance is not None:
@@ -283,7 +290,7 @@ def _measurement_rows(path: str) -> Iterator[tuple[int, dict[str, str]]]:
         raise TickbinError(f"{path}:{reader.line_num}: CSV: {e}") from None
 
 
-def _read_measurements(path: str, osc: Oscillator) -> list[Measurement]:
+def _read_measurements(path: str, osc: Oscillator, steered: bool) -> list[Measurement]:
     keys = tuple(k.lower() for k in osc.circuit.keys)
     out = []
     for line, row in _measurement_rows(path):
@@ -295,7 +302,7 @@ def _read_measurements(path: str, osc: Oscillator) -> list[Measurement]:
                                   else parse_resistance(row[k])) for k in keys}
             duty = (parse_percent(row["duty"], allow_zero=False, what="duty cycle")
                     if row.get("duty") else None)
-            out.append(Measurement(values, parse_frequency(row["frequency"]), duty))
+            out.append(Measurement(values, parse_frequency(row["frequency"]), duty, steered))
         except InputError as e:
             raise TickbinError(f"{path}:{line}: {e}") from None
     if not out:
@@ -307,16 +314,17 @@ def run_calibrate(args: argparse.Namespace) -> int:
     if args.list:
         return emit(args, {"calibrations": list_calibrations()},
                     lambda r: "\n".join(r["calibrations"]) or "no calibrations saved")
-    osc = oscillator_from_args(args)
+    # A divider read without --divide-by is read at the oscillator pin (φO, 10).
+    osc = _counted(_wired(oscillator_from_args(args), args), args, needed=False)
+    steered = bool(args.diode_steered) or osc.circuit.always_steered
     if args.measurements:
         if args.measured is not None:
             raise InputError("give --measured or --measurements, not both")
-        measurements = _read_measurements(args.measurements, osc)
+        measurements = _read_measurements(args.measurements, osc, steered)
     else:
         if args.measured is None:
             raise InputError("calibrate needs --measured FREQ (and optionally --duty PCT)")
-        measurements = [Measurement(_values(osc, args), args.measured, args.duty,
-                                    args.diode_steered)]
+        measurements = [Measurement(_values(osc, args), args.measured, args.duty, steered)]
     tolerances = {k: t for k, t in (("R", args.r_tolerance), ("C", args.c_tolerance))
                   if t is not None}
     cal = fit(osc, measurements, name=args.save, tolerances=tolerances)
@@ -338,19 +346,22 @@ def _calibration_json(cal: Calibration, saved: str | None) -> dict[str, Any]:
                         "duty_points": DUTY_READING_POINTS}}
 
 
+_HOW = {"both": "both thresholds solved from frequency and duty",
+        "ratio": "the table's VT+/VT- ratio kept, both scaled",
+        "switching": "the one switching voltage solved"}
+
+
 def _calibrate_text(r: dict[str, Any]) -> str:
-    how = ("both thresholds solved from frequency and duty" if r["mode"] == "both"
-           else "the table's VT+/VT- ratio kept, both scaled")
     sigma = r["parameter_sigma"]
     tol = ", ".join(f"{k} ±{t[1]:g} %" if t[0] == t[1] else f"{k} +{t[1]:g}/-{t[0]:g} %"
                     for k, t in r["tolerances"].items())
+    levels = ([("Vsw", "vt_plus")] if r["mode"] == "switching"
+              else [("VT+", "vt_plus"), ("VT-", "vt_minus")])
     rows = [
         f"{r['family']} at {r['supply_v']:g} V, {r['measurements']} measurement"
-        f"{'s' if r['measurements'] != 1 else ''} ({how})",
-        f"  VT+   {r['vt_plus_v']:.3f} ± {sigma['vt_plus_v']:.3f} V   "
-        f"(table {r['table_vt_plus_v']:.3f} V)",
-        f"  VT-   {r['vt_minus_v']:.3f} ± {sigma['vt_minus_v']:.3f} V   "
-        f"(table {r['table_vt_minus_v']:.3f} V)",
+        f"{'s' if r['measurements'] != 1 else ''} ({_HOW[r['mode']]})",
+        *(f"  {label:<5} {r[key + '_v']:.3f} ± {sigma[key + '_v']:.3f} V   "
+          f"(table {r['table_' + key + '_v']:.3f} V)" for label, key in levels),
         f"  scale {r['scale']:.4f}   (measured ÷ table-model frequency)",
         f"  uncertainty ±{r['uncertainty_pct']:.1f} % (1 sigma), at most "
         f"±{r['worst_case_pct']:.1f} %, in any frequency predicted with it",

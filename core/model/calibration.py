@@ -2,7 +2,11 @@
 
 One measurement of a known R and C (frequency, optionally duty) fixes the
 thresholds: with the duty both are solved (two equations, two unknowns);
-without it the table's VT+/VT- ratio is kept and both are scaled together.
+without it the table's VT+/VT- ratio is kept and both are scaled together. A
+circuit with one switching voltage (the two-inverter astable, the divider) has
+that one voltage fitted; its period is nearly symmetric about mid-supply, so a
+frequency alone leaves two answers (the fit keeps the one on the table's side
+and says so), and a duty reading at the astable's output settles it.
 Several measurements are fitted by least squares on the logarithms of the
 measured times (t_high and t_low where the duty is known, else the period).
 
@@ -208,9 +212,11 @@ def fit(osc: Oscillator, measurements: Sequence[Measurement], name: str | None =
     """Thresholds that best reproduce ``measurements`` on ``osc``'s chip and supply.
 
     Both thresholds are fitted when any measurement has a duty, else the
-    oscillator's VT+/VT- ratio is kept. ``tolerances`` of the calibration parts
-    by letter (``R``, ``C``; default the drawer's defaults: R ±5 %, C ±20 %) set
-    how sure the result is. Raises SetupError when no thresholds between the
+    oscillator's VT+/VT- ratio is kept; a one-threshold circuit (cmos-astable,
+    divider) has its one switching voltage fitted (the ``switching`` mode; a
+    divider's readings are taken at its output, ``osc.divide_by``). ``tolerances``
+    of the calibration parts by letter (``R``, ``C``; default the drawer's defaults:
+    R ±5 %, C ±20 %) set how sure the result is. Raises SetupError when no thresholds between the
     output levels come close (the parts or reading are likely wrong).
     """
     osc.circuit.require_designed("calibration")
@@ -224,24 +230,26 @@ def fit(osc: Oscillator, measurements: Sequence[Measurement], name: str | None =
                       m.diode_steered) for m in measurements]
     a0, b0 = osc.vt_plus_v, osc.vt_minus_v
     d = osc.device
-    both = any(m.duty_pct is not None for m in ms)
-
-    def feasible(a: float, b: float) -> bool:
-        return d.vol_v < b < a < d.voh_v
+    mode = _mode(osc, ms)
 
     def thresholds(p: np.ndarray) -> tuple[float, float]:
-        return (float(p[0]), float(p[1])) if both else (float(p[0]) * a0, float(p[0]) * b0)
+        if mode == "switching":
+            return float(p[0]), float(p[0])
+        return (float(p[0]), float(p[1])) if mode == "both" else (float(p[0]) * a0,
+                                                                 float(p[0]) * b0)
 
     def fun(p: np.ndarray, readings: Sequence[Measurement] = ms) -> np.ndarray:
         a, b = thresholds(p)
-        if not feasible(a, b):
+        if not (d.vol_v < b <= a < d.voh_v and (a > b or mode == "switching")):
             return _no_fit(readings)
         return _residuals(osc, readings, a, b)
 
-    p_fit = _least_squares(fun, np.array([a0, b0]) if both else np.array([1.0]))
+    starts = (_switching_starts(fun, d.vol_v, d.voh_v, a0,
+                                twins=all(m.duty_pct is None for m in ms))
+              if mode == "switching" else [[a0, b0]] if mode == "both" else [[1.0]])
+    p_fit = _least_squares(fun, np.array(starts[0]))
     a, b = thresholds(p_fit)
-    r = _residuals(osc, ms, a, b)
-    residual_pct = 100 * math.sqrt(float(np.mean(r**2))) if np.all(np.isfinite(r)) else math.inf
+    residual_pct = _misfit_pct(_residuals(osc, ms, a, b))
     if not residual_pct < 1.0 and len(ms) == 1:
         m = ms[0]
         duty = "" if m.duty_pct is None else f" at {m.duty_pct:g} % duty"
@@ -253,15 +261,21 @@ def fit(osc: Oscillator, measurements: Sequence[Measurement], name: str | None =
     table = [float(frequency(osc, m.values, m.diode_steered, a0, b0)) for m in ms]
     scale = math.exp(float(np.mean([math.log(m.frequency_hz / f) for m, f in zip(ms, table,
                                                                                strict=True)])))
-    warnings = []
-    for label, v, (lo, _, hi) in (("VT+", a, d.vt_plus), ("VT-", b, d.vt_minus)):
-        if not lo <= v <= hi:
-            warnings.append(f"the fitted {label} ({v:.3g} V) lies outside the data sheet's "
-                            f"{lo:.3g} … {hi:.3g} V: check the part values, the supply and "
-                            "the reading")
+    warnings = _outside_table(osc, a, b)
     if len(ms) > 1 and residual_pct > 2.0:
         warnings.append(f"the measurements disagree with one another by {residual_pct:.1f} % "
                         "rms after fitting; one reading or part value may be off")
+    if len(starts) > 1:
+        twin = float(_least_squares(fun, np.array(starts[1]))[0])
+        if abs(twin - a) > 0.01 * d.supply_v and _misfit_pct(fun(np.array([twin]))) < 1.0:
+            warnings.append(f"a switching voltage of {twin:.3g} V fits these readings as well "
+                            f"as {a:.3g} V (the period is about the same either side of the "
+                            "middle of the supply); "
+                            + ("the one nearer the table's typical value is kept"
+                               if abs(abs(twin - a0) - abs(a - a0)) > 0.01 * d.supply_v else
+                               "the table's typical value lies between them: the lower is kept")
+                            + ("" if osc.divide_by > 1 else
+                               ". A duty reading at the output settles which"))
     tol = {"R": DEFAULT_TOLERANCE["R"], "C": DIELECTRIC_TOLERANCE[""]}
     tol.update(tolerances or {})
     spread = _propagate(osc, ms, p_fit, fun, thresholds, tol)
@@ -272,7 +286,7 @@ def fit(osc: Oscillator, measurements: Sequence[Measurement], name: str | None =
                         f"(1 sigma); {ADVICE}")
     return Calibration(name=name, family=d.family.name, circuit=osc.circuit.name,
                        supply_v=d.supply_v, vt_plus_v=float(a), vt_minus_v=float(b),
-                       scale=scale, mode="both" if both else "ratio",
+                       scale=scale, mode=mode,
                        residual_pct=residual_pct, table_vt_plus_v=a0, table_vt_minus_v=b0,
                        measurements=tuple(ms),
                        created=datetime.now(UTC).isoformat(timespec="seconds"),
@@ -282,6 +296,59 @@ def fit(osc: Oscillator, measurements: Sequence[Measurement], name: str | None =
                        worst_case_pct=100 * sum(spread.terms),
                        error_terms_pct=tuple(100 * t for t in spread.terms),
                        vt_plus_sigma_v=spread.vt_sigma_v[0], vt_minus_sigma_v=spread.vt_sigma_v[1])
+
+
+def _mode(osc: Oscillator, ms: Sequence[Measurement]) -> str:
+    """What the fit solves: the one ``switching`` voltage (a one-threshold circuit), ``both``
+    thresholds (a duty was read), or one factor on the table's pair keeping its ``ratio``."""
+    if osc.circuit.one_threshold:
+        if osc.divide_by > 1 and any(m.duty_pct is not None for m in ms):
+            raise InputError("the counter's output is a 50 % square wave whatever the "
+                             "switching voltage: calibrate from the frequency alone")
+        return "switching"
+    return "both" if any(m.duty_pct is not None for m in ms) else "ratio"
+
+
+SWITCHING_GRID = 64
+"""Switching voltages tried between the output levels before the fit refines the best:
+the period is flat at mid-supply, where a gradient step from the table's typical value
+(often exactly there) would not move."""
+
+
+def _switching_starts(fun: Callable[[np.ndarray], np.ndarray], low: float, high: float,
+                      typ: float, twins: bool) -> list[list[float]]:
+    """Starting points for the one switching voltage [V] from a grid between the output
+    levels: the best one; with ``twins`` (frequencies only: the period is about the same
+    either side of its shortest point) the best on each side of that point, the table's
+    side (``typ``) first."""
+    import numpy as np  # loaded on first fit: listing calibrations needs none
+    grid = np.linspace(low, high, SWITCHING_GRID + 2)[1:-1]
+    rs = [fun(np.array([v])) for v in grid]
+    cost = np.array([float(r @ r) for r in rs])
+    if not twins:
+        return [[float(grid[int(np.argmin(cost))])]]
+    # Frequency-only misfits are log(model period / measured): least where it is shortest.
+    split = grid[int(np.argmin([float(np.sum(r)) for r in rs]))]
+    best = [float(grid[side][np.argmin(cost[side])]) for side in (grid <= split, grid > split)
+            if np.any(side & np.isfinite(cost))]
+    # Nearer the table's typical value first; where both are about as near, the lower.
+    return [[v] for v in sorted(best, key=lambda v: (round(abs(v - typ) / (high - low), 2), v))]
+
+
+def _misfit_pct(r: np.ndarray) -> float:
+    """The rms of the log misfits [%]; inf where some reading is out of reach."""
+    import numpy as np  # loaded on first fit: listing calibrations needs none
+    return 100 * math.sqrt(float(np.mean(r**2))) if np.all(np.isfinite(r)) else math.inf
+
+
+def _outside_table(osc: Oscillator, a: float, b: float) -> list[str]:
+    """A warning per fitted threshold [V] outside the data sheet's min … max."""
+    d = osc.device
+    pairs = ((("switching voltage", a, d.vt_plus),) if osc.circuit.one_threshold
+             else (("VT+", a, d.vt_plus), ("VT-", b, d.vt_minus)))
+    return [f"the fitted {label} ({v:.3g} V) lies outside the data sheet's {lo:.3g} … "
+            f"{hi:.3g} V: check the part values, the supply and the reading"
+            for label, v, (lo, _, hi) in pairs if not lo <= v <= hi]
 
 
 class _Spread(NamedTuple):

@@ -136,6 +136,6 @@ CMOS_ASTABLE = CmosAstable(name="cmos-astable", title="two-inverter CMOS astable
                            threshold_words="switching voltage {plus:.2f} V ({source})",
                            threshold_names=("switching voltage", ""),
                            pins=PINS, layout_notes=LAYOUT_NOTES, one_threshold=True,
-                           unready=("search", "calibration"), reversing_c=True,
+                           unready=("search",), reversing_c=True,
                            measure_note="Measure at OUT (the second inverter's output), "
                            "never with a probe on the timing node.")

@@ -82,5 +82,5 @@ DIVIDER = Divider(name="divider", title="oscillator and binary counter",
                   threshold_names=("switching voltage", ""),
                   pins=PINS, layout_notes=("Keep RS right at φI (pin 11) and the timing node "
                                            "small: the node swings beyond the supply rails.",),
-                  one_threshold=True, unready=("search", "calibration"), reversing_c=True,
+                  one_threshold=True, unready=("search",), reversing_c=True,
                   measure_note="Measure at the chosen Q output.")
