@@ -170,8 +170,9 @@ def test_schmitt_schematic_wires_each_network_as_the_candidate(r, c, pot):
 @given(ra=_tree("R"), rb=_tree("R"), c=_tree("C"), diode=st.booleans())
 def test_555_schematic_wires_each_network_as_the_candidate(ra, rb, c, diode):
     pins = dict(gnd="1", trig="2", out="3", reset="4", ctrl="5", thr="6", dis="7", vcc="8")
-    drawing = sch.astable_schematic(*(sch.NetworkDrawing(n, role, _text)
-                                      for n, role in ((ra, "RA"), (rb, "RB"), (c, "C"))),
+    drawing = sch.astable_schematic([sch.NetworkDrawing(ra, "RA", _text)],
+                                    [sch.NetworkDrawing(rb, "RB", _text)],
+                                    sch.NetworkDrawing(c, "C", _text),
                                     pins=pins, chip="U1 NE555",
                                     supply_text="+9 V", decoupling_text="100 nF",
                                     control_text="10 nF", diode_text="1N4148" if diode else None)

@@ -33,10 +33,11 @@ import subprocess
 import tempfile
 import unicodedata
 from collections.abc import Iterator, Mapping
+from dataclasses import dataclass, field
 from pathlib import Path
 
 from core import __version__
-from core.design.design import Design
+from core.design.design import TRIMMED, Design
 from core.design.trim import start_rotation
 from core.errors import SetupError, TickbinError
 from core.model.circuits.divider import tap
@@ -191,7 +192,6 @@ def spice_netlist(osc: Oscillator, candidate: Design,
     """
     osc.circuit.require_designed("the netlist")
     trim = candidate.has_pot
-    networks = dict(candidate.networks)
     d = osc.device
     steered = candidate.diode_steered
     values, rotation, share = model_values(osc, candidate, rotation_pct)
@@ -212,11 +212,9 @@ def spice_netlist(osc: Oscillator, candidate: Design,
     if trim:
         head.append(f"* Pot at {rotation:.1f} % rotation ({candidate.taper} taper): "
                     f"{_num(share)} ohm in circuit. Edit RP1 to explore the range.")
-    counters: dict[str, int] = {}
-    names = _node_names()
     body = [f"Vsupply vdd 0 DC {_num(d.supply_v)}", "Vone one 0 DC 1"]
     timing, output_stage = ELEMENTS[osc.circuit.drawing_id]
-    body += timing(osc, networks, steered, share, counters, names, v_start)
+    body += timing(_Build(osc, candidate, share, v_start))
     output, v_mid = output_stage(osc)
     body += output
     if osc.divide_by > 1:
@@ -229,15 +227,50 @@ def spice_netlist(osc: Oscillator, candidate: Design,
     return "\n".join(spice_text(line) for line in lines) + "\n"
 
 
-def _grounded_c(osc: Oscillator, networks: dict[str, Network], counters: dict[str, int],
-                names: Iterator[str], v_start: float) -> list[str]:
+@dataclass
+class _Build:
+    """What a circuit's netlist elements are written from: the oscillator, the design
+    (its networks, diode steering and the pot's role), the pot's resistance in circuit
+    [Ω], the steady-state start [V], and the running part and node numbering."""
+
+    osc: Oscillator
+    design: Design
+    pot_ohm: float
+    v_start: float
+    counters: dict[str, int] = field(default_factory=dict)
+    names: Iterator[str] = field(default_factory=lambda: _node_names())
+
+    def net(self, role: str, a: str, b: str) -> list[str]:
+        """The role's network from node ``a`` to ``b`` (a trim design's pot after it where
+        it trims that role)."""
+        nets = [self.design.networks[role]]
+        if self.design.has_pot and role == trimmed_role(self.design):
+            nets.append(self.design.networks["P"])
+        ends = [a, *(next(self.names) for _ in nets[:-1]), b]
+        lines: list[str] = []
+        for n, x, y in zip(nets, ends, ends[1:], strict=False):
+            lines += _elements(n, x, y, self.counters, self.names, self.pot_ohm)
+        return lines
+
+    def pot_note(self, role: str) -> str:
+        return (", then the pot (wiper tied to one end)"
+                if self.design.has_pot and role == trimmed_role(self.design) else "")
+
+
+def trimmed_role(design: Design) -> str:
+    """The role a trim design's pot is in series with (RB on the 555, else R)."""
+    return "RB" if "RB" in design.networks else TRIMMED
+
+
+def _grounded_c(b: _Build) -> list[str]:
     """C (with input and stray capacitance) from the timing node to ground, the input's
     hysteresis switch on it, and the steady-state start."""
+    osc = b.osc
     d = osc.device
     upper, lower = osc.vt_plus_v, osc.vt_minus_v
     return [
         "* timing capacitor from the timing node to ground",
-        *_elements(networks["C"], "tn", "0", counters, names),
+        *b.net("C", "tn", "0"),
         f"Cnode tn 0 {_num(d.input_capacitance_f + osc.stray_capacitance_f)} ; input "
         f"{format_quantity(d.input_capacitance_f, 'capacitance')} + stray "
         f"{format_quantity(osc.stray_capacitance_f, 'capacitance')}",
@@ -247,74 +280,40 @@ def _grounded_c(osc: Oscillator, networks: dict[str, Network], counters: dict[st
         f".model hysteresis sw vt={_num((upper + lower) / 2)} vh={_num((upper - lower) / 2)} "
         "ron=1e-3 roff=1e12",
         "* start in the steady state: the output has just gone high",
-        f".ic v(tn)={_num(v_start)}",
+        f".ic v(tn)={_num(b.v_start)}",
     ]
 
 
-def _chain(networks: dict[str, Network], role: str) -> list[Network]:
-    """The role's network, then a trim design's pot where it sits in series with it."""
-    trimmed = "P" in networks and role == _trimmed_role(networks)
-    return [networks[role]] + ([networks["P"]] if trimmed else [])
-
-
-def _trimmed_role(networks: dict[str, Network]) -> str:
-    """The role a trim design's pot is in series with: RB on the 555, else R."""
-    return "RB" if "RB" in networks else "R"
-
-
-def _series(nets: list[Network], a: str, b: str, counters: dict[str, int],
-            names: Iterator[str], pot_ohm: float) -> list[str]:
-    """Networks in series from node ``a`` to node ``b``."""
-    ends = [a, *(next(names) for _ in nets[:-1]), b]
-    lines: list[str] = []
-    for net, x, y in zip(nets, ends, ends[1:], strict=False):
-        lines += _elements(net, x, y, counters, names, pot_ohm)
-    return lines
-
-
-def _astable_timing(osc: Oscillator, networks: dict[str, Network], steered: bool,
-                    pot_ohm: float, counters: dict[str, int], names: Iterator[str],
-                    v_start: float) -> list[str]:
-    """RA and RB (a trim design's pot after RB; the steering diode across them), C."""
-    body = ["* RA from the supply to DIS (pin 7)"]
-    body += _series(_chain(networks, "RA"), "vdd", "dis", counters, names, pot_ohm)
-    rb = _chain(networks, "RB")
-    body.append("* RB from DIS to THR/TRIG (pins 6 and 2)"
-                + (", then the pot (wiper tied to one end)" if len(rb) > 1 else ""))
-    body += _series(rb, "dis", "tn", counters, names, pot_ohm)
-    if steered:
-        diode = osc.steering_diode
+def _astable_timing(b: _Build) -> list[str]:
+    """RA and RB (a trim design's pot after the one it trims; the steering diode across
+    RB), C."""
+    body = [f"* RA from the supply to DIS (pin 7){b.pot_note('RA')}", *b.net("RA", "vdd", "dis"),
+            f"* RB from DIS to THR/TRIG (pins 6 and 2){b.pot_note('RB')}",
+            *b.net("RB", "dis", "tn")]
+    if b.design.diode_steered:
+        diode = b.osc.steering_diode
         body += [f"* steering diode ({diode.name}) across RB, anode at DIS; DC model "
                  "as in the timing model",
                  f"D1 dis tn {diode.name.lower()}", diode.spice_model()]
-    return body + _grounded_c(osc, networks, counters, names, v_start)
+    return body + _grounded_c(b)
 
 
-def _schmitt_timing(osc: Oscillator, networks: dict[str, Network], steered: bool,
-                    pot_ohm: float, counters: dict[str, int], names: Iterator[str],
-                    v_start: float) -> list[str]:
+def _schmitt_timing(b: _Build) -> list[str]:
     """R (then the pot, if the design has one) from the gate output to the timing node, C."""
-    r_nets = _chain(networks, "R")
-    body = ["* timing resistance from the gate output to the timing node"
-            + (", then the pot (wiper tied to one end)" if len(r_nets) > 1 else "")]
-    body += _series(r_nets, "out", "tn", counters, names, pot_ohm)
-    return body + _grounded_c(osc, networks, counters, names, v_start)
+    return [f"* timing resistance from the gate output to the timing node{b.pot_note('R')}",
+            *b.net("R", "out", "tn"), *_grounded_c(b)]
 
 
-def _steered_schmitt_timing(osc: Oscillator, networks: dict[str, Network], steered: bool,
-                            pot_ohm: float, counters: dict[str, int], names: Iterator[str],
-                            v_start: float) -> list[str]:
+def _steered_schmitt_timing(b: _Build) -> list[str]:
     """RH and a diode into the timing node, a diode and RL back out of it; C."""
-    diode = osc.steering_diode
-    body = ["* RH from the gate output, then D1 into the timing node (charges C while high)"]
-    body += _elements(networks["RH"], "out", "ach", counters, names, pot_ohm)
-    body += [f"D1 ach tn {diode.name.lower()}",
-             "* D2 out of the timing node, then RL to the gate output (discharges C while low)",
-             f"D2 tn kdis {diode.name.lower()}"]
-    body += _elements(networks["RL"], "kdis", "out", counters, names, pot_ohm)
-    body += [f"* steering diodes ({diode.name}): DC model as in the timing model",
-             diode.spice_model()]
-    return body + _grounded_c(osc, networks, counters, names, v_start)
+    diode = b.osc.steering_diode
+    return [
+        "* RH from the gate output, then D1 into the timing node (charges C while high)",
+        *b.net("RH", "out", "ach"), f"D1 ach tn {diode.name.lower()}",
+        "* D2 out of the timing node, then RL to the gate output (discharges C while low)",
+        f"D2 tn kdis {diode.name.lower()}", *b.net("RL", "kdis", "out"),
+        f"* steering diodes ({diode.name}): DC model as in the timing model",
+        diode.spice_model(), *_grounded_c(b)]
 
 
 CLAMP_EMISSION = 0.05
@@ -323,30 +322,26 @@ stays within a few tens of millivolts of the model's fixed ``input_clamp_v`` ove
 currents RS passes (the rest is a DC source in series)."""
 
 
-def _ring_timing(osc: Oscillator, networks: dict[str, Network], steered: bool,
-                 pot_ohm: float, counters: dict[str, int], names: Iterator[str],
-                 v_start: float) -> list[str]:
+def _ring_timing(b: _Build) -> list[str]:
     """R from the first output (o1) to the timing node, C from the second output (out) to
     it, RS on to the first input (in1) with its clamp diodes to the rails; the
     first inverter switches at the one switching voltage."""
+    osc = b.osc
     d = osc.device
     vd = osc.family.input_clamp_v
-    rs = networks["RS"].value
     # The clamp's fixed drop: a source plus a sharp diode at the typical clamp current.
-    i_clamp = 0.25 * d.supply_v / rs
+    i_clamp = 0.25 * d.supply_v / b.design.networks["RS"].value
     sharp = CLAMP_EMISSION * 0.025865 * math.log(i_clamp / 1e-14)
-    vth = osc.vt_plus_v
-    voh = d.voh_v
-    node = voh - v_start  # the model's capacitor voltage is V(OUT) - V(node)
+    node = d.voh_v - b.v_start  # the model's capacitor voltage is V(OUT) - V(node)
     return [
-        "* R from the first inverter's output to the timing node",
-        *_series(_chain(networks, "R"), "o1", "tn", counters, names, pot_ohm),
+        f"* R from the first inverter's output to the timing node{b.pot_note('R')}",
+        *b.net("R", "o1", "tn"),
         "* C from the second inverter's output (OUT) to the timing node",
-        *_elements(networks["C"], "out", "tn", counters, names),
+        *b.net("C", "out", "tn"),
         f"Cnode out tn {_num(d.input_capacitance_f + osc.stray_capacitance_f)} ; input + "
         "stray, beside C as the model lumps them",
         "* RS from the timing node to the first inverter's input",
-        *_elements(networks["RS"], "tn", "in1", counters, names),
+        *b.net("RS", "tn", "in1"),
         f"* input clamp diodes: {vd:g} V as the model (a source and a sharp diode)",
         f"Vchi chi vdd DC {_num(vd - sharp)}",
         "Dhi in1 chi clamp",
@@ -356,7 +351,7 @@ def _ring_timing(osc: Oscillator, networks: dict[str, Network], steered: bool,
         "* first inverter's input: switches at the switching voltage",
         "Sst one st in1 0 hysteresis",
         "Rst st 0 1e6",
-        f".model hysteresis sw vt={_num(vth)} vh=1e-3 ron=1e-3 roff=1e12",
+        f".model hysteresis sw vt={_num(osc.vt_plus_v)} vh=1e-3 ron=1e-3 roff=1e12",
         "* start in the steady state: OUT has just gone high, the node above the rail",
         f".ic v(tn)={_num(node)} v(in1)={_num(min(node, d.supply_v + vd))}",
     ]

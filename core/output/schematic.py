@@ -455,26 +455,34 @@ def _chip_pin(items: list[Item], outer: Point, inner: Point, number: str, name: 
                        v))  # type: ignore[arg-type]
 
 
-def astable_schematic(ra: NetworkDrawing, rb: NetworkDrawing, capacitor: NetworkDrawing, *,
-                      pins: dict[str, str], chip: str, supply_text: str, decoupling_text: str,
-                      control_text: str, diode_text: str | None) -> Schematic:
+def astable_schematic(ra: Sequence[NetworkDrawing], rb: Sequence[NetworkDrawing],
+                      capacitor: NetworkDrawing, *, pins: dict[str, str], chip: str,
+                      supply_text: str, decoupling_text: str, control_text: str,
+                      diode_text: str | None) -> Schematic:
     """555 astable: RA from the supply to DIS, RB from DIS to THR/TRIG, C to ground.
 
-    ``pins`` maps role (gnd, trig, out, reset, ctrl, thr, dis, vcc) to the pin
+    ``ra`` and ``rb`` are each a network, or a network and then a trim design's pot in
+    series. ``pins`` maps role (gnd, trig, out, reset, ctrl, thr, dis, vcc) to the pin
     number. With ``diode_text`` a steering diode (anode at DIS) bypasses RB while
     charging, so RA alone sets the high time.
     """
     sheet = Schematic()
     pen = _Pen(sheet, {})
-    kinds, values = _maps([ra, rb, capacitor])
+    kinds, values = _maps([*ra, *rb, capacitor])
     items = sheet.items
-    exts = [_extent(n.node, "v", kinds) for n in (ra, rb, capacitor)]
+    exts = [_extent(n.node, "v", kinds) for n in (*ra, *rb, capacitor)]
     reach = max(e.far for e in exts)
+
+    def column(nets: Sequence[NetworkDrawing], start: Point) -> Point:
+        for net in nets:
+            start = pen.network(net, start, "v", 1, kinds, values)
+        return start
+
     # Column: supply rail at y = 0, RA, DIS node, RB, THR node, C, ground.
     items.append(Supply((0.0, -1.5), supply_text))
     items.append(Wire(((0.0, -1.5), (0.0, 1.0))))
-    y_dis = pen.network(ra, (0.0, 1.0), "v", 1, kinds, values)[1]
-    y_thr = pen.network(rb, (0.0, y_dis), "v", 1, kinds, values)[1]
+    y_dis = column(ra, (0.0, 1.0))[1]
+    y_thr = column(rb, (0.0, y_dis))[1]
     c_end = pen.network(capacitor, (0.0, y_thr), "v", 1, kinds, values)
     items.append(Ground(c_end))
     items.append(Junction((0.0, y_dis)))

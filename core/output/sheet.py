@@ -31,6 +31,7 @@ from core.model.diode import SMALL_SIGNAL_DIODE
 from core.model.drift import Conditions, supply_hz, temperature_hz
 from core.model.spread import monte_carlo
 from core.model.timing import Oscillator, predict, waveform
+from core.output.netlist import trimmed_role
 from core.output.schematic import (
     DiodeDrawing,
     NetworkDrawing,
@@ -215,84 +216,84 @@ def _value_text(part: Part) -> str:
     return format_part_value(part.value, part.kind)
 
 
-def _drawings(networks: Mapping[str, Network], *roles: str) -> list[NetworkDrawing]:
-    return [NetworkDrawing(networks[role], role, _value_text) for role in roles]
+def _drawings(design: Design, *roles: str) -> list[NetworkDrawing]:
+    """Each role's network to draw, a trim design's pot after the role it trims."""
+    out = []
+    for role in roles:
+        out.append(NetworkDrawing(design.networks[role], role, _value_text))
+        if design.has_pot and role == trimmed_role(design):
+            out.append(NetworkDrawing(design.networks["P"], "P", _value_text))
+    return out
 
 
 def _pin_texts(osc: Oscillator) -> dict[str, str]:
     return {role: str(pin) for role, pin in osc.family.package.pins.items()}
 
 
-def _astable_drawing(osc: Oscillator, networks: Mapping[str, Network], supply_text: str,
-                     steered: bool) -> Schematic:
+def _astable_drawing(osc: Oscillator, design: Design, supply_text: str) -> Schematic:
     family = osc.family
     pins = family.package.pins
     roles = {"gnd": "gnd", "trig": "trigger", "out": "output", "reset": "reset",
              "ctrl": "control", "thr": "threshold", "dis": "discharge", "vcc": "vcc"}
     sheet = astable_schematic(
-        *_drawings(networks, "RA", "RB", "C"),
+        _drawings(design, "RA"), _drawings(design, "RB"), *_drawings(design, "C"),
         pins={role: str(pins[key]) for role, key in roles.items()},
         chip=f"U1 {family.name}", supply_text=supply_text,
         decoupling_text=format_capacitance(DECOUPLING_F),
         control_text=format_capacitance(CONTROL_F),
-        diode_text=STEERING_DIODE if steered else None)
-    if steered:
+        diode_text=STEERING_DIODE if design.diode_steered else None)
+    if design.diode_steered:
         sheet.hookup["D1"] = (f"anode to DIS ({pins['discharge']}), cathode to THR "
                               f"({pins['threshold']})")
     return sheet
 
 
 def _schmitt_gate(osc: Oscillator, feedback: list[list[NetworkDrawing | DiodeDrawing]],
-                  networks: Mapping[str, Network], supply_text: str) -> Schematic:
+                  design: Design, supply_text: str) -> Schematic:
     family = osc.family
     pins = family.package.pins
     return schmitt_schematic(
-        feedback, NetworkDrawing(networks["C"], "C", _value_text), gate_ref=f"U1a {family.name}",
+        feedback, *_drawings(design, "C"), gate_ref=f"U1a {family.name}",
         input_pin=str(pins["input"]), output_pin=str(pins["output"]),
         vcc_pin=str(pins["vcc"]), gnd_pin=str(pins["gnd"]), supply_text=supply_text,
         decoupling_text=format_capacitance(DECOUPLING_F),
         gate_note=f"NAND: pin {pins['tie_high']} to VCC" if "tie_high" in pins else "")
 
 
-def _schmitt_drawing(osc: Oscillator, networks: Mapping[str, Network], supply_text: str,
-                     steered: bool) -> Schematic:
+def _schmitt_drawing(osc: Oscillator, design: Design, supply_text: str) -> Schematic:
     """R (and a trim design's pot) from the output back to the input, C to ground."""
-    trimmed = [role for role in ("R", "P") if role in networks]
-    return _schmitt_gate(osc, [_drawings(networks, *trimmed)], networks, supply_text)
+    return _schmitt_gate(osc, [_drawings(design, "R")], design, supply_text)
 
 
-def _steered_schmitt_drawing(osc: Oscillator, networks: Mapping[str, Network],
-                             supply_text: str, steered: bool) -> Schematic:
+def _steered_schmitt_drawing(osc: Oscillator, design: Design, supply_text: str) -> Schematic:
     """D1 and RH (charging C while the output is high) above D2 and RL (discharging it)."""
     d1, d2 = (DiodeDrawing("D1", STEERING_DIODE, forward=False),
               DiodeDrawing("D2", STEERING_DIODE, forward=True))
-    sheet = _schmitt_gate(osc, [[d2, *_drawings(networks, "RL")],
-                                [d1, *_drawings(networks, "RH")]], networks, supply_text)
+    sheet = _schmitt_gate(osc, [[d2, *_drawings(design, "RL")], [d1, *_drawings(design, "RH")]],
+                          design, supply_text)
     node = osc.family.package.pins["input"]
     sheet.hookup.update({"D1": f"cathode to the timing node (pin {node}), anode to RH",
                          "D2": f"anode to the timing node (pin {node}), cathode to RL"})
     return sheet
 
 
-def _cmos_astable_drawing(osc: Oscillator, networks: Mapping[str, Network], supply_text: str,
-                          steered: bool) -> Schematic:
+def _cmos_astable_drawing(osc: Oscillator, design: Design, supply_text: str) -> Schematic:
     return cmos_astable_schematic(
-        *_drawings(networks, "R", "RS", "C"), pins=_pin_texts(osc),
+        *_drawings(design, "R", "RS", "C"), pins=_pin_texts(osc),
         chip=f"U1 {osc.family.name}", supply_text=supply_text,
         decoupling_text=format_capacitance(DECOUPLING_F))
 
 
-def _divider_drawing(osc: Oscillator, networks: Mapping[str, Network], supply_text: str,
-                     steered: bool) -> Schematic:
+def _divider_drawing(osc: Oscillator, design: Design, supply_text: str) -> Schematic:
     name = tap(osc.divide_by)
     pins = _pin_texts(osc)
     return divider_schematic(
-        *_drawings(networks, "R", "RS", "C"), pins={**pins, "tap": pins[name.lower()]},
+        *_drawings(design, "R", "RS", "C"), pins={**pins, "tap": pins[name.lower()]},
         chip=f"U1 {osc.family.name}", tap=name, supply_text=supply_text,
         decoupling_text=format_capacitance(DECOUPLING_F))
 
 
-DRAWINGS: dict[str, Callable[[Oscillator, Mapping[str, Network], str, bool], Schematic]] = {
+DRAWINGS: dict[str, Callable[[Oscillator, Design, str], Schematic]] = {
     "schmitt": _schmitt_drawing, "schmitt-steered": _steered_schmitt_drawing,
     "555": _astable_drawing, "cmos-astable": _cmos_astable_drawing,
     "divider": _divider_drawing}
@@ -362,7 +363,7 @@ def build_sheet(osc: Oscillator, candidate: Design, target: str, *,
     supply_text = format_quantity(supply, "voltage")
     networks: dict[str, Network] = dict(candidate.networks)
     steered = candidate.diode_steered
-    schematic = DRAWINGS[osc.circuit.drawing_id](osc, networks, f"+{supply_text}", steered)
+    schematic = DRAWINGS[osc.circuit.drawing_id](osc, candidate, f"+{supply_text}")
     rows, take = _parts_list(osc, schematic, networks, stock, steered)
 
     extra = {"diode_steered": True} if steered else {}
