@@ -95,20 +95,18 @@ class PlotPanel(QWidget):
         self._layout.setSpacing(8)
 
     def build_steps(self) -> Iterator[None]:
-        """Make the plots one at a time, then show each (its first paint is as slow as
-        making it); yields between steps, ends empty and ready."""
+        """Make the plots, one per step (yields between); ends empty and ready. The window
+        shows the panel once it is built, with a result already drawn into it, so each
+        plot is first painted once, with its data."""
         self._make_waveform()
-        yield
         self._layout.addWidget(self.waveform, 1)
         yield
         self._make_spread()
         self.right.addWidget(self.spread)
         self._make_drift()
-        yield
         self._layout.addWidget(self.tabs, 1)
         self._rotation_made = False  # made when a trim result first needs it
         self.clear()
-        yield  # painted before whatever comes next
 
     def _make_waveform(self) -> None:
         self.waveform = _plot("Capacitor and output", "waveform plot")

@@ -351,13 +351,24 @@ class SearchPresenter(QObject):
         from gui.plots import PlotPanel
 
         panel = PlotPanel()
-        self.plot_area.layout().addWidget(panel, 1)
         self._in_steps(panel.build_steps(), lambda: self._plots_built(panel))
 
     def _plots_built(self, panel: Any) -> None:
+        """Show the plots; a result already here is drawn into them first, so each plot is
+        painted once, with its data (not empty, then again after every step)."""
         self.plots = panel
-        if self.selected() is not None:
-            self._candidate_chosen()
+        candidate = self.selected()
+        if candidate is not None and self.outcome is not None:
+            self._drawing += 1
+            for _ in self._drawing_steps(self.outcome, candidate):
+                pass
+        self.plot_area.layout().addWidget(panel, 1)
+        if candidate is not None:
+            if self.plot_area.isVisible():
+                panel.show()  # (a layout shows a new child only later, by a queued call)
+                self.plot_area.layout().activate()
+                panel.repaint()  # now, so the result counts as shown once it is painted
+            self._plots_drawn()
 
     def _in_steps(self, steps: Any, done: Any, generation: int | None = None) -> None:
         """Run one step of ``steps`` now and the next after the window has painted.

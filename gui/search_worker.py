@@ -122,9 +122,9 @@ class _Signals(QObject):
 
 
 class _WarmUp(QRunnable):
-    """Import the search, plot and sheet modules off the window's thread, once the window
-    has painted (imports hold the interpreter; the plot widgets are made on the window's
-    thread)."""
+    """Import the search and plot modules off the window's thread, once the window has
+    painted (imports hold the interpreter; the plot widgets are made on the window's
+    thread). The sheet's renderer waits for its first use: the first result comes first."""
 
     def __init__(self, signals: _Signals):
         super().__init__()
@@ -133,7 +133,7 @@ class _WarmUp(QRunnable):
     def run(self) -> None:
         from core.design import search, trim  # noqa: F401 - imported for later
         from core.model import spread, timing  # noqa: F401
-        from gui import plots, sheet_render  # noqa: F401 - pyqtgraph's import is the slow part
+        from gui import plots  # noqa: F401 - pyqtgraph's import is the slow part
 
         self.signals.ready.emit()
 
