@@ -22,6 +22,7 @@ from core.model.calibration import (
     check_name,
     fit,
     list_calibrations,
+    measurement_from_cells,
     save_calibration,
 )
 from core.model.circuits import CIRCUITS
@@ -35,10 +36,6 @@ from core.units import (
     Tolerance,
     format_part_value,
     format_quantity,
-    parse_capacitance,
-    parse_frequency,
-    parse_percent,
-    parse_resistance,
     parse_tolerance,
 )
 
@@ -291,18 +288,10 @@ def _measurement_rows(path: str) -> Iterator[tuple[int, dict[str, str]]]:
 
 
 def _read_measurements(path: str, osc: Oscillator, steered: bool) -> list[Measurement]:
-    keys = tuple(k.lower() for k in osc.circuit.keys)
     out = []
     for line, row in _measurement_rows(path):
         try:
-            missing = [k for k in (*keys, "frequency") if not row.get(k)]
-            if missing:
-                raise InputError(f"needs {', '.join(missing)}")
-            values = {k.upper(): (parse_capacitance(row[k]) if k == "c"
-                                  else parse_resistance(row[k])) for k in keys}
-            duty = (parse_percent(row["duty"], allow_zero=False, what="duty cycle")
-                    if row.get("duty") else None)
-            out.append(Measurement(values, parse_frequency(row["frequency"]), duty, steered))
+            out.append(measurement_from_cells(osc.circuit.keys, row, steered))
         except InputError as e:
             raise TickbinError(f"{path}:{line}: {e}") from None
     if not out:

@@ -534,3 +534,64 @@ def delete_calibration(name: str) -> None:
     if not path.exists():
         raise InputError("no such calibration", text=name, what="calibration")
     path.unlink()
+
+
+def rename_calibration(old: str, new: str) -> Path:
+    """Give a saved calibration another name; returns the new file.
+
+    Never loses a file: the new file is written whole (atomically) before the
+    old one is removed, so a failure at any moment leaves one or both. An
+    existing calibration is never replaced (InputError).
+    """
+    old_path, new_path = _path(old), _path(new)
+    if not old_path.exists():
+        raise InputError("no such calibration", text=old, what="calibration")
+    if new_path.exists() and not new_path.samefile(old_path):
+        raise InputError("a calibration by that name exists already; delete it first or "
+                         "choose another name", text=new, what="name")
+    written = save_calibration(load_calibration(old), new)
+    if not new_path.samefile(old_path):
+        try:
+            old_path.unlink()
+        except OSError as e:
+            raise TickbinError(f"{old_path}: saved as {new!r}, but the old file could not "
+                               f"be removed ({e.strerror or e}); both are kept") from None
+    return written
+
+
+# ---------------------------------------------------------------- bench readings as text
+
+READING_COLUMNS = ("frequency", "duty")
+"""The columns of a bench reading after the circuit's part keys (``r``, ``c`` …)."""
+
+
+def measurement_from_cells(keys: Sequence[str], cells: Mapping[str, str],
+                           diode_steered: bool = False) -> Measurement:
+    """One bench reading from text cells by lower-case column: the part keys' names
+    (``r``, ``c``; ``ra``, ``rb``, ``c``), ``frequency`` and optionally ``duty``.
+
+    ``calibrate --measurements`` and the window's table read alike; an InputError
+    names the column and the problem.
+    """
+    from core.units import parse_capacitance, parse_frequency, parse_percent, parse_resistance
+
+    names = tuple(k.lower() for k in keys)
+    missing = [k for k in (*names, "frequency") if not cells.get(k, "").strip()]
+    if missing:
+        raise InputError(f"needs {', '.join(missing)}")
+    values = {k.upper(): (parse_capacitance if k == "c" else parse_resistance)(cells[k])
+              for k in names}
+    duty = cells.get("duty", "").strip()
+    return Measurement(values, parse_frequency(cells["frequency"]),
+                       parse_percent(duty, allow_zero=False, what="duty cycle") if duty else None)
+
+
+def predicted_hz(osc: Oscillator, cal: Calibration) -> np.ndarray:
+    """The frequency [Hz] the calibration's thresholds predict for each of its measurements
+    (to set beside what was measured: the fit's residuals)."""
+    import numpy as np  # loaded on first fit: listing calibrations needs none
+
+    from core.model.circuits.base import frequency
+
+    return np.array([float(frequency(osc, m.values, m.diode_steered, cal.vt_plus_v,
+                                     cal.vt_minus_v)) for m in cal.measurements])
