@@ -24,6 +24,7 @@ from PySide6.QtWidgets import QLineEdit, QTabWidget, QVBoxLayout, QWidget
 
 from core.units import format_frequency
 from gui.background import LatestJob
+from gui.plots import ACCEPT, ACCEPT_EDGE, CAP, ENVELOPE, INK, cosmetic_pen, styled_plot
 
 DEFAULT_TEMPERATURE = "-20..70"
 """°C: a build in a case indoors, a shed or a car in spring (our choice; any range can be
@@ -71,10 +72,9 @@ class DriftPlots(QObject):
     sigDrawn = Signal(str)  # noqa: N815
     sigFailed = Signal(str)  # noqa: N815
 
-    def __init__(self, tabs: QTabWidget, plot_factory: Callable[[str, str], Any],
-                 colours: Mapping[str, Any], pen: Callable[..., Any]):
+    def __init__(self, tabs: QTabWidget):
         super().__init__(tabs)
-        self.tabs, self._make_plot, self._colours, self._pen = tabs, plot_factory, colours, pen
+        self.tabs = tabs
         self.subject: DriftSubject | None = None
         self.plots: dict[str, Any] = {}
         self.items: dict[str, dict[str, Any]] = {}
@@ -163,22 +163,21 @@ class DriftPlots(QObject):
     def _ensure_plot(self, kind: str) -> None:
         if kind in self.plots:
             return
-        c = self._colours
         title = ("Frequency against temperature" if kind == "temperature"
                  else "Frequency against supply")
-        plot = self._make_plot(title, f"frequency against {kind} plot")
+        plot = styled_plot(title, f"frequency against {kind} plot")
         plot.setLabel("bottom", "Temperature" if kind == "temperature" else "Supply",
                       units="°C" if kind == "temperature" else "V")
         plot.getAxis("bottom").enableAutoSIPrefix(False)
         plot.setLabel("left", "Frequency", units="Hz")
         region = pg.LinearRegionItem(orientation="horizontal", movable=False,
-                                     brush=pg.mkBrush(c["accept"]), pen=self._pen(c["edge"]))
-        target = pg.InfiniteLine(angle=0, pen=self._pen(c["ink"], width=1.5))
-        here = pg.InfiniteLine(angle=90, pen=self._pen(c["ink"], width=1,
-                                                       style=Qt.PenStyle.DashLine))
-        low = plot.plot(pen=self._pen(c["trace"], width=2))
-        high = plot.plot(pen=self._pen(c["trace"], width=2))
-        fill = pg.FillBetweenItem(low, high, brush=pg.mkBrush(c["envelope"]))
+                                     brush=pg.mkBrush(ACCEPT), pen=cosmetic_pen(ACCEPT_EDGE))
+        target = pg.InfiniteLine(angle=0, pen=cosmetic_pen(INK, width=1.5))
+        here = pg.InfiniteLine(angle=90, pen=cosmetic_pen(INK, width=1,
+                                                          style=Qt.PenStyle.DashLine))
+        low = plot.plot(pen=cosmetic_pen(CAP, width=2))
+        high = plot.plot(pen=cosmetic_pen(CAP, width=2))
+        fill = pg.FillBetweenItem(low, high, brush=pg.mkBrush(ENVELOPE))
         for item in (region, target, here, fill):
             plot.addItem(item)
         self.items[kind] = {"region": region, "target": target, "here": here, "low": low,
@@ -192,7 +191,7 @@ class DriftPlots(QObject):
             items[key].setData([], [])
         for key in ("region", "target", "here", "fill"):
             items[key].hide()
-        self.plots[kind].setTitle(why, color=self._colours["ink"].name(), size="10pt")
+        self.plots[kind].setTitle(why, color=INK.name(), size="10pt")
 
     def clear(self) -> None:
         """No candidate: empty drift plots (those made so far)."""
@@ -213,7 +212,7 @@ class DriftPlots(QObject):
         items["high"].setData(curve.x, curve.high_hz, connect="finite")
         items["fill"].setVisible(kind == "temperature")
         self._mark(kind, subject)
-        self.plots[kind].setTitle(self._title(kind, curve), color=self._colours["ink"].name(),
+        self.plots[kind].setTitle(self._title(kind, curve), color=INK.name(),
                                   size="10pt")
         self.plots[kind].getPlotItem().enableAutoRange()
         self.sigDrawn.emit(kind)

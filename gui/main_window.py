@@ -210,9 +210,9 @@ class MainWindow(QMainWindow):
 
         self.search_action = self._action("Search &now", self.run_search, std.Refresh,
                                           "Run the search without waiting")
-        self.calibrate_action = self._action("&Calibration from a measurement…",
-                                             self.new_calibration, None,
-                                             "Fit the thresholds to a frequency you measured")
+        self.calibrate_action = self._action("&Calibrations…", self.new_calibration, None,
+                                             "Fit the thresholds to frequencies you measured; "
+                                             "rename or delete saved calibrations")
         self.build_menu = self.menuBar().addMenu("&Build")
         self.build_menu.addAction(self.search_action)
         self.build_menu.addAction(self.calibrate_action)
@@ -422,8 +422,9 @@ class MainWindow(QMainWindow):
         from gui.calibration_dialog import CalibrationDialog
 
         dialog = CalibrationDialog(self, self.form.target_value(), self.selected_candidate())
-        if dialog.exec() and dialog.saved_name:
-            self.form.reload_calibrations(select=dialog.saved_name)
+        saved = dialog.exec() and dialog.saved_name
+        self.form.reload_calibrations(select=dialog.saved_name)  # renamed or deleted ones too
+        if saved:
             self.say(f"Calibration “{dialog.saved_name}” saved and selected: "
                      f"{dialog.fitted_text()}")
 

@@ -38,7 +38,7 @@ room for a label above or below the line: a 555's output high (about VCC − 1.7
 the traces, on their lines; a rail-to-rail output leaves room near the left."""
 
 
-def _pen(color: QColor, width: float = 1.0,
+def cosmetic_pen(color: QColor, width: float = 1.0,
          style: Qt.PenStyle = Qt.PenStyle.SolidLine) -> QPen:
     """A pen ``width`` logical pixels wide: pyqtgraph's pens are cosmetic (device pixels),
     so without this every line would look half as heavy on a 2× screen."""
@@ -47,7 +47,8 @@ def _pen(color: QColor, width: float = 1.0,
     return pg.mkPen(color, width=width * ratio, style=style)
 
 
-def _plot(title: str, accessible: str) -> pg.PlotWidget:
+def styled_plot(title: str, accessible: str) -> pg.PlotWidget:
+    """A plot in our look: white, light grid, our ink, no menu or buttons."""
     widget = pg.PlotWidget(background="w")
     widget.setAccessibleName(accessible)
     item = widget.getPlotItem()
@@ -58,8 +59,8 @@ def _plot(title: str, accessible: str) -> pg.PlotWidget:
     font.setPointSizeF(max(8.0, font.pointSizeF() * 0.9))
     for name in ("left", "bottom"):
         axis = item.getAxis(name)
-        axis.setPen(_pen(INK))
-        axis.setTextPen(_pen(INK))
+        axis.setPen(cosmetic_pen(INK))
+        axis.setTextPen(cosmetic_pen(INK))
         axis.setStyle(tickFont=font)
         axis.label.setFont(font)
         # Keep the drawn axis as a pixmap: a new trace then repaints without redrawing
@@ -109,12 +110,12 @@ class PlotPanel(QWidget):
         self.clear()
 
     def _make_waveform(self) -> None:
-        self.waveform = _plot("Capacitor and output", "waveform plot")
+        self.waveform = styled_plot("Capacitor and output", "waveform plot")
         self.waveform.setLabel("bottom", "Time", units="s")
         self.waveform.setLabel("left", "Voltage", units="V")
-        self.out_curve = self.waveform.plot(pen=_pen(OUT, width=1.6))
-        self.cap_curve = self.waveform.plot(pen=_pen(CAP, width=2.0))
-        dash = _pen(THRESHOLD, width=1.2, style=Qt.PenStyle.DashLine)
+        self.out_curve = self.waveform.plot(pen=cosmetic_pen(OUT, width=1.6))
+        self.cap_curve = self.waveform.plot(pen=cosmetic_pen(CAP, width=2.0))
+        dash = cosmetic_pen(THRESHOLD, width=1.2, style=Qt.PenStyle.DashLine)
         # Labels on a light backing so traces stay legible; texts (the circuit's words)
         # and places are set in show_waveform.
         backing = pg.mkBrush(255, 255, 255, 210)
@@ -126,18 +127,18 @@ class PlotPanel(QWidget):
             self.waveform.addItem(line)
 
     def _make_spread(self) -> None:
-        self.spread = _plot("Spread over part tolerances", "frequency spread plot")
+        self.spread = styled_plot("Spread over part tolerances", "frequency spread plot")
         self.spread.setLabel("bottom", "Frequency", units="Hz")
         self.spread.setLabel("left", "Share of builds", units="%")
         self.spread.getAxis("left").enableAutoSIPrefix(False)
         self.accept_region = pg.LinearRegionItem(movable=False, brush=pg.mkBrush(ACCEPT),
-                                                 pen=_pen(ACCEPT_EDGE))
+                                                 pen=cosmetic_pen(ACCEPT_EDGE))
         self.spread.addItem(self.accept_region)
         self.hist_curve = self.spread.plot(stepMode="center", fillLevel=0,
-                                           pen=_pen(CAP, width=1.2),
+                                           pen=cosmetic_pen(CAP, width=1.2),
                                            brush=pg.mkBrush(CAP.red(), CAP.green(),
                                                             CAP.blue(), 110))
-        self.target_line = pg.InfiniteLine(angle=90, pen=_pen(INK, width=1.5),
+        self.target_line = pg.InfiniteLine(angle=90, pen=cosmetic_pen(INK, width=1.5),
                                            label="target", labelOpts={"position": 0.95,
                                                                       "color": INK})
         self.spread.addItem(self.target_line)
@@ -145,30 +146,28 @@ class PlotPanel(QWidget):
     def _make_drift(self) -> None:
         from gui.drift_plots import DriftPlots
 
-        self.drift = DriftPlots(self.tabs, _plot, {
-            "ink": INK, "trace": CAP, "accept": ACCEPT, "edge": ACCEPT_EDGE,
-            "envelope": ENVELOPE}, _pen)
+        self.drift = DriftPlots(self.tabs)
 
     def _make_rotation(self) -> None:
         if self._rotation_made:
             return
         self._rotation_made = True
-        self.rotation = _plot("Frequency against rotation", "trimmer rotation plot")
+        self.rotation = styled_plot("Frequency against rotation", "trimmer rotation plot")
         self.rotation.setLabel("bottom", "Rotation (%)")
         self.rotation.setLabel("left", "Frequency", units="Hz")
         self.band_region = pg.LinearRegionItem(orientation="horizontal", movable=False,
                                                brush=pg.mkBrush(ACCEPT),
-                                               pen=_pen(ACCEPT_EDGE))
+                                               pen=cosmetic_pen(ACCEPT_EDGE))
         self.rotation.addItem(self.band_region)
-        self.envelope_low = self.rotation.plot(pen=_pen(CAP, width=1,
+        self.envelope_low = self.rotation.plot(pen=cosmetic_pen(CAP, width=1,
                                                             style=Qt.PenStyle.DotLine))
-        self.envelope_high = self.rotation.plot(pen=_pen(CAP, width=1,
+        self.envelope_high = self.rotation.plot(pen=cosmetic_pen(CAP, width=1,
                                                              style=Qt.PenStyle.DotLine))
         self.envelope_fill = pg.FillBetweenItem(self.envelope_low, self.envelope_high,
                                                 brush=pg.mkBrush(ENVELOPE))
         self.rotation.addItem(self.envelope_fill)
-        self.rotation_curve = self.rotation.plot(pen=_pen(CAP, width=2))
-        turn = _pen(INK, width=1, style=Qt.PenStyle.DashLine)
+        self.rotation_curve = self.rotation.plot(pen=cosmetic_pen(CAP, width=2))
+        turn = cosmetic_pen(INK, width=1, style=Qt.PenStyle.DashLine)
         self.turn_lines = [pg.InfiniteLine(angle=90, pen=turn) for _ in range(2)]
         for line in self.turn_lines:
             self.rotation.addItem(line)

@@ -334,7 +334,8 @@ class TargetForm(QWidget):
         self._edited()
 
     def reload_calibrations(self, select: str | None = None) -> None:
-        """Refill the calibration list from the data folder (after one was made)."""
+        """Refill the calibration list from the data folder (after one was made, renamed or
+        deleted); the form changes when ``select`` is given or the chosen one is gone."""
         current = select or self.calibration.currentData()
         self.calibration.blockSignals(True)
         self.calibration.clear()
@@ -353,7 +354,7 @@ class TargetForm(QWidget):
         index = self.calibration.findData(current)
         self.calibration.setCurrentIndex(max(index, 0))
         self.calibration.blockSignals(False)
-        if select:
+        if select or (current is not None and index < 0):
             self._edited()
 
     def _edited(self, *args: object) -> None:

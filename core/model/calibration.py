@@ -581,9 +581,12 @@ def measurement_from_cells(keys: Sequence[str], cells: Mapping[str, str],
         raise InputError(f"needs {', '.join(missing)}")
     values = {k.upper(): (parse_capacitance if k == "c" else parse_resistance)(cells[k])
               for k in names}
-    duty = cells.get("duty", "").strip()
-    return Measurement(values, parse_frequency(cells["frequency"]),
-                       parse_percent(duty, allow_zero=False, what="duty cycle") if duty else None)
+    text = cells.get("duty", "").strip()
+    duty = parse_percent(text, allow_zero=False, what="duty cycle") if text else None
+    if duty is not None and not duty < 100:
+        raise InputError("a measured duty cycle lies between 0 and 100 %", text=text,
+                         what="duty cycle")
+    return Measurement(values, parse_frequency(cells["frequency"]), duty, diode_steered)
 
 
 def predicted_hz(osc: Oscillator, cal: Calibration) -> np.ndarray:

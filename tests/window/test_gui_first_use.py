@@ -58,9 +58,11 @@ def test_a_saved_calibration_says_its_thresholds(qtbot, window, monkeypatch):
     from gui.calibration_dialog import CalibrationDialog
 
     def run(dialog):
-        dialog.measured.setText(f"{window.selected_candidate().frequency_hz * 1.05:.6g}Hz")
+        frequency = dialog.model.index(0, dialog.model.columns.index("frequency"))
+        dialog.model.setData(frequency, f"{window.selected_candidate().frequency_hz * 1.05:.6g}Hz")
         dialog.name.setText("bench-msg")
         dialog.save()
+        qtbot.waitUntil(lambda: dialog.saved_name is not None, timeout=20_000)
         return 1
 
     monkeypatch.setattr(CalibrationDialog, "exec", run)

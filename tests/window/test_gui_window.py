@@ -343,46 +343,6 @@ def test_trim_band_shows_rotation_plot(qtbot, window):
     assert "Pot" in headings and "Rotation at band" in headings
 
 
-def test_calibration_dialog_saves_and_selects(qtbot, window, monkeypatch):
-    from core.model.calibration import list_calibrations, load_calibration
-    from gui.calibration_dialog import CalibrationDialog
-
-    cand = window.selected_candidate()
-    dialog = CalibrationDialog(window, window.form.target_value(), cand)
-    qtbot.addWidget(dialog)
-    assert dialog.fields["R"].text()  # prefilled from the selected candidate
-    assert dialog.tolerances["R"].text()  # the candidate's parts' tolerances
-    # A chip that runs 5 % faster than the table's nominal model predicts, measured
-    # with 1 % resistors and a 5 % capacitor.
-    dialog.measured.setText(f"{cand.frequency_hz * 1.05:.6g}Hz")
-    dialog.tolerances["R"].setText("1%")
-    dialog.tolerances["C"].setText("5%")
-    dialog.preview()
-    # JCGM 100:2008 (GUM) §4.3.7 and §5.1.2: uniform ±1 %, ±5 % and the ±0.5 % reading
-    # add in quadrature, each as half-width / √3.
-    sure = 100 * math.sqrt((0.01**2 + 0.05**2 + 0.005**2) / 3)
-    assert f"±{sure:.1f} % (1 sigma)" in dialog.result_label.text()
-    dialog.name.setText("bench-a")
-    dialog.save()
-    assert dialog.saved_name == "bench-a" and "bench-a" in list_calibrations()
-    assert math.isclose(load_calibration("bench-a").scale, 1.05, rel_tol=0.02)
-    assert math.isclose(load_calibration("bench-a").uncertainty_pct, sure, rel_tol=0.02)
-    search_done(qtbot, window, lambda: window.form.reload_calibrations(select="bench-a"))
-    assert window.current_oscillator().calibration == "bench-a"
-    assert window.current_oscillator().thresholds_given
-
-
-def test_calibration_dialog_keeps_bad_input(qtbot, window):
-    from gui.calibration_dialog import CalibrationDialog
-
-    dialog = CalibrationDialog(window, window.form.target_value(), window.selected_candidate())
-    qtbot.addWidget(dialog)
-    dialog.measured.setText("fast")
-    dialog.save()
-    assert dialog.saved_name is None and "⚠" in dialog.result_label.text()
-    assert dialog.measured.text() == "fast"
-
-
 def test_selected_candidate_parts_are_spelled_out_with_locations(window):
     cand = window.selected_candidate()
     text = window.details.text()
