@@ -46,11 +46,12 @@ class _Step(QUndoCommand):
 
 
 class BenchTableModel(QAbstractTableModel):
-    """Rows of text cells for ``keys`` + frequency + duty; ``undo_stack`` holds every edit."""
+    """Rows of text cells for ``keys`` + frequency + duty; ``undo_stack`` holds every edit.
+    ``diode_steered``: the circuit's steering diodes are part of it (readings say so)."""
 
-    def __init__(self, keys: Sequence[str], parent: Any = None):
+    def __init__(self, keys: Sequence[str], parent: Any = None, diode_steered: bool = False):
         super().__init__(parent)
-        self.keys = tuple(keys)
+        self.keys, self.diode_steered = tuple(keys), diode_steered
         self.columns = (*(k.lower() for k in self.keys), *READING_COLUMNS)
         self.headings = (*self.keys, "Frequency", "Duty")
         self._rows: list[list[str]] = []
@@ -101,7 +102,7 @@ class BenchTableModel(QAbstractTableModel):
         if self._blank(row):
             return None
         try:
-            measurement_from_cells(self.keys, self._cells(row))
+            measurement_from_cells(self.keys, self._cells(row), self.diode_steered)
         except InputError as e:
             return str(e)
         return None
@@ -113,7 +114,8 @@ class BenchTableModel(QAbstractTableModel):
             if self._blank(row):
                 continue
             try:
-                out.append(measurement_from_cells(self.keys, self._cells(row)))
+                out.append(measurement_from_cells(self.keys, self._cells(row),
+                                                  self.diode_steered))
             except InputError as e:
                 problems.append(f"row {row + 1}: {e}")
         return out, problems

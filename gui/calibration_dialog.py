@@ -260,7 +260,7 @@ class CalibrationDialog(QDialog):
         circuit = CIRCUITS[chip.circuit]
         self.chip_label.setText(f"<b>{chip.family}</b> at {chip.supply_v:g} V "
                                 f"({circuit.short})")
-        self.model = BenchTableModel(circuit.keys, self)
+        self.model = BenchTableModel(circuit.keys, self, circuit.always_steered)
         self.model.dataChanged.connect(self.refit)
         self.model.rowsInserted.connect(self.refit)
         self.model.rowsRemoved.connect(self.refit)
