@@ -76,6 +76,7 @@ def request_from_args(args: argparse.Namespace) -> Request:
                    max_resistors=goal("max_resistors", 2),  # type: ignore[arg-type]
                    max_capacitors=goal("max_capacitors", 2),  # type: ignore[arg-type]
                    top=goal("top", 10), dielectrics=goal("dielectric"),  # type: ignore[arg-type]
+                   pins=tuple(goal("pin", ())),  # type: ignore[arg-type]
                    conditions=Conditions(goal("temperature"),  # type: ignore[arg-type]
                                          goal("supply_range")))  # type: ignore[arg-type]
 

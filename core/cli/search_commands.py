@@ -88,6 +88,10 @@ def add_design_options(parser: argparse.ArgumentParser, search_required: bool = 
                         help=f"most capacitors in one network, 1 to {MAX_PARTS} (default 2)")
     parser.add_argument("--top", type=count_arg(), default=10, metavar="N",
                         help="how many candidates to list (default 10)")
+    parser.add_argument("--pin", type=count_arg(2), action="append", metavar="LINE",
+                        help="use the part on this drawer line (as candidates report it; "
+                        "the header is line 1) in every candidate, on its own in its place, "
+                        "and search the rest around it; repeatable, one part per kind")
     parser.add_argument("--dielectric", type=arg_type(parse_dielectrics, "dielectric"),
                         metavar="LIST",
                         help="only capacitors of these dielectrics, e.g. film,c0g (C0G, NP0, "

@@ -11,7 +11,7 @@ window builds requests before its first paint, when numpy is not loaded yet.
 
 from __future__ import annotations
 
-from dataclasses import dataclass
+from dataclasses import dataclass, replace
 from typing import TYPE_CHECKING
 
 from core.errors import InputError
@@ -19,7 +19,7 @@ from core.errors import InputError
 if TYPE_CHECKING:
     from core.design.search import SearchResult
     from core.design.trim import TrimResult
-    from core.model.circuits.base import Oscillator
+    from core.model.circuits.base import Circuit, Oscillator
     from core.model.drift import Conditions
     from core.parts.drawer import Part
     from core.parts.networks import DrawerIndex
@@ -39,7 +39,9 @@ class Request:
     (lower-case drawer names) restricts the capacitors, None allows any;
     ``stray_capacitance_f`` None is the model's breadboard default, ``duty_within``
     [percentage points] None the search's. ``conditions`` (temperatures, supplies)
-    a trim design must cover its band over; None: as built.
+    a trim design must cover its band over; None: as built. ``pins``: stock lines (the
+    drawer file's line numbers, header = 1, as candidates report them) whose part every
+    candidate uses, each on its own in its role; the rest is searched around them.
     """
 
     circuit: str | None = None
@@ -60,6 +62,7 @@ class Request:
     load_ohm: float | None = None
     dielectrics: frozenset[str] | None = None
     conditions: Conditions | None = None
+    pins: tuple[int, ...] = ()
 
     @property
     def trim(self) -> bool:
@@ -103,6 +106,8 @@ class Request:
         from core.design.trim import trim
 
         usable, top = list(self.usable(parts)), self.top if top is None else top
+        if self.pins:
+            usable, index = self.pinned(parts, usable, osc.circuit, index)
         if self.band_hz is not None:
             return trim(usable, osc, self.band_hz, top=top, max_resistors=self.max_resistors,
                         max_capacitors=self.max_capacitors, index=index,
@@ -113,3 +118,50 @@ class Request:
         return search(usable, osc, self.target_hz, duty_pct=self.duty_pct,
                       max_resistors=self.max_resistors, max_capacitors=self.max_capacitors,
                       accept_pct=self.accept_pct, top=top, index=index, **within)
+
+    def pinned(self, parts: tuple[Part, ...] | list[Part], usable: list[Part],
+               circuit: Circuit, index: DrawerIndex | None
+               ) -> tuple[list[Part], DrawerIndex | None]:
+        """``usable`` with each pinned part (one of it) the only part of its kind, and
+        ``index`` with those kinds' networks rebuilt from it; InputError naming the line
+        when it holds no usable part or the circuit has no single place for it."""
+        from core.parts.networks import DrawerIndex, drawer_index
+
+        chosen: dict[str, Part] = {}
+        for line in self.pins:
+            part = _pinned_part(line, parts, usable)
+            word = _KIND_WORDS[part.kind]
+            roles = [r.key for r in circuit.roles if r.kind == part.kind]
+            if part.kind == "P":
+                roles = ["P"] if self.trim else []
+            if len(roles) != 1 or part.kind in chosen:
+                where = (f"the {circuit.title} has no place for a {word} here" if not roles
+                         else f"the {circuit.title} has {len(roles)} {word} places "
+                         f"({', '.join(roles)}): pin a part of another kind" if len(roles) > 1
+                         else f"another line is pinned as its {word} already")
+                raise InputError(f"line {line} cannot be pinned: {where}", text=str(line),
+                                 what="--pin")
+            chosen[part.kind] = replace(part, quantity=1)
+        kept = [p for p in usable if p.kind not in chosen] + list(chosen.values())
+        if index is None:
+            return kept, None
+        own = drawer_index(chosen.values(), self.max_resistors, self.max_capacitors)
+        return kept, DrawerIndex(own.resistors if "R" in chosen else index.resistors,
+                                 own.capacitors if "C" in chosen else index.capacitors,
+                                 own.pots if "P" in chosen else index.pots)
+
+
+_KIND_WORDS = {"R": "resistor", "C": "capacitor", "P": "pot"}
+
+
+def _pinned_part(line: int, parts: tuple[Part, ...] | list[Part], usable: list[Part]) -> Part:
+    """The usable part on stock ``line``; InputError saying why there is none."""
+    found = next((p for p in usable if p.stock_line == line), None)
+    if found is not None and found.quantity > 0:
+        return found
+    listed = next((p for p in parts if p.stock_line == line), None)
+    why = (f"line {line} holds no usable part (the header is line 1; a line with a bad "
+           "cell is no part)" if listed is None else
+           f"line {line} has none in stock" if listed.quantity <= 0 else
+           f"line {line}'s capacitor is not among the dielectrics asked")
+    raise InputError(why, text=str(line), what="--pin")

@@ -114,9 +114,14 @@ def plain_stops(osc: Any, rows: list[dict[str, tuple[float, float, float]]],
     return ~(np.asarray(low) > 0)
 
 
+Keep = Callable[[dict[str, tuple[Any, ...]]], bool]
+"""Which builds (role -> (value, low, high, lines used, parts)) count; None: all."""
+
+
 def brute_force_best(parts: list[Part], osc: Any, target: float, max_r: int, max_c: int,
-                     accept: float) -> tuple[Best | None, bool]:
-    """The ranking's best over every combination, and whether the target is reached.
+                     accept: float, keep: Keep | None = None) -> tuple[Best | None, bool]:
+    """The ranking's best over every combination (``keep`` says which count), and whether
+    the target is reached.
 
     Reached: some build lands within accept, or builds land on both sides of the
     target (DESIGN.md: a target nothing in the drawer reaches gives an empty list).
@@ -128,6 +133,7 @@ def brute_force_best(parts: list[Part], osc: Any, target: float, max_r: int, max
     c_nets = [n for n in plain_corners(caps, max_c) if within_stock(n[3], parts)]
     rows = [{"R": r, "C": c} for r, c in itertools.product(r_nets, c_nets)
             if within_stock(r[3] + c[3], parts)]
+    rows = [row for row in rows if keep is None or keep(row)]
     if not rows:
         return None, False
     t_high, t_low = schmitt_times(osc, *(np.array([row[k][0] for row in rows]) for k in "RC"))
@@ -224,10 +230,10 @@ def assert_not_beaten(first: Any, best: Best, accept: float, duty_within: float 
 
 
 def brute_force_best_555(parts: list[Part], osc: Any, target: float, duty: float | None,
-                         max_r: int, accept: float, duty_within: float = 1.0
-                         ) -> tuple[Best | None, bool]:
-    """The ranking's best over every RA, RB, C combination (plain loops, no engine code),
-    and whether the target is reached (see ``reaches``)."""
+                         max_r: int, accept: float, duty_within: float = 1.0,
+                         keep: Keep | None = None) -> tuple[Best | None, bool]:
+    """The ranking's best over every RA, RB, C combination (plain loops, no engine code;
+    ``keep`` says which count), and whether the target is reached (see ``reaches``)."""
     res = [p for p in parts if p.kind == "R"]
     caps = [p for p in parts if p.kind == "C"]
     r_nets = [n for n in plain_corners(res, max_r) if within_stock(n[3], parts)
@@ -235,7 +241,8 @@ def brute_force_best_555(parts: list[Part], osc: Any, target: float, duty: float
     c_nets = [n for n in plain_corners(caps, 2) if within_stock(n[3], parts)]
     diode = duty is not None and duty <= 50
     rows = [{"RA": a, "RB": b, "C": c} for a, b, c in itertools.product(r_nets, r_nets, c_nets)
-            if within_stock(a[3] + b[3] + c[3], parts)]
+            if within_stock(a[3] + b[3] + c[3], parts) and (keep is None or keep({
+                "RA": a, "RB": b, "C": c}))]
     if not rows:
         return None, False
     t_high, t_low = astable_times(osc, *(np.array([row[k][0] for row in rows])
