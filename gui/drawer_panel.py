@@ -304,6 +304,7 @@ class DrawerPanel(QWidget):
     """
 
     sigMessage = Signal(str)  # noqa: N815 - pyqtgraph-style signal names, see STYLE.md
+    sigPin = Signal(int, str)  # noqa: N815
 
     def __init__(self, model: DrawerTableModel, parent: QWidget | None = None):
         super().__init__(parent)
@@ -383,9 +384,14 @@ class DrawerPanel(QWidget):
         self.sort_action = self._action("Sort by kind and value",
                                         "Reorder the drawer rows (one undo step)",
                                         self.sort_drawer)
-        for action in (self.add_action, self.duplicate_action, self.delete_action):
+        self.pin_action = self._action("Pin in the search", "Use this part in every "
+                                       "candidate and search the rest around it (again: "
+                                       "unpin)", self.pin_current, QKeySequence("Ctrl+Shift+P"))
+        for action in (self.add_action, self.duplicate_action, self.delete_action,
+                       self.pin_action):
             action.setShortcutContext(Qt.ShortcutContext.WidgetWithChildrenShortcut)
             self.table.addAction(action)
+        self.table.setContextMenuPolicy(Qt.ContextMenuPolicy.ActionsContextMenu)
 
         bar = QHBoxLayout()
         bar.setContentsMargins(0, 0, 0, 0)
@@ -487,6 +493,22 @@ class DrawerPanel(QWidget):
         self.empty_hint.setVisible(total == 0)
 
     # -- selection helpers
+    def pin_current(self) -> None:
+        """Ask the search to pin (or unpin) the current row's part: ``sigPin(line, words)``."""
+        current = self.table.currentIndex()
+        if not current.isValid():
+            self.sigMessage.emit("Select a part in the drawer to pin it.")
+            return
+        row = self.proxy.mapToSource(current).row()
+        part = next((p for p in self.model.drawer.parts() if p.row == row), None)
+        if part is None or part.quantity <= 0:
+            self.sigMessage.emit(f"Row {row + 1} is not a part in stock: fix its marked cells "
+                                 "or its quantity to pin it.")
+            return
+        from core.units import format_part_value
+
+        self.sigPin.emit(part.stock_line, format_part_value(part.value, part.kind))
+
     def selected_rows(self) -> list[int]:
         """Drawer row indices of the selected table rows, in drawer order."""
         rows = {self.proxy.mapToSource(i).row()

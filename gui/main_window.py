@@ -134,6 +134,8 @@ class MainWindow(QMainWindow):
         self.spread_note.linkActivated.connect(self._advice_link)
         self.form.sigNewCalibration.connect(self.new_calibration)
         self.drawer_panel.sigMessage.connect(self.say)
+        self.drawer_panel.sigPin.connect(
+            lambda line, words: self.say(self.form.toggle_pin(line, words)))
         self._attach(drawer)
         self.resize(1280, 800)
         if self.remember:
@@ -205,7 +207,8 @@ class MainWindow(QMainWindow):
         edit_menu = self.menuBar().addMenu("&Edit")
         for action in (self.undo_action, self.redo_action, None, panel.add_action,
                        panel.duplicate_action, panel.delete_action, None, panel.kit_action,
-                       panel.paste_action, panel.sort_action, None, self.find_action):
+                       panel.paste_action, panel.sort_action, None, panel.pin_action, None,
+                       self.find_action):
             edit_menu.addSeparator() if action is None else edit_menu.addAction(action)
 
         self.search_action = self._action("Search &now", self.run_search, std.Refresh,
@@ -358,6 +361,7 @@ class MainWindow(QMainWindow):
     def set_drawer(self, drawer: Drawer) -> None:
         """Show ``drawer`` (open, new, restore) and search it."""
         previous = self.drawer
+        self.form.clear_pins()  # pins name lines of the drawer that goes
         self.drawer_model.set_drawer(drawer)
         self._attach(drawer, previous)
         self.search.schedule()

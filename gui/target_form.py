@@ -70,6 +70,9 @@ class Target(Request):
         text = f"{format_frequency(self.target_hz)} ±{self.accept_pct:g} %"
         if duty and self.duty_pct is not None:
             text += f", duty {self.duty_pct:g} % ±{self.duty_within:g} points"
+        if self.pins:
+            text += f", line{'s' if len(self.pins) > 1 else ''} " + \
+                ", ".join(map(str, self.pins)) + " pinned"
         return text
 
 
@@ -135,6 +138,14 @@ class TargetForm(QWidget):
         self.calibration = QComboBox()
         self.calibration.setMinimumContentsLength(12)
         self.new_calibration = QPushButton("From a measurement…")
+        self._pins: dict[int, str] = {}
+        """Pinned stock lines and their words (a drawer's lines: not remembered)."""
+        self.pinned = QLabel()
+        self.pinned.setAccessibleName("pinned parts")
+        self.unpin = QToolButton()
+        self.unpin.setText("✕ Unpin")
+        self.unpin.setToolTip("Search the whole drawer again (no part pinned)")
+        self.unpin.clicked.connect(self.clear_pins)
         self.message = QLabel()
         self.message.setObjectName("problem")
         self.message.setWordWrap(True)
@@ -218,7 +229,11 @@ class TargetForm(QWidget):
         calibration_box.addWidget(self.calibration, 1)
         calibration_box.addWidget(self.new_calibration)
         grid.addLayout(calibration_box, 3, 1, 1, 5)
-        grid.addWidget(self.message, 4, 0, 1, 6)
+        pin_box = QHBoxLayout()
+        pin_box.addWidget(self.pinned, 1)
+        pin_box.addWidget(self.unpin)
+        grid.addLayout(pin_box, 4, 1, 1, 5)
+        grid.addWidget(self.message, 5, 0, 1, 6)
         grid.setColumnStretch(1, 3)
         grid.setColumnStretch(3, 3)
         grid.setColumnStretch(5, 2)
@@ -235,6 +250,7 @@ class TargetForm(QWidget):
         self.new_calibration.clicked.connect(self.sigNewCalibration.emit)
         self._circuit_changed()
         self.reload_calibrations()
+        self._show_pins()
 
     # -- which circuits
     def _list_circuit_names(self) -> None:
@@ -360,6 +376,35 @@ class TargetForm(QWidget):
     def _edited(self, *args: object) -> None:
         self.sigChanged.emit()
 
+    # -- pinned parts
+    def toggle_pin(self, line: int, words: str) -> str:
+        """Pin the part on stock ``line`` (``words``: its value), or unpin it if pinned;
+        the status text saying which."""
+        if self._pins.pop(line, None) is None:
+            self._pins[line] = words
+            said = f"Pinned {words} (line {line}): every candidate uses it."
+        else:
+            said = f"Unpinned {words} (line {line})."
+        self._show_pins()
+        self._edited()
+        return said
+
+    def pins(self) -> tuple[int, ...]:
+        return tuple(self._pins)
+
+    def clear_pins(self) -> None:
+        """Unpin every part (the ✕ button)."""
+        if self._pins:
+            self._pins.clear()
+            self._show_pins()
+            self._edited()
+
+    def _show_pins(self) -> None:
+        self.pinned.setText("Pinned: " + ", ".join(f"{w} (line {n})" for n, w in
+                                                    self._pins.items()))
+        for widget in (self.pinned, self.unpin):
+            widget.setVisible(bool(self._pins))
+
     # -- reading the form
     def target_value(self) -> Target | None:
         """The parsed target, or None (bad fields are marked and explained)."""
@@ -414,7 +459,7 @@ class TargetForm(QWidget):
                       max_capacitors=self.max_c.value(),
                       calibration=self.calibration.currentData(),
                       dielectrics=self.dielectrics(),
-                      duty_within=self.duty_within.value())
+                      duty_within=self.duty_within.value(), pins=self.pins())
 
     def _show_problems(self, problems: dict[str, str]) -> None:
         for key, edit in self._fields.items():
