@@ -145,6 +145,7 @@ class TargetForm(QWidget):
         self.unpin = QToolButton()
         self.unpin.setText("✕ Unpin")
         self.unpin.setToolTip("Search the whole drawer again (no part pinned)")
+        self.unpin.setAccessibleName("unpin every part")
         self.unpin.clicked.connect(self.clear_pins)
         self.message = QLabel()
         self.message.setObjectName("problem")
