@@ -89,6 +89,8 @@ SORT_KEYS: dict[str, Callable[[Any], float]] = {
     "Nominal range": lambda c: c.range_hz[1] / c.range_hz[0],
     "Rotation at band": lambda c: abs(c.rotation_pct[1] - c.rotation_pct[0]),
     "Resolution": lambda c: c.resolution_hz_per_pct,
+    "Oscillator": lambda c: c.to_json()["oscillator_hz"],
+    "Divide by": lambda c: c.to_json()["divide_by"],
 }
 """What a column sorts by where its text would sort wrongly; networks sort by value."""
 NETWORK_OF = {**{heading: key for key, heading in NETWORK_HEADINGS.items()}, "Fixed R": "R"}
@@ -104,7 +106,24 @@ def _worst_case(c: Any) -> str:
     return f"{STOPS_MARK}  {_band(c.worst_case_hz)}" if c.stops else _band(c.worst_case_hz)
 
 
-def _search_columns(keys: Sequence[str], with_duty: bool) -> list[Column]:
+COUNTER_COLUMNS: tuple[tuple[str, str, str, Callable[[Any], str]], ...] = (
+    ("oscillator_hz", "Oscillator", "The oscillator's own frequency, before the counter",
+     lambda v: format_frequency(v, 4)),
+    ("divide_by", "Divide by", "The counter's ratio: the oscillator over the output",
+     lambda v: f"÷{v:g}"),
+    ("tap", "Tap", "The counter output to take the signal from (its pin on the sheet)", str),
+)
+"""Columns a circuit with a counter adds, by the command line's JSON keys (DESIGN.md): shown
+when the candidates carry them, whatever the circuit."""
+
+
+def _counter_columns(sample: dict[str, Any]) -> list[Column]:
+    return [(heading, tip, lambda c, key=key, fmt=fmt: fmt(c.to_json()[key]))
+            for key, heading, tip, fmt in COUNTER_COLUMNS if key in sample]
+
+
+def _search_columns(keys: Sequence[str], with_duty: bool,
+                    sample: dict[str, Any] | None = None) -> list[Column]:
     cols: list[Column] = [
         ("Frequency", "Predicted frequency with the nominal model",
          lambda c: format_frequency(c.frequency_hz, 4)),
@@ -112,6 +131,7 @@ def _search_columns(keys: Sequence[str], with_duty: bool) -> list[Column]:
         ("Duty", "Share of each period the output is high",
          lambda c: f"{c.duty_pct:.1f} %"),
     ]
+    cols[2:2] = _counter_columns(sample or {})  # after the output's frequency and error
     if with_duty:
         cols.append(("Duty error", "Predicted minus asked duty, in percentage points",
                      lambda c: f"{c.duty_error_pct:+.1f} pt"))
@@ -166,7 +186,8 @@ class CandidatesModel(QAbstractTableModel):
         else:
             keys = list(self._candidates[0].networks) if self._candidates else ["R", "C"]
             with_duty = any(c.duty_asked_pct is not None for c in self._candidates)
-            self._columns = _search_columns(keys, with_duty)
+            sample = self._candidates[0].to_json() if self._candidates else {}
+            self._columns = _search_columns(keys, with_duty, sample)
         self.endResetModel()
 
     def headings(self) -> list[str]:

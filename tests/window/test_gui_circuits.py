@@ -88,3 +88,38 @@ def test_one_switching_voltage_is_one_labelled_line(qtbot):
     assert CMOS_ASTABLE.one_threshold
     assert panel.vt_plus_line.label.toPlainText() == "switching voltage 2.50 V"
     assert not panel.vt_minus_line.isVisible()
+
+
+class _Divided:
+    """A search candidate as a circuit with a counter reports it (DESIGN.md: candidates
+    add "divide_by", "tap" and "oscillator_hz"; frequency_hz is the divided output)."""
+
+    def __init__(self, candidate, divide_by: int, tap: str):
+        self._c, self._n, self._tap = candidate, divide_by, tap
+
+    def __getattr__(self, name):
+        return getattr(self._c, name)
+
+    def to_json(self):
+        return {**self._c.to_json(), "divide_by": self._n, "tap": self._tap,
+                "oscillator_hz": self._c.frequency_hz * self._n}
+
+
+def test_a_counter_adds_its_columns(qtmodeltester):
+    from core.design.search import search
+    from core.model.timing import make_oscillator
+    from core.parts.drawer import read_drawer
+    from core.storage.locations import demo_drawer_path
+    from gui.candidates_model import CandidatesModel
+
+    found = search(read_drawer(demo_drawer_path()).parts(),
+                   make_oscillator("schmitt", "74HC14", 5.0), 1000.0).candidates[:3]
+    model = CandidatesModel()
+    model.set_result([_Divided(c, 1024, "Q10") for c in found], trim=False)
+    qtmodeltester.check(model)
+    headings = model.headings()
+    assert headings[:5] == ["Frequency", "Error", "Oscillator", "Divide by", "Tap"]
+    row = [model.data(model.index(0, k)) for k in range(5)]
+    assert row[3] == "÷1024" and row[4] == "Q10"
+    model.set_result(found, trim=False)  # a circuit without a counter: no such columns
+    assert "Divide by" not in model.headings()
