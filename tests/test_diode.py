@@ -14,15 +14,12 @@ from collections.abc import Callable
 
 import numpy as np
 import pytest
+from support.designs import ngspice_run, one_part_design
+from support.ode import steady_times
 from support.tools import require_tool
 
-from core.design.search import Candidate
 from core.model.diode import SMALL_SIGNAL_DIODE, SteeringBranch
 from core.model.timing import astable_times, make_oscillator, predict, waveform
-from core.output.netlist import model_prediction, simulate, spice_netlist
-from core.parts.drawer import Part
-from core.parts.networks import Network
-from core.units import Tolerance
 
 D = SMALL_SIGNAL_DIODE
 integrate = pytest.importorskip("scipy.integrate")
@@ -102,24 +99,8 @@ def _simulate_555(osc, ra: float, rb: float, c: float) -> tuple[float, float]:
             return [(x - vc) / rb / ct]
         return f
 
-    t, y, high, edges = 0.0, osc.vt_minus_v, True, []
-    span = 100 * (ra + rb) * ct
-    for _ in range(6):
-        level = osc.vt_plus_v if high else osc.vt_minus_v
-
-        def crossing(_t: float, yy: np.ndarray, level: float = level) -> float:
-            return yy[0] - level
-        crossing.terminal = True  # type: ignore[attr-defined]
-        sol = integrate.solve_ivp(rhs(high), (t, t + span), [y], events=crossing,
-                                  method="DOP853", rtol=1e-10, atol=1e-13)
-        t, y = float(sol.t_events[0][0]), float(sol.y_events[0][0][0])
-        delay = d.delay_hl_s if high else d.delay_lh_s
-        hold = integrate.solve_ivp(rhs(high), (t, t + delay), [y], method="DOP853",
-                                   rtol=1e-10, atol=1e-13)
-        t, y = t + delay, float(hold.y[0, -1])
-        edges.append(t)
-        high = not high
-    return edges[-2] - edges[-3], edges[-1] - edges[-2]
+    return steady_times(rhs, osc.vt_minus_v, osc.vt_plus_v, osc.vt_minus_v, d.delay_hl_s,
+                        d.delay_lh_s, 100 * (ra + rb) * ct)
 
 
 @pytest.mark.parametrize(("v", "ra", "rb"), GRID[::2])
@@ -189,28 +170,15 @@ def test_waveform_follows_the_integrated_charge():
     assert t[rise] == pytest.approx(pred.t_high_s - osc.device.delay_hl_s, rel=2e-3)
 
 
-def _candidate(osc, ra: float, rb: float, c: float) -> Candidate:
-    def node(kind: str, value: float, line: int) -> Network:
-        return Network(part=Part(kind=kind, value=value, tolerance=Tolerance(0.01, 0.01),
-                              quantity=1, line=line, dielectric="film" if kind == "C" else ""))
-    pred = predict(osc, {"RA": ra, "RB": rb, "C": c}, diode_steered=True)
-    return Candidate("555", {"RA": ra, "RB": rb, "C": c},
-                     {"RA": node("R", ra, 2), "RB": node("R", rb, 3), "C": node("C", c, 4)},
-                     pred.frequency_hz, 0.0, pred.duty_pct, pred.worst_case_hz, True)
-
-
 @pytest.mark.spice
 @pytest.mark.parametrize(("v", "ra", "rb"), GRID[1::3])
 def test_diode_steered_netlist_matches_ngspice(v, ra, rb):
     # ngspice integrates the netlist (RB present, a SPICE diode with the same IS, N, RS
     # across it): period within 0.5 % of the model (issue 11).
-    exe = require_tool("ngspice")
     osc = make_oscillator("555", "TLC555" if v < 4.5 else "NE555", v)
-    cand = _candidate(osc, ra, rb, 10e-9)
-    text = spice_netlist(osc, cand)
+    sim, model, text = ngspice_run(osc, one_part_design(osc, {"RA": ra, "RB": rb, "C": 10e-9},
+                                                       steered=True))
     assert "D1 dis tn 1n4148" in text and ".model 1n4148 d is=2.52e-09" in text
-    sim = simulate(text, exe)
-    model = model_prediction(osc, cand)
     assert sim["period_s"] == pytest.approx(model.period_s, rel=5e-3)
     assert sim["duty_pct"] == pytest.approx(model.duty_pct, abs=0.5)
 

@@ -12,30 +12,14 @@ from __future__ import annotations
 import datetime as dt
 
 import pytest
-from support.tools import require_tool
+from support.designs import ngspice_run, one_part_design
 
-from core.design.search import Candidate
 from core.model.circuits.divider import with_divide_by
-from core.model.timing import make_oscillator, predict
-from core.output.netlist import model_prediction, simulate, spice_netlist
+from core.model.timing import make_oscillator
+from core.output.netlist import spice_netlist
 from core.output.sheet import build_sheet
-from core.parts.drawer import Part
-from core.parts.networks import Network
-from core.units import Tolerance
 
 TODAY = dt.date(2026, 12, 1)
-
-
-def _candidate(osc, values: dict[str, float], dielectric: str = "film") -> Candidate:
-    def node(role: str, value: float, line: int) -> Network:
-        kind = "C" if role == "C" else "R"
-        return Network(part=Part(kind=kind, value=value, tolerance=Tolerance(0.01, 0.01),
-                                 quantity=2, line=line, location=f"bin {line}",
-                                 dielectric=dielectric if kind == "C" else ""))
-    pred = predict(osc, values, diode_steered=osc.circuit.always_steered)
-    networks = {k: node(k, v, i + 2) for i, (k, v) in enumerate(values.items())}
-    return Candidate(osc.circuit.name, values, networks, pred.frequency_hz, 0.0,
-                     pred.duty_pct, pred.worst_case_hz, osc.circuit.always_steered)
 
 
 def divider(family: str = "CD4060B", supply: float = 9.0, n: int = 1024):
@@ -52,7 +36,7 @@ def _pins(sheet) -> dict[str, tuple[str, str]]:
 
 def test_divider_sheet_names_the_tap_pin_and_holds_reset_low():
     osc = divider()
-    sheet = build_sheet(osc, _candidate(osc, DIVIDER_VALUES), "4 mHz", today=TODAY)
+    sheet = build_sheet(osc, one_part_design(osc, DIVIDER_VALUES), "4 mHz", today=TODAY)
     pins = _pins(sheet)
     # CD4060B pinout (from memory, TI data sheet pin table): Q10 on 15, MR on 12,
     # φI 11, φO 10, φO̅ 9, VSS 8, VDD 16.
@@ -71,7 +55,7 @@ def test_divider_sheet_names_the_tap_pin_and_holds_reset_low():
 
 def test_74hc4060_takes_the_same_pins():
     osc = divider("74HC4060", 5.0, 16)
-    sheet = build_sheet(osc, _candidate(osc, {"R": 10e3, "RS": 47e3, "C": 1e-9}), "x",
+    sheet = build_sheet(osc, one_part_design(osc, {"R": 10e3, "RS": 47e3, "C": 1e-9}), "x",
                         today=TODAY)
     # Q4 is pin 7 on both makers' parts (from memory: 74HC4060 pin table).
     assert _pins(sheet)["7"][0] == "Q4 output"
@@ -79,7 +63,7 @@ def test_74hc4060_takes_the_same_pins():
 
 def test_cmos_astable_sheet_ties_the_unused_inputs_and_joins_the_gates():
     osc = make_oscillator("cmos-astable", "CD4069UB", 10.0)
-    sheet = build_sheet(osc, _candidate(osc, RING_VALUES), "460 Hz", today=TODAY)
+    sheet = build_sheet(osc, one_part_design(osc, RING_VALUES), "460 Hz", today=TODAY)
     pins = _pins(sheet)
     # CD4069UB pinout (from memory): 1A=1 1Y=2 2A=3 2Y=4, VSS=7, VDD=14; the other
     # inverters' inputs 5, 9, 11, 13 must not float (CMOS input, common practice).
@@ -93,7 +77,7 @@ def test_cmos_astable_sheet_ties_the_unused_inputs_and_joins_the_gates():
 
 def test_steered_sheet_lists_both_diodes_with_their_hookup():
     osc = make_oscillator("schmitt", "74HC14", 5.0).with_steering()
-    sheet = build_sheet(osc, _candidate(osc, {"RH": 47e3, "RL": 10e3, "C": 10e-9}), "4 kHz",
+    sheet = build_sheet(osc, one_part_design(osc, {"RH": 47e3, "RL": 10e3, "C": 10e-9}), "4 kHz",
                         today=TODAY)
     diodes = {r.refs: r for r in sheet.parts if r.what == "small-signal diode"}
     assert set(diodes) == {"D1", "D2"}
@@ -104,9 +88,8 @@ def test_steered_sheet_lists_both_diodes_with_their_hookup():
 
 
 def _agreement(osc, values) -> float:
-    cand = _candidate(osc, values)
-    sim = simulate(spice_netlist(osc, cand), require_tool("ngspice"))
-    return 100 * (sim["period_s"] / model_prediction(osc, cand).period_s - 1)
+    sim, model, _ = ngspice_run(osc, one_part_design(osc, values))
+    return 100 * (sim["period_s"] / model.period_s - 1)
 
 
 @pytest.mark.spice
@@ -130,7 +113,7 @@ def test_cmos_astable_netlist_matches_ngspice(family, supply, values):
 def test_divider_netlist_simulates_the_oscillator_and_scales_by_the_counter(
         family, supply, n, values):
     osc = divider(family, supply, n)
-    text = spice_netlist(osc, _candidate(osc, values))
+    text = spice_netlist(osc, one_part_design(osc, values))
     assert "The counter is not simulated" in text and f"PARAM='{n} * osc_period_s'" in text
     assert abs(_agreement(osc, values)) < 0.5
 
@@ -139,7 +122,7 @@ def test_ring_netlist_starts_beyond_the_rail():
     # The node jumps past the supply by the output step through C (textbook two-inverter
     # astable): the netlist's start point is above VDD, the first input clamped.
     osc = make_oscillator("cmos-astable", "CD4069UB", 10.0)
-    text = spice_netlist(osc, _candidate(osc, RING_VALUES))
+    text = spice_netlist(osc, one_part_design(osc, RING_VALUES))
     ic = next(line for line in text.splitlines() if line.startswith(".ic"))
     node = float(ic.split("v(tn)=")[1].split()[0])
     assert 10.0 < node < 20.0

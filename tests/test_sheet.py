@@ -227,22 +227,26 @@ def _ring_values(r, rs, c):
     return [sch.NetworkDrawing(n, role, _text) for n, role in ((r, "R"), (rs, "RS"), (c, "C"))]
 
 
+def _wired_between(drawing: sch.Schematic, expected: dict[tuple[str, str], object]) -> None:
+    """Each network drawn between the two named terminals, by Kirchhoff on the drawing."""
+    values = _values(drawing)
+    t = drawing.terminals
+    for (a, b), net in expected.items():
+        cap = net.parts()[0].kind == "C"
+        symbols = {"capacitor", "electrolytic"} if cap else {"resistor"}
+        assert _between(drawing, values, symbols, t[a], t[b], capacitive=cap) == \
+            pytest.approx(net.value, rel=1e-9)
+
+
 @settings(max_examples=25, deadline=None)
 @given(r=_tree("R"), rs=_tree("R"), c=_tree("C"))
 def test_cmos_astable_schematic_wires_r_rs_and_c_as_the_circuit(r, rs, c):
     pins = dict(input="1", output="2", input2="3", output2="4", vcc="14", gnd="7")
     drawing = sch.cmos_astable_schematic(*_ring_values(r, rs, c), pins=pins, chip="U1 X",
                                          supply_text="+9 V", decoupling_text="100 nF")
-    values = _values(drawing)
-    t = drawing.terminals
     # Issue 13: R from the first output to the node, C from the second output (OUT) to
     # the node, RS from the node to the first input.
-    assert _between(drawing, values, {"resistor"}, t["a"], t["node"]) == \
-        pytest.approx(r.value, rel=1e-9)
-    assert _between(drawing, values, {"resistor"}, t["node"], t["in"]) == \
-        pytest.approx(rs.value, rel=1e-9)
-    assert _between(drawing, values, {"capacitor", "electrolytic"}, t["out"], t["node"],
-                    capacitive=True) == pytest.approx(c.value, rel=1e-9)
+    _wired_between(drawing, {("a", "node"): r, ("node", "in"): rs, ("out", "node"): c})
     plain = [i for i in drawing.items if isinstance(i, sch.Inverter)]
     assert len(plain) == 2 and not any(i.schmitt for i in plain)
 
@@ -253,14 +257,7 @@ def test_divider_schematic_wires_each_network_to_its_oscillator_pin(r, rs, c):
     pins = dict(rs="11", r="10", c="9", reset="12", vcc="16", gnd="8", tap="15")
     drawing = sch.divider_schematic(*_ring_values(r, rs, c), pins=pins, chip="U1 X",
                                     tap="Q10", supply_text="+9 V", decoupling_text="100 nF")
-    values = _values(drawing)
-    t = drawing.terminals
-    assert _between(drawing, values, {"resistor"}, t["r"], t["node"]) == \
-        pytest.approx(r.value, rel=1e-9)
-    assert _between(drawing, values, {"resistor"}, t["rs"], t["node"]) == \
-        pytest.approx(rs.value, rel=1e-9)
-    assert _between(drawing, values, {"capacitor", "electrolytic"}, t["c"], t["node"],
-                    capacitive=True) == pytest.approx(c.value, rel=1e-9)
+    _wired_between(drawing, {("r", "node"): r, ("rs", "node"): rs, ("c", "node"): c})
     # The reset pin's lead ends on a ground symbol (CD4060B data sheet: MR high clears
     # the counter and stops the oscillator).
     mr = next(i.at for i in drawing.items if isinstance(i, sch.Label) and i.text == "MR")

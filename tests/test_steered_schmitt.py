@@ -15,22 +15,17 @@ from collections.abc import Callable
 
 import numpy as np
 import pytest
-from support.tools import require_tool
+from support.designs import ngspice_run, one_part_design
+from support.ode import steady_times
 
-from core.design.search import Candidate
 from core.errors import SetupError
 from core.model.circuits import SCHMITT
 from core.model.circuits.base import times
 from core.model.circuits.schmitt import STEERED_SCHMITT
 from core.model.diode import SMALL_SIGNAL_DIODE
 from core.model.timing import make_oscillator, predict, waveform
-from core.output.netlist import model_prediction, simulate, spice_netlist
-from core.parts.drawer import Part
-from core.parts.networks import Network
-from core.units import Tolerance
 
 D = SMALL_SIGNAL_DIODE
-integrate = pytest.importorskip("scipy.integrate")
 optimize = pytest.importorskip("scipy.optimize")
 
 # Families and supplies across the CMOS Schmitt parts; RH : RL from 1 : 20 to 20 : 1.
@@ -64,24 +59,8 @@ def _simulate(osc, rh: float, rl: float, c: float) -> tuple[float, float]:
             return [-_branch_current(y[0] - d.vol_v, rl + d.r_out_low_ohm) / ct]
         return f
 
-    t, y, high, edges = 0.0, osc.vt_minus_v, True, []
-    span = 200 * (rh + rl) * ct
-    for _ in range(6):
-        level = osc.vt_plus_v if high else osc.vt_minus_v
-
-        def crossing(_t: float, yy: np.ndarray, level: float = level) -> float:
-            return yy[0] - level
-        crossing.terminal = True  # type: ignore[attr-defined]
-        sol = integrate.solve_ivp(rhs(high), (t, t + span), [y], events=crossing,
-                                  method="DOP853", rtol=1e-10, atol=1e-13)
-        t, y = float(sol.t_events[0][0]), float(sol.y_events[0][0][0])
-        delay = d.delay_hl_s if high else d.delay_lh_s
-        hold = integrate.solve_ivp(rhs(high), (t, t + delay), [y], method="DOP853",
-                                   rtol=1e-10, atol=1e-13)
-        t, y = t + delay, float(hold.y[0, -1])
-        edges.append(t)
-        high = not high
-    return edges[-2] - edges[-3], edges[-1] - edges[-2]
+    return steady_times(rhs, osc.vt_minus_v, osc.vt_plus_v, osc.vt_minus_v, d.delay_hl_s,
+                        d.delay_lh_s, 200 * (rh + rl) * ct)
 
 
 @pytest.mark.parametrize(("family", "supply", "rh", "rl", "c"), CASES)
@@ -137,30 +116,14 @@ def test_schmitt_knows_its_steered_variant():
     assert STEERED_SCHMITT.keys == ("RH", "RL", "C") and STEERED_SCHMITT.always_steered
 
 
-def _candidate(osc, rh: float, rl: float, c: float) -> Candidate:
-    def node(kind: str, value: float, line: int) -> Network:
-        return Network(part=Part(kind=kind, value=value, tolerance=Tolerance(0.01, 0.01),
-                                 quantity=1, line=line,
-                                 dielectric="film" if kind == "C" else ""))
-    values = {"RH": rh, "RL": rl, "C": c}
-    pred = predict(osc, values)
-    return Candidate("schmitt", values,
-                     {"RH": node("R", rh, 2), "RL": node("R", rl, 3), "C": node("C", c, 4)},
-                     pred.frequency_hz, 0.0, pred.duty_pct, pred.worst_case_hz, True)
-
-
 @pytest.mark.spice
 @pytest.mark.parametrize(("family", "supply", "rh", "rl", "c"), CASES[::2] + CASES[3:4])
 def test_steered_schmitt_netlist_matches_ngspice(family, supply, rh, rl, c):
     # ngspice integrates the netlist (two SPICE diodes with the same IS, N, RS as the
     # model): period within 0.5 % (issue 13), duty within half a point.
-    exe = require_tool("ngspice")
     osc = steered(family, supply)
-    cand = _candidate(osc, rh, rl, c)
-    text = spice_netlist(osc, cand)
+    sim, model, text = ngspice_run(osc, one_part_design(osc, {"RH": rh, "RL": rl, "C": c}))
     assert "D1 ach tn 1n4148" in text and "D2 tn kdis 1n4148" in text
-    sim = simulate(text, exe)
-    model = model_prediction(osc, cand)
     assert sim["period_s"] == pytest.approx(model.period_s, rel=5e-3)
     assert sim["duty_pct"] == pytest.approx(model.duty_pct, abs=0.5)
 

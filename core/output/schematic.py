@@ -439,6 +439,17 @@ def _power_unit(sheet: Schematic, x: float, chip: str, vcc_pin: str, gnd_pin: st
     items.append(Label((cx + 1.2, 0.1), decoupling_text, "right", "bottom"))
 
 
+def _cap_to_ground(sheet: Schematic, pen: _Pen, top: Point, role: str, text: str) -> None:
+    """A support capacitor from ``top`` down to ground, its reference and value beside it;
+    ``role`` names it in ``sheet.support`` (decoupling, control)."""
+    x, y = top
+    ref = pen.ref("C")
+    sheet.items += [Component("capacitor", (x, y), (x, y + 5.0), ref=ref), Ground((x, y + 5.0)),
+                    Label((x + 1.2, y + 2.4), ref, "right", "top"),
+                    Label((x + 1.2, y + 2.6), text, "right", "bottom")]
+    sheet.support[role] = ref
+
+
 def _chip_pin(items: list[Item], outer: Point, inner: Point, number: str, name: str,
               h: str, v: str) -> None:
     """A pin lead from ``outer`` to the chip body at ``inner``: its number beside the lead,
@@ -535,12 +546,7 @@ def astable_schematic(ra: Sequence[NetworkDrawing], rb: Sequence[NetworkDrawing]
     pin((x_gnd, by1 + 2.0), (x_gnd, by1), "gnd", "center", "top")
     items.append(Ground((x_gnd, by1 + 2.0)))
     pin((x_cv, by1 + 2.0), (x_cv, by1), "ctrl", "center", "top")
-    ref = pen.ref("C")
-    items.append(Component("capacitor", (x_cv, by1 + 2.0), (x_cv, by1 + 7.0), ref=ref))
-    items.append(Ground((x_cv, by1 + 7.0)))
-    sheet.support["control"] = ref
-    items.append(Label((x_cv + 1.2, by1 + 4.4), ref, "right", "top"))
-    items.append(Label((x_cv + 1.2, by1 + 4.6), control_text, "right", "bottom"))
+    _cap_to_ground(sheet, pen, (x_cv, by1 + 2.0), "control", control_text)
     # Right: OUT.
     y_out = (by0 + by1) / 2
     pin((bx1 + 2.0, y_out), (bx1, y_out), "out", "left", "middle")
@@ -550,12 +556,7 @@ def astable_schematic(ra: Sequence[NetworkDrawing], rb: Sequence[NetworkDrawing]
     # Decoupling right at the VCC pin: from the rail's end to ground.
     xd = bx1 + 3.0
     items.append(Wire(((x_rst, rail), (xd, rail), (xd, rail + 1.0))))
-    ref = pen.ref("C")
-    items.append(Component("capacitor", (xd, rail + 1.0), (xd, rail + 6.0), ref=ref))
-    items.append(Ground((xd, rail + 6.0)))
-    sheet.support["decoupling"] = ref
-    items.append(Label((xd + 1.2, rail + 3.4), ref, "right", "top"))
-    items.append(Label((xd + 1.2, rail + 3.6), decoupling_text, "right", "bottom"))
+    _cap_to_ground(sheet, pen, (xd, rail + 1.0), "decoupling", decoupling_text)
     return sheet
 
 
@@ -656,12 +657,7 @@ def divider_schematic(r: NetworkDrawing, rs: NetworkDrawing, capacitor: NetworkD
     xd = bx1 + 3.0
     items.append(Wire(((x_vdd, rail), (xd, rail), (xd, rail + 1.0))))
     items.append(Junction((x_vdd, rail)))
-    ref = pen.ref("C")
-    items.append(Component("capacitor", (xd, rail + 1.0), (xd, rail + 6.0), ref=ref))
-    items.append(Ground((xd, rail + 6.0)))
-    sheet.support["decoupling"] = ref
-    items.append(Label((xd + 1.2, rail + 3.4), ref, "right", "top"))
-    items.append(Label((xd + 1.2, rail + 3.6), decoupling_text, "right", "bottom"))
+    _cap_to_ground(sheet, pen, (xd, rail + 1.0), "decoupling", decoupling_text)
     for x, role, name in ((bx0 + 4.0, "gnd", "VSS"), (bx0 + 10.0, "reset", "MR")):
         _chip_pin(items, (x, by1 + 2.0), (x, by1), pins[role], name, "center", "top")
         items.append(Ground((x, by1 + 2.0)))
