@@ -19,9 +19,6 @@ from core.units import Tolerance
 
 POT = "P"
 """The role key of a design's pot (the contract's JSON key)."""
-TRIMMED = "R"
-"""The role a pot is in series with: the Schmitt inverter's timing resistor, the one
-circuit trim designs are made for (its ``trimmable`` roles)."""
 LOG_TAPER_BASE = 81.0
 """Base of the log taper law r = (b^x − 1)/(b − 1); b = 81 puts 10 % at mid-rotation."""
 
@@ -66,6 +63,8 @@ class Design:
     networks: dict[str, Network]
     notes: list[str]
     diode_steered: bool = False
+    trimmed: str = ""
+    """The role the pot is in series with (one of the circuit's ``trimmable``)."""
 
     @property
     def part_count(self) -> int:
@@ -92,7 +91,7 @@ class Design:
         if not self.has_pot:
             return {k: float(v) for k, v in self.values.items()}
         values = {k: float(n.value) for k, n in self.networks.items() if k != POT}
-        values[TRIMMED] += self.pot_share(rotation_pct)
+        values[self.trimmed] += self.pot_share(rotation_pct)
         return values
 
     def tolerances_at(self, rotation_pct: float = 0.0) -> dict[str, Tolerance]:
@@ -100,13 +99,13 @@ class Design:
         both low, both high)."""
         tol = {k: network_tolerance(n) for k, n in self.networks.items() if k != POT}
         if self.has_pot:
-            r, p = self.networks[TRIMMED], self.networks[POT]
+            r, p = self.networks[self.trimmed], self.networks[POT]
             (r_lo, r_hi), (p_lo, p_hi) = r.value_range, p.value_range
 
             def total(fixed: float, pot: float) -> float:
                 return fixed + float(pot_resistance(pot, rotation_pct, self.taper))
 
             nominal = total(r.value, p.value)
-            tol[TRIMMED] = Tolerance(1 - total(r_lo, p_lo) / nominal,
+            tol[self.trimmed] = Tolerance(1 - total(r_lo, p_lo) / nominal,
                                      total(r_hi, p_hi) / nominal - 1)
         return tol

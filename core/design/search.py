@@ -34,29 +34,27 @@ from __future__ import annotations
 
 import math
 from collections import Counter
-from collections.abc import Callable
 from dataclasses import dataclass, field
 from typing import Any
 
 import numpy as np
 
+from core.design.buy import at_stage, stage_oscillators, suggest
 from core.design.design import Design
+from core.design.inversion import follower_entries, frequency_and_duty, tuned_resistance
 from core.errors import InputError
-from core.model.leakage import capacitor_leakage_a, network_leakage_a
+from core.model.circuits.divider import tap
+from core.model.leakage import network_leakage_a
 from core.model.spread import worst_case_hz
 from core.model.timing import (
     Oscillator,
     Prediction,
-    astable_times,
     practitioner_warnings,
-    schmitt_resistance_for,
-    schmitt_times,
     times,
 )
 from core.parts.drawer import Part
-from core.parts.eseries import nearest
 from core.parts.networks import DrawerIndex, Network, NetworkIndex, drawer_index
-from core.units import format_frequency, format_part_value, format_resistance, format_signed_pct
+from core.units import format_frequency, format_resistance, format_signed_pct
 
 NEAR_COPY = 0.02
 """Two candidates whose R and C both agree within this fraction are near-copies."""
@@ -66,7 +64,6 @@ PER_SIDE = 2
 """Index neighbours taken on each side of the ideal value, per layer."""
 RANK_DEPTH = 200
 """Ranked combinations per requested candidate kept for the variety pass."""
-LN2 = math.log(2.0)
 
 
 @dataclass(frozen=True)
@@ -89,6 +86,12 @@ class Candidate(Design):
     notes: list[str] = field(default_factory=list)
     duty_asked_pct: float | None = None
     hit: bool = False
+    divide_by: int = 1
+
+    @property
+    def oscillator_hz(self) -> float:
+        """The oscillator's own frequency [Hz] ahead of any counter."""
+        return self.frequency_hz * self.divide_by
 
     @property
     def duty_error_pct(self) -> float | None:
@@ -115,6 +118,9 @@ class Candidate(Design):
         }
         if self.duty_asked_pct is not None:
             out["duty_error_pct"] = self.duty_error_pct
+        if self.divide_by > 1:
+            out.update(divide_by=self.divide_by, tap=tap(self.divide_by),
+                       oscillator_hz=self.oscillator_hz)
         return out
 
 
@@ -141,68 +147,6 @@ class SearchResult:
             "candidates": [c.to_json() for c in self.candidates],
             "suggestions": list(self.suggestions),
         }
-
-
-# ---------------------------------------------------------------- model helpers
-
-def schmitt_frequency(osc: Oscillator, r: Any, c: Any) -> tuple[np.ndarray, np.ndarray]:
-    """Full-model (frequency [Hz], duty [%]) for R [Ω] and C [F] arrays; NaN if no oscillation."""
-    return _frequency_and_duty(*schmitt_times(osc, np.asarray(r, float), np.asarray(c, float)))
-
-
-def astable_frequency(osc: Oscillator, ra: Any, rb: Any, c: Any,
-                      diode_steered: bool) -> tuple[np.ndarray, np.ndarray]:
-    """Full-model (frequency [Hz], duty [%]) of the 555 astable for RA, RB [Ω], C [F]."""
-    return _frequency_and_duty(*astable_times(osc, np.asarray(ra, float), np.asarray(rb, float),
-                                              np.asarray(c, float), diode_steered=diode_steered))
-
-
-def _frequency_and_duty(t_high: np.ndarray, t_low: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
-    """(frequency [Hz], duty [%]) from the output-high and output-low times [s]."""
-    period = t_high + t_low
-    return 1.0 / period, 100.0 * t_high / period
-
-
-def schmitt_resistance(osc: Oscillator, target_hz: float, c: np.ndarray,
-                       limits: tuple[float, float] = (1.0, 1e10),
-                       clip: bool = False) -> np.ndarray:
-    """R [Ω] that gives ``target_hz`` [Hz] with each C [F] (full nominal model); NaN if none.
-
-    Only capacitors whose one-evaluation estimate (f nearly proportional to
-    1/R) falls within a factor of two of ``limits`` [Ω] are solved: by a few
-    rescaling steps where they converge to 1e-9, else by the model's own
-    inverse (``schmitt_resistance_for``, a bracketed secant). That keeps a search on a
-    full capacitor kit within milliseconds. With ``clip`` the answer is moved
-    into ``limits`` (an unreachable target gives the nearest allowed R, where
-    the closest miss lies).
-    """
-    c = np.asarray(c, dtype=float)
-    r_ref = math.sqrt(limits[0] * limits[1])
-    f_ref, _ = schmitt_frequency(osc, np.full(c.shape, r_ref), c)
-    with np.errstate(invalid="ignore"):
-        estimate = r_ref * f_ref / target_hz
-    # NaN at r_ref (a TTL input stopping oscillation) still gets the exact inverse.
-    maybe = ~(estimate < 0.5 * limits[0]) & ~(estimate > 2.0 * limits[1])
-    out = np.full(c.shape, np.nan)
-    # f is close to proportional to 1/R: a few rescaling steps converge where the model
-    # is smooth; the model's own inverse settles the rest.
-    r = np.where(maybe & np.isfinite(estimate), estimate, np.nan)
-    with np.errstate(invalid="ignore", divide="ignore"):
-        for _ in range(4):
-            f, _ = schmitt_frequency(osc, r, c)
-            r = r * f / target_hz
-        f, _ = schmitt_frequency(osc, r, c)
-        done = np.abs(f / target_hz - 1.0) < 1e-9
-    out[done] = r[done]
-    rest = maybe & ~done
-    if rest.any():
-        out[rest] = schmitt_resistance_for(osc, target_hz, c[rest])
-    if clip:
-        # No exact answer: the estimate shows the side; no estimate (R too large to
-        # oscillate at all) means the smallest allowed R.
-        fallback = np.where(np.isnan(estimate), limits[0], estimate)
-        out = np.clip(np.where(np.isnan(out), fallback, out), *limits)
-    return out
 
 
 def combined_error(error_pct: Any, accept_pct: float, duty_error: Any = None,
@@ -293,10 +237,13 @@ def _worst_low(index: DrawerIndex, osc: Oscillator, s: _Shortlist,
         values[role], ranges[role] = net.values[e], (net.lo[e], net.hi[e])
     caps, at = np.unique(s.entries["C"][rows], return_inverse=True)
     leakage = np.array([network_leakage_a(index.capacitors.nodes([int(e)])[0], osc.supply_v)
-                        for e in caps])
-    low, _ = worst_case_hz(osc, values, ranges, diode_steered=s.diode_steered,
-                           capacitor_leakage_a=leakage[at])
-    return np.asarray(low, dtype=float)
+                        for e in caps])[at]
+    low = np.empty(len(rows))
+    for n, k in s.stages(rows):
+        low[k], _ = worst_case_hz(at_stage(osc, n), {r: v[k] for r, v in values.items()},
+                                  {r: (lo[k], hi[k]) for r, (lo, hi) in ranges.items()},
+                                  diode_steered=s.diode_steered, capacitor_leakage_a=leakage[k])
+    return low
 
 
 def _varied(order: np.ndarray, c_entry: np.ndarray, r_values: np.ndarray,
@@ -331,11 +278,58 @@ def search(parts: list[Part], osc: Oscillator, target_hz: float, duty_pct: float
            duty_within: float = DUTY_WITHIN_POINTS) -> SearchResult:
     """Rank builds from ``parts`` for ``target_hz`` [Hz] on oscillator ``osc``.
 
-    ``duty_pct`` [%] only for the 555 (None: whatever RA and RB give);
-    ``accept_pct`` [%] the error counted as a hit, ``duty_within`` [points] the
-    duty error counted as a hit; ``index`` a prebuilt ``DrawerIndex`` of these
-    parts (built here when missing or too small).
+    ``duty_pct`` [%] only for a circuit with steering (None: whatever the parts
+    give); ``accept_pct`` [%] the error counted as a hit, ``duty_within``
+    [points] the duty error counted as a hit; ``index`` a prebuilt
+    ``DrawerIndex`` of these parts (built here when missing or too small).
     """
+    _check_goal(osc, target_hz, duty_pct, accept_pct, duty_within, top)
+    osc.circuit.require_designed("search")
+    if index is None or not index.covers(max_resistors, max_capacitors):
+        index = drawer_index(parts, max_resistors, max_capacitors)
+    goal = _Goal(osc, target_hz, duty_pct, accept_pct, duty_within, top, max_resistors,
+                 max_capacitors)
+    notes = goal.opening_notes(index)
+    if not len(index.resistors) or not len(index.capacitors):
+        missing = "resistors" if not len(index.resistors) else "capacitors"
+        notes.append(f"the drawer has no {missing} in stock, so nothing can be built")
+        return SearchResult(target_hz, goal.limits, notes, [])
+    shortlist = _shortlist(index, goal, notes)
+    if shortlist is None:
+        notes.append(f"no network of up to {max_resistors} resistors and {max_capacitors} "
+                     f"capacitors reaches {format_frequency(target_hz)} inside the "
+                     "resistor range (or the circuit would not oscillate)")
+        return SearchResult(target_hz, goal.limits, notes, [], goal.suggest(index))
+    err = shortlist.error_pct
+    reached = _reaches(err, accept_pct)
+    candidates: list[Candidate] = []
+    stalled = False
+    score = combined_error(err, accept_pct, shortlist.duty_error, duty_within)
+    low = np.full(len(err), np.nan)
+    if reached:
+        order, low = _oscillating_first(index, osc, shortlist, score, top,
+                                        build_steadiness(index, shortlist.entries))
+        # Only builds that run at every corner count as reaching the target.
+        stalled = not _reaches(err[low > 0], accept_pct)
+        if not stalled:
+            picked = _varied(order, shortlist.entries["C"], shortlist.r_sum,
+                             shortlist.c_values, top)
+            candidates = _candidates(index, osc, target_hz, shortlist, picked, score,
+                                     duty_pct)
+    suggestions: list[dict[str, Any]] = []
+    if not any(c.hit for c in candidates):
+        notes += _why_no_hit(goal, shortlist, candidates, score, low, reached, stalled)
+        suggestions = goal.suggest(index)
+        if suggestions:
+            first = suggestions[0]
+            notes.append(f"buying {first['buy']['text']} ({first['buy']['series']}) would give "
+                         f"{format_signed_pct(first['error_pct'])} with parts you have")
+    return SearchResult(target_hz, goal.limits, notes, candidates, suggestions)
+
+
+def _check_goal(osc: Oscillator, target_hz: float, duty_pct: float | None, accept_pct: float,
+                duty_within: float, top: int) -> None:
+    """InputError naming the first impossible part of the goal."""
     if not accept_pct > 0:
         raise InputError("the acceptable error must be above zero", text=str(accept_pct),
                          what="accept")
@@ -353,81 +347,75 @@ def search(parts: list[Part], osc: Oscillator, target_hz: float, duty_pct: float
     if duty_pct is not None and not osc.circuit.steerable:
         raise InputError("--duty applies to the 555 astable; a Schmitt inverter's duty follows "
                          "from its thresholds", text=str(duty_pct), what="duty")
-    osc.circuit.require_designed("search")
-    if index is None or not index.covers(max_resistors, max_capacitors):
-        index = drawer_index(parts, max_resistors, max_capacitors)
-    device = osc.device
-    limits = (float(device.r_min_ohm), float(device.r_max_ohm))
-    notes = [f"resistor networks limited to {format_resistance(limits[0])} … "
-             f"{format_resistance(limits[1])} for {device.family.name} at "
-             f"{device.supply_v:g} V", *index.notes]
-    if target_hz > device.f_max_hz:
-        notes.append(f"{format_frequency(target_hz)} is above what the {device.family.name} "
-                     f"does well (about {format_frequency(device.f_max_hz)}, where the "
-                     "propagation delays become a tenth of the period)")
-    if not len(index.resistors) or not len(index.capacitors):
-        missing = "resistors" if not len(index.resistors) else "capacitors"
-        notes.append(f"the drawer has no {missing} in stock, so nothing can be built")
-        return SearchResult(target_hz, limits, notes, [])
-    if osc.circuit.name == "555":
-        shortlist = _shortlist_555(index, osc, target_hz, duty_pct, max_resistors,
-                                   max_capacitors, limits, notes, top, accept_pct, duty_within)
-    else:
-        shortlist = _shortlist_schmitt(index, osc, target_hz, max_resistors, max_capacitors,
-                                       limits)
-    if shortlist is None:
-        notes.append(f"no network of up to {max_resistors} resistors and {max_capacitors} "
-                     f"capacitors reaches {format_frequency(target_hz)} inside the "
-                     "resistor range (or the circuit would not oscillate)")
-        return SearchResult(target_hz, limits, notes, [],
-                            suggest(index, osc, target_hz, accept_pct, limits, max_resistors,
-                                    max_capacitors, duty_pct, duty_within=duty_within))
-    err = shortlist.error_pct
-    reached = _reaches(err, accept_pct)
-    candidates: list[Candidate] = []
-    stalled = False
-    if reached:
-        score = combined_error(err, accept_pct, shortlist.duty_error, duty_within)
-        order, low = _oscillating_first(index, osc, shortlist, score, top,
-                                        build_steadiness(index, shortlist.entries))
-        # Only builds that run at every corner count as reaching the target.
-        stalled = not _reaches(err[low > 0], accept_pct)
-        if not stalled:
-            picked = _varied(order, shortlist.entries["C"], shortlist.r_sum,
-                             shortlist.c_values, top)
-            candidates = _candidates(index, osc, target_hz, shortlist, picked, score,
-                                     duty_pct)
-    suggestions: list[dict[str, Any]] = []
-    if not any(c.hit for c in candidates):
-        wanted = ("" if duty_pct is None else
-                  f" at {duty_pct:g} ± {duty_within:g} points of duty")
-        closest = int(np.argmin(np.abs(err)))
-        best_error = candidates[0].error_pct if candidates else float(err[closest])
-        notes.append(f"nothing in the drawer is within ±{accept_pct:g} % of "
-                     f"{format_frequency(target_hz)}{wanted} and oscillates at every corner; "
-                     f"the closest is {format_signed_pct(best_error)}")
-        if stalled:
-            notes.append(f"the builds that reach {format_frequency(target_hz)} (the closest "
-                         f"{format_signed_pct(float(err[closest]))}) stop oscillating at "
-                         "some tolerance, threshold or leakage corner, and none that runs at "
-                         "every corner reaches it, so none is listed")
-        elif reached and np.any((score <= 1.0) & (low == 0.0)):
-            notes.append(f"builds within ±{accept_pct:g} %{wanted} exist but stop oscillating "
-                         "at some tolerance, threshold or leakage corner, so none counts as "
-                         "a hit; they come after every build that runs at all corners")
-        elif not reached:
-            side = "faster" if best_error > 0 else "slower"
-            notes.append(f"no build from the drawer reaches {format_frequency(target_hz)}: "
-                         f"every one runs {side} (the closest at "
-                         f"{format_frequency(float(shortlist.frequency_hz[closest]))}), so "
-                         "none is listed")
-        suggestions = suggest(index, osc, target_hz, accept_pct, limits, max_resistors,
-                              max_capacitors, duty_pct, duty_within=duty_within)
-        if suggestions:
-            first = suggestions[0]
-            notes.append(f"buying {first['buy']['text']} ({first['buy']['series']}) would give "
-                         f"{format_signed_pct(first['error_pct'])} with parts you have")
-    return SearchResult(target_hz, limits, notes, candidates, suggestions)
+
+
+@dataclass(frozen=True)
+class _Goal:
+    """What one search asks, and what follows from it (resistor limits, steering)."""
+
+    osc: Oscillator
+    target_hz: float
+    duty_pct: float | None
+    accept_pct: float
+    duty_within: float
+    top: int
+    max_resistors: int
+    max_capacitors: int
+
+    @property
+    def limits(self) -> tuple[float, float]:
+        """The resistor networks allowed [Ω] (the device table's range)."""
+        return float(self.osc.device.r_min_ohm), float(self.osc.device.r_max_ohm)
+
+    @property
+    def diode(self) -> bool:
+        """Decision where the issue is silent: a duty of 50 % or less uses the
+        diode-steered astable (the plain one cannot reach 50 % with RA > 0)."""
+        return self.duty_pct is not None and self.duty_pct <= 50.0
+
+    def opening_notes(self, index: DrawerIndex) -> list[str]:
+        device, (lo, hi) = self.osc.device, self.limits
+        notes = [f"resistor networks limited to {format_resistance(lo)} … "
+                 f"{format_resistance(hi)} for {device.family.name} at "
+                 f"{device.supply_v:g} V", *index.notes]
+        fastest = self.target_hz * min(self.osc.circuit.divide_by)
+        if fastest > device.f_max_hz:
+            notes.append(f"{format_frequency(fastest)} is above what the {device.family.name} "
+                         f"does well (about {format_frequency(device.f_max_hz)}, where the "
+                         "propagation delays become a tenth of the period)")
+        return notes
+
+    def suggest(self, index: DrawerIndex) -> list[dict[str, Any]]:
+        return suggest(index, self.osc, self.target_hz, self.accept_pct, self.limits,
+                       self.max_resistors, self.max_capacitors, self.duty_pct,
+                       duty_within=self.duty_within, diode=self.diode)
+
+
+def _why_no_hit(goal: _Goal, shortlist: _Shortlist, candidates: list[Candidate],
+                score: np.ndarray, low: np.ndarray, reached: bool, stalled: bool) -> list[str]:
+    """The notes that say why nothing is a hit."""
+    target, accept, err = format_frequency(goal.target_hz), goal.accept_pct, shortlist.error_pct
+    wanted = ("" if goal.duty_pct is None else
+              f" at {goal.duty_pct:g} ± {goal.duty_within:g} points of duty")
+    closest = int(np.argmin(np.abs(err)))
+    best_error = candidates[0].error_pct if candidates else float(err[closest])
+    notes = [f"nothing in the drawer is within ±{accept:g} % of {target}{wanted} and "
+             f"oscillates at every corner; the closest is {format_signed_pct(best_error)}"]
+    if stalled:
+        notes.append(f"the builds that reach {target} (the closest "
+                     f"{format_signed_pct(float(err[closest]))}) stop oscillating at "
+                     "some tolerance, threshold or leakage corner, and none that runs at "
+                     "every corner reaches it, so none is listed")
+    elif reached and np.any((score <= 1.0) & (low == 0.0)):
+        notes.append(f"builds within ±{accept:g} %{wanted} exist but stop oscillating "
+                     "at some tolerance, threshold or leakage corner, so none counts as "
+                     "a hit; they come after every build that runs at all corners")
+    elif not reached:
+        side = "faster" if best_error > 0 else "slower"
+        notes.append(f"no build from the drawer reaches {target}: every one runs {side} (the "
+                     f"closest at {format_frequency(float(shortlist.frequency_hz[closest]))}), "
+                     "so none is listed")
+    return notes
 
 
 def _reaches(error_pct: np.ndarray, accept_pct: float) -> bool:
@@ -450,28 +438,104 @@ class _Shortlist:
     duty_error: np.ndarray | None = None
     """Predicted minus asked duty [points]; None without a duty target."""
     diode_steered: bool = False
+    divide_by: np.ndarray | None = None
+    """A counter's output ratio per combination (None: no counter)."""
+
+    def stages(self, rows: np.ndarray) -> list[tuple[int, np.ndarray]]:
+        """(output ratio, the positions in ``rows`` at it) for each ratio among ``rows``."""
+        if self.divide_by is None:
+            return [(1, np.arange(len(rows)))]
+        at = self.divide_by[rows]
+        return [(int(n), np.flatnonzero(at == n)) for n in np.unique(at)]
 
 
-def _shortlist_schmitt(index: DrawerIndex, osc: Oscillator, target_hz: float,
-                       max_resistors: int, max_capacitors: int,
-                       limits: tuple[float, float]) -> _Shortlist | None:
-    res, caps = index.resistors, index.capacitors
+def _joined(lists: list[_Shortlist], ratios: list[int]) -> _Shortlist | None:
+    """One shortlist from one per output ratio, each row keeping its ratio."""
+    if not lists:
+        return None
+    first = lists[0]
+
+    def cat(name: str) -> np.ndarray:
+        return np.concatenate([getattr(x, name) for x in lists])
+
+    return _Shortlist({k: np.concatenate([x.entries[k] for x in lists]) for k in first.entries},
+                      cat("frequency_hz"), cat("duty_pct"), cat("error_pct"), cat("parts"),
+                      cat("r_sum"), cat("c_values"),
+                      None if first.duty_error is None else cat("duty_error"),
+                      first.diode_steered,
+                      np.concatenate([np.full(len(x.error_pct), n)
+                                      for x, n in zip(lists, ratios, strict=True)]))
+
+
+def _shortlist(index: DrawerIndex, goal: _Goal, notes: list[str]) -> _Shortlist | None:
+    """The combinations worth the full model, for every output ratio the circuit offers:
+    with enumerated resistor roles (the 555's RA) every pair with C and the tuned
+    resistor's neighbours, else the tuned resistor's neighbours for every C."""
+    found, ratios = [], []
+    for osc in stage_oscillators(goal.osc, goal.target_hz):
+        if osc.circuit.enumerated:
+            s = _shortlist_pairs(index, osc, goal.target_hz, goal.duty_pct, goal.max_resistors,
+                                 goal.max_capacitors, goal.limits, notes, goal.top,
+                                 goal.accept_pct, goal.duty_within, goal.diode)
+        else:
+            s = _shortlist_tuned(index, osc, goal.target_hz, goal.max_resistors,
+                                 goal.max_capacitors, goal.limits, notes)
+        if s is not None:
+            found.append(s)
+            ratios.append(osc.divide_by)
+    if len(goal.osc.circuit.divide_by) == 1:
+        return found[0] if found else None
+    return _joined(found, ratios)
+
+
+NO_FOLLOWER_NOTE = ("some builds were left out: no resistor network in the drawer lies "
+                    "within {low:g} … {high:g} × {tuned} for {role} (it keeps the input "
+                    "clamp diodes out of the timing)")
+
+
+def _shortlist_tuned(index: DrawerIndex, osc: Oscillator, target_hz: float,
+                     max_resistors: int, max_capacitors: int, limits: tuple[float, float],
+                     notes: list[str]) -> _Shortlist | None:
+    """For every capacitor network, the tuned resistor's neighbours in the index (and
+    the follower the drawer offers for each)."""
+    res, caps, circuit = index.resistors, index.capacitors, osc.circuit
     ce = caps.entries(max_capacitors)
     cv = caps.values[ce]
-    r_ideal = schmitt_resistance(osc, target_hz, cv, limits, clip=True)
+    r_ideal = tuned_resistance(osc, target_hz, {"C": cv}, limits, clip=True)
     near = res.nearest(r_ideal, max_resistors, PER_SIDE, *limits)
     rows, cols = np.nonzero(near >= 0)
     if not rows.size:
         return None
     re, ce = near[rows, cols], ce[rows]
-    f, duty = schmitt_frequency(osc, res.values[re], caps.values[ce])
+    entries = {circuit.tuned: re}
+    if circuit.follower is not None:
+        role, low, high = circuit.follower
+        fe = follower_entries(res, osc, res.values[re], max_resistors, limits)
+        fits = (fe >= 0) & ~res.overused(re, np.maximum(fe, 0))
+        if not fits.all():
+            notes.append(NO_FOLLOWER_NOTE.format(low=low, high=high, tuned=circuit.tuned,
+                                                 role=role))
+        re, ce, fe = re[fits], ce[fits], fe[fits]
+        entries = {circuit.tuned: re, role: fe}
+    entries["C"] = ce
+    values = {k: (caps if k == "C" else res).values[e] for k, e in entries.items()}
+    f, duty = frequency_and_duty(osc, values)
     ok = np.isfinite(f)
     if not ok.any():
         return None
-    re, ce, f, duty = re[ok], ce[ok], f[ok], duty[ok]
-    return _Shortlist({"R": re, "C": ce}, f, duty, (f - target_hz) / target_hz * 100.0,
-                      res.part_count[re].astype(int) + caps.part_count[ce],
-                      res.values[re], caps.values[ce])
+    entries = {k: e[ok] for k, e in entries.items()}
+    f, duty = f[ok], duty[ok]
+    resistors = [e for k, e in entries.items() if k != "C"]
+    return _Shortlist(entries, f, duty, (f - target_hz) / target_hz * 100.0,
+                      sum(res.part_count[e].astype(int) for e in resistors)
+                      + caps.part_count[entries["C"]],
+                      res.values[entries[circuit.tuned]], caps.values[entries["C"]])
+
+
+def _pair(osc: Oscillator, ra: Any, rb: Any, c: Any) -> dict[str, Any]:
+    """Part values by role for the pair strategy: the enumerated resistor (the 555's RA),
+    the tuned one (RB) and C."""
+    return {osc.circuit.enumerated[0]: ra, osc.circuit.tuned: rb, "C": c}
 
 
 def _astable_rb(osc: Oscillator, target_hz: float, ra: np.ndarray, c: np.ndarray,
@@ -485,7 +549,7 @@ def _astable_rb(osc: Oscillator, target_hz: float, ra: np.ndarray, c: np.ndarray
     want = 1.0 / target_hz
 
     def period(rb: np.ndarray) -> np.ndarray:
-        t_high, t_low = astable_times(osc, ra, rb, c, diode_steered=diode)
+        t_high, t_low = times(osc, _pair(osc, ra, rb, c), diode)
         return t_high + t_low
 
     with np.errstate(invalid="ignore", divide="ignore"):
@@ -514,7 +578,7 @@ def _duty_rb(osc: Oscillator, ra: np.ndarray, duty_pct: float, diode: bool) -> n
             return np.where(d > 0.5, ra * (1.0 - d) / max(2.0 * d - 1.0, 1e-12), np.inf)
         rb = ra * (1.0 - d) / d
         for _ in range(3):
-            t_high, t_low = astable_times(osc, ra, rb, 1e-6, diode_steered=True)
+            t_high, t_low = times(osc, _pair(osc, ra, rb, 1e-6), True)
             rb = rb * t_high * (1.0 - d) / (d * t_low)
         return np.where(np.isfinite(rb) & (rb > 0), rb, np.inf)
 
@@ -522,7 +586,7 @@ def _duty_rb(osc: Oscillator, ra: np.ndarray, duty_pct: float, diode: bool) -> n
 def _lowest_steered_duty(osc: Oscillator, limits: tuple[float, float]) -> float:
     """The smallest duty [%] the diode-steered astable reaches within the resistor limits
     (RA at its smallest, RB at its largest)."""
-    t_high, t_low = astable_times(osc, limits[0], limits[1], 1e-6, diode_steered=True)
+    t_high, t_low = times(osc, _pair(osc, limits[0], limits[1], 1e-6), True)
     return float(100.0 * t_high / (t_high + t_low))
 
 
@@ -531,10 +595,10 @@ COMBINATION_BUDGET = 2_500_000
 skipped, with a note."""
 
 
-def _shortlist_555(index: DrawerIndex, osc: Oscillator, target_hz: float,
-                   duty_pct: float | None, max_resistors: int, max_capacitors: int,
-                   limits: tuple[float, float], notes: list[str], top: int,
-                   accept_pct: float, duty_within: float) -> _Shortlist | None:
+def _shortlist_pairs(index: DrawerIndex, osc: Oscillator, target_hz: float,
+                     duty_pct: float | None, max_resistors: int, max_capacitors: int,
+                     limits: tuple[float, float], notes: list[str], top: int,
+                     accept_pct: float, duty_within: float, diode: bool) -> _Shortlist | None:
     """RA, RB, C combinations: for every (RA, C) pair, the RB neighbours that matter.
 
     Those are the RB values next to the one that hits the frequency and, with a
@@ -543,7 +607,6 @@ def _shortlist_555(index: DrawerIndex, osc: Oscillator, target_hz: float,
     stops once enough hits are found that no later tier can outrank.
     """
     res, caps = index.resistors, index.capacitors
-    diode = duty_pct is not None and duty_pct <= 50.0
     if diode:
         notes.append(f"a duty of {duty_pct:g} % needs the diode-steered astable (a diode "
                      "across RB): RA sets the high time, RB the low time")
@@ -586,7 +649,7 @@ def _shortlist_555(index: DrawerIndex, osc: Oscillator, target_hz: float,
     ra, rb, cc, f, duty = (np.concatenate(x) for x in zip(*found, strict=True))
     if not ra.size:
         return None
-    return _Shortlist({"RA": ra, "RB": rb, "C": cc}, f, duty,
+    return _Shortlist(_pair(osc, ra, rb, cc), f, duty,
                       (f - target_hz) / target_hz * 100.0,
                       res.part_count[ra].astype(int) + res.part_count[rb] + caps.part_count[cc],
                       res.values[ra] + res.values[rb], caps.values[cc],
@@ -618,7 +681,8 @@ def _rb_neighbours(index: DrawerIndex, osc: Oscillator, target_hz: float,
     ra, rb, cc = a[rows], near[rows, cols], cc[rows]
     fits = ~res.overused(ra, rb)
     ra, rb, cc = ra[fits], rb[fits], cc[fits]
-    f, duty = astable_frequency(osc, res.values[ra], res.values[rb], caps.values[cc], diode)
+    f, duty = frequency_and_duty(osc, _pair(osc, res.values[ra], res.values[rb],
+                                            caps.values[cc]), diode)
     ok = np.isfinite(f)
     return ra[ok], rb[ok], cc[ok], f[ok], duty[ok]
 
@@ -666,9 +730,16 @@ def _candidates(index: DrawerIndex, osc: Oscillator, target_hz: float, s: _Short
     ranges = {r: tuple(np.array(x) for x in zip(*(n[r].value_range for n in chosen),
                                                   strict=True)) for r in roles}
     leakage = np.array([network_leakage_a(n["C"], osc.supply_v) for n in chosen])
-    low, high = worst_case_hz(osc, values, ranges, diode_steered=s.diode_steered,
-                              capacitor_leakage_a=leakage)
-    t_high, t_low = times(osc, values, s.diode_steered)
+    low, high, t_high, t_low = (np.empty(len(chosen)) for _ in range(4))
+    ratio = np.ones(len(chosen), dtype=int)
+    for n, k in s.stages(np.asarray(picked)):
+        stage, at_k = at_stage(osc, n), {r: v[k] for r, v in values.items()}
+        low[k], high[k] = worst_case_hz(stage, at_k, {r: (lo[k], hi[k]) for r, (lo, hi)
+                                                      in ranges.items()},
+                                        diode_steered=s.diode_steered,
+                                        capacitor_leakage_a=leakage[k])
+        t_high[k], t_low[k] = times(stage, at_k, s.diode_steered)
+        ratio[k] = n
     out = []
     for k, (i, networks) in enumerate(zip(picked, chosen, strict=True)):
         period = float(t_high[k] + t_low[k])
@@ -678,8 +749,8 @@ def _candidates(index: DrawerIndex, osc: Oscillator, target_hz: float, s: _Short
         vals = {r: float(values[r][k]) for r in roles}
         c_parts = networks["C"].parts()
         dielectric = next((p.dielectric for p in c_parts if p.polarised), c_parts[0].dielectric)
-        notes = practitioner_warnings(osc, vals, prediction, dielectric=dielectric,
-                                      diode_steered=s.diode_steered)
+        notes = practitioner_warnings(at_stage(osc, int(ratio[k])), vals, prediction,
+                                      dielectric=dielectric, diode_steered=s.diode_steered)
         stops = bool(stops_at_a_corner(prediction.worst_case_hz[0]))
         if stops:
             notes.insert(0, STOPS_NOTE)
@@ -689,7 +760,8 @@ def _candidates(index: DrawerIndex, osc: Oscillator, target_hz: float, s: _Short
         out.append(Candidate(osc.circuit.name, vals, networks, prediction.frequency_hz,
                              (prediction.frequency_hz - target_hz) / target_hz * 100.0,
                              prediction.duty_pct, prediction.worst_case_hz, s.diode_steered,
-                             notes, duty_pct, bool(score[i] <= 1.0) and not stops))
+                             notes, duty_pct, bool(score[i] <= 1.0) and not stops,
+                             int(ratio[k])))
     # The shortlist's screen used the index's value ranges; the concrete lines decide.
     order = sorted(range(len(out)),
                    key=lambda k: (out[k].stops, float(score[picked[k]]) if out[k].stops else 0))
@@ -699,149 +771,3 @@ def _candidates(index: DrawerIndex, osc: Oscillator, target_hz: float, s: _Short
 STOPS_NOTE = ("stops at a corner: some combination of part tolerances, thresholds and "
               "leakage within their limits does not oscillate, so this build is never a hit "
               "and comes after every build that oscillates at all corners")
-
-
-# ---------------------------------------------------------------- what to buy
-
-BUY_SERIES = ("E12", "E24", "E96")
-CAPACITOR_SERIES = ("E12", "E24")
-"""Capacitors are sold in E6/E12, film and C0G sometimes in E24; an E96 capacitor is
-rare, so capacitor suggestions stop at E24 (common practice, no published source)."""
-"""IEC 60063 series tried in order when suggesting a part to buy."""
-BUY_RANGE = {"R": (1.0, 10e6), "C": (10e-12, 10e-3)}
-"""Values one can buy off the shelf [Ω, F] (common practice, no published source)."""
-
-
-def _solve_capacitance(frequency: Callable[[np.ndarray], np.ndarray], target_hz: float,
-                       c: np.ndarray) -> np.ndarray:
-    """C [F] that gives ``target_hz``, from a first guess, f being nearly proportional to 1/C."""
-    with np.errstate(invalid="ignore", divide="ignore"):
-        for _ in range(3):
-            f = frequency(c)
-            c = np.where(np.isfinite(f) & (f > 0), c * f / target_hz, np.nan)
-    return c
-
-
-def suggest(index: DrawerIndex, osc: Oscillator, target_hz: float, accept_pct: float,
-            limits: tuple[float, float], max_resistors: int, max_capacitors: int,
-            duty_pct: float | None = None, count: int = 3,
-            duty_within: float = DUTY_WITHIN_POINTS) -> list[dict[str, Any]]:
-    """Parts to buy (nearest IEC 60063 values) that hit the target with parts already owned.
-
-    Tries E12, then E24, then E96 (capacitors: E24 at most) and keeps the first
-    series that gives a hit within ``accept_pct`` [%]; with no hit in any, the
-    closest proposals of the last round.
-    Schmitt: buy the resistor for an owned capacitor network, or the capacitor
-    for an owned resistor network. 555: buy the capacitor for owned single RA
-    and RB. Each suggestion names what to buy, what it pairs with, and its error.
-    """
-    res, caps = index.resistors, index.capacitors
-    diode = duty_pct is not None and duty_pct <= 50.0
-    best: list[dict[str, Any]] = []
-    for series in BUY_SERIES:
-        c_series = series if series in CAPACITOR_SERIES else CAPACITOR_SERIES[-1]
-        options: list[tuple[float, int, dict[str, Any]]] = []
-        if osc.circuit.name == "schmitt" and len(caps):
-            ce = caps.entries(max_capacitors)
-            r = schmitt_resistance(osc, target_hz, caps.values[ce], limits)
-            buy = np.clip(nearest(r, series), *BUY_RANGE["R"])
-            buy = np.where((buy >= limits[0]) & (buy <= limits[1]), buy, np.nan)
-            f, _ = schmitt_frequency(osc, buy, caps.values[ce])
-            options += _options(index, osc, "R", buy, {"C": ce},
-                                {"R": buy, "C": caps.values[ce]}, f, target_hz, series)
-        if osc.circuit.name == "schmitt" and len(res):
-            re = res.entries(max_resistors, *limits)
-            rv = res.values[re]
-            c0 = 1.0 / (target_hz * rv)  # f ≈ 1/(RC) to start; refined with the model
-            c = _solve_capacitance(lambda c, rv=rv: schmitt_frequency(osc, rv, c)[0],
-                                   target_hz, c0)
-            buy = np.clip(nearest(c, c_series), *BUY_RANGE["C"])
-            f, _ = schmitt_frequency(osc, rv, buy)
-            options += _options(index, osc, "C", buy, {"R": re}, {"R": rv, "C": buy}, f,
-                                target_hz, c_series)
-        if osc.circuit.name == "555" and len(res):
-            singles = res.entries(1, *limits)
-            ra, rb = (a.ravel() for a in np.meshgrid(singles, singles, indexing="ij"))
-            fits = ~res.overused(ra, rb)
-            ra, rb = ra[fits], rb[fits]
-            va, vb = res.values[ra], res.values[rb]
-            if duty_pct is not None:
-                _, duty = astable_frequency(osc, va, vb, np.full(va.shape, 1e-6), diode)
-                keep = np.abs(duty - duty_pct) <= duty_within
-                ra, rb, va, vb = ra[keep], rb[keep], va[keep], vb[keep]
-            c0 = 1.0 / (target_hz * LN2 * (va + (1.0 if diode else 2.0) * vb))
-            c = _solve_capacitance(
-                lambda c, va=va, vb=vb: astable_frequency(osc, va, vb, c, diode)[0],
-                target_hz, c0)
-            buy = np.clip(nearest(c, c_series), *BUY_RANGE["C"])
-            f, _ = astable_frequency(osc, va, vb, buy, diode)
-            options += _options(index, osc, "C", buy, {"RA": ra, "RB": rb},
-                                {"RA": va, "RB": vb, "C": buy}, f, target_hz, c_series, diode)
-        options.sort(key=lambda o: (o[0] > accept_pct, o[1] if o[0] <= accept_pct else 0, o[0]))
-        chosen: list[dict[str, Any]] = []
-        seen: set[tuple[str, float]] = set()
-        for _, _, option in options:
-            key = (option["buy"]["kind"], option["buy"]["value"])
-            if key not in seen:
-                seen.add(key)
-                chosen.append(option)
-            if len(chosen) == count:
-                break
-        best = chosen
-        if chosen and abs(chosen[0]["error_pct"]) <= accept_pct:
-            break
-    return best
-
-
-BOUGHT_ELECTROLYTIC_F = 10e-6
-"""A capacitor to buy from this value up is taken as an aluminium electrolytic (film and
-ceramic parts are rare above it: common practice, no published source)."""
-
-
-def _options(index: DrawerIndex, osc: Oscillator, kind: str, buy: np.ndarray,
-             owned: dict[str, np.ndarray], values: dict[str, np.ndarray], f: np.ndarray,
-             target_hz: float, series: str,
-             diode: bool = False) -> list[tuple[float, int, dict[str, Any]]]:
-    """The best few (|error|, owned parts, suggestion) of one way of buying.
-
-    ``values`` are every role's values [Ω, F] per option. Options that stop at some
-    threshold or leakage corner (nominal part values) are left out.
-    """
-    error = (f - target_hz) / target_hz * 100.0
-    ok = np.flatnonzero(np.isfinite(error) & np.isfinite(buy))
-    ok = ok[np.argsort(np.abs(error[ok]), kind="stable")][:20]
-    rows, nets = [], []
-    for i in ok:
-        taken: Counter[int] = Counter()
-        networks = {}
-        try:
-            for role, entries in owned.items():
-                net_index = index.capacitors if role == "C" else index.resistors
-                (networks[role],) = net_index.nodes([int(entries[i])], taken)
-        except InputError:
-            continue
-        rows.append(int(i))
-        nets.append(networks)
-    if not rows:
-        return []
-    leakage = np.array([network_leakage_a(n["C"], osc.supply_v) if "C" in n else
-                        float(capacitor_leakage_a(buy[i], "electrolytic" if buy[i]
-                                                  >= BOUGHT_ELECTROLYTIC_F else "",
-                                                  osc.supply_v))
-                        for i, n in zip(rows, nets, strict=True)])
-    low, _ = worst_case_hz(osc, {k: v[rows] for k, v in values.items()}, {},
-                           diode_steered=diode, capacitor_leakage_a=leakage)
-    out = []
-    for i, networks, runs in zip(rows, nets, np.atleast_1d(low) > 0, strict=True):
-        if not runs:
-            continue
-        role = "C" if kind == "C" else "R"
-        out.append((abs(float(error[i])), sum(n.part_count for n in networks.values()), {
-            "buy": {"kind": kind, "role": role, "value": float(buy[i]), "series": series,
-                    "text": format_part_value(float(buy[i]), kind)},
-            "with": {r: n.to_json() for r, n in networks.items()},
-            "with_text": {r: n.describe() for r, n in networks.items()},
-            "frequency_hz": float(f[i]),
-            "error_pct": float(error[i]),
-        }))
-    return out

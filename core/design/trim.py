@@ -25,12 +25,12 @@ from typing import Any
 import numpy as np
 
 from core.design.design import Design, pot_resistance, rotation_for_share
+from core.design.inversion import frequency_and_duty, tuned_resistance
 from core.design.robust import drifted_index_ranges, drifted_part_ranges
-from core.design.search import schmitt_frequency, schmitt_resistance
 from core.errors import InputError
 from core.model.drift import Conditions, conditions_chip_factor, conditions_oscillators
 from core.model.spread import calibration_factors
-from core.model.timing import Oscillator, schmitt_resistance_for
+from core.model.timing import Oscillator, resistance_for
 from core.parts.drawer import Part
 from core.parts.networks import DrawerIndex, Network, NetworkIndex, drawer_index, single
 from core.units import format_frequency
@@ -57,6 +57,7 @@ class TrimCandidate(Design):
     rotation_pct: tuple[float, float]
     resolution_hz_per_pct: float
     notes: list[str] = field(default_factory=list)
+    trimmed: str = "R"
 
     def to_json(self) -> dict[str, Any]:
         return {
@@ -93,7 +94,12 @@ def _corner_oscillators(osc: Oscillator) -> list[Oscillator]:
 
 def _corner_frequencies(osc: Oscillator, r: np.ndarray, c: np.ndarray) -> np.ndarray:
     """Frequency [Hz] at every threshold corner: shape (corners, len(r)); NaN = stops."""
-    return np.stack([schmitt_frequency(o, r, c)[0] for o in _corner_oscillators(osc)])
+    return np.stack([_frequency(o, r, c) for o in _corner_oscillators(osc)])
+
+
+def _frequency(osc: Oscillator, r: np.ndarray, c: np.ndarray) -> np.ndarray:
+    """Nominal-model frequency [Hz] with the trimmed role at ``r`` [Ω] and C at ``c`` [F]."""
+    return frequency_and_duty(osc, {osc.circuit.tuned: r, "C": c})[0]
 
 
 def guaranteed_band(osc: Oscillator, r: tuple[np.ndarray, np.ndarray],
@@ -111,8 +117,8 @@ def guaranteed_band(osc: Oscillator, r: tuple[np.ndarray, np.ndarray],
     for o in _all_corners(osc, conditions):
         for rv in r:
             for cv in c:
-                zero.append(schmitt_frequency(o, rv, cv)[0])
-                full.extend(schmitt_frequency(o, rv + pv, cv)[0] for pv in p)
+                zero.append(_frequency(o, rv, cv))
+                full.extend(_frequency(o, rv + pv, cv) for pv in p)
     full_f, zero_f = np.stack(full), np.stack(zero)
     stops = np.isnan(full_f).any(axis=0) | np.isnan(zero_f).any(axis=0)
     low_factor, high_factor = _inward_factors(osc, conditions)
@@ -171,9 +177,9 @@ def trim(parts: list[Part], osc: Oscillator, band_hz: tuple[float, float], top: 
     # B: largest fixed R (at its high corner) that still reaches HI at zero rotation with C
     # high and the slowest thresholds; A: total resistance at full rotation (low corners)
     # that gets down to LO at the fastest thresholds.
-    b_need = np.min([schmitt_resistance(o, hi_band / low_factor, c_hi[ce], limits)
+    b_need = np.min([tuned_resistance(o, hi_band / low_factor, {"C": c_hi[ce]}, limits)
                      for o in corners], axis=0)
-    a_need = np.max([schmitt_resistance(o, lo_band / high_factor, c_lo[ce], limits)
+    a_need = np.max([tuned_resistance(o, lo_band / high_factor, {"C": c_lo[ce]}, limits)
                      for o in corners], axis=0)
     pot_value = np.array([p.value for p in pots])
     pot_lo, pot_hi = drifted_part_ranges("P", pots, conditions)
@@ -195,8 +201,8 @@ def trim(parts: list[Part], osc: Oscillator, band_hz: tuple[float, float], top: 
         notes.append(_why_none(pots, lo_band, hi_band))
         return TrimResult((lo_band, hi_band), notes, [])
     re, pi, ce_sel, low, high = re[ok], pi[ok], ce_sel[ok], low[ok], high[ok]
-    f_full, _ = schmitt_frequency(osc, res.values[re] + pot_value[pi], caps.values[ce_sel])
-    f_zero, _ = schmitt_frequency(osc, res.values[re], caps.values[ce_sel])
+    f_full = _frequency(osc, res.values[re] + pot_value[pi], caps.values[ce_sel])
+    f_zero = _frequency(osc, res.values[re], caps.values[ce_sel])
     parts_used = res.part_count[re].astype(int) + 1 + caps.part_count[ce_sel]
     # One design per pot and capacitor network (the finest fixed R for that pair).
     chosen = [int(i) for i in np.lexsort((parts_used, f_zero / f_full))[:top]]
@@ -250,10 +256,11 @@ def _why_none(pots: tuple[Part, ...], lo: float, hi: float) -> str:
 def _design(osc: Oscillator, r_node: Network, p_node: Network, c_node: Network,
             band: tuple[float, float], range_hz: tuple[float, float],
             guaranteed: tuple[float, float]) -> TrimCandidate:
-    pot = p_node.parts()[0]
-    values = {"R": r_node.value, "P": pot.value, "C": c_node.value}
-    networks = {"R": r_node, "P": p_node, "C": c_node}
-    cand = TrimCandidate(values, networks, range_hz, guaranteed, (0.0, 0.0), 0.0)
+    pot, trimmed = p_node.parts()[0], osc.circuit.tuned
+    values = {trimmed: r_node.value, "P": pot.value, "C": c_node.value}
+    networks = {trimmed: r_node, "P": p_node, "C": c_node}
+    cand = TrimCandidate(values, networks, range_hz, guaranteed, (0.0, 0.0), 0.0,
+                         trimmed=trimmed)
     centre = 0.5 * (band[0] + band[1])
     rot_high, rot_low, x = (float(r) for r in rotation_for(osc, cand, np.array(
         [band[1], band[0], centre])))
@@ -279,10 +286,10 @@ def frequency_at_rotation(osc: Oscillator, candidate: TrimCandidate, rotation_pc
     lowest/highest frequency over every tolerance and threshold corner (the
     edges of the guaranteed band at each rotation). NaN where it stops.
     """
-    r, p, c = (candidate.networks[k] for k in ("R", "P", "C"))
+    r, p, c = (candidate.networks[k] for k in (candidate.trimmed, "P", "C"))
     if corner is None:
         total = r.value + pot_resistance(p.value, rotation_pct, candidate.taper)
-        return schmitt_frequency(osc, total, np.full(np.shape(total), c.value))[0]
+        return _frequency(osc, total, np.full(np.shape(total), c.value))
     if corner not in ("low", "high"):
         raise InputError("corner is None, 'low' or 'high'", text=str(corner), what="corner")
     (r_lo, r_hi), (p_lo, p_hi), (c_lo, c_hi) = (n.value_range for n in (r, p, c))
@@ -296,8 +303,8 @@ def frequency_at_rotation(osc: Oscillator, candidate: TrimCandidate, rotation_pc
 def rotation_for(osc: Oscillator, candidate: TrimCandidate, frequency_hz: Any) -> np.ndarray:
     """Rotation [%] that gives ``frequency_hz`` [Hz] with nominal parts; NaN outside the range."""
     f = np.asarray(frequency_hz, dtype=float)
-    total = schmitt_resistance_for(osc, f, candidate.values["C"])
-    share = (total - candidate.values["R"]) / candidate.values["P"]
+    total = resistance_for(osc, f, {"C": candidate.values["C"]}, candidate.trimmed)
+    share = (total - candidate.values[candidate.trimmed]) / candidate.values["P"]
     share = np.where((share >= -1e-9) & (share <= 1 + 1e-9), np.clip(share, 0.0, 1.0), np.nan)
     rotation = rotation_for_share(share, candidate.taper)
     return rotation if rotation.ndim else float(rotation)

@@ -116,31 +116,44 @@ def astable_times(osc: Oscillator, ra: ArrayLike, rb: ArrayLike, c: ArrayLike,
 
 
 ROOT_STEPS = 60
-"""Most steps of the bracketed secant in ``schmitt_resistance_for`` (it needs about eight)."""
+"""Most steps of the bracketed secant in ``resistance_for`` (it needs about eight)."""
 
 
 def schmitt_resistance_for(osc: Oscillator, frequency_hz: ArrayLike, c: ArrayLike,
                            r_bounds: tuple[float, float] = (1.0, 1e10)) -> np.ndarray:
-    """R [Ω] giving exactly ``frequency_hz`` [Hz] with capacitor ``c`` [F] (nominal model).
+    """R [Ω] giving exactly ``frequency_hz`` [Hz] with capacitor ``c`` [F] on the Schmitt
+    inverter (nominal model; see ``resistance_for``)."""
+    return resistance_for(osc, frequency_hz, {"C": c}, "R", r_bounds)
 
-    Vectorised over both (broadcast). The period rises monotonically with R
-    and nearly in proportion, so a secant on log R, kept inside a bracket that
-    shrinks with every step (a bisection step wherever the secant leaves it or
-    the circuit stops), converges in a few steps everywhere; NaN where no R
-    within ``r_bounds`` reaches the frequency (too fast for the chip, or the
-    TTL input current stops oscillation first).
+
+def resistance_for(osc: Oscillator, frequency_hz: ArrayLike, values: Mapping[str, ArrayLike],
+                   role: str, r_bounds: tuple[float, float] = (1.0, 1e10),
+                   diode_steered: bool = False) -> np.ndarray:
+    """The resistance [Ω] of ``role`` giving exactly ``frequency_hz`` [Hz] with the other
+    parts at ``values`` [Ω, F] (nominal model).
+
+    Vectorised over everything (broadcast). The period rises monotonically with a
+    timing resistor and nearly in proportion, so a secant on log R, kept inside a
+    bracket that shrinks with every step (a bisection step wherever the secant leaves
+    it or the circuit stops), converges in a few steps everywhere; NaN where no R
+    within ``r_bounds`` reaches the frequency (too fast for the chip, or the TTL
+    input current stops oscillation first).
     """
     target = 1.0 / np.asarray(frequency_hz, dtype=float)
-    c = np.asarray(c, dtype=float)
-    shape = np.broadcast_shapes(target.shape, c.shape)
+    shape = np.broadcast_shapes(target.shape, *(np.shape(v) for v in values.values()))
     log_target = np.log(np.broadcast_to(target, shape)).ravel()
-    c = np.broadcast_to(c, shape).ravel()
+    others = {k: np.broadcast_to(np.asarray(v, dtype=float), shape).ravel()
+              for k, v in values.items()}
+
+    def period(r: np.ndarray, rows: np.ndarray | slice) -> np.ndarray:
+        t_high, t_low = times(osc, {**{k: v[rows] for k, v in others.items()}, role: r},
+                              diode_steered)
+        return t_high + t_low
 
     def excess(x: np.ndarray, rows: np.ndarray) -> np.ndarray:
         """log(period / target) at R = e^x; +inf where it does not oscillate."""
-        t_high, t_low = schmitt_times(osc, np.exp(x), c[rows])
         with np.errstate(invalid="ignore", divide="ignore"):
-            g = np.log(t_high + t_low) - log_target[rows]
+            g = np.log(period(np.exp(x), rows)) - log_target[rows]
         return np.where(np.isnan(g), np.inf, g)
 
     every = np.arange(log_target.size)
@@ -175,10 +188,9 @@ def schmitt_resistance_for(osc: Oscillator, frequency_hz: ArrayLike, c: ArrayLik
         settled = (np.abs(ga) < 1e-13) | (hi[active] - lo[active] <= 1e-15 * np.abs(xa))
         active = active[~settled]
     # The latest point, or the bracket's low end where that is closer (a steep period).
-    r = np.exp(np.where(np.abs(g_lo) < np.abs(g), lo, x)).reshape(shape)
-    t_high, t_low = schmitt_times(osc, r, c.reshape(shape))
-    hit = np.abs((t_high + t_low) / np.broadcast_to(target, shape) - 1.0) < 1e-9
-    return np.where(hit, r, np.nan)
+    r = np.exp(np.where(np.abs(g_lo) < np.abs(g), lo, x))
+    hit = np.abs(period(r, slice(None)) / np.exp(log_target) - 1.0) < 1e-9
+    return np.where(hit, r, np.nan).reshape(shape)
 
 
 # ---------------------------------------------------------------- prediction

@@ -67,6 +67,11 @@ class Circuit(ABC):
     ``always_steered``: its steering diodes are part of the circuit (no
     ``--diode-steered``). ``drawing``: which schematic and netlist elements core.output draws for it
     (default: ``name``).
+    For the search (core.design): ``tuned`` is the resistor role solved for the
+    frequency; ``follower`` (role, least, most ratio) a resistor chosen within a
+    ratio window of the tuned one rather than for the timing; the roles neither
+    tuned nor following nor C are enumerated from the drawer; ``divide_by`` the
+    output ratios the circuit offers (a counter's pinned-out stages).
     """
 
     name: str
@@ -94,6 +99,9 @@ class Circuit(ABC):
     def drawing_id(self) -> str:
         """The key core.output draws this circuit by (its schematic, its netlist)."""
         return self.drawing or self.name
+    tuned: str = "R"
+    follower: tuple[str, float, float] | None = None
+    divide_by: tuple[int, ...] = (1,)
 
     @property
     def keys(self) -> tuple[str, ...]:
@@ -104,6 +112,12 @@ class Circuit(ABC):
     def value_flags(self) -> str:
         """The command line's flags for the part values: ``--r R --c C``."""
         return " ".join(f"--{r.key.lower()} {r.kind}" for r in self.roles)
+
+    @property
+    def enumerated(self) -> tuple[str, ...]:
+        """The resistor roles a search takes from the drawer as they are (the 555's RA)."""
+        follower = self.follower[0] if self.follower else ""
+        return tuple(k for k in self.resistors if k not in (self.tuned, follower))
 
     @property
     def resistors(self) -> tuple[str, ...]:
