@@ -87,10 +87,12 @@ class Request:
         family = device_table().family(family_name)
         stray = {} if self.stray_capacitance_f is None else {
             "stray_capacitance_f": self.stray_capacitance_f}
-        return make_oscillator(self.circuit or family.circuit, family,
-                               DEFAULT_SUPPLY_V if supply is None else supply,
-                               vt_plus=self.vt_plus_v, vt_minus=self.vt_minus_v,
-                               calibration=cal, load_ohm=self.load_ohm, **stray)
+        osc = make_oscillator(self.circuit or family.circuit, family,
+                              DEFAULT_SUPPLY_V if supply is None else supply,
+                              vt_plus=self.vt_plus_v, vt_minus=self.vt_minus_v,
+                              calibration=cal, load_ohm=self.load_ohm, **stray)
+        # A duty target on a Schmitt inverter is its diode-steered wiring (RH, RL, C).
+        return osc if self.duty_pct is None or self.trim else osc.with_steering()
 
     def usable(self, parts: tuple[Part, ...] | list[Part]) -> tuple[Part, ...]:
         """The drawer's parts this request may use (the dielectric filter applied)."""

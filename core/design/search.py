@@ -283,6 +283,8 @@ def search(parts: list[Part], osc: Oscillator, target_hz: float, duty_pct: float
     [points] the duty error counted as a hit; ``index`` a prebuilt
     ``DrawerIndex`` of these parts (built here when missing or too small).
     """
+    if duty_pct is not None:
+        osc = osc.with_steering()  # the Schmitt inverter's RH, RL, C
     _check_goal(osc, target_hz, duty_pct, accept_pct, duty_within, top)
     osc.circuit.require_designed("search")
     if index is None or not index.covers(max_resistors, max_capacitors):
@@ -345,8 +347,9 @@ def _check_goal(osc: Oscillator, target_hz: float, duty_pct: float | None, accep
         raise InputError("a duty cycle lies between 0 and 100 %", text=str(duty_pct),
                          what="duty")
     if duty_pct is not None and not osc.circuit.steerable:
-        raise InputError("--duty applies to the 555 astable; a Schmitt inverter's duty follows "
-                         "from its thresholds", text=str(duty_pct), what="duty")
+        raise InputError(f"--duty applies to the 555 astable and the Schmitt inverter (with "
+                         f"two steering diodes); the {osc.circuit.title}'s duty follows from "
+                         "its circuit", text=str(duty_pct), what="duty")
 
 
 @dataclass(frozen=True)
@@ -369,9 +372,11 @@ class _Goal:
 
     @property
     def diode(self) -> bool:
-        """Decision where the issue is silent: a duty of 50 % or less uses the
-        diode-steered astable (the plain one cannot reach 50 % with RA > 0)."""
-        return self.duty_pct is not None and self.duty_pct <= 50.0
+        """The 555's steering diode across RB. Decision where the issue is silent: a duty
+        of 50 % or less uses the diode-steered astable (the plain one cannot reach 50 %
+        with RA > 0). A circuit whose diodes are its own (RH, RL) needs no flag."""
+        return (self.duty_pct is not None and self.duty_pct <= 50.0
+                and not self.osc.circuit.always_steered)
 
     def opening_notes(self, index: DrawerIndex) -> list[str]:
         device, (lo, hi) = self.osc.device, self.limits
@@ -488,9 +493,8 @@ def _shortlist(index: DrawerIndex, goal: _Goal, notes: list[str]) -> _Shortlist 
     return _joined(found, ratios)
 
 
-NO_FOLLOWER_NOTE = ("some builds were left out: no resistor network in the drawer lies "
-                    "within {low:g} … {high:g} × {tuned} for {role} (it keeps the input "
-                    "clamp diodes out of the timing)")
+NO_FOLLOWER_NOTE = ("no resistor network in the drawer lies within {low:g} … {high:g} × "
+                    "{tuned} for {role} (it keeps the input clamp diodes out of the timing)")
 
 
 def _shortlist_tuned(index: DrawerIndex, osc: Oscillator, target_hz: float,
@@ -512,9 +516,10 @@ def _shortlist_tuned(index: DrawerIndex, osc: Oscillator, target_hz: float,
         role, low, high = circuit.follower
         fe = follower_entries(res, osc, res.values[re], max_resistors, limits)
         fits = (fe >= 0) & ~res.overused(re, np.maximum(fe, 0))
-        if not fits.all():
+        if not fits.any():
             notes.append(NO_FOLLOWER_NOTE.format(low=low, high=high, tuned=circuit.tuned,
                                                  role=role))
+            return None
         re, ce, fe = re[fits], ce[fits], fe[fits]
         entries = {circuit.tuned: re, role: fe}
     entries["C"] = ce
@@ -574,7 +579,7 @@ def _duty_rb(osc: Oscillator, ra: np.ndarray, duty_pct: float, diode: bool) -> n
     """
     d = duty_pct / 100.0
     with np.errstate(divide="ignore", invalid="ignore"):
-        if not diode:
+        if not (diode or osc.circuit.always_steered):
             return np.where(d > 0.5, ra * (1.0 - d) / max(2.0 * d - 1.0, 1e-12), np.inf)
         rb = ra * (1.0 - d) / d
         for _ in range(3):

@@ -46,6 +46,8 @@ from core.units import format_quantity
 RS_RATIO_MIN = 2.0
 """RS at least this many times R keeps the clamp diodes out of the timing (from memory:
 the CD4060B data sheet's RC-oscillator note gives RS about 2 to 10 times RTC)."""
+RS_RATIO_MAX = 10.0
+"""The top of that window: a search picks RS within RS_RATIO_MIN … RS_RATIO_MAX × R."""
 
 
 def cmos_astable_phases(osc: Oscillator, r: ArrayLike, rs: ArrayLike, c: ArrayLike,
@@ -136,6 +138,6 @@ CMOS_ASTABLE = CmosAstable(name="cmos-astable", title="two-inverter CMOS astable
                            threshold_words="switching voltage {plus:.2f} V ({source})",
                            threshold_names=("switching voltage", ""),
                            pins=PINS, layout_notes=LAYOUT_NOTES, one_threshold=True,
-                           unready=("search",), reversing_c=True,
+                           reversing_c=True, follower=("RS", RS_RATIO_MIN, RS_RATIO_MAX),
                            measure_note="Measure at OUT (the second inverter's output), "
                            "never with a probe on the timing node.")

@@ -15,7 +15,7 @@ from typing import Any
 
 from core.errors import InputError
 from core.model.circuits.base import ArrayLike, Oscillator, Role
-from core.model.circuits.cmos_astable import CmosAstable
+from core.model.circuits.cmos_astable import RS_RATIO_MAX, RS_RATIO_MIN, CmosAstable
 
 PINNED_STAGES = (4, 5, 6, 7, 8, 9, 10, 12, 13, 14)
 """The counter stages the package pins out (from memory: CD4060B and 74HC4060 pinouts,
@@ -82,5 +82,7 @@ DIVIDER = Divider(name="divider", title="oscillator and binary counter",
                   threshold_names=("switching voltage", ""),
                   pins=PINS, layout_notes=("Keep RS right at φI (pin 11) and the timing node "
                                            "small: the node swings beyond the supply rails.",),
-                  one_threshold=True, unready=("search",), reversing_c=True,
+                  one_threshold=True, reversing_c=True,
+                  follower=("RS", RS_RATIO_MIN, RS_RATIO_MAX),
+                  divide_by=tuple(2 ** n for n in PINNED_STAGES),
                   measure_note="Measure at the chosen Q output.")

@@ -232,6 +232,6 @@ STEERED_SCHMITT = SteeredSchmitt(
     oscillator="Schmitt-trigger inverter RC oscillator, diode-steered",
     short="Schmitt oscillator", threshold_words=SCHMITT.threshold_words,
     pins=STEERED_PINS, layout_notes=LAYOUT_NOTES, measure_note=SCHMITT.measure_note,
-    always_steered=True, drawing="schmitt-steered")
+    always_steered=True, drawing="schmitt-steered", tuned="RL")
 """The Schmitt oscillator with two steering diodes: RH sets the high time, RL the low."""
 SCHMITT = replace(SCHMITT, steered_variant=STEERED_SCHMITT)
