@@ -96,7 +96,8 @@ def test_search_without_stock_uses_the_demo_drawer(capsys: pytest.CaptureFixture
 
 
 @pytest.mark.parametrize("argv", [
-    ["search", "--stock", DEMO, "--target", "1k", "--duty", "30"],  # duty is for the 555
+    # --duty is for the 555 and the Schmitt inverter with steering diodes (issue 13)
+    ["search", "--stock", DEMO, "--target", "1k", "--duty", "30", "--circuit", "cmos-astable"],
     ["search", "--stock", DEMO, "--target", "fast"],
     ["search", "--stock", DEMO, "--target", "1k", "--max-resistors", "4"],
     ["search", "--stock", DEMO, "--target", "1k", "--top", "0"],

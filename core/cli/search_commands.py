@@ -26,6 +26,7 @@ from core.cli.drift_options import add_drift_options
 from core.design.robust import robust_search
 from core.design.search import DUTY_WITHIN_POINTS, Candidate, SearchResult
 from core.design.trim import TrimCandidate, TrimResult
+from core.model.circuits.divider import tap
 from core.model.timing import Oscillator
 from core.parts.drawer import (
     Drawer,
@@ -163,6 +164,7 @@ def _search_text(data: dict[str, Any], result: SearchResult, osc: Oscillator) ->
     out = [f"Target {format_frequency(result.target_hz)}: {_device_line(osc)}"]
     roles = osc.circuit.keys
     with_duty = any(c.duty_asked_pct is not None for c in result.candidates)
+    with_tap = any(c.divide_by > 1 for c in result.candidates)
     rows = []
     for k, c in enumerate(result.candidates, 1):
         duty = [f"{c.duty_pct:.1f} %"]
@@ -170,11 +172,13 @@ def _search_text(data: dict[str, Any], result: SearchResult, osc: Oscillator) ->
             duty.append(f"{c.duty_error_pct:+.1f} pt")
         rows.append([str(k), format_frequency(c.frequency_hz, 4), format_signed_pct(c.error_pct),
                      *duty, _band_text(c.worst_case_hz) + (f" {STOPS_MARK}" if c.stops else ""),
-                     str(c.part_count), *(c.networks[r].describe() for r in roles)])
+                     str(c.part_count), *(c.networks[r].describe() for r in roles),
+                     *([f"{tap(c.divide_by)} (÷{c.divide_by}, oscillator "
+                        f"{format_frequency(c.oscillator_hz, 4)})"] if with_tap else [])])
     if rows:
         out.append("")
         out += _table(["#", "frequency", "error", "duty", *(["duty_error"] if with_duty else []),
-                       "worst case", "parts", *roles], rows)
+                       "worst case", "parts", *roles, *(["tap"] if with_tap else [])], rows)
         out += _legend(result.candidates)
         if any(c.stops for c in result.candidates):
             out.append(f"{STOPS_MARK}: stops oscillating at some corner (worst case from 0 Hz); "

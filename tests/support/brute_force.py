@@ -248,3 +248,47 @@ def brute_force_best_555(parts: list[Part], osc: Any, target: float, duty: float
     t_high, t_low = astable_times(osc, *(np.array([row[k][0] for row in rows])
                                          for k in ("RA", "RB", "C")), diode_steered=diode)
     return best_of(osc, rows, t_high, t_low, target, duty, accept, duty_within, diode)
+
+
+def plain_follower(r: float, r_nets: list[tuple[Any, ...]], low: float, high: float
+                   ) -> tuple[Any, ...] | None:
+    """The RS network by our stated rule (core.design.inversion.follower_entries, written
+    again with plain loops): within low … high × R, fewest parts, then nearest the
+    window's geometric middle in ratio. The window is the CD4060B data sheet's RS of
+    about 2 to 10 times RT (from memory)."""
+    middle = math.sqrt(low * high) * r
+    inside = [n for n in r_nets if low * r <= n[0] <= high * r]
+    return min(inside, key=lambda n: (n[4], abs(math.log(n[0] / middle))), default=None)
+
+
+def brute_force_best_follower(parts: list[Part], oscs: list[Any], target: float, max_r: int,
+                              max_c: int, accept: float) -> tuple[Best | None, bool]:
+    """The ranking's best over every R, C (RS by the ratio rule) at each oscillator in
+    ``oscs`` (a counter's stages: the same chip dividing by each ratio), and whether the
+    target is reached at some stage."""
+    from core.model.timing import times
+
+    res = [p for p in parts if p.kind == "R" and p.quantity > 0]
+    caps = [p for p in parts if p.kind == "C" and p.quantity > 0]
+    bests, reached = [], False
+    for osc in oscs:
+        _, low, high = osc.circuit.follower
+        r_nets = [n for n in plain_corners(res, max_r) if within_stock(n[3], parts)
+                  and osc.device.r_min_ohm <= n[0] <= osc.device.r_max_ohm]
+        c_nets = [n for n in plain_corners(caps, max_c) if within_stock(n[3], parts)]
+        rows = []
+        for r in r_nets:
+            rs = plain_follower(r[0], r_nets, low, high)
+            if rs is None or not within_stock(r[3] + rs[3], parts):
+                continue
+            rows += [{"R": r, "RS": rs, "C": c} for c in c_nets
+                     if within_stock(r[3] + rs[3] + c[3], parts)]
+        if not rows:
+            continue
+        t_high, t_low = times(osc, {k: np.array([row[k][0] for row in rows])
+                                    for k in ("R", "RS", "C")})
+        best, reach = best_of(osc, rows, t_high, t_low, target, None, accept, 1.0, False)
+        reached |= reach
+        if best is not None:
+            bests.append(best)
+    return (min(bests) if bests else None), reached
