@@ -252,9 +252,8 @@ def drift_subject(osc: Any, design: Any, values: Mapping[str, float],
     networks = design.networks
     envelopes = {role: network_envelope(role, node) for role, node in networks.items()}
     if "P" in envelopes:
-        from core.design.design import TRIMMED
-
         pot = envelopes.pop("P")
-        envelopes[TRIMMED] = widest(envelopes[TRIMMED], pot, source="fixed part and pot")
+        envelopes[design.trimmed] = widest(envelopes[design.trimmed], pot,
+                                           source="fixed part and pot")
     return DriftSubject(osc, dict(values), envelopes, bool(design.diode_steered), target_hz,
                         band_hz)

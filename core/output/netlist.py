@@ -37,7 +37,7 @@ from dataclasses import dataclass, field
 from pathlib import Path
 
 from core import __version__
-from core.design.design import TRIMMED, Design
+from core.design.design import Design
 from core.design.trim import start_rotation
 from core.errors import SetupError, TickbinError
 from core.model.circuits.divider import tap
@@ -258,8 +258,8 @@ class _Build:
 
 
 def trimmed_role(design: Design) -> str:
-    """The role a trim design's pot is in series with (RB on the 555, else R)."""
-    return "RB" if "RB" in design.networks else TRIMMED
+    """The role a trim design's pot is in series with (the design says: RB on the 555)."""
+    return design.trimmed
 
 
 def _grounded_c(b: _Build) -> list[str]:
