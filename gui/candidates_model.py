@@ -23,6 +23,13 @@ CANDIDATE_ROLE = Qt.ItemDataRole.UserRole + 10
 SORT_ROLE = Qt.ItemDataRole.UserRole + 11
 """Role giving the number a column sorts by (a value, not its text)."""
 
+_ROLES_ANSWERED = frozenset(int(role) for role in (
+    Qt.ItemDataRole.DisplayRole, Qt.ItemDataRole.AccessibleTextRole, CANDIDATE_ROLE,
+    SORT_ROLE, Qt.ItemDataRole.ToolTipRole, Qt.ItemDataRole.ForegroundRole,
+    Qt.ItemDataRole.TextAlignmentRole))
+"""Roles ``data`` answers; the view asks for many more (fonts, sizes, icons) per cell,
+and sizing the columns to a new result asks every cell."""
+
 GOOD = QColor(40, 110, 70)
 FAR = QColor(150, 90, 30)
 
@@ -173,12 +180,14 @@ class CandidatesModel(QAbstractTableModel):
     def __init__(self, parent: Any = None):
         super().__init__(parent)
         self._candidates: list[Any] = []
+        self._answers: dict[tuple[int, int, int], Any] = {}
         self._columns: list[Column] = _search_columns(("R", "C"), False)
         self.trim = False
 
     def set_result(self, candidates: Sequence[Any], trim: bool) -> None:
         """Show ``candidates`` (core Candidate or TrimCandidate objects)."""
         self.beginResetModel()
+        self._answers.clear()
         self._candidates = list(candidates)
         self.trim = trim
         if trim:
@@ -204,10 +213,17 @@ class CandidatesModel(QAbstractTableModel):
 
     def data(self, index: QModelIndex | QPersistentModelIndex,
              role: int = Qt.ItemDataRole.DisplayRole) -> Any:
-        if not index.isValid() or index.row() >= len(self._candidates):
+        if (role not in _ROLES_ANSWERED or not index.isValid()
+                or index.row() >= len(self._candidates)):
             return None
-        cand = self._candidates[index.row()]
-        heading, _, fmt = self._columns[index.column()]
+        key = (index.row(), index.column(), int(role))
+        if key not in self._answers:  # each cell is asked many times; a result is fixed
+            self._answers[key] = self._answer(*key)
+        return self._answers[key]
+
+    def _answer(self, row: int, column: int, role: int) -> Any:
+        cand = self._candidates[row]
+        heading, _, fmt = self._columns[column]
         if role in (Qt.ItemDataRole.DisplayRole, Qt.ItemDataRole.AccessibleTextRole):
             return fmt(cand)
         if role == CANDIDATE_ROLE:

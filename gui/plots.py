@@ -49,7 +49,7 @@ def cosmetic_pen(color: QColor, width: float = 1.0,
 
 def styled_plot(title: str, accessible: str) -> pg.PlotWidget:
     """A plot in our look: white, light grid, our ink, no menu or buttons."""
-    widget = pg.PlotWidget(background="w")
+    widget = pg.PlotWidget(background="w", enableMenu=False)  # no menus: none built
     widget.setAccessibleName(accessible)
     item = widget.getPlotItem()
     item.setTitle(title, color=INK.name(), size="10pt")

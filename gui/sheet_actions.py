@@ -1,23 +1,25 @@
 """The window's build actions: save the sheet as PDF, print it, export the netlist, take parts.
 
 ``install(window)`` adds them to the window's Build menu and tool bar (the window calls it
-once it is on screen; the PDF drawing in gui.sheet_render is loaded on first use). Each action
-works on the selected candidate; the sheet itself is built by core.
+once it is on screen; the sheet, netlist and PDF modules load on first use, so they never
+delay the first result). Each action works on the selected candidate; the sheet itself is
+built by core.
 """
 
 from __future__ import annotations
 
 from pathlib import Path
-from typing import Any
+from typing import TYPE_CHECKING, Any
 
 from PySide6.QtCore import QLocale, Qt
 from PySide6.QtGui import QAction, QKeySequence
 from PySide6.QtWidgets import QFileDialog, QMessageBox, QWidget
 
 from core.errors import TickbinError
-from core.output.netlist import spice_netlist
-from core.output.sheet import Sheet, build_sheet, take_parts, voltage_ratings
 from core.storage.atomic import check_output, write_text_atomically
+
+if TYPE_CHECKING:
+    from core.output.sheet import Sheet
 
 PDF_FILTER = "PDF files (*.pdf)"
 CSV_FILTER = "CSV files (*.csv);;All files (*)"
@@ -76,6 +78,8 @@ class SheetActions:
     # -- what the actions work on
     def sheet(self) -> Sheet | None:
         """The sheet of the selected candidate, or None (after telling the person why)."""
+        from core.output.sheet import build_sheet, voltage_ratings
+
         w = self.window
         candidate, osc, target = w.selected_candidate(), w.current_oscillator(), \
             w.current_target()
@@ -121,6 +125,8 @@ class SheetActions:
             self.window.say("Build sheet sent to the printer.")
 
     def save_netlist(self) -> None:
+        from core.output.netlist import spice_netlist
+
         w = self.window
         candidate, osc = w.selected_candidate(), w.current_oscillator()
         if candidate is None or osc is None:
@@ -173,6 +179,8 @@ class SheetActions:
         w.say(f"Saved {path}.")
 
     def take(self) -> None:
+        from core.output.sheet import take_parts
+
         w = self.window
         sheet = self.sheet()
         if sheet is None:
