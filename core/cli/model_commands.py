@@ -28,9 +28,10 @@ from core.model.calibration import (
 from core.model.circuits import CIRCUITS
 from core.model.circuits.divider import DIVIDER, tap, with_divide_by
 from core.model.devices import device_table
-from core.model.drift import ageing_note, case_name, effective_capacitance
+from core.model.drift import ageing_note, effective_capacitance
 from core.model.spread import monte_carlo
 from core.model.timing import Oscillator, default_tolerances, predict
+from core.parts.drawer import case_name
 from core.storage.atomic import read_regular_file
 from core.units import (
     Tolerance,

@@ -23,6 +23,7 @@ from core.cli.common import (
     value_arg,
 )
 from core.cli.drift_options import add_drift_options
+from core.design.design import Design
 from core.design.robust import robust_search
 from core.design.search import DUTY_WITHIN_POINTS, Candidate, SearchResult
 from core.design.trim import TrimCandidate, TrimResult
@@ -134,7 +135,20 @@ def _run_design(args: argparse.Namespace, as_text: Callable[..., str]) -> int:
     result = find_designs(args, osc, drawer.parts(), args.top)
     data = result.to_json()
     data["notes"] = notes + data["notes"]
+    for cand, shown in zip(result.candidates, data["candidates"], strict=True):
+        marked_values(cand, shown)
     return emit(args, data, lambda d: as_text(d, result, osc))
+
+
+def marked_values(design: Design, data: dict[str, Any]) -> dict[str, Any]:
+    """A design's JSON with ``values`` as printed on the parts (what its NODEs give) and,
+    where a class-2 capacitor's DC bias makes the circuit see less, ``effective_values``
+    (the values the frequency and worst case were worked out with)."""
+    effective = {r: n.value for r, n in design.networks.items() if n.label_value != n.value}
+    if effective:
+        data["values"].update({r: design.networks[r].label_value for r in effective})
+        data["effective_values"] = effective
+    return data
 
 
 # ---------------------------------------------------------------- text tables

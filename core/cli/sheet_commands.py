@@ -15,7 +15,12 @@ from typing import Any
 
 from core.cli.circuit_options import oscillator_from_args
 from core.cli.common import add_json_option, count_arg, emit, percent_arg
-from core.cli.search_commands import add_design_options, find_designs, read_stock
+from core.cli.search_commands import (
+    add_design_options,
+    find_designs,
+    marked_values,
+    read_stock,
+)
 from core.design.design import Design
 from core.errors import InputError, SetupError, TickbinError
 from core.model.drift import Conditions
@@ -142,7 +147,7 @@ def run_sheet(args: argparse.Namespace) -> int:
         "page_size": args.page_size,
         "title": sheet.title,
         "frequency_hz": sheet.frequency_hz,
-        "candidate": design.candidate.to_json(),
+        "candidate": marked_values(design.candidate, design.candidate.to_json()),
         "parts": sheet.to_json()["parts"],
         "taken": taken,
         "notes": design.notes,
@@ -177,7 +182,9 @@ def run_netlist(args: argparse.Namespace) -> int:
              "duty_pct": pred.duty_pct}
     result: dict[str, Any] = {"out": str(out), "circuit": design.osc.circuit.name,
                               "family": design.osc.family.name, "model": model,
-                              "candidate": design.candidate.to_json(), "notes": design.notes}
+                              "candidate": marked_values(design.candidate,
+                                                         design.candidate.to_json()),
+                              "notes": design.notes}
     if args.simulate:
         measured = simulate(text)
         result["simulated"] = measured

@@ -14,7 +14,7 @@ from __future__ import annotations
 from dataclasses import dataclass, replace
 from typing import TYPE_CHECKING
 
-from core.errors import InputError
+from core.errors import InputError, TickbinError
 
 if TYPE_CHECKING:
     from core.design.search import SearchResult
@@ -95,10 +95,21 @@ class Request:
         return osc if self.duty_pct is None or self.trim else osc.with_steering()
 
     def usable(self, parts: tuple[Part, ...] | list[Part]) -> tuple[Part, ...]:
-        """The drawer's parts this request may use (the dielectric filter applied)."""
+        """The drawer's parts this request may use (the dielectric filter applied), each
+        class-2 ceramic with a rated voltage at the capacitance it has under the DC bias
+        of this request's circuit (``core.model.drift.with_dc_bias``)."""
         from core.parts.drawer import with_dielectrics
 
-        return tuple(with_dielectrics(parts, self.dielectrics))
+        kept = with_dielectrics(parts, self.dielectrics)
+        if not any(p.kind == "C" and p.voltage is not None for p in kept):
+            return tuple(kept)
+        from core.model.drift import with_dc_bias
+
+        try:
+            osc = self.oscillator()
+        except TickbinError:
+            return tuple(kept)  # running the request reports why
+        return tuple(with_dc_bias(kept, osc))
 
     def run(self, parts: tuple[Part, ...] | list[Part], osc: Oscillator,
             index: DrawerIndex | None = None, top: int | None = None
@@ -106,20 +117,28 @@ class Request:
         """The trim or search this request asks for, over the usable ``parts``."""
         from core.design.search import search
         from core.design.trim import trim
+        from core.model.drift import bias_notes
 
         usable, top = list(self.usable(parts)), self.top if top is None else top
         if self.pins:
             usable, index = self.pinned(parts, usable, osc.circuit, index)
+        result: SearchResult | TrimResult
         if self.band_hz is not None:
-            return trim(usable, osc, self.band_hz, top=top, max_resistors=self.max_resistors,
-                        max_capacitors=self.max_capacitors, index=index,
-                        conditions=self.conditions)
-        if self.target_hz is None:
+            result = trim(usable, osc, self.band_hz, top=top, max_resistors=self.max_resistors,
+                          max_capacitors=self.max_capacitors, index=index,
+                          conditions=self.conditions)
+        elif self.target_hz is None:
             raise InputError("a request needs a target frequency or a band")
-        within = {} if self.duty_within is None else {"duty_within": self.duty_within}
-        return search(usable, osc, self.target_hz, duty_pct=self.duty_pct,
-                      max_resistors=self.max_resistors, max_capacitors=self.max_capacitors,
-                      accept_pct=self.accept_pct, top=top, index=index, **within)
+        else:
+            within = {} if self.duty_within is None else {"duty_within": self.duty_within}
+            result = search(usable, osc, self.target_hz, duty_pct=self.duty_pct,
+                            max_resistors=self.max_resistors,
+                            max_capacitors=self.max_capacitors, accept_pct=self.accept_pct,
+                            top=top, index=index, **within)
+        for cand in result.candidates:
+            cand.notes.extend(bias_notes(osc, (p for n in cand.networks.values()
+                                               for p in n.parts())))
+        return result
 
     def pinned(self, parts: tuple[Part, ...] | list[Part], usable: list[Part],
                circuit: Circuit, index: DrawerIndex | None

@@ -21,7 +21,7 @@ named per family; P. Horowitz and W. Hill, The Art of Electronics, 3rd ed.,
 from __future__ import annotations
 
 import math
-from collections.abc import Mapping
+from collections.abc import Iterable, Mapping
 from dataclasses import dataclass, replace
 from typing import Any
 
@@ -29,6 +29,8 @@ import numpy as np
 
 from core.errors import InputError, SetupError
 from core.model.timing import Oscillator, frequency, make_oscillator
+from core.parts.drawer import Part
+from core.units import Tolerance, format_part_value
 
 REFERENCE_C = 25.0
 """The temperature [°C] at which values, tolerances and data-sheet typicals are given."""
@@ -317,9 +319,12 @@ DC_BIAS_LOSS_AT_RATED: dict[str, float] = {
     "0402": 0.75, "0603": 0.65, "0805": 0.55, "1206": 0.45, "1210": 0.35, "1812": 0.30,
     "radial": 0.25,
 }
-"""X7R/X5R capacitance lost at the rated DC voltage, by case [1]: typical, from memory of
-makers' published DC-bias characteristic curves (smaller cases use thinner layers and lose
-more). Y5V and Z5U lose ``HIGH_K_LOSS_AT_RATED`` whatever the case (from memory)."""
+"""X7R/X5R capacitance lost at the rated DC voltage, by case [1] (``core.parts.drawer.CASES``).
+Typical, from memory of makers' typical DC-bias characteristic curves for general-purpose
+X7R/X5R MLCCs (Murata, TDK, KEMET data sheets and their online characteristic charts):
+smaller cases hold thinner layers at the same rating and lose more. Y5V and Z5U lose
+``HIGH_K_LOSS_AT_RATED`` whatever the case (from memory). Real parts of one value and case
+differ by maker and layer count; these are typical curves, not limits."""
 HIGH_K_LOSS_AT_RATED = 0.80
 DEFAULT_CASE = "0805"
 """Case assumed when the drawer does not give one (common practice, no published source:
@@ -335,28 +340,19 @@ point (soldering) [%]: X7R ~2.5, Y5V ~7 (makers' ageing notes, from memory); X5R
 Z5U 7 from memory; unmarked ceramic as Y5V. Class 1 and film do not age this way."""
 
 
-def case_name(text: str) -> str:
-    """A case as typed (``0805``, ``Radial``, ``leaded``) in our name; InputError if unknown."""
-    name = text.strip().lower()
-    name = "radial" if name in ("leaded", "through-hole", "tht", "axial") else name
-    if name not in DC_BIAS_LOSS_AT_RATED:
-        raise InputError("expected a case: " + ", ".join(DC_BIAS_LOSS_AT_RATED),
-                         text=text, what="case")
-    return name
-
-
 def dc_bias_factor(dielectric: str, bias_v: float | np.ndarray, rated_v: float | np.ndarray,
                    case: str = DEFAULT_CASE) -> np.ndarray:
     """Effective capacitance / marked capacitance [1] at ``bias_v`` [V] DC (typical curves).
 
-    1 for class 1, film and electrolytics (their DC-bias change is small).
+    1 for class 1, film and electrolytics (their DC-bias change is small). The
+    curve is symmetric: a ceramic loses as much at −V as at +V.
     """
     if dielectric not in CLASS_2:
         return np.ones_like(np.asarray(bias_v, dtype=float))
-    full = (DC_BIAS_LOSS_AT_RATED[case] if dielectric in ("x7r", "x5r")
+    full = (DC_BIAS_LOSS_AT_RATED[case or DEFAULT_CASE] if dielectric in ("x7r", "x5r")
             else HIGH_K_LOSS_AT_RATED)
     x, share = zip(*_BIAS_SHAPE, strict=True)
-    ratio = np.clip(np.asarray(bias_v, dtype=float) / rated_v, 0.0, 1.0)
+    ratio = np.clip(np.abs(np.asarray(bias_v, dtype=float)) / rated_v, 0.0, 1.0)
     return 1.0 - full * np.interp(ratio, x, share)
 
 
@@ -378,9 +374,66 @@ def ageing_note(dielectric: str) -> list[str]:
             "100 000 h; typical, from memory), so the frequency creeps up by as much"]
 
 
-def timing_bias_v(osc: Oscillator) -> float:
-    """The DC voltage [V] the timing capacitor sits at: about the thresholds' midpoint."""
-    return 0.5 * (osc.vt_plus_v + osc.vt_minus_v)
+def capacitor_swing_v(osc: Oscillator) -> tuple[float, float]:
+    """The voltage [V] across the timing capacitor at the two ends of its swing.
+
+    Taken from the circuit's own phases: its two thresholds (VT- … VT+ at the
+    Schmitt inverter's node, VCC/3 … 2VCC/3 at the 555's, the capacitor's own
+    voltage for the CMOS astable, which swings through zero). The thresholds do
+    not depend on the part values, so any positive values serve.
+    """
+    values = {key: 1e-8 if key == "C" else 1e4 for key in osc.circuit.keys}
+    n = osc.circuit.phases(osc, values)
+    ends = (float(n.vt_minus), float(n.vt_plus))
+    return min(ends), max(ends)
+
+
+def swing_bias_factor(osc: Oscillator, dielectric: str, rated_v: float, case: str) -> float:
+    """Effective / marked capacitance [1] over the capacitor's swing (``capacitor_swing_v``).
+
+    The charge a capacitor takes from one threshold to the other is ∫ C(V) dV, so
+    the capacitance that sets the time is the curve's mean over the swing (exact
+    for a constant charging current, and close for an RC charge over part of
+    the supply).
+    """
+    lo, hi = capacitor_swing_v(osc)
+    # The curve is piecewise linear in |V|: the trapezoid rule over its corners is exact.
+    corners = rated_v * np.array([x for x, _ in _BIAS_SHAPE])
+    volts = np.unique(np.clip(np.concatenate([[lo, hi], corners, -corners]), lo, hi))
+    if hi - lo < 1e-12:
+        return float(dc_bias_factor(dielectric, lo, rated_v, case))
+    factor = dc_bias_factor(dielectric, volts, rated_v, case)
+    return float(np.sum(np.diff(volts) * (factor[1:] + factor[:-1]) / 2) / (hi - lo))
+
+
+def with_dc_bias(parts: Iterable[Part], osc: Oscillator) -> list[Part]:
+    """``parts`` with each class-2 ceramic capacitor that has a rated voltage at the
+    capacitance it has over its swing in ``osc`` (typical DC-bias curves); the value
+    printed on it kept as ``marked_value``. Other parts are passed on unchanged."""
+    out = []
+    for p in parts:
+        if p.kind == "C" and p.dielectric in CLASS_2 and p.voltage is not None:
+            factor = swing_bias_factor(osc, p.dielectric, p.voltage, p.case)
+            p = replace(p, value=p.label_value * factor, marked_value=p.label_value)
+        out.append(p)
+    return out
+
+
+def bias_notes(osc: Oscillator, parts: Iterable[Part]) -> list[str]:
+    """One note per capacitor line whose value the DC bias lowered (``with_dc_bias``)."""
+    lines = {p.stock_line: p for p in parts if p.marked_value is not None}
+    return [bias_note(osc, p, f" (line {line})") for line, p in lines.items()]
+
+
+def bias_note(osc: Oscillator, part: Part, where: str = "") -> str:
+    """What the DC bias does to ``part`` (from ``with_dc_bias``), in words."""
+    lo, hi = capacitor_swing_v(osc)
+    marked = part.label_value
+    return (f"C: {format_part_value(marked, 'C')} {part.dielectric.upper() or 'unmarked ceramic'}"
+            f" {part.case or DEFAULT_CASE + ' (case assumed)'} rated {part.voltage:g} V{where} "
+            f"swings {lo:.2g}…{hi:.2g} V: about {100 * (1 - part.value / marked):.1f} % less "
+            f"capacitance, so {format_part_value(part.value, 'C')} in the timing (typical "
+            "DC-bias curve, from memory of makers' curves); C0G or film does not lose it")
 
 
 def effective_capacitance(osc: Oscillator, c_f: float, dielectric: str,
@@ -390,13 +443,10 @@ def effective_capacitance(osc: Oscillator, c_f: float, dielectric: str,
         return c_f, []
     if not (math.isfinite(rated_v) and rated_v > 0):
         raise InputError("a capacitor's rated voltage must be above zero")
-    bias = timing_bias_v(osc)
-    case = case or DEFAULT_CASE
-    factor = float(dc_bias_factor(dielectric, bias, rated_v, case))
-    shown = dielectric.upper() or "unmarked ceramic"
-    return c_f * factor, [f"{shown} {case} rated {rated_v:g} V at {bias:.2g} V DC: about "
-                          f"{100 * (1 - factor):.0f} % less capacitance (typical DC-bias "
-                          "curve, from memory of makers' curves)"]
+    part = Part("C", c_f, Tolerance(0.0, 0.0), 1, dielectric=dielectric, voltage=rated_v,
+                case=case or "")
+    (seen,) = with_dc_bias([part], osc)
+    return seen.value, [bias_note(osc, seen)]
 
 
 # ---------------------------------------------------------------- curves for plots

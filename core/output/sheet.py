@@ -213,7 +213,7 @@ def _next_ref(schematic: Schematic, letter: str) -> str:
 
 
 def _value_text(part: Part) -> str:
-    return format_part_value(part.value, part.kind)
+    return format_part_value(part.label_value, part.kind)
 
 
 def _drawings(design: Design, *roles: str) -> list[NetworkDrawing]:
@@ -648,7 +648,7 @@ def take_parts(drawer: Drawer, used: Sheet | Design) -> list[Taken]:
         wanted = next(p for p in parts if p.stock_line == line)
         text = _value_text(wanted)
         have = current.get(line)
-        if have is None or have.kind != wanted.kind or have.value != wanted.value:
+        if have is None or have.kind != wanted.kind or have.value != wanted.label_value:
             raise InputError(f"stock line {line} no longer holds the {text} the design uses; "
                              "the drawer changed since the search: search again")
         if have.quantity < count:

@@ -36,13 +36,14 @@ from core.units import (
     parse_capacitance,
     parse_resistance,
     parse_tolerance,
+    parse_voltage,
 )
 
 Kind = Literal["R", "P", "C"]
 
 REQUIRED = ("kind", "value", "quantity")
 KNOWN = ("kind", "value", "tolerance", "quantity", "location", "taper", "dielectric", "voltage",
-         "note")
+         "case", "note")
 """Columns Tickbin interprets; any other column is kept as it is."""
 NEW_DRAWER_COLUMNS = ("kind", "value", "tolerance", "quantity", "location", "note")
 
@@ -73,6 +74,21 @@ electrolytics leak and age most (common practice, no published source).
 """
 _DIELECTRIC_WORDS = {"elko": "electrolytic", "elcap": "electrolytic", "alu": "electrolytic",
                      "aluminium": "electrolytic", "aluminum": "electrolytic"}
+
+
+CASES = ("0402", "0603", "0805", "1206", "1210", "1812", "radial")
+"""Capacitor cases the ``case`` column names: EIA chip sizes (inch codes) and leaded parts."""
+_CASE_WORDS = dict.fromkeys(("leaded", "through-hole", "tht", "axial", "disc", "disk"), "radial")
+
+
+def case_name(text: str) -> str:
+    """A case as typed (``0805``, ``Radial``, ``leaded``) in our name; InputError if unknown."""
+    name = text.strip().lower()
+    name = _CASE_WORDS.get(name, name)
+    if name not in CASES:
+        raise InputError("expected a case: " + ", ".join(CASES) + " (leaded parts: radial)",
+                         text=text, what="case")
+    return name
 
 
 def dielectric_name(text: str) -> str:
@@ -110,7 +126,12 @@ class Part:
     """One usable stock line: SI value (Ω or F), tolerance, how many are in the drawer.
 
     ``line`` is the line in the drawer file (header = 1), or None for a row
-    not yet saved; ``row`` is its position in the drawer.
+    not yet saved; ``row`` is its position in the drawer. ``voltage`` is a
+    capacitor's rated voltage [V] and ``case`` its case (``CASES``; "" not
+    given), from the optional columns of those names. ``marked_value`` is the
+    value printed on a part whose ``value`` is what the circuit sees instead (a
+    class-2 ceramic under its DC bias, core.model.drift.with_dc_bias); None
+    when they are the same.
     """
 
     kind: Kind
@@ -124,6 +145,14 @@ class Part:
     line: int | None = None
     row: int = 0
     tolerance_given: bool = True
+    voltage: float | None = None
+    case: str = ""
+    marked_value: float | None = None
+
+    @property
+    def label_value(self) -> float:
+        """The value printed on the part (Ω or F): what to look for in the drawer."""
+        return self.value if self.marked_value is None else self.marked_value
 
     @property
     def polarised(self) -> bool:
@@ -207,6 +236,7 @@ def _parse_row(row: Row, index: int) -> tuple[Part | None, dict[str, str]]:
     taper = _TAPERS.get(row.get("taper").strip().lower())
     if taper is None:
         problems["taper"] = "expected lin or log"
+    rating = _capacitor_rating(row, kind, problems)
     tolerance_text = row.get("tolerance")
     tolerance = None
     if tolerance_text.strip() and kind is not None:
@@ -223,8 +253,25 @@ def _parse_row(row: Row, index: int) -> tuple[Part | None, dict[str, str]]:
     part = Part(kind=kind, value=value, tolerance=tolerance, quantity=quantity,
                 location=row.get("location").strip(), note=row.get("note").strip(),
                 taper=taper, dielectric=dielectric if kind == "C" else "",  # type: ignore[arg-type]
-                line=row.line, row=index, tolerance_given=given)
+                line=row.line, row=index, tolerance_given=given, **rating)
     return part, {}
+
+
+def _capacitor_rating(row: Row, kind: Kind | None, problems: dict[str, str]
+                      ) -> dict[str, Any]:
+    """A capacitor's ``voltage`` [V] and ``case`` where the row gives them; a bad cell goes
+    into ``problems``. Other kinds keep those cells as text, uninterpreted."""
+    out: dict[str, Any] = {}
+    if kind != "C":
+        return out
+    for column, parse in (("voltage", parse_voltage), ("case", case_name)):
+        text = row.get(column)
+        if text.strip():
+            try:
+                out[column] = parse(text)
+            except InputError as e:
+                problems[column] = e.reason
+    return out
 
 
 # ---------------------------------------------------------------- events and undo

@@ -107,6 +107,12 @@ class Network:
         return self._combine(lambda p: p.value)
 
     @property
+    def label_value(self) -> float:
+        """The value from the values printed on the parts (Ω or F); ``value`` differs where
+        a part's is what the circuit sees instead (``Part.marked_value``)."""
+        return self._combine(lambda p: p.label_value)
+
+    @property
     def value_range(self) -> tuple[float, float]:
         """(lowest, highest) value with every part at its tolerance extreme.
 
@@ -137,7 +143,7 @@ class Network:
         """``10 kΩ ser 4.7 kΩ``, ``22 nF par 10 nF``, ``(10 kΩ par 10 kΩ) ser 4.7 kΩ``
         (``NOTATION``)."""
         if self.part is not None:
-            return format_part_value(self.part.value, self.part.kind, digits)
+            return format_part_value(self.part.label_value, self.part.kind, digits)
         sign = f" {SERIES_WORD} " if self.series else f" {PARALLEL_WORD} "
         shown = [c.describe(digits) if c.part is not None else f"({c.describe(digits)})"
                  for c in (self.series or self.parallel)]

@@ -45,14 +45,17 @@ def node_range(node: dict[str, Any], by_line: dict[int, Part]) -> tuple[float, f
 
 def check_trim_candidate(cand: dict[str, Any], parts: list[Part], osc: Any,
                          band: tuple[float, float]) -> None:
+    """``parts`` as the circuit sees them (a class-2 ceramic's DC bias applied): the
+    values checked are the JSON's ``effective_values`` where it gives them."""
     by_line = {p.stock_line: p for p in parts}
+    seen = {**cand["values"], **cand.get("effective_values", {})}
     nets = cand["networks"]
     assert set(nets) == set(cand["values"]) == {"R", "P", "C"}
     assert list(nets["P"]) == ["line"] and by_line[nets["P"]["line"]].kind == "P"
     used = Counter(node_lines(nets["R"]) + node_lines(nets["P"]) + node_lines(nets["C"]))
     assert all(used[line] <= by_line[line].quantity for line in used)
     for role in ("R", "P", "C"):
-        assert cand["values"][role] == pytest.approx(node_value(nets[role], by_line), rel=1e-12)
+        assert seen[role] == pytest.approx(node_value(nets[role], by_line), rel=1e-12)
     r_rng, p_rng, c_rng = (node_range(nets[k], by_line) for k in ("R", "P", "C"))
     corners = osc.threshold_corners()
     full, zero = [], []
@@ -65,7 +68,7 @@ def check_trim_candidate(cand: dict[str, Any], parts: list[Part], osc: Any,
     # lowest zero-rotation frequency; the band must lie inside.
     assert max(full) <= lo * (1 + 1e-12) and min(zero) >= hi * (1 - 1e-12)
     assert cand["guaranteed_hz"] == pytest.approx([max(full), min(zero)], rel=1e-9)
-    v = cand["values"]
+    v = seen
     assert cand["range_hz"] == pytest.approx([f_of(osc, v["R"] + v["P"], v["C"]),
                                               f_of(osc, v["R"], v["C"])], rel=1e-9)
     assert v["R"] > 0
