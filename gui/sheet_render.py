@@ -159,6 +159,13 @@ def _font(size: float, bold: bool = False) -> QFont:
     return f
 
 
+BENCH_RECORD = ("Supply at the chip's pins", "Frequency measured", "Duty cycle measured",
+                "Room temperature", "Chip marking and maker", "Built by, date",
+                "Changes from this sheet")
+"""What a builder writes down at the bench, to compare with the prediction and to calibrate
+from later (common practice, no published source)."""
+
+
 class _Flow:
     """Blocks from top to bottom in millimetres; a block that does not fit starts a page."""
 
@@ -238,6 +245,8 @@ class _Flow:
                    [7.0, 14.0, 40.0, 18.0, 13.0, 9.0, 17.0, 10.0, None], tick_boxes=True)
         self.table(f"Pin hookup ({s.package})", ["Pin", "Function", "Connect to"],
                    [[r.pin, r.function, r.connect] for r in s.pins], [30, 40, None])
+        if self.page == 1:  # page 1 builds it; page 2 checks and adjusts it
+            self.new_page()
         self.heading("Predicted performance", keep=50)
         self.key_values(s.predictions, 70.0)
         self.plot()
@@ -251,7 +260,23 @@ class _Flow:
             self.items(s.warnings)
         self.heading("Cautions", keep=30)
         self.items(s.cautions, boxed=True)
+        self.bench_record()
         self.footer()
+
+    def bench_record(self) -> None:
+        """Lines to write the bench measurements on, in what the last page leaves (never a
+        page of their own): as many of ``BENCH_RECORD`` as fit, at least three."""
+        row, head = 8.0, 14.0
+        fit = min(len(BENCH_RECORD), int((self.height - self.y - head) // row))
+        if fit < 3:
+            return
+        self.heading("Bench record", keep=0)
+        body, x = _font(self.BODY), 62.0
+        for what in BENCH_RECORD[:fit]:
+            self.draw_text(0, self.y + row - 5.0, x - 2.0, what, body)
+            self.p.setPen(QPen(_GREY, 0.2))
+            self.p.drawLine(QPointF(x, self.y + row - 1.0), QPointF(self.width, self.y + row - 1.0))
+            self.y += row
 
     def title(self) -> None:
         h = self.draw_text(0, self.y, self.width * 0.78, self.sheet.title, _font(self.TITLE, True))

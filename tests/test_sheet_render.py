@@ -143,3 +143,27 @@ def test_drawing_a_sheet_keeps_none_and_true_alive(qapp, sheets, tmp_path):
     after = sys.getrefcount(None), sys.getrefcount(True)
     assert after[0] >= before[0] - 50, "the Qt binding is losing references to None"
     assert after[1] >= before[1] - 50, "the Qt binding is losing references to True"
+
+
+@pytest.mark.parametrize("kind", ["search", "trim", "555"])
+def test_page_one_builds_page_two_checks_and_neither_is_near_empty(qapp, sheets, tmp_path,
+                                                                   kind):
+    require_tool("pdftotext")
+    require_tool("pdftoppm")
+    pdf = tmp_path / "sheet.pdf"
+    assert render_sheet_pdf(sheets[kind], pdf) == 2
+    first = _words(_run("pdftotext", "-f", "1", "-l", "1", str(pdf), "-"))
+    second = _words(_run("pdftotext", "-f", "2", "-l", "2", str(pdf), "-"))
+    assert "Schematic" in first and "Parts list" in first
+    assert "Pin hookup" in first + second  # page 1 when it fits (a 555's list is longer)
+    assert "Predicted performance" in second and "Cautions" in second
+    assert "Predicted performance" not in first
+    # Ink reaches at least 70 % of the way down each page's text area (pdftoppm, 36 dpi;
+    # the footer sits in the bottom margin band and is left out).
+    _run("pdftoppm", "-gray", "-r", "36", str(pdf), str(tmp_path / "page"))
+    for image in sorted(tmp_path.glob("page-*.pgm")):
+        ink = _pgm(image) < 160
+        h = ink.shape[0]
+        body = ink[: int(h - (MARGIN_MM + 8) * 36 / 25.4)]
+        lowest = np.nonzero(body.any(axis=1))[0].max()
+        assert lowest / body.shape[0] > 0.7, f"{image.name} is mostly empty"
