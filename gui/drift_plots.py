@@ -6,7 +6,7 @@ Two tabs beside the spread plot. Core computes the curves
 with a steering diode takes longer than a frame); this module only draws them.
 Each plot is made the first time its tab is shown. The ranges are typed in the
 field at the tabs' right (°C unless a unit is given; the family's supply range
-by default) and remembered between runs.
+by default) and remembered between runs (not by a screenshot run).
 """
 
 from __future__ import annotations
@@ -72,9 +72,9 @@ class DriftPlots(QObject):
     sigDrawn = Signal(str)  # noqa: N815
     sigFailed = Signal(str)  # noqa: N815
 
-    def __init__(self, tabs: QTabWidget):
+    def __init__(self, tabs: QTabWidget, *, remember: bool = True):
         super().__init__(tabs)
-        self.tabs = tabs
+        self.tabs, self.remember = tabs, remember
         self.subject: DriftSubject | None = None
         self.plots: dict[str, Any] = {}
         self.items: dict[str, dict[str, Any]] = {}
@@ -86,10 +86,11 @@ class DriftPlots(QObject):
             tabs.addTab(page, label)
             tabs.setTabToolTip(tabs.count() - 1, f"Frequency against {kind} (nominal parts)")
         self.ranges = {"temperature": DEFAULT_TEMPERATURE, "supply": ""}
-        self._restore()
+        if remember:
+            self._restore()
         self.range_edit = QLineEdit()
         self.range_edit.setAccessibleName("drift range")
-        self.range_edit.setFixedWidth(84)
+        self.range_edit.setFixedWidth(78)
         self.range_edit.editingFinished.connect(self._range_typed)
         tabs.setCornerWidget(self.range_edit, Qt.Corner.TopRightCorner)
         self.range_edit.hide()
@@ -129,7 +130,8 @@ class DriftPlots(QObject):
         """Plot ``kind`` over ``text`` (``-20..70``, ``32..104degF``, ``3..4.5V``; an empty
         supply range is the family's)."""
         self.ranges[kind] = text
-        self._remember()
+        if self.remember:
+            self._remember()
         if self.current_kind() == kind:
             self.range_edit.setText(text)
             self._refresh(kind)
@@ -145,7 +147,7 @@ class DriftPlots(QObject):
         if kind is None:
             return
         self.range_edit.setText(self.ranges[kind])
-        self.range_edit.setPlaceholderText("family's range" if kind == "supply" else "")
+        self.range_edit.setPlaceholderText("full range" if kind == "supply" else "")
         self.range_edit.setToolTip(
             "Temperatures to plot, °C unless a unit is given: -20..70, 32..104degF"
             if kind == "temperature" else

@@ -79,16 +79,20 @@ class PlotPanel(QWidget):
     plot waits until a trim result needs it.
     """
 
-    def __init__(self, parent: QWidget | None = None):
+    def __init__(self, parent: QWidget | None = None, *, remember: bool = True):
         super().__init__(parent)
+        self.remember = remember  # the drift ranges typed, between runs
         pg.setConfigOptions(antialias=True)
         self.right = QStackedWidget()
         self.tabs = QTabWidget()
         self.tabs.setDocumentMode(True)
         # Three short names and the range field in view at 1024 px: compact tabs.
         self.tabs.tabBar().setUsesScrollButtons(False)
-        self.tabs.tabBar().setStyleSheet("QTabBar::tab { padding: 2px 8px; } "
-                                         "QTabBar::tab:selected { background: white; }")
+        self.tabs.tabBar().setStyleSheet(
+            "QTabBar::tab { padding: 1px 6px; margin-right: 1px; background: #ece9e3;"
+            " border: 1px solid #d6d2ca; border-bottom: none; border-top-left-radius: 3px;"
+            " border-top-right-radius: 3px; }"
+            " QTabBar::tab:selected { background: white; }")
         self.tabs.setAccessibleName("plots of the selected candidate")
         self.tabs.addTab(self.right, "Spread")
         self._layout = QHBoxLayout(self)
@@ -146,7 +150,7 @@ class PlotPanel(QWidget):
     def _make_drift(self) -> None:
         from gui.drift_plots import DriftPlots
 
-        self.drift = DriftPlots(self.tabs)
+        self.drift = DriftPlots(self.tabs, remember=self.remember)
 
     def _make_rotation(self) -> None:
         if self._rotation_made:

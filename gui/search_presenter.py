@@ -350,7 +350,7 @@ class SearchPresenter(QObject):
     def _make_plots(self) -> None:
         from gui.plots import PlotPanel
 
-        panel = PlotPanel()
+        panel = PlotPanel(remember=self.window.remember)
         self._in_steps(panel.build_steps(), lambda: self._plots_built(panel))
 
     def _plots_built(self, panel: Any) -> None:

@@ -12,7 +12,7 @@ import json
 import numpy as np
 import pytest
 from support.cli import run_tickbin
-from support.gui_helpers import QUIET_OFFSCREEN, search_with
+from support.gui_helpers import QUIET_OFFSCREEN, search_done, search_with
 
 pytest_plugins = ["support.gui_helpers"]
 pytestmark = QUIET_OFFSCREEN
@@ -102,6 +102,16 @@ def test_ranges_are_remembered(qtbot, window, make_window):
     window.plots.drift.set_range("temperature", "0..85")
     again = make_window()
     assert again.plots.drift.ranges["temperature"] == "0..85"
+    # A screenshot run neither reads nor writes them (its pictures are the same anywhere).
+    from gui.main_window import MainWindow
+
+    shot = MainWindow(None, remember=False)
+    qtbot.addWidget(shot)
+    shot.show()
+    search_done(qtbot, shot, shot.finish_startup)
+    assert shot.plots.drift.ranges["temperature"] == "-20..70"
+    shot.plots.drift.set_range("temperature", "10..20")
+    assert make_window().plots.drift.ranges["temperature"] == "0..85"
 
 
 def test_trim_design_marks_its_band(qtbot, window):
