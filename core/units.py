@@ -450,6 +450,10 @@ def format_quantity(value: float, quantity: Quantity, digits: int = 3) -> str:
     symbol = _SYMBOL[quantity]
     if not math.isfinite(value):
         return f"— {symbol}"
+    if quantity in ("period", "time") and abs(value) >= 60:  # a builder reads min and h
+        minutes = abs(value) < 3600
+        text = f"{value / (60 if minutes else 3600):#.{digits}g}".rstrip(".")
+        return f"{text} {'min' if minutes else 'h'}"
     if value == 0:
         return f"0 {symbol}"
     exp3 = int(math.floor(math.log10(abs(value)) / 3) * 3)

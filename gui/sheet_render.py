@@ -366,11 +366,13 @@ class _Flow:
         self.need(height + 2.0)
         box = QRectF(left, self.y, self.width - left - 2.0, height - bottom)
         t0, t1 = float(w.t_s[0]), float(w.t_s[-1])
-        v_top = w.supply_v * 1.08
+        # The supply's span, widened where the node swings beyond the rails.
+        v_bottom = min(0.0, float(w.v_cap_v.min()) * 1.08)
+        v_top = max(w.supply_v, float(w.v_cap_v.max())) * 1.08
 
         def pt(t: float, v: float) -> QPointF:
             return QPointF(box.left() + (t - t0) / (t1 - t0) * box.width(),
-                           box.bottom() - v / v_top * box.height())
+                           box.bottom() - (v - v_bottom) / (v_top - v_bottom) * box.height())
 
         small = _font(self.SMALL)
         self.p.setPen(QPen(Qt.GlobalColor.black, 0.25))
@@ -404,9 +406,7 @@ class _Flow:
                 path.lineTo(pt(float(t), float(v)))
             self.p.setPen(pen)
             self.p.drawPath(path)
-        legend = ("black: timing capacitor voltage · grey: output · dashed: switching "
-                  "thresholds")
-        self.draw_text(box.left(), box.bottom() + 4.6, box.width(), legend, small,
+        self.draw_text(box.left(), box.bottom() + 4.6, box.width(), w.legend, small,
                        Qt.AlignmentFlag.AlignHCenter, _GREY)
         self.y += height + 1.0
 

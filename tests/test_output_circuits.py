@@ -10,9 +10,11 @@ held low, unused inputs tied, decoupling).
 from __future__ import annotations
 
 import datetime as dt
+import json
 
 import pytest
 from support.designs import ngspice_run, one_part_design
+from support.tools import require_tool
 
 from core.model.circuits.divider import with_divide_by
 from core.model.timing import make_oscillator
@@ -126,3 +128,41 @@ def test_ring_netlist_starts_beyond_the_rail():
     ic = next(line for line in text.splitlines() if line.startswith(".ic"))
     node = float(ic.split("v(tn)=")[1].split()[0])
     assert 10.0 < node < 20.0
+
+
+def test_ring_sheet_plots_the_timing_node_beyond_the_rails():
+    # The node jumps by the output step through C (textbook two-inverter astable): from
+    # Vth + VDD down to Vth, then to Vth − VDD and up again.
+    osc = make_oscillator("cmos-astable", "CD4069UB", 10.0)
+    wave = build_sheet(osc, one_part_design(osc, RING_VALUES), "x", today=TODAY).waveform
+    assert wave.v_cap_v.max() == pytest.approx(10.0 + osc.vt_plus_v, abs=0.3)
+    assert wave.v_cap_v.min() == pytest.approx(osc.vt_plus_v - 10.0, abs=0.3)
+    assert "timing node" in wave.legend
+
+
+@pytest.mark.spice
+def test_divider_netlist_from_the_command_line_uses_the_chosen_stage(tmp_path, capsys):
+    # issue 13's example: a two-minute period from the demo drawer; the netlist simulates
+    # the oscillator and scales by the stage the search chose (DESIGN.md, second round).
+    require_tool("ngspice")
+    from core.cli import main
+    out = tmp_path / "d.cir"
+    assert main(["netlist", "--circuit", "divider", "--family", "CD4060B", "--supply", "9V",
+                 "--target", "2min", "--out", str(out), "--simulate", "--json"]) == 0
+    data = json.loads(capsys.readouterr().out)
+    n = data["candidate"]["divide_by"]
+    assert f"PARAM='{n} * osc_period_s'" in out.read_text()
+    assert abs(data["agreement_pct"]) < 0.5 and data["warnings"] == []
+    assert data["simulated"]["period_s"] == pytest.approx(120, rel=0.05)
+
+
+def test_steered_sheet_from_the_command_line_lists_both_diodes(tmp_path, capsys):
+    from core.cli import main
+    from gui.entry import render_sheet
+    out = tmp_path / "s.pdf"
+    assert main(["sheet", "--circuit", "schmitt", "--target", "1kHz", "--duty", "30", "--out",
+                 str(out), "--json"], render_sheet=render_sheet) == 0
+    data = json.loads(capsys.readouterr().out)
+    refs = {p["refs"]: p for p in data["parts"]}
+    assert refs["D1"]["value"] == refs["D2"]["value"] == "1N4148"
+    assert set(data["candidate"]["values"]) == {"RH", "RL", "C"}

@@ -205,3 +205,13 @@ def test_the_common_units_need_no_unit_library() -> None:
             "assert 'pint' not in sys.modules\n"
             "parse_quantity('2min', 'period')\nassert 'pint' in sys.modules\n")
     subprocess.run([sys.executable, "-c", code], check=True)
+
+
+def test_long_periods_read_in_minutes_and_hours():
+    # 60 s = 1 min, 3600 s = 1 h (SI brochure, Table 8: non-SI units accepted for use with
+    # the SI); three significant figures, zeros kept as for seconds.
+    from core.units import format_quantity
+    assert format_quantity(120.0, "period") == "2.00 min"
+    assert format_quantity(7200.0, "period") == "2.00 h"
+    assert format_quantity(59.0, "period") == "59.0 s"
+    assert format_quantity(90.0, "time") == "1.50 min"

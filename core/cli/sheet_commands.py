@@ -23,6 +23,7 @@ from core.cli.search_commands import (
 )
 from core.design.design import Design
 from core.errors import InputError, SetupError, TickbinError
+from core.model.circuits.divider import with_divide_by
 from core.model.drift import Conditions
 from core.model.timing import Oscillator
 from core.output.netlist import (
@@ -35,7 +36,7 @@ from core.output.sheet import build_sheet, take_parts, voltage_ratings
 from core.parts.drawer import Drawer, write_drawer
 from core.storage.atomic import check_output, drawer_lock, write_text_atomically
 from core.storage.locations import demo_drawer_path
-from core.units import format_frequency
+from core.units import format_frequency, format_quantity
 
 PAGE_SIZES = ("A4", "Letter")
 
@@ -103,7 +104,7 @@ def design_from_args(args: argparse.Namespace) -> Picked:
     if args.band is not None:
         target = f"{format_frequency(args.band[0])} … {format_frequency(args.band[1])}"
     else:
-        target = format_frequency(args.target)
+        target = target_text(args.target)
     notes += result.notes
     found = result.candidates
     if not found:
@@ -111,7 +112,18 @@ def design_from_args(args: argparse.Namespace) -> Picked:
     if args.pick > len(found):
         raise InputError(f"--pick {args.pick}: there {'is' if len(found) == 1 else 'are'} "
                          f"only {len(found)} candidate{'s' if len(found) != 1 else ''}")
-    return Picked(osc, drawer, found[args.pick - 1], target, notes)
+    picked = found[args.pick - 1]
+    if picked.divide_by > 1:  # the counter stage the search chose for this design
+        osc = with_divide_by(osc, picked.divide_by)
+    return Picked(osc, drawer, picked, target, notes)
+
+
+def target_text(hertz: float) -> str:
+    """A target as the sheet states it: a slow one as its period too (``2.00 min period,
+    0.00833 Hz``), as it was likely asked."""
+    if hertz >= 1.0:
+        return format_frequency(hertz)
+    return f"{format_quantity(1.0 / hertz, 'period')} period, {format_frequency(hertz)}"
 
 
 def output_path(args: argparse.Namespace) -> Path:

@@ -65,6 +65,8 @@ class Design:
     diode_steered: bool = False
     trimmed: str = ""
     """The role the pot is in series with (one of the circuit's ``trimmable``)."""
+    divide_by: int = 1
+    """A counter's ratio after the oscillator (the divider's chosen stage; 1: none)."""
 
     @property
     def part_count(self) -> int:

@@ -244,7 +244,7 @@ class _Build:
         """The role's network from node ``a`` to ``b`` (a trim design's pot after it where
         it trims that role)."""
         nets = [self.design.networks[role]]
-        if self.design.has_pot and role == trimmed_role(self.design):
+        if self.design.has_pot and role == self.design.trimmed:
             nets.append(self.design.networks["P"])
         ends = [a, *(next(self.names) for _ in nets[:-1]), b]
         lines: list[str] = []
@@ -254,12 +254,7 @@ class _Build:
 
     def pot_note(self, role: str) -> str:
         return (", then the pot (wiper tied to one end)"
-                if self.design.has_pot and role == trimmed_role(self.design) else "")
-
-
-def trimmed_role(design: Design) -> str:
-    """The role a trim design's pot is in series with (the design says: RB on the 555)."""
-    return design.trimmed
+                if self.design.has_pot and role == self.design.trimmed else "")
 
 
 def _grounded_c(b: _Build) -> list[str]:

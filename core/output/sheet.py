@@ -31,7 +31,6 @@ from core.model.diode import SMALL_SIGNAL_DIODE
 from core.model.drift import Conditions, supply_hz, temperature_hz
 from core.model.spread import monte_carlo
 from core.model.timing import Oscillator, predict, waveform
-from core.output.netlist import trimmed_role
 from core.output.schematic import (
     DiodeDrawing,
     NetworkDrawing,
@@ -93,7 +92,8 @@ class PinRow:
 
 @dataclass(frozen=True)
 class Waveform:
-    """Capacitor voltage and output over a few periods (s, V), with the thresholds (V)."""
+    """The timing node's voltage and the output over a few periods (s, V), with the
+    thresholds (V) and the legend to print under the plot."""
 
     t_s: np.ndarray
     v_cap_v: np.ndarray
@@ -101,6 +101,8 @@ class Waveform:
     upper_v: float
     lower_v: float
     supply_v: float
+    legend: str = ("black: timing capacitor voltage · grey: output · dashed: switching "
+                   "thresholds")
 
 
 @dataclass(frozen=True)
@@ -221,7 +223,7 @@ def _drawings(design: Design, *roles: str) -> list[NetworkDrawing]:
     out = []
     for role in roles:
         out.append(NetworkDrawing(design.networks[role], role, _value_text))
-        if design.has_pot and role == trimmed_role(design):
+        if design.has_pot and role == design.trimmed:
             out.append(NetworkDrawing(design.networks["P"], "P", _value_text))
     return out
 
@@ -417,9 +419,7 @@ def build_sheet(osc: Oscillator, candidate: Design, target: str, *,
     m_lo, m_hi = mc.interval_95
     predictions.append((f"95 % of builds{where}", f"{_hz(m_lo)} … {_hz(m_hi)} (Monte Carlo, "
                                                   f"{MONTE_CARLO_DRAWS:,} draws)"))
-    t, v_cap, v_out = waveform(osc, model_values, periods=3, **extra)
-    wave = Waveform(np.asarray(t), np.asarray(v_cap), np.asarray(v_out), osc.vt_plus_v,
-                    osc.vt_minus_v, supply)
+    wave = _waveform(osc, model_values, steered)
 
     summary = [
         ("Target", target + ("" if asked is None else f", duty {asked:g} %")),
@@ -463,6 +463,21 @@ def build_sheet(osc: Oscillator, candidate: Design, target: str, *,
         cautions=_cautions(osc, take, ratings or {}),
         take=tuple(take),
     )
+
+
+def _waveform(osc: Oscillator, values: Mapping[str, float], steered: bool) -> Waveform:
+    """Three periods of the oscillator at its timing node (before any counter)."""
+    t, v_cap, v_out = waveform(osc, values, periods=3, diode_steered=steered)
+    node = osc.circuit.timing_node_v(osc, np.asarray(v_cap), np.asarray(v_out))
+    legend = Waveform.legend
+    if node is not v_cap:
+        legend = ("black: timing node (it swings beyond the supply) · grey: output · dashed: "
+                  "switching voltage")
+    if osc.divide_by > 1:
+        legend += (f"; the oscillator before the counter: the output at "
+                   f"{tap(osc.divide_by)} is {osc.divide_by} times slower")
+    return Waveform(np.asarray(t), node, np.asarray(v_out), osc.vt_plus_v, osc.vt_minus_v,
+                    osc.supply_v, legend)
 
 
 def _drift_rows(osc: Oscillator, candidate: Any,

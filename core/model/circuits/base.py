@@ -171,6 +171,12 @@ class Circuit(ABC):
         """What a builder should know about this circuit beyond the common checks."""
         return []
 
+    def timing_node_v(self, osc: Oscillator, v_cap: np.ndarray, v_out: np.ndarray
+                      ) -> np.ndarray:
+        """The timing node's voltage [V] from the waveform's capacitor voltage and output
+        (the same where C goes to ground)."""
+        return v_cap
+
     def output_low_v(self, device: DeviceAtSupply) -> float:
         """The output pin's low level [V] (the waveform's low)."""
         return device.vol_v

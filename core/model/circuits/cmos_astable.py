@@ -104,6 +104,11 @@ class CmosAstable(Circuit):
             corners.append((centre, centre))
         return corners
 
+    def timing_node_v(self, osc: Oscillator, v_cap: np.ndarray, v_out: np.ndarray
+                      ) -> np.ndarray:
+        """C hangs from OUT: the node is OUT's level less the capacitor's voltage."""
+        return np.where(v_out > 0.5 * osc.supply_v, osc.device.voh_v, osc.device.vol_v) - v_cap
+
     def warnings(self, osc: Oscillator, values: Mapping[str, float],
                  diode_steered: bool) -> list[str]:
         fq = format_quantity
