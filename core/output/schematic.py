@@ -607,7 +607,7 @@ def cmos_astable_schematic(r: NetworkDrawing, rs: NetworkDrawing, capacitor: Net
     r_ext = _extent(r.node, "h", kinds)
     c_ext = _extent(capacitor.node, "h", kinds)
     _hanging_row(sheet, pen, r, 0.0, a_node, -(3.5 + r_ext.near), -1, kinds, values)
-    _hanging_row(sheet, pen, capacitor, 0.0, b_node, 3.5 + c_ext.near, 1, kinds, values)
+    _hanging_row(sheet, pen, capacitor, 0.0, b_node, 4.5 + c_ext.near, 1, kinds, values)
     items += [Junction((0.0, 0.0)), Junction((a_node, 0.0)), Junction((b_node, 0.0))]
     sheet.terminals.update({"node": (0.0, 0.0), "in": (g1, 0.0), "a": (a_node, 0.0),
                             "out": (b_node, 0.0)})

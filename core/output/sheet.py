@@ -25,7 +25,7 @@ from core.design.trim import (
     frequency_at_rotation,
     start_rotation,
 )
-from core.errors import InputError
+from core.errors import InputError, SetupError
 from core.model.circuits.divider import tap
 from core.model.diode import SMALL_SIGNAL_DIODE
 from core.model.drift import Conditions, supply_hz, temperature_hz
@@ -289,6 +289,8 @@ def _cmos_astable_drawing(osc: Oscillator, design: Design, supply_text: str) -> 
 def _divider_drawing(osc: Oscillator, design: Design, supply_text: str) -> Schematic:
     name = tap(osc.divide_by)
     pins = _pin_texts(osc)
+    if name.lower() not in pins:
+        raise SetupError(f"a {osc.family.name} build needs its counter stage (--divide-by N)")
     return divider_schematic(
         *_drawings(design, "R", "RS", "C"), pins={**pins, "tap": pins[name.lower()]},
         chip=f"U1 {osc.family.name}", tap=name, supply_text=supply_text,
