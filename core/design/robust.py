@@ -23,7 +23,8 @@ from core.model.drift import (
     RESISTOR_DRIFT,
     Conditions,
     Envelope,
-    drift_ranges,
+    ageing_words,
+    condition_factors,
     drift_worst_case,
     resistor_kind,
     widest,
@@ -59,9 +60,9 @@ def drifted_index_ranges(index: NetworkIndex, conditions: Conditions | None
 
     A group pools lines of one value and dielectric: its factors span all its lines'.
     """
-    if conditions is None or conditions.temperature_c is None:
+    if not conditions:
         return index.lo, index.hi
-    factors = np.array([_span(index.kind, group, conditions.temperature_c)
+    factors = np.array([_span(index.kind, group, conditions)
                         for group in index.groups]).reshape(-1, 2)
     used = index.usage >= 0
     at = np.where(used, index.usage, 0)
@@ -74,17 +75,15 @@ def drifted_part_ranges(role: str, parts: tuple[Part, ...], conditions: Conditio
                         ) -> tuple[np.ndarray, np.ndarray]:
     """(low, high) value [Ω, F] of each part, stretched by its drift over the conditions."""
     lo, hi = (np.array([p.value_range[k] for p in parts]) for k in (0, 1))
-    if conditions is None or conditions.temperature_c is None:
+    if not conditions:
         return lo, hi
-    factors = np.array([_span(role, [p], conditions.temperature_c) for p in parts])
+    factors = np.array([_span(role, [p], conditions) for p in parts])
     return lo * factors[:, 0], hi * factors[:, 1]
 
 
-def _span(role: str, lines: list[Part], temperature_c: tuple[float, float]
-          ) -> tuple[float, float]:
-    """The lowest and highest factor [1] any of ``lines`` reaches over the temperatures."""
-    spans = [drift_ranges({role: 1.0}, {role: part_envelope(role, p)}, *temperature_c)[role]
-             for p in lines]
+def _span(role: str, lines: list[Part], conditions: Conditions) -> tuple[float, float]:
+    """The lowest and highest factor [1] any of ``lines`` reaches over the conditions."""
+    spans = [condition_factors(part_envelope(role, p), conditions) for p in lines]
     return min(a for a, _ in spans), max(b for _, b in spans)
 
 
@@ -122,5 +121,6 @@ def robust_search(osc: Oscillator, result: SearchResult, conditions: Conditions
         run.append(run[-1] + (tied[i] != tied[i - 1]))
     order = sorted(range(len(cands)), key=lambda i: (run[i], _spread(cands[i])))
     notes = [*result.notes, f"worst cases cover {conditions.describe()} ("
-             "figures: EIA-198 codes, typical film and electrolytic curves, resistor TCR)"]
+             "figures: EIA-198 codes, typical film and electrolytic curves, resistor TCR)",
+             ageing_words()]
     return replace(result, candidates=[cands[i] for i in order], notes=notes)

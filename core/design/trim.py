@@ -28,7 +28,12 @@ from core.design.design import Design, pot_resistance, rotation_for_share
 from core.design.inversion import frequency_and_duty, tuned_resistance
 from core.design.robust import drifted_index_ranges, drifted_part_ranges
 from core.errors import InputError
-from core.model.drift import Conditions, conditions_chip_factor, conditions_oscillators
+from core.model.drift import (
+    Conditions,
+    ageing_words,
+    conditions_chip_factor,
+    conditions_oscillators,
+)
 from core.model.spread import calibration_factors
 from core.model.timing import Oscillator, resistance_for
 from core.parts.drawer import Part
@@ -169,7 +174,7 @@ def trim(parts: list[Part], osc: Oscillator, band_hz: tuple[float, float], top: 
         notes.append(f"the drawer has no {' or '.join(missing)} in stock")
         return TrimResult((lo_band, hi_band), notes, [])
     if conditions:
-        notes.append(f"guaranteed bands cover {conditions.describe()}")
+        notes += [f"guaranteed bands cover {conditions.describe()}", ageing_words()]
     ce = caps.entries(max_capacitors)
     corners = _all_corners(osc, conditions)
     (r_lo, r_hi), (c_lo, c_hi) = (drifted_index_ranges(n, conditions) for n in (res, caps))

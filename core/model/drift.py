@@ -42,6 +42,8 @@ class Envelope:
 
     points: tuple[tuple[float, float, float], ...]
     source: str
+    ageing_pct_per_decade: float = 0.0
+    """Capacitance lost per decade of hours after soldering [%] (class-2 ceramics)."""
 
     @property
     def rated_c(self) -> tuple[float, float]:
@@ -84,7 +86,23 @@ def widest(*envelopes: Envelope, source: str) -> Envelope:
     lo = np.min([c[0] for c in changes], axis=0)
     hi = np.max([c[1] for c in changes], axis=0)
     return Envelope(tuple((t, float(a), float(b)) for t, a, b in zip(temps, lo, hi,
-                                                                     strict=True)), source)
+                                                                     strict=True)), source,
+                    max(e.ageing_pct_per_decade for e in envelopes))
+
+
+AGEING_PCT_PER_DECADE: dict[str, float] = {"x7r": 1.5, "x5r": 3.0, "y5v": 6.0, "z5u": 6.0,
+                                           "": 6.0}
+"""Class-2 capacitance lost per decade of hours since the last heating above the Curie
+point (soldering, or a de-ageing bake) [%]. Typical, from memory of makers' ageing notes:
+X7R about 1–2 %, X5R 2–5 %, Y5V and Z5U 5–7 % per decade; an unmarked ceramic is taken
+as Y5V. Class 1 (C0G), film and electrolytics do not age this way."""
+AGEING_REFERENCE_H = 1000.0
+"""Hours after the last heating at which a class-2 capacitor's marked value and tolerance
+hold (the referee time of makers' data sheets, from memory)."""
+AGEING_LIFE_H = (1.0, 87_660.0)
+"""The life a worst case over conditions covers [h]: from an hour after soldering (the
+bench check) to ten years of service (our decision: what a builder expects a finished
+build to stay within)."""
 
 
 _EIA = "EIA-198 class code"
@@ -94,10 +112,14 @@ POLYPROPYLENE = coefficient(-300, -100, (-55, 105), "polypropylene film: −100�
                             "typical, from memory of film capacitor data sheets")
 CAPACITOR_DRIFT: dict[str, Envelope] = {
     "c0g": coefficient(-30, 30, (-55, 125), f"{_EIA} C0G: 0 ± 30 ppm/K, −55…125 °C"),
-    "x7r": class_limit(15, 15, (-55, 125), f"{_EIA} X7R: ±15 % over −55…125 °C"),
-    "x5r": class_limit(15, 15, (-55, 85), f"{_EIA} X5R: ±15 % over −55…85 °C"),
-    "y5v": class_limit(82, 22, (-30, 85), f"{_EIA} Y5V: +22/−82 % over −30…85 °C"),
-    "z5u": class_limit(56, 22, (10, 85), f"{_EIA} Z5U: +22/−56 % over +10…85 °C"),
+    "x7r": replace(class_limit(15, 15, (-55, 125), f"{_EIA} X7R: ±15 % over −55…125 °C"),
+                   ageing_pct_per_decade=AGEING_PCT_PER_DECADE["x7r"]),
+    "x5r": replace(class_limit(15, 15, (-55, 85), f"{_EIA} X5R: ±15 % over −55…85 °C"),
+                   ageing_pct_per_decade=AGEING_PCT_PER_DECADE["x5r"]),
+    "y5v": replace(class_limit(82, 22, (-30, 85), f"{_EIA} Y5V: +22/−82 % over −30…85 °C"),
+                   ageing_pct_per_decade=AGEING_PCT_PER_DECADE["y5v"]),
+    "z5u": replace(class_limit(56, 22, (10, 85), f"{_EIA} Z5U: +22/−56 % over +10…85 °C"),
+                   ageing_pct_per_decade=AGEING_PCT_PER_DECADE["z5u"]),
     # A drawer says "film" without the plastic: the envelope of both common ones.
     "film": widest(POLYESTER, POLYPROPYLENE, source="film of unknown plastic: the envelope "
                    "of polyester (PET) and polypropylene, −55…105 °C (typical, from memory)"),
@@ -154,17 +176,6 @@ def _temperatures(lo_c: float, hi_c: float, envelopes: Mapping[str, Envelope]) -
     """The range's ends and every table point inside it: where the extremes can lie."""
     inside = [p[0] for e in envelopes.values() for p in e.points if lo_c < p[0] < hi_c]
     return np.unique(np.array([lo_c, hi_c, *inside], dtype=float))
-
-
-def drift_ranges(values: Mapping[str, float], envelopes: Mapping[str, Envelope],
-                 lo_c: float, hi_c: float) -> dict[str, tuple[float, float]]:
-    """Per key, the (lowest, highest) factor [1] its part reaches over lo_c…hi_c [°C]."""
-    temps = _temperatures(lo_c, hi_c, envelopes)
-    out = {}
-    for k in values:
-        lo, hi = envelopes[k].change(temps)
-        out[k] = (1.0 + float(lo.min()), 1.0 + float(hi.max()))
-    return out
 
 
 def chip_factor(osc: Oscillator, lo_c: float, hi_c: float) -> float:
@@ -282,13 +293,48 @@ def conditions_oscillators(osc: Oscillator, conditions: Conditions) -> list[Osci
     return supply_oscillators(osc, *conditions.supply_v)
 
 
+def ageing_span(pct_per_decade: float) -> tuple[float, float]:
+    """(oldest, youngest) capacitance over ``AGEING_LIFE_H`` relative to the marked value
+    at ``AGEING_REFERENCE_H`` [1] (log-linear ageing)."""
+    rate = pct_per_decade / 100
+    young, old = AGEING_LIFE_H
+    return (1.0 - rate * math.log10(old / AGEING_REFERENCE_H),
+            1.0 + rate * math.log10(AGEING_REFERENCE_H / young))
+
+
+def ageing_words() -> str:
+    """How the worst case over conditions takes ageing, for notes."""
+    young, old = AGEING_LIFE_H
+    return (f"with conditions, class-2 ceramics (X7R, X5R, Y5V, Z5U) also age: their range "
+            f"spans {young:g} h to {old / 8766:g} years after soldering, from the value "
+            f"marked for {AGEING_REFERENCE_H:g} h (typical rates per decade of hours, from "
+            "memory; C0G and film do not age)")
+
+
+def condition_factors(envelope: Envelope, conditions: Conditions) -> tuple[float, float]:
+    """The lowest and highest factor [1] a part reaches where the build must work: its
+    temperature drift over the range, and a class-2 capacitor's ageing over the life
+    ``AGEING_LIFE_H`` (both only with conditions given)."""
+    lo = hi = 1.0
+    if conditions.temperature_c is not None:
+        temps = _temperatures(*conditions.temperature_c, {"": envelope})
+        a, b = envelope.change(temps)
+        lo, hi = 1.0 + float(a.min()), 1.0 + float(b.max())
+    if conditions and envelope.ageing_pct_per_decade:
+        oldest, youngest = ageing_span(envelope.ageing_pct_per_decade)
+        lo, hi = lo * oldest, hi * youngest
+    return lo, hi
+
+
 def drifted_ranges(ranges: Mapping[str, tuple[float, float]], conditions: Conditions,
                    envelopes: Mapping[str, Envelope]) -> dict[str, tuple[float, float]]:
-    """Tolerance ranges stretched by each part's drift over the temperature range."""
-    if conditions.temperature_c is None:
-        return dict(ranges)
-    factors = drift_ranges(ranges, envelopes, *conditions.temperature_c)
-    return {k: (lo * factors[k][0], hi * factors[k][1]) for k, (lo, hi) in ranges.items()}
+    """Tolerance ranges stretched by each part's drift over the conditions (temperature
+    range, and a class-2 capacitor's ageing: ``condition_factors``)."""
+    out = {}
+    for k, (lo, hi) in ranges.items():
+        f_lo, f_hi = condition_factors(envelopes[k], conditions)
+        out[k] = (lo * f_lo, hi * f_hi)
+    return out
 
 
 def conditions_chip_factor(osc: Oscillator, conditions: Conditions) -> float:
@@ -333,11 +379,6 @@ the commonest hand-soldered chip size)."""
 # V / V_rated (from memory of makers' typical curves: flat at first, steepening).
 _BIAS_SHAPE = ((0.0, 0.0), (0.25, 0.2), (0.5, 0.5), (1.0, 1.0))
 
-AGEING_PCT_PER_DECADE: dict[str, float] = {"x7r": 2.5, "x5r": 5.0, "y5v": 7.0, "z5u": 7.0,
-                                           "": 7.0}
-"""Class-2 capacitance lost per decade of hours since the last heating above the Curie
-point (soldering) [%]: X7R ~2.5, Y5V ~7 (makers' ageing notes, from memory); X5R 5 and
-Z5U 7 from memory; unmarked ceramic as Y5V. Class 1 and film do not age this way."""
 
 
 def dc_bias_factor(dielectric: str, bias_v: float | np.ndarray, rated_v: float | np.ndarray,
