@@ -323,3 +323,22 @@ def test_switching_calibration_round_trips_through_the_command_line(capsys):
     assert main(["predict", *base, "--calibration", "ring"]) == 0
     used = json.loads(capsys.readouterr().out)
     assert used["frequency_hz"] == pytest.approx(made["frequency_hz"], rel=1e-6)
+
+
+def test_readings_with_rh_and_rl_columns_calibrate_the_steered_wiring(tmp_path, capsys):
+    # Readings made by the steered model (checked against solve_ivp and ngspice in
+    # tests/test_steered_schmitt.py) at VT+ 2.8 V, VT- 1.6 V give those thresholds back.
+    from core.cli import main
+    osc = hc14().with_steering().with_thresholds(2.8, 1.6)
+    rows = ["rh,rl,c,frequency,duty"]
+    for rh, rl in ((47e3, 10e3), (10e3, 47e3)):
+        t_high, t_low = (float(t) for t in times(osc, {"RH": rh, "RL": rl, "C": 10e-9}))
+        rows.append(f"{rh:g},{rl:g},10n,{1 / (t_high + t_low):.9g},"
+                    f"{100 * t_high / (t_high + t_low):.9g}")
+    path = tmp_path / "readings.csv"
+    path.write_text("\n".join(rows) + "\n", encoding="utf-8")
+    assert main(["calibrate", "--family", "74HC14", "--supply", "5V", "--measurements",
+                 str(path), "--json"]) == 0
+    data = json.loads(capsys.readouterr().out)
+    assert data["vt_plus_v"] == pytest.approx(2.8, abs=1e-4)
+    assert data["vt_minus_v"] == pytest.approx(1.6, abs=1e-4)

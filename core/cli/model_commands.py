@@ -288,16 +288,22 @@ def _measurement_rows(path: str) -> Iterator[tuple[int, dict[str, str]]]:
         raise TickbinError(f"{path}:{reader.line_num}: CSV: {e}") from None
 
 
-def _read_measurements(path: str, osc: Oscillator, steered: bool) -> list[Measurement]:
+def _read_measurements(path: str, osc: Oscillator, steered: bool
+                       ) -> tuple[Oscillator, list[Measurement]]:
+    """The readings of a file, and the oscillator they were taken on: columns rh and rl
+    mean the diode-steered wiring of the circuit."""
+    rows = list(_measurement_rows(path))
+    if rows and "rh" in rows[0][1] and osc.circuit.steered_variant is not None:
+        osc, steered = osc.with_steering(), True
     out = []
-    for line, row in _measurement_rows(path):
+    for line, row in rows:
         try:
             out.append(measurement_from_cells(osc.circuit.keys, row, steered))
         except InputError as e:
             raise TickbinError(f"{path}:{line}: {e}") from None
     if not out:
         raise TickbinError(f"{path}: no measurements (header r,c,frequency[,duty])")
-    return out
+    return osc, out
 
 
 def run_calibrate(args: argparse.Namespace) -> int:
@@ -310,7 +316,7 @@ def run_calibrate(args: argparse.Namespace) -> int:
     if args.measurements:
         if args.measured is not None:
             raise InputError("give --measured or --measurements, not both")
-        measurements = _read_measurements(args.measurements, osc, steered)
+        osc, measurements = _read_measurements(args.measurements, osc, steered)
     else:
         if args.measured is None:
             raise InputError("calibrate needs --measured FREQ (and optionally --duty PCT)")
