@@ -159,7 +159,7 @@ class MainWindow(QMainWindow):
                                             self.plot_area, "plots"))
         self.right_split.setStretchFactor(0, 0)
         self.right_split.setStretchFactor(1, 2)
-        self.right_split.setStretchFactor(2, 3)
+        self.right_split.setStretchFactor(2, 2)
         self.right_split.setChildrenCollapsible(False)
         self.main_split = QSplitter(Qt.Orientation.Horizontal)
         self.main_split.addWidget(_section("Your drawer", self.drawer_panel, "drawer"))

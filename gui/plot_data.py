@@ -84,12 +84,12 @@ def chip_spread_advice(outcome: Outcome, cand: Any) -> str:
     device = outcome.oscillator.device
     (a_lo, _, a_hi), (b_lo, _, b_hi) = device.vt_plus, device.vt_minus
     return (
-        f"<b>Most of this spread is the chip, not your parts.</b> The {device.family.name}'s "
-        f"data sheet allows VT+ {a_lo:.2f}–{a_hi:.2f} V and VT− {b_lo:.2f}–{b_hi:.2f} V at "
-        f"{device.supply_v:g} V: builds land in {_band(spread.full_hz)}, your parts alone "
-        f"move it {_band(spread.parts_hz)}. Measure one build made with 1 % resistors and a "
-        f'C0G or film capacitor and <a href="calibrate">calibrate from that measurement</a>' + (
-            ', or <a href="trim">search a band with a trimmer</a>.'
+        f"<b>Most of this spread is the chip, not your parts:</b> with VT+ {a_lo:.2f}–{a_hi:.2f}"
+        f" V and VT− {b_lo:.2f}–{b_hi:.2f} V ({device.family.name} data sheet, "
+        f"{device.supply_v:g} V) builds land in {_band(spread.full_hz)}; your parts alone, "
+        f'{_band(spread.parts_hz)}. <a href="calibrate">Calibrate</a> from one build measured '
+        "with 1 % resistors and a C0G or film capacitor" + (
+            ', or <a href="trim">trim a band</a>.'
             if outcome.oscillator.circuit.trimmable else "."))
 
 

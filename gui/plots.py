@@ -210,12 +210,13 @@ class PlotPanel(QWidget):
                       for vt in (vt_plus_v, vt_minus_v))
         margin = 0.25 if crowded else 0.0  # kept right of the traces, a share of the time
         upper, lower = circuit.threshold_names
-        for line, name, off_line in ((self.vt_plus_line, upper, (0.5, 1.0)),
-                                     (self.vt_minus_line, lower, (0.5, 0.0))):
+        for line, name, off_line in ((self.vt_plus_line, upper, (0.0, 1.0)),
+                                     (self.vt_minus_line, lower, (0.0, 0.0))):
             # Beside the traces: centred on the line at the right edge; else just above
-            # the upper line (below the lower one) near the left.
+            # the upper line (below the lower one), starting at the left edge so a narrow
+            # plot never cuts the label.
             line.label.anchors = [(1.0, 0.5)] * 2 if margin else [off_line] * 2
-            line.label.setPosition(1.0 if margin else 0.12)
+            line.label.setPosition(1.0 if margin else 0.01)
             line.label.setFormat(f"{name}\n{{value:.2f}} V" if margin
                                  else f"{name} {{value:.2f}} V")
         # Show first: a hidden line's label does not follow its value.

@@ -127,6 +127,9 @@ class TargetForm(QWidget):
         self.max_c.setSuffix(" capacitors")
         self.dielectric = QToolButton()
         self.dielectric.setPopupMode(QToolButton.ToolButtonPopupMode.InstantPopup)
+        # The arrow is part of the text, so the button's size hint holds it (the style's
+        # own menu arrow was drawn over the last letters).
+        self.dielectric.setStyleSheet("QToolButton::menu-indicator { image: none; }")
         dielectric_menu = QMenu(self.dielectric)
         self._dielectric_actions: list[tuple[QAction, tuple[str, ...]]] = []
         for text, names in DIELECTRICS:
@@ -340,7 +343,7 @@ class TargetForm(QWidget):
 
     def _dielectrics_changed(self, *args: object) -> None:
         ticked = [a.text() for a, _ in self._dielectric_actions if a.isChecked()]
-        self.dielectric.setText(", ".join(ticked) if ticked else "any dielectric")
+        self.dielectric.setText((", ".join(ticked) if ticked else "any dielectric") + " ▾")
         self._edited()
 
     def _mode_changed(self) -> None:

@@ -508,7 +508,7 @@ def test_dielectric_filter_and_notation_tooltip(qtbot, make_window):
     assert "ser = in series, par = in parallel" in tip
     ticks = {a.text(): a for a, _ in window.form._dielectric_actions}
     search_done(qtbot, window, lambda: ticks["film"].setChecked(True))
-    assert window.form.dielectric.text() == "film"
+    assert window.form.dielectric.text() == "film ▾"
     shown = [window.candidates.candidate(i) for i in range(window.candidates.rowCount())]
     assert shown and {p.dielectric for c in shown for p in c.networks["C"].parts()} == {"film"}
     state = window.form.state()
