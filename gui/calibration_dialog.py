@@ -410,6 +410,14 @@ class CalibrationDialog(QDialog):
         name = self._current_saved()
         if name is None:
             return
+        if self._unsaved() and not self.ask(
+                self, "Show a saved calibration",
+                f"Show “{name}” in place of the readings you typed? They are not saved."):
+            selection = self.list_view.selectionModel()
+            selection.blockSignals(True)
+            selection.clearSelection()
+            selection.blockSignals(False)
+            return
         try:
             cal = load_calibration(name)
         except TickbinError as e:
@@ -442,7 +450,19 @@ class CalibrationDialog(QDialog):
         answer = QMessageBox.question(parent, title, text)
         return answer == QMessageBox.StandardButton.Yes
 
+    def _unsaved(self) -> bool:
+        """Readings typed since the table was filled (a saved or a new calibration)."""
+        return not self.model.undo_stack.isClean()
+
+    def reject(self) -> None:
+        """Close; typed readings not saved are kept unless the person lets them go."""
+        if self.isVisible() and self._unsaved() and not self.ask(
+                self, "Close calibrations", "Close without saving the readings you typed?"):
+            return
+        super().reject()
+
     def done(self, result: int) -> None:
+        """Closing: the fit running is no longer wanted."""
         self.job.cancel()
         self.job.wait()
         super().done(result)

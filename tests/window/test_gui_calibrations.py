@@ -212,3 +212,30 @@ def test_a_new_calibration_is_saved_selected_and_sure_as_its_parts(qtbot, window
     search_done(qtbot, window, lambda: window.form.reload_calibrations(select="bench-a"))
     assert window.current_oscillator().calibration == "bench-a"
     assert window.current_oscillator().thresholds_given
+
+
+def test_typed_readings_are_not_lost(qtbot, window, monkeypatch):
+    from core.model.calibration import calibrate, save_calibration
+    from gui.calibration_dialog import CalibrationDialog
+
+    save_calibration(calibrate(window.current_oscillator(), {"R": 10e3, "C": 100e-9}, 1050.0,
+                               name="bench-a"))
+    dialog = CalibrationDialog(window, window.form.target_value(), None)
+    qtbot.addWidget(dialog)
+    dialog.show()
+    answers, asked = [False, False, True], []
+
+    def ask(cls, parent, title, text):
+        asked.append(title)
+        return answers.pop(0)
+
+    monkeypatch.setattr(CalibrationDialog, "ask", classmethod(ask))
+    _fitted(qtbot, dialog, lambda: dialog.paste(BUILDS))
+    typed = dialog.model.rows_text()
+    dialog.select_saved("bench-a")  # declined: the typed readings stay
+    assert dialog.model.rows_text() == typed and dialog._current_saved() is None
+    dialog.reject()  # declined: still open
+    assert dialog.isVisible() and dialog.model.rows_text() == typed
+    dialog.reject()
+    assert not dialog.isVisible()
+    assert asked == ["Show a saved calibration", "Close calibrations", "Close calibrations"]
