@@ -128,3 +128,22 @@ def test_trim_design_marks_its_band(qtbot, window):
     search_with(qtbot, window, supply="fifty")
     assert window.candidates.rowCount() == 0
     assert len(items["low"].getData()[0] or []) == 0
+
+
+def test_a_555_candidate_draws_predicts_figures(qtbot, window, tmp_path):
+    # The 555 at 60 % duty (a steering diode where the search picked one): the same parts
+    # through predict --circuit 555 over the NE555's whole supply range (4.5…16 V).
+    search_with(qtbot, window, circuit="555", family="NE555", target="1kHz", duty="60%")
+    cand = window.selected_candidate()
+    items = _show(qtbot, window.plots, "supply")
+    x, f = items["low"].getData()
+    parts = [a for key, v in cand.values.items() for a in (f"--{key.lower()}", repr(v))]
+    (dielectric,) = {p.dielectric for p in cand.networks["C"].parts()}
+    r = run_tickbin(tmp_path, "predict", "--circuit", "555", "--family", "NE555", "--supply",
+                    "5V", *parts, "--dielectric", dielectric,
+                    *(["--diode-steered"] if cand.diode_steered else []),
+                    f"--supply-range={x[0]:g}..{x[-1]:g}", "--json")
+    assert r.returncode == 0, r.stderr
+    out = json.loads(r.stdout)
+    assert (x[0], x[-1]) == (4.5, 16.0)
+    assert [float(np.min(f)), float(np.max(f))] == pytest.approx(out["supply_hz"], rel=1e-9)
