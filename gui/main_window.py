@@ -134,8 +134,8 @@ class MainWindow(QMainWindow):
         self.spread_note.linkActivated.connect(self._advice_link)
         self.form.sigNewCalibration.connect(self.new_calibration)
         self.drawer_panel.sigMessage.connect(self.say)
-        self.drawer_panel.sigPin.connect(
-            lambda line, words: self.say(self.form.toggle_pin(line, words)))
+        self.drawer_panel.sigPin.connect(self.toggle_pin)
+        self.form.unpin.clicked.connect(lambda: self._set_pins({}, "Unpin every part"))
         self._attach(drawer)
         self.resize(1280, 800)
         if self.remember:
@@ -361,7 +361,7 @@ class MainWindow(QMainWindow):
     def set_drawer(self, drawer: Drawer) -> None:
         """Show ``drawer`` (open, new, restore) and search it."""
         previous = self.drawer
-        self.form.clear_pins()  # pins name lines of the drawer that goes
+        self.form.set_pins({})  # pins name lines of the drawer that goes
         self.drawer_model.set_drawer(drawer)
         self._attach(drawer, previous)
         self.search.schedule()
@@ -379,6 +379,23 @@ class MainWindow(QMainWindow):
         name = drawer.path.name if drawer.path else self.files.untitled
         self.setWindowTitle(f"{name}[*] — Tickbin")
         self.setWindowModified(drawer.dirty)
+
+    def toggle_pin(self, line: int, words: str) -> None:
+        """Pin the part on stock ``line`` in the search, or unpin it (one undo step)."""
+        pins = self.form.pin_map()
+        if pins.pop(line, None) is None:
+            pins[line] = words
+            self._set_pins(pins, f"Pin line {line}")
+            self.say(f"Pinned {words} (line {line}): every candidate uses it.")
+        else:
+            self._set_pins(pins, f"Unpin line {line}")
+            self.say(f"Unpinned {words} (line {line}).")
+
+    def _set_pins(self, pins: dict[int, str], description: str) -> None:
+        before = self.form.pin_map()
+        if pins != before:
+            self.drawer.record_setting(description, lambda: self.form.set_pins(before),
+                                       lambda: self.form.set_pins(pins))
 
     def undo(self) -> None:
         self.drawer.undo()

@@ -149,7 +149,6 @@ class TargetForm(QWidget):
         self.unpin.setText("✕ Unpin")
         self.unpin.setToolTip("Search the whole drawer again (no part pinned)")
         self.unpin.setAccessibleName("unpin every part")
-        self.unpin.clicked.connect(self.clear_pins)
         self.message = QLabel()
         self.message.setObjectName("problem")
         self.message.setWordWrap(True)
@@ -381,25 +380,17 @@ class TargetForm(QWidget):
         self.sigChanged.emit()
 
     # -- pinned parts
-    def toggle_pin(self, line: int, words: str) -> str:
-        """Pin the part on stock ``line`` (``words``: its value), or unpin it if pinned;
-        the status text saying which."""
-        if self._pins.pop(line, None) is None:
-            self._pins[line] = words
-            said = f"Pinned {words} (line {line}): every candidate uses it."
-        else:
-            said = f"Unpinned {words} (line {line})."
-        self._show_pins()
-        self._edited()
-        return said
-
     def pins(self) -> tuple[int, ...]:
         return tuple(self._pins)
 
-    def clear_pins(self) -> None:
-        """Unpin every part (the ✕ button)."""
-        if self._pins:
-            self._pins.clear()
+    def pin_map(self) -> dict[int, str]:
+        """The pinned stock lines and their words (a copy)."""
+        return dict(self._pins)
+
+    def set_pins(self, pins: dict[int, str]) -> None:
+        """Pin exactly ``pins`` (stock line: words); the window makes it an undo step."""
+        if pins != self._pins:
+            self._pins = dict(pins)
             self._show_pins()
             self._edited()
 

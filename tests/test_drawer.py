@@ -182,3 +182,20 @@ def test_written_drawer_reads_back_the_same_parts(tmp_path: Path, rows: list) ->
     back = read_drawer(path, strict=False).parts()
     strip = [(p.kind, p.value, p.quantity, p.location, p.tolerance) for p in good]
     assert [(p.kind, p.value, p.quantity, p.location, p.tolerance) for p in back] == strip
+
+
+def test_a_setting_beside_the_rows_is_undone_in_turn_and_leaves_the_file_clean() -> None:
+    drawer = Drawer()
+    state = []
+    drawer.record_setting("Pin line 5", lambda: state.pop(), lambda: state.append(5))
+    assert state == [5] and not drawer.dirty and drawer.undo_text() == "Pin line 5"
+    drawer.undo()
+    assert state == [] and not drawer.dirty
+    drawer.redo()
+    assert state == [5] and not drawer.dirty
+    drawer.insert_rows(0, [Row({"kind": "R", "value": "10k", "quantity": "1"})])
+    assert drawer.dirty  # a row is a change to the file
+    drawer.undo()
+    assert not drawer.dirty and state == [5]
+    drawer.undo()
+    assert state == [] and not drawer.dirty

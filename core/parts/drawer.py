@@ -301,6 +301,8 @@ class _Step:
     description: str
     undo: list[Callable[[], None]] = field(default_factory=list)
     redo: list[Callable[[], None]] = field(default_factory=list)
+    in_file: bool = True
+    """False for a setting beside the rows (a pinned part): undoing it leaves the file clean."""
 
 
 class Drawer:
@@ -382,7 +384,13 @@ class Drawer:
     # -- editing
     @property
     def dirty(self) -> bool:
-        return self._clean_at != len(self._undo)
+        """Whether the rows differ from the file: some step that changes the file lies
+        between the saved point and now (settings beside the rows do not count)."""
+        at, now = self._clean_at, len(self._undo)
+        if at is None:
+            return True
+        between = self._undo[at:now] if at <= now else self._redo[len(self._redo) - (at - now):]
+        return any(step.in_file for step in between)
 
     def mark_clean(self) -> None:
         self._clean_at = len(self._undo)
@@ -484,6 +492,14 @@ class Drawer:
                 step, self._group = self._group, None
                 if step is not None and step.redo:
                     self._push(step)
+
+    def record_setting(self, description: str, undo: Callable[[], None],
+                       redo: Callable[[], None]) -> None:
+        """A setting kept beside the rows (the window's pinned parts) as one step of this
+        history, so Undo reaches it in turn; it never makes the file unsaved. ``redo``
+        runs now."""
+        redo()
+        self._push(_Step(description, [undo], [redo], in_file=False))
 
     def _record(self, description: str, undo: Callable[[], None],
                 redo: Callable[[], None]) -> None:

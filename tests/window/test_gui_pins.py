@@ -55,3 +55,19 @@ def test_a_pin_that_does_not_fit_is_said_under_the_form(qtbot, window):
     pin_row(qtbot, window, 11)  # a 10k resistor: the 555 has two resistor places
     assert "2 resistor places" in window.form.message.text()
     assert window.candidates.rowCount() == 0
+
+
+def test_a_pin_is_undone_and_redone_and_never_marks_the_file_unsaved(qtbot, window):
+    form = window.form
+    assert not window.isWindowModified()
+    pin_row(qtbot, window, C_22N)
+    assert form.pins() == (C_22N,) and not window.isWindowModified()
+    assert window.undo_action.isEnabled() and "Pin line 34" in window.undo_action.toolTip()
+    search_done(qtbot, window, window.undo_action.trigger)
+    assert form.pins() == () and not form.pinned.isVisibleTo(window)
+    search_done(qtbot, window, window.redo_action.trigger)
+    assert form.pins() == (C_22N,) and form.pinned.isVisibleTo(window)
+    search_done(qtbot, window, form.unpin.click)
+    assert form.pins() == ()
+    search_done(qtbot, window, window.undo_action.trigger)  # Undo brings the pin back
+    assert form.pins() == (C_22N,) and not window.isWindowModified()
