@@ -69,10 +69,13 @@ def test_555_pinned_capacitor(parts):
     ("schmitt", (999,), "line 999 holds no usable part"),
     ("555", (R_10K,), "the 555 timer has 2 resistor places (RA, RB)"),
     ("schmitt", (R_10K, 10), "another line is pinned as its resistor already"),
+    ("schmitt-duty", (R_10K,), "has 2 resistor places (RH, RL)"),
     ("schmitt", (24,), "has no place for a pot here"),  # line 24: a 1k trimmer
 ])
 def test_a_pin_that_cannot_be_used_says_why_in_one_line(parts, circuit, pins, says):
-    request = Request(circuit=circuit, target_hz=1000.0, pins=pins)
+    duty = 40.0 if circuit.endswith("-duty") else None  # two steering diodes: RH, RL
+    request = Request(circuit=circuit.removesuffix("-duty"), target_hz=1000.0, pins=pins,
+                      duty_pct=duty)
     with pytest.raises(InputError, match="--pin") as caught:
         request.run(parts, request.oscillator())
     assert says in str(caught.value) and "\n" not in str(caught.value)

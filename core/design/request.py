@@ -121,7 +121,8 @@ class Request:
 
         usable, top = list(self.usable(parts)), self.top if top is None else top
         if self.pins:
-            usable, index = self.pinned(parts, usable, osc.circuit, index)
+            wired = osc.with_steering() if self.duty_pct is not None and not self.trim else osc
+            usable, index = self.pinned(parts, usable, wired.circuit, index)
         result: SearchResult | TrimResult
         if self.band_hz is not None:
             result = trim(usable, osc, self.band_hz, top=top, max_resistors=self.max_resistors,
