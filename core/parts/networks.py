@@ -523,6 +523,7 @@ class _Buckets:
         self._winner = np.zeros(count, dtype=np.int64)
         self.layers: list[tuple[np.ndarray, np.ndarray]] = []  # (topology, usage), by value
         self._polarised = np.array([g[0].polarised for g in groups], dtype=bool)
+        self._any_polarised = bool(self._polarised.any())  # asked on every put
         self._stability = _group_stability(groups)
         # Steadiness is judged by each group's first (closest) line: cheap, and the same
         # as the full count unless a network takes several parts of one mixed group.
@@ -550,7 +551,7 @@ class _Buckets:
         """Networks (their values, topology ``code``, group per part) into the buckets."""
         keys = self.key(values)
         ok = self.code[keys] != _TAKEN if self._prefer else self.code[keys] < 0
-        if self._polarised.any():
+        if self._any_polarised:
             ok &= _practical(self.kind, code, [self._polarised[usage[:, k]]
                                                for k in range(usage.shape[1])])
         rows = np.flatnonzero(ok)
@@ -651,11 +652,13 @@ def _look_up_triples(buckets: _Buckets, gv: np.ndarray, gq: np.ndarray, kind: st
                 stop[joined] = first[1:][joined[:-1]]
                 stop[alone] = np.searchsorted(values, want_hi[alone])
                 found = np.flatnonzero(stop > first)
-                # Either end of the range of fitting pairs, whichever leaves c in stock.
+                # Either end of the range of fitting pairs, whichever leaves c in stock
+                # (c in stock MAX_PARTS times always is).
                 pick = first[found]
-                short = gq[c] < 1 + (groups[pick] == c).sum(axis=1)
-                pick[short] = stop[found[short]] - 1
-                pick = pick[gq[c] >= 1 + (groups[pick] == c).sum(axis=1)]
+                if gq[c] < MAX_PARTS:
+                    short = gq[c] < 1 + (groups[pick] == c).sum(axis=1)
+                    pick[short] = stop[found[short]] - 1
+                    pick = pick[gq[c] >= 1 + (groups[pick] == c).sum(axis=1)]
                 use = np.concatenate([groups[pick], np.full((len(pick), 1), c, np.int32)],
                                      axis=1)
                 buckets.put(outer(values[pick], vc), shapes[(pair_code, outer_series)], use)
