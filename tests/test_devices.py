@@ -270,3 +270,37 @@ def test_a_malformed_table_is_refused_with_the_entry_named():
     text = _one_family_toml("r_out_ohm = [50.0, 50.0]", "BAD", "[1.0, 0.9, 2.0]")
     with pytest.raises(TickbinError, match="BAD"):
         load_device_table(text)
+
+
+# Unbuffered inverters (from memory: TI CD4069UB and Nexperia 74HCU04 data sheets, static
+# characteristics at 25 °C). The switching window is VIL max … VIH min; the drive is
+# (supply, output low level, typical current, guaranteed current).
+UNBUFFERED_INPUT_LEVELS = [("CD4069UB", 5.0, 1.0, 4.0), ("CD4069UB", 10.0, 2.0, 8.0),
+                           ("CD4069UB", 15.0, 2.5, 12.5), ("74HCU04", 2.0, 0.3, 1.7),
+                           ("74HCU04", 4.5, 0.9, 3.6), ("74HCU04", 6.0, 1.2, 4.8)]
+CD4069UB_SINK = [(5.0, 0.4, 0.88e-3, 0.51e-3), (10.0, 0.5, 2.25e-3, 1.3e-3),
+                 (15.0, 1.5, 8.8e-3, 3.4e-3)]
+
+
+@pytest.mark.parametrize(("family", "supply", "vil_max", "vih_min"), UNBUFFERED_INPUT_LEVELS)
+def test_unbuffered_switching_window_is_the_input_level_table(family, supply, vil_max,
+                                                              vih_min):
+    lo, typ, hi = device_table().family(family).at(supply).vt_plus
+    assert (lo, hi) == pytest.approx((vil_max, vih_min))
+    assert typ == pytest.approx(supply / 2)  # the textbook unbuffered inverter's middle
+
+
+@pytest.mark.parametrize(("supply", "vol", "i_typ", "i_min"), CD4069UB_SINK)
+def test_cd4069ub_output_resistance_is_the_drive_table(supply, vol, i_typ, i_min):
+    # The table's output resistance is VOL / IOL typical, and meets the guaranteed IOL.
+    d = device_table().family("CD4069UB").at(supply)
+    assert d.r_out_low_ohm == pytest.approx(vol / i_typ, rel=0.02)
+    assert d.r_out_low_ohm * i_min <= vol
+
+
+@pytest.mark.parametrize(("supply", "i_out", "voh_min", "vol_max"),
+                         [(4.5, 4e-3, 3.98, 0.26), (6.0, 5.2e-3, 5.48, 0.26)])
+def test_74hcu04_output_meets_the_drive_table(supply, i_out, voh_min, vol_max):
+    d = device_table().family("74HCU04").at(supply)
+    assert d.voh_v - i_out * d.r_out_high_ohm >= voh_min
+    assert d.vol_v + i_out * d.r_out_low_ohm <= vol_max
