@@ -44,12 +44,20 @@ class ChipSpread:
         return bool(full >= WIDE_BAND and np.log(full) >= CHIP_DOMINATES * np.log(parts))
 
 
+def stage_of(outcome: Outcome, cand: Any) -> Any:
+    """The oscillator as ``cand`` is built: after the counter stage its search chose (the
+    candidate's ``divide_by``), else the result's own."""
+    from core.design.buy import at_stage
+
+    return at_stage(outcome.oscillator, cand.divide_by)
+
+
 def chip_spread(outcome: Outcome, cand: Any) -> ChipSpread | None:
     """Split a search candidate's spread into chip and parts (None for trim results or
     when the thresholds are already fixed by a calibration or given values)."""
     from core.model.spread import worst_case_hz
 
-    osc, target = outcome.oscillator, outcome.target
+    osc, target = stage_of(outcome, cand), outcome.target
     if target.trim or osc.thresholds_given or target.target_hz is None:
         return None
     known = osc.with_thresholds(osc.vt_plus_v, osc.vt_minus_v)
@@ -118,7 +126,7 @@ def _waveform(plots: Any, osc: Any, values: dict[str, float], diode_steered: boo
 
 
 def _draw_search(plots: Any, outcome: Outcome, cand: Any) -> Iterator[None]:
-    osc, target = outcome.oscillator, outcome.target
+    osc, target = stage_of(outcome, cand), outcome.target
     _waveform(plots, osc, cand.values, cand.diode_steered,
               f"{format_frequency(cand.frequency_hz, 4)}, duty {cand.duty_pct:.1f} %")
     yield
@@ -137,7 +145,7 @@ def _draw_search(plots: Any, outcome: Outcome, cand: Any) -> Iterator[None]:
 def _draw_trim(plots: Any, outcome: Outcome, cand: Any) -> Iterator[None]:
     from core.design.trim import frequency_at_rotation, rotation_for
 
-    osc, target = outcome.oscillator, outcome.target
+    osc, target = stage_of(outcome, cand), outcome.target
     assert target.band_hz is not None
     lo_band, hi_band = target.band_hz
     rotation = np.linspace(0.0, 100.0, ROTATION_POINTS)

@@ -181,8 +181,14 @@ class SearchPresenter(QObject):
         return self.candidates.candidate(index.row()) if index.isValid() else None
 
     def oscillator(self) -> Any:
-        """The oscillator model behind the candidates shown (core.model.circuits Oscillator)."""
-        return self.outcome.oscillator if self.outcome else None
+        """The oscillator of the selected candidate as built (its counter stage, if any),
+        else of the result shown; None without a result."""
+        from gui.plot_data import stage_of
+
+        if self.outcome is None:
+            return None
+        chosen = self.selected()
+        return self.outcome.oscillator if chosen is None else stage_of(self.outcome, chosen)
 
     # ------------------------------------------------------------ starting searches
     def warm_up(self, after_first_paint: Any) -> None:

@@ -4,6 +4,7 @@ from __future__ import annotations
 
 from dataclasses import replace
 
+import numpy as np
 import pytest
 from support.gui_helpers import QUIET_OFFSCREEN, search_with
 
@@ -123,3 +124,22 @@ def test_a_counter_adds_its_columns(qtmodeltester):
     assert row[3] == "÷1024" and row[4] == "Q10"
     model.set_result(found, trim=False)  # a circuit without a counter: no such columns
     assert "Divide by" not in model.headings()
+
+
+def test_a_divided_candidate_is_drawn_and_built_at_its_own_stage(qtbot, window):
+    from support.gui_helpers import search_with
+
+    if "divider" not in offered(window.form):
+        pytest.skip("the divider's search is not there yet")
+    search_with(qtbot, window, circuit="divider", family="CD4060B", supply="9V",
+                target="2min")
+    qtbot.waitUntil(lambda: window.plots is not None, timeout=10_000)
+    cand = window.selected_candidate()
+    assert cand.divide_by > 1
+    osc = window.current_oscillator()  # what the sheet and netlist are built from
+    assert osc.divide_by == cand.divide_by
+    # The spread is of the divided output, around the 2-minute target (1/120 Hz), not of
+    # the oscillator itself (DESIGN.md: frequency_hz is the divided output).
+    x, _ = window.plots.hist_curve.getData()
+    centre = float(np.median(x))
+    assert 0.5 / 120 < centre < 2.0 / 120
