@@ -182,10 +182,8 @@ def trim(parts: list[Part], osc: Oscillator, band_hz: tuple[float, float], top: 
     # B: largest fixed R (at its high corner) that still reaches HI at zero rotation with C
     # high and the slowest thresholds; A: total resistance at full rotation (low corners)
     # that gets down to LO at the fastest thresholds.
-    b_need = np.min([tuned_resistance(o, hi_band / low_factor, {"C": c_hi[ce]}, limits)
-                     for o in corners], axis=0)
-    a_need = np.max([tuned_resistance(o, lo_band / high_factor, {"C": c_lo[ce]}, limits)
-                     for o in corners], axis=0)
+    b_need = _binding_resistance(corners, hi_band / low_factor, c_hi[ce], limits, most=True)
+    a_need = _binding_resistance(corners, lo_band / high_factor, c_lo[ce], limits, most=False)
     pot_value = np.array([p.value for p in pots])
     pot_lo, pot_hi = drifted_part_ranges("P", pots, conditions)
     # Every (pot, capacitor) pair; the corner conditions above on each fixed R network:
@@ -221,6 +219,33 @@ def trim(parts: list[Part], osc: Oscillator, band_hz: tuple[float, float], top: 
                                   (float(f_full[i]), float(f_zero[i])),
                                   (float(low[i]), float(high[i]))))
     return TrimResult((lo_band, hi_band), notes, candidates)
+
+
+def _binding_resistance(corners: list[Oscillator], target_hz: float, c: np.ndarray,
+                        limits: tuple[float, float], most: bool) -> np.ndarray:
+    """Per capacitor [F], the resistance [Ω] that gives ``target_hz`` at the binding corner:
+    the smallest over ``corners`` (``most``: the most R may be and still reach it at every
+    corner), else the largest (the least that gets down to it at every corner); NaN where
+    some corner has none.
+
+    One pass: solved at the first corner, then each further corner is checked at the
+    answer so far (one cheap evaluation) and solved only where it binds harder. The
+    frequency falls with R, so an answer moved for one corner still holds for the
+    corners before it: the result is the exact minimum (maximum) over the corners, for
+    a fraction of the solves (a supply range brings some 70 corners).
+    """
+    r = tuned_resistance(corners[0], target_hz, {"C": c}, limits)
+    for o in corners[1:]:
+        with np.errstate(invalid="ignore"):
+            f = _frequency(o, r, c)
+            binds = (f < target_hz) if most else (f > target_hz)
+            binds |= np.isnan(f) & ~np.isnan(r)  # stops there: the solver says
+        rows = np.flatnonzero(binds)
+        if rows.size:
+            new = tuned_resistance(o, target_hz, {"C": c[rows]}, limits)
+            r[rows] = np.fmin(r[rows], new) if most else np.fmax(r[rows], new)
+            r[rows[np.isnan(new)]] = np.nan
+    return r
 
 
 def _finest_fixed_r(res: NetworkIndex, ranges: tuple[np.ndarray, np.ndarray],
