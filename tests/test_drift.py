@@ -364,3 +364,27 @@ def test_predict_says_how_a_class_2_capacitor_ages(tmp_path):
     c0g = json.loads(run_tickbin(tmp_path, "predict", "--r", "10k", "--c", "1n",
                                  "--dielectric", "c0g", "--json").stdout)
     assert not any("ages" in w for w in c0g["warnings"])
+
+
+def test_sheet_takes_the_conditions_like_search_and_trim(tmp_path):
+    # The sheet picks the same design the search or trim lists with the same options, so
+    # its worst case widens over the range and a trim design covers its band over it.
+    stock = _drawer(tmp_path, ["R,15k,1%,5,", "R,12k,1%,5,", "R,10k,1%,5,", "P,10k,10%,2,",
+                               "C,100n,5%,5,X7R", "C,10n,5%,5,C0G"])
+    out = str(tmp_path / "sheet.pdf")
+    trim = ("--band", "700..800", "--vt-plus", "2.6", "--vt-minus", "1.7", "--stock", stock)
+    hot = ("--temperature=-20..70", "--supply-range=4.5..5.5")
+    sheet = json.loads(run_tickbin(tmp_path, "sheet", *trim, *hot, "--out", out,
+                                   "--json").stdout)
+    listed = json.loads(run_tickbin(tmp_path, "trim", *trim, *hot, "--json").stdout)
+    assert sheet["candidate"]["guaranteed_hz"] == listed["candidates"][0]["guaranteed_hz"]
+    lo, hi = sheet["candidate"]["guaranteed_hz"]
+    assert lo <= 700 and hi >= 800
+    search = ("--target", "7kHz", "--accept", "50", "--stock", stock)
+    plain = json.loads(run_tickbin(tmp_path, "sheet", *search, "--out", out, "--json").stdout)
+    wide = json.loads(run_tickbin(tmp_path, "sheet", *search, *hot, "--out", out,
+                                  "--json").stdout)
+    assert plain["candidate"]["networks"] == wide["candidate"]["networks"]
+    (p_lo, p_hi), (w_lo, w_hi) = (plain["candidate"]["worst_case_hz"],
+                                  wide["candidate"]["worst_case_hz"])
+    assert w_lo < p_lo and w_hi > p_hi
