@@ -143,8 +143,15 @@ def test_trim_and_sheet_use_the_biased_value(tmp_path):
         ratio = cand["effective_values"]["C"] / (1e-7 * factor)  # two in parallel or series
         assert ratio == pytest.approx(c_parts) or ratio == pytest.approx(1 / c_parts)
         assert any("less capacitance" in n for n in cand["notes"])
-    # The sheet (data) states it for a search design.
+    # The sheet (data) states it for a trim design and for a search design.
     from core.output.sheet import build_sheet
+
+    trim_request = Request(band_hz=(700.0, 800.0), vt_plus_v=2.6, vt_minus_v=1.7)
+    trimmed = trim_request.run(read_drawer(stock).parts(), osc).candidates[0]
+    sheet = build_sheet(osc, trimmed, "700 Hz … 800 Hz")
+    assert any("less capacitance" in w for w in sheet.warnings)
+    assert any("X7R ages" in w for w in sheet.warnings)
+    assert not any("turn the pot" in w for w in sheet.warnings)
 
     parts = read_drawer(stock).parts()
     request = Request(target_hz=float(frequency(osc, {"R": 15e3, "C": 1e-7 * factor})),

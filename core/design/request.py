@@ -117,7 +117,7 @@ class Request:
         """The trim or search this request asks for, over the usable ``parts``."""
         from core.design.search import search
         from core.design.trim import trim
-        from core.model.drift import ageing_note, bias_notes
+        from core.model.drift import capacitor_notes
 
         usable, top = list(self.usable(parts)), self.top if top is None else top
         if self.pins:
@@ -137,10 +137,8 @@ class Request:
                             max_capacitors=self.max_capacitors, accept_pct=self.accept_pct,
                             top=top, index=index, **within)
         for cand in result.candidates:
-            parts = [p for n in cand.networks.values() for p in n.parts()]
-            cand.notes.extend(bias_notes(osc, parts))
-            for dielectric in dict.fromkeys(p.dielectric for p in parts if p.kind == "C"):
-                cand.notes.extend(ageing_note(dielectric))
+            cand.notes.extend(capacitor_notes(osc, (p for n in cand.networks.values()
+                                                    for p in n.parts())))
         return result
 
     def pinned(self, parts: tuple[Part, ...] | list[Part], usable: list[Part],

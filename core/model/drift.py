@@ -466,6 +466,15 @@ def bias_notes(osc: Oscillator, parts: Iterable[Part]) -> list[str]:
     return [bias_note(osc, p, f" (line {line})") for line, p in lines.items()]
 
 
+def capacitor_notes(osc: Oscillator, parts: Iterable[Part]) -> list[str]:
+    """What a design's capacitors do beyond their tolerance: each DC-bias loss
+    (``bias_notes``) and each class-2 dielectric's ageing (``ageing_note``)."""
+    parts = list(parts)
+    ageing = [n for d in dict.fromkeys(p.dielectric for p in parts if p.kind == "C")
+              for n in ageing_note(d)]
+    return [*bias_notes(osc, parts), *ageing]
+
+
 def bias_note(osc: Oscillator, part: Part, where: str = "") -> str:
     """What the DC bias does to ``part`` (from ``with_dc_bias``), in words."""
     lo, hi = capacitor_swing_v(osc)

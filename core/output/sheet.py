@@ -28,7 +28,7 @@ from core.design.trim import (
 from core.errors import InputError, SetupError
 from core.model.circuits.divider import tap
 from core.model.diode import SMALL_SIGNAL_DIODE
-from core.model.drift import Conditions, supply_hz, temperature_hz
+from core.model.drift import Conditions, capacitor_notes, supply_hz, temperature_hz
 from core.model.spread import monte_carlo
 from core.model.timing import Oscillator, predict, waveform
 from core.output.schematic import (
@@ -437,8 +437,10 @@ def build_sheet(osc: Oscillator, candidate: Design, target: str, *,
         summary += [("Networks", "; ".join(
             f"{role} = {node.describe()} = {format_part_value(node.value, node.kind)}"
             for role, node in combined)), ("Notation", NOTATION)]
-    # A trim candidate's notes restate its rotations, which the adjustment covers.
-    notes = [] if trim else list(candidate.notes)
+    # A trim candidate's notes restate its rotations, which the adjustment covers; what
+    # its capacitors do (DC bias, ageing) still goes on the sheet.
+    notes = capacitor_notes(osc, (p for n in networks.values() for p in n.parts())) if trim \
+        else list(candidate.notes)
     warnings = list(dict.fromkeys([*prediction.warnings, *notes]))
     # The title states the duty the build will give, never only the one asked for.
     title = (f"{TITLE_START}{target} "
