@@ -131,9 +131,11 @@ class SearchPresenter(QObject):
         view.setSortingEnabled(True)
         self._fitted_for: list[str] = []
         self.candidates.modelReset.connect(lambda: self._fit_columns(view))
-        # Room for the header and four candidates however small the window.
+        # Room for the header, three whole candidates and the scroll bar however small the
+        # window (a three-part circuit's parts take a line more below the table).
         view.setMinimumHeight(view.horizontalHeader().sizeHint().height()
-                              + 4 * view.verticalHeader().defaultSectionSize() + 4)
+                              + 3 * view.verticalHeader().defaultSectionSize()
+                              + view.horizontalScrollBar().sizeHint().height() + 4)
         return view
 
     def _fit_columns(self, view: QTableView) -> None:
