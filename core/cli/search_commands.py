@@ -68,16 +68,19 @@ def add_design_options(parser: argparse.ArgumentParser, search_required: bool = 
         parser.add_argument("--target", type=value_arg("frequency"), required=search_required,
                             metavar="FREQ",
                             help="the frequency wanted (1kHz, 38k, or a period such as 2ms)")
-        parser.add_argument("--duty", type=percent_arg("duty cycle", below_100=True),
-                            metavar="PCT",
-                            help="555 only: share of the period the output is high (default: "
-                            "whatever RA and RB give; 50 %% or less uses a steering diode)")
         parser.add_argument("--accept", type=percent_arg("acceptable error"), default=1.0,
                             metavar="PCT", help="error that counts as a hit (default 1 %%)")
-        parser.add_argument("--duty-within", type=percent_arg("duty tolerance", up_to_100=True),
-                            default=DUTY_WITHIN_POINTS, metavar="POINTS",
-                            help="with --duty: duty error in percentage points that counts "
-                            f"as a hit (default {DUTY_WITHIN_POINTS:g})")
+    parser.add_argument("--duty", type=percent_arg("duty cycle", below_100=True),
+                        metavar="PCT",
+                        help="555 or Schmitt (search; the 555 also on trim): share of the "
+                        "period the output is high (default: whatever the parts give; on the "
+                        "555 50 %% or less uses a steering diode across RB, on the Schmitt "
+                        "inverter two steering diodes set RH and RL)")
+    parser.add_argument("--duty-within", type=percent_arg("duty tolerance", up_to_100=True),
+                        default=DUTY_WITHIN_POINTS, metavar="POINTS",
+                        help="with --duty: duty error in percentage points that counts "
+                        f"as a hit (default {DUTY_WITHIN_POINTS:g}; trim: at the band's "
+                        "centre)")
     if not search_required:
         parser.add_argument("--band", type=arg_type(parse_band, "band"), required=trim_required,
                             metavar="LO..HI",
@@ -236,23 +239,28 @@ def _notes(notes: list[str]) -> list[str]:
 
 def _trim_text(data: dict[str, Any], result: TrimResult, osc: Oscillator) -> str:
     out = [f"Trim {_band_text(result.band_hz)}: {_device_line(osc)}"]
+    fixed = [r for r in osc.circuit.keys if r != "C"]  # the trimmed role last among them
+    trimmed = osc.circuit.tuned
+    with_duty = any(c.duty_pct is not None for c in result.candidates)
     rows = []
     for k, c in enumerate(result.candidates, 1):
         p = c.networks["P"].parts()[0]
-        rows.append([str(k), c.networks["R"].describe(),
+        rows.append([str(k), *(c.networks[r].describe() for r in fixed),
                      f"{c.networks['P'].describe()} {p.taper}", c.networks["C"].describe(),
                      _band_text(c.range_hz), _band_text(c.guaranteed_hz),
                      f"{c.rotation_pct[0]:.0f}–{c.rotation_pct[1]:.0f} %",
-                     f"{format_frequency(c.resolution_hz_per_pct)}/%", str(c.part_count)])
+                     f"{format_frequency(c.resolution_hz_per_pct)}/%",
+                     *([f"{c.duty_pct:.1f} %"] if with_duty else []), str(c.part_count)])
     if rows:
         out.append("")
-        out += _table(["#", "fixed R", "pot", "C", "range (full … zero rotation)",
-                       "guaranteed", "rotation", "resolution", "parts"], rows)
+        out += _table(["#", *(f"fixed {r}" if r == trimmed else r for r in fixed), "pot", "C",
+                       "range (full … zero rotation)", "guaranteed", "rotation", "resolution",
+                       *(["duty at centre"] if with_duty else []), "parts"], rows)
         out += _legend(result.candidates)
         out.append("")
         out.append("where the parts are:")
         for k, c in enumerate(result.candidates, 1):
             out.append(f"  {k:>2}  " + "; ".join(f"{r}: {where(c.networks[r])}"
-                                                  for r in ("R", "P", "C")))
+                                                  for r in c.networks))
     out += _notes(data["notes"])
     return "\n".join(out)

@@ -91,8 +91,10 @@ class Request:
                               DEFAULT_SUPPLY_V if supply is None else supply,
                               vt_plus=self.vt_plus_v, vt_minus=self.vt_minus_v,
                               calibration=cal, load_ohm=self.load_ohm, **stray)
-        # A duty target on a Schmitt inverter is its diode-steered wiring (RH, RL, C).
-        return osc if self.duty_pct is None or self.trim else osc.with_steering()
+        # A duty target on a search is the Schmitt inverter's diode-steered wiring (RH, RL,
+        # C); a trim keeps the plain one, and calibrate's --duty is a measured duty.
+        searching = self.target_hz is not None and not self.trim
+        return osc.with_steering() if searching and self.duty_pct is not None else osc
 
     def usable(self, parts: tuple[Part, ...] | list[Part]) -> tuple[Part, ...]:
         """The drawer's parts this request may use (the dielectric filter applied), each
@@ -127,7 +129,9 @@ class Request:
         if self.band_hz is not None:
             result = trim(usable, osc, self.band_hz, top=top, max_resistors=self.max_resistors,
                           max_capacitors=self.max_capacitors, index=index,
-                          conditions=self.conditions)
+                          conditions=self.conditions, duty_pct=self.duty_pct,
+                          **({} if self.duty_within is None else
+                             {"duty_within": self.duty_within}))
         elif self.target_hz is None:
             raise InputError("a request needs a target frequency or a band")
         else:

@@ -17,8 +17,10 @@ segments meeting near 10–15 % at mid-rotation.
 
 from __future__ import annotations
 
+import itertools
 import math
 from collections import Counter
+from collections.abc import Mapping
 from dataclasses import dataclass, field, replace
 from typing import Any
 
@@ -63,6 +65,9 @@ class TrimCandidate(Design):
     resolution_hz_per_pct: float
     notes: list[str] = field(default_factory=list)
     trimmed: str = "R"
+    diode_steered: bool = False
+    duty_pct: float | None = None
+    """The nominal duty [%] at the band's centre (reported with a duty target)."""
 
     def to_json(self) -> dict[str, Any]:
         return {
@@ -74,7 +79,9 @@ class TrimCandidate(Design):
             "resolution_hz_per_pct": self.resolution_hz_per_pct,
             "part_count": self.part_count,
             "taper": self.taper,
+            "diode_steered": self.diode_steered,
             "notes": list(self.notes),
+            **({} if self.duty_pct is None else {"duty_pct": self.duty_pct}),
         }
 
 
@@ -97,20 +104,37 @@ def _corner_oscillators(osc: Oscillator) -> list[Oscillator]:
     return [osc.with_thresholds(a, b) for a, b in osc.threshold_corners()]
 
 
-def _corner_frequencies(osc: Oscillator, r: np.ndarray, c: np.ndarray) -> np.ndarray:
+Fixed = Mapping[str, Any]
+"""The parts that are neither trimmed nor the pot, by role (C; the 555's RA) [Ω, F]."""
+
+
+def _corner_frequencies(osc: Oscillator, r: np.ndarray, fixed: Fixed,
+                        diode: bool = False) -> np.ndarray:
     """Frequency [Hz] at every threshold corner: shape (corners, len(r)); NaN = stops."""
-    return np.stack([_frequency(o, r, c) for o in _corner_oscillators(osc)])
+    return np.stack([_frequency(o, r, fixed, diode) for o in _corner_oscillators(osc)])
 
 
-def _frequency(osc: Oscillator, r: np.ndarray, c: np.ndarray) -> np.ndarray:
-    """Nominal-model frequency [Hz] with the trimmed role at ``r`` [Ω] and C at ``c`` [F]."""
-    return frequency_and_duty(osc, {osc.circuit.tuned: r, "C": c})[0]
+def _frequency(osc: Oscillator, r: np.ndarray, fixed: Fixed, diode: bool = False
+               ) -> np.ndarray:
+    """Nominal-model frequency [Hz] with the trimmed role at ``r`` [Ω] and the other parts
+    at ``fixed``."""
+    return frequency_and_duty(osc, {**fixed, osc.circuit.tuned: r}, diode)[0]
+
+
+def _fixed_corners(ranges: Mapping[str, tuple[Any, Any]]) -> list[dict[str, Any]]:
+    """Every combination of the fixed parts' (low, high) ends."""
+    keys = list(ranges)
+    return [dict(zip(keys, ends, strict=True))
+            for ends in itertools.product(*(ranges[k] for k in keys))]
 
 
 def guaranteed_band(osc: Oscillator, r: tuple[np.ndarray, np.ndarray],
                     p: tuple[np.ndarray, np.ndarray], c: tuple[np.ndarray, np.ndarray],
-                    conditions: Conditions | None = None) -> tuple[np.ndarray, np.ndarray]:
-    """(low, high) [Hz] reachable at every corner, from (low, high) ranges of R, P, C [Ω, F].
+                    conditions: Conditions | None = None,
+                    others: Mapping[str, tuple[np.ndarray, np.ndarray]] | None = None,
+                    diode: bool = False) -> tuple[np.ndarray, np.ndarray]:
+    """(low, high) [Hz] reachable at every corner, from (low, high) ranges of R, P, C [Ω, F]
+    and of any ``others`` (the 555's RA).
 
     Low: the highest full-rotation frequency over all corners of R, P, C and
     thresholds (at every supply of the ``conditions``); high: the lowest
@@ -119,11 +143,12 @@ def guaranteed_band(osc: Oscillator, r: tuple[np.ndarray, np.ndarray],
     empty (NaN low end).
     """
     full, zero = [], []
+    fixed = _fixed_corners({"C": c, **(others or {})})
     for o in _all_corners(osc, conditions):
         for rv in r:
-            for cv in c:
-                zero.append(_frequency(o, rv, cv))
-                full.extend(_frequency(o, rv + pv, cv) for pv in p)
+            for fv in fixed:
+                zero.append(_frequency(o, rv, fv, diode))
+                full.extend(_frequency(o, rv + pv, fv, diode) for pv in p)
     full_f, zero_f = np.stack(full), np.stack(zero)
     stops = np.isnan(full_f).any(axis=0) | np.isnan(zero_f).any(axis=0)
     low_factor, high_factor = _inward_factors(osc, conditions)
@@ -148,17 +173,19 @@ def _inward_factors(osc: Oscillator, conditions: Conditions | None) -> tuple[flo
 
 def trim(parts: list[Part], osc: Oscillator, band_hz: tuple[float, float], top: int = 10,
          max_resistors: int = 2, max_capacitors: int = 2,
-         index: DrawerIndex | None = None, conditions: Conditions | None = None) -> TrimResult:
+         index: DrawerIndex | None = None, conditions: Conditions | None = None,
+         duty_pct: float | None = None, duty_within: float = 1.0) -> TrimResult:
     """Trim designs from ``parts`` whose guaranteed band covers ``band_hz`` (lo, hi) [Hz],
-    over the ``conditions`` (temperatures, supplies) too where given."""
+    over the ``conditions`` (temperatures, supplies) too where given.
+
+    The pot goes in series with the circuit's trimmed role (its ``tuned`` one: the
+    Schmitt inverter's R, the 555's RB); an enumerated role (the 555's RA) is taken
+    from the drawer's single resistors. With ``duty_pct`` [%] a design's nominal duty
+    at the band's centre must lie within ``duty_within`` points (50 % or less: the
+    555's steering diode across RB, as in the search).
+    """
     lo_band, hi_band = (float(x) for x in band_hz)
-    if not (0 < lo_band < hi_band and math.isfinite(hi_band)):
-        raise InputError("a band needs 0 < LO < HI", text=f"{lo_band}..{hi_band}", what="band")
-    if not osc.circuit.trimmable:
-        raise InputError("trim designs are for the Schmitt inverter oscillator "
-                         "(--circuit schmitt)", text=osc.circuit.name, what="circuit")
-    if top < 1:
-        raise InputError("--top must be at least 1", text=str(top), what="top")
+    _check_trim(osc, lo_band, hi_band, top, duty_pct)
     if index is None or not index.covers(max_resistors, max_capacitors):
         index = drawer_index(parts, max_resistors, max_capacitors)
     device = osc.device
@@ -175,55 +202,59 @@ def trim(parts: list[Part], osc: Oscillator, band_hz: tuple[float, float], top: 
         return TrimResult((lo_band, hi_band), notes, [])
     if conditions:
         notes += [f"guaranteed bands cover {conditions.describe()}", ageing_words()]
-    ce = caps.entries(max_capacitors)
+    diode = duty_pct is not None and duty_pct <= 50.0 and osc.circuit.steerable
+    fixed = _fixed_entries(index, osc, max_capacitors, limits)
     corners = _all_corners(osc, conditions)
     (r_lo, r_hi), (c_lo, c_hi) = (drifted_index_ranges(n, conditions) for n in (res, caps))
     low_factor, high_factor = _inward_factors(osc, conditions)
-    # B: largest fixed R (at its high corner) that still reaches HI at zero rotation with C
-    # high and the slowest thresholds; A: total resistance at full rotation (low corners)
-    # that gets down to LO at the fastest thresholds.
-    b_need = _binding_resistance(corners, hi_band / low_factor, c_hi[ce], limits, most=True)
-    a_need = _binding_resistance(corners, lo_band / high_factor, c_lo[ce], limits, most=False)
+
+    def ranges(rows: np.ndarray) -> dict[str, tuple[np.ndarray, np.ndarray]]:
+        """(low, high) of every fixed part but C for fixed-row ``rows``."""
+        return {k: (r_lo[e[rows]], r_hi[e[rows]]) for k, e in fixed.items() if k != "C"}
+
+    every = np.arange(len(fixed["C"]))
+    slow = {"C": c_hi[fixed["C"]], **{k: hi for k, (_, hi) in ranges(every).items()}}
+    fast = {"C": c_lo[fixed["C"]], **{k: lo for k, (lo, _) in ranges(every).items()}}
+    # B: largest fixed R (at its high corner) that still reaches HI at zero rotation with the
+    # other parts high and the slowest thresholds; A: total resistance at full rotation (low
+    # corners) that gets down to LO at the fastest thresholds.
+    b_need = _binding_resistance(corners, hi_band / low_factor, slow, limits, True, diode)
+    a_need = _binding_resistance(corners, lo_band / high_factor, fast, limits, False, diode)
     pot_value = np.array([p.value for p in pots])
     pot_lo, pot_hi = drifted_part_ranges("P", pots, conditions)
-    # Every (pot, capacitor) pair; the corner conditions above on each fixed R network:
+    # Every (pot, fixed parts) pair; the corner conditions above on each fixed R network:
     # its high value at most B, its low value plus the pot's low value at least A.
-    pi, cj = (x.ravel() for x in np.meshgrid(np.arange(len(pots)), np.arange(ce.size),
-                                             indexing="ij"))
+    pi, cj = (x.ravel() for x in np.meshgrid(np.arange(len(pots)), every, indexing="ij"))
     re = _finest_fixed_r(res, (r_lo, r_hi), res.entries(max_resistors, *limits),
                          b_need[cj] * (1 - MARGIN), (a_need[cj] - pot_lo[pi]) * (1 + MARGIN),
                          limits[1] - pot_value[pi])
-    pi, cj = pi[re >= 0], cj[re >= 0]
-    re = re[re >= 0]
-    ce_sel = ce[cj]
+    keep = re >= 0
+    for k, e in fixed.items():
+        if k != "C":
+            keep[keep] = ~res.overused(e[cj[keep]], re[keep])
+    pi, cj, re = pi[keep], cj[keep], re[keep]
     low, high = guaranteed_band(osc, (r_lo[re], r_hi[re]), (pot_lo[pi], pot_hi[pi]),
-                                (c_lo[ce_sel], c_hi[ce_sel]), conditions)
+                                (c_lo[fixed["C"][cj]], c_hi[fixed["C"][cj]]), conditions,
+                                ranges(cj), diode)
     with np.errstate(invalid="ignore"):
         ok = (low <= lo_band) & (high >= hi_band)
     if not ok.any():
         notes.append(_why_none(pots, lo_band, hi_band))
         return TrimResult((lo_band, hi_band), notes, [])
-    re, pi, ce_sel, low, high = re[ok], pi[ok], ce_sel[ok], low[ok], high[ok]
-    f_full = _frequency(osc, res.values[re] + pot_value[pi], caps.values[ce_sel])
-    f_zero = _frequency(osc, res.values[re], caps.values[ce_sel])
-    parts_used = res.part_count[re].astype(int) + 1 + caps.part_count[ce_sel]
-    # One design per pot and capacitor network (the finest fixed R for that pair).
-    chosen = [int(i) for i in np.lexsort((parts_used, f_zero / f_full))[:top]]
-    candidates = []
-    for i in chosen:
-        taken: Counter[int] = Counter()
-        (r_node,) = res.nodes([int(re[i])], taken)
-        (c_node,) = caps.nodes([int(ce_sel[i])], taken)
-        pot = pots[int(pi[i])]
-        candidates.append(_design(osc, r_node, single(pot), c_node, (lo_band, hi_band),
-                                  (float(f_full[i]), float(f_zero[i])),
-                                  (float(low[i]), float(high[i]))))
+    rows = _Rows({k: e[cj[ok]] for k, e in fixed.items()}, re[ok], pi[ok], low[ok], high[ok])
+    candidates = _chosen(index, osc, rows, (lo_band, hi_band), top, diode, duty_pct,
+                         duty_within)
+    if not candidates and duty_pct is not None:
+        notes.append(f"no design that covers the band has a duty within {duty_within:g} "
+                     f"points of {duty_pct:g} % at the band's centre")
     return TrimResult((lo_band, hi_band), notes, candidates)
 
 
-def _binding_resistance(corners: list[Oscillator], target_hz: float, c: np.ndarray,
-                        limits: tuple[float, float], most: bool) -> np.ndarray:
-    """Per capacitor [F], the resistance [Ω] that gives ``target_hz`` at the binding corner:
+def _binding_resistance(corners: list[Oscillator], target_hz: float, fixed: Fixed,
+                        limits: tuple[float, float], most: bool, diode: bool = False
+                        ) -> np.ndarray:
+    """Per row of the other parts ``fixed`` (C; the 555's RA) [Ω, F], the trimmed role's
+    resistance [Ω] that gives ``target_hz`` at the binding corner:
     the smallest over ``corners`` (``most``: the most R may be and still reach it at every
     corner), else the largest (the least that gets down to it at every corner); NaN where
     some corner has none.
@@ -234,18 +265,93 @@ def _binding_resistance(corners: list[Oscillator], target_hz: float, c: np.ndarr
     corners before it: the result is the exact minimum (maximum) over the corners, for
     a fraction of the solves (a supply range brings some 70 corners).
     """
-    r = tuned_resistance(corners[0], target_hz, {"C": c}, limits)
+    r = tuned_resistance(corners[0], target_hz, fixed, limits, diode_steered=diode)
     for o in corners[1:]:
         with np.errstate(invalid="ignore"):
-            f = _frequency(o, r, c)
+            f = _frequency(o, r, fixed, diode)
             binds = (f < target_hz) if most else (f > target_hz)
             binds |= np.isnan(f) & ~np.isnan(r)  # stops there: the solver says
         rows = np.flatnonzero(binds)
         if rows.size:
-            new = tuned_resistance(o, target_hz, {"C": c[rows]}, limits)
+            new = tuned_resistance(o, target_hz, {k: v[rows] for k, v in fixed.items()},
+                                   limits, diode_steered=diode)
             r[rows] = np.fmin(r[rows], new) if most else np.fmax(r[rows], new)
             r[rows[np.isnan(new)]] = np.nan
     return r
+
+
+@dataclass(frozen=True)
+class _Rows:
+    """Covering designs as parallel arrays: the fixed parts' entries by role, the trimmed
+    role's entry, the pot's position in the drawer's pots, the guaranteed band [Hz]."""
+
+    fixed: dict[str, np.ndarray]
+    trimmed: np.ndarray
+    pot: np.ndarray
+    low: np.ndarray
+    high: np.ndarray
+
+
+def _chosen(index: DrawerIndex, osc: Oscillator, rows: _Rows, band: tuple[float, float],
+            top: int, diode: bool, duty_pct: float | None,
+            duty_within: float) -> list[TrimCandidate]:
+    """The finest ``top`` designs, one per pot and capacitor network (with a duty target,
+    only those whose nominal duty at the band's centre is within ``duty_within``)."""
+    res, caps, pots = index.resistors, index.capacitors, index.pots
+    pot_value = np.array([p.value for p in pots])[rows.pot]
+    nominal = {k: (caps if k == "C" else res).values[e] for k, e in rows.fixed.items()}
+    f_full = _frequency(osc, res.values[rows.trimmed] + pot_value, nominal, diode)
+    f_zero = _frequency(osc, res.values[rows.trimmed], nominal, diode)
+    parts_used = (res.part_count[rows.trimmed].astype(int) + 1
+                  + sum((caps if k == "C" else res).part_count[e] for k, e in rows.fixed.items()))
+    candidates: list[TrimCandidate] = []
+    seen: set[tuple[int, int]] = set()
+    for i in (int(i) for i in np.lexsort((parts_used, f_zero / f_full))):
+        pair = (int(rows.pot[i]), int(rows.fixed["C"][i]))
+        if len(candidates) == top:
+            break
+        if pair in seen:
+            continue
+        taken: Counter[int] = Counter()
+        nets = {k: (caps if k == "C" else res).nodes([int(e[i])], taken)[0]
+                for k, e in rows.fixed.items()}
+        (nets[osc.circuit.tuned],) = res.nodes([int(rows.trimmed[i])], taken)
+        cand = _design(osc, nets, single(pots[int(rows.pot[i])]), band,
+                       (float(f_full[i]), float(f_zero[i])),
+                       (float(rows.low[i]), float(rows.high[i])), diode)
+        if duty_pct is None or abs((cand.duty_pct or 0.0) - duty_pct) <= duty_within:
+            seen.add(pair)
+            candidates.append(cand)
+    return candidates
+
+
+def _check_trim(osc: Oscillator, lo_band: float, hi_band: float, top: int,
+                duty_pct: float | None) -> None:
+    """InputError naming the first impossible part of a trim request."""
+    if not (0 < lo_band < hi_band and math.isfinite(hi_band)):
+        raise InputError("a band needs 0 < LO < HI", text=f"{lo_band}..{hi_band}", what="band")
+    if not osc.circuit.trimmable:
+        raise InputError("trim designs are for circuits a pot can tune (--circuit "
+                         "schmitt or 555)", text=osc.circuit.name, what="circuit")
+    if top < 1:
+        raise InputError("--top must be at least 1", text=str(top), what="top")
+    if duty_pct is not None and not osc.circuit.steerable:
+        raise InputError("a duty target on a trim design is for the 555 astable",
+                         text=str(duty_pct), what="duty")
+
+
+def _fixed_entries(index: DrawerIndex, osc: Oscillator, max_capacitors: int,
+                   limits: tuple[float, float]) -> dict[str, np.ndarray]:
+    """Index entries of the parts beside the trimmed one, one row per combination: every
+    capacitor network, times every single resistor within ``limits`` for each enumerated
+    role (the 555's RA; single parts keep the combinations few)."""
+    ce = index.capacitors.entries(max_capacitors)
+    roles = osc.circuit.enumerated
+    if not roles:
+        return {"C": ce}
+    singles = index.resistors.entries(1, *limits)
+    grid = np.meshgrid(*([singles] * len(roles)), ce, indexing="ij")
+    return {**{k: g.ravel() for k, g in zip(roles, grid, strict=False)}, "C": grid[-1].ravel()}
 
 
 def _finest_fixed_r(res: NetworkIndex, ranges: tuple[np.ndarray, np.ndarray],
@@ -283,14 +389,16 @@ def _why_none(pots: tuple[Part, ...], lo: float, hi: float) -> str:
             "calibration")
 
 
-def _design(osc: Oscillator, r_node: Network, p_node: Network, c_node: Network,
+def _design(osc: Oscillator, nets: dict[str, Network], p_node: Network,
             band: tuple[float, float], range_hz: tuple[float, float],
-            guaranteed: tuple[float, float]) -> TrimCandidate:
+            guaranteed: tuple[float, float], diode: bool) -> TrimCandidate:
+    """A trim design from its networks by role, with rotations, resolution and notes."""
     pot, trimmed = p_node.parts()[0], osc.circuit.tuned
-    values = {trimmed: r_node.value, "P": pot.value, "C": c_node.value}
-    networks = {trimmed: r_node, "P": p_node, "C": c_node}
+    networks = {k: nets[k] for k in osc.circuit.keys if k != "C"}
+    networks.update(P=p_node, C=nets["C"])
+    values = {k: n.value if k != "P" else pot.value for k, n in networks.items()}
     cand = TrimCandidate(values, networks, range_hz, guaranteed, (0.0, 0.0), 0.0,
-                         trimmed=trimmed)
+                         trimmed=trimmed, diode_steered=diode)
     centre = 0.5 * (band[0] + band[1])
     rot_high, rot_low, x = (float(r) for r in rotation_for(osc, cand, np.array(
         [band[1], band[0], centre])))
@@ -304,8 +412,12 @@ def _design(osc: Oscillator, r_node: Network, p_node: Network, c_node: Network,
     if pot.taper == "log":
         notes.append("log-taper pot: the frequency changes slowly near zero rotation and "
                      "quickly near full rotation")
+    duty = None
+    if osc.circuit.steerable:
+        _, d = frequency_and_duty(osc, cand.values_at(x), diode)
+        duty = float(d)
     return replace(cand, rotation_pct=(rot_high, rot_low), resolution_hz_per_pct=resolution,
-                   notes=notes)
+                   notes=notes, duty_pct=duty)
 
 
 def frequency_at_rotation(osc: Oscillator, candidate: TrimCandidate, rotation_pct: Any,
@@ -316,24 +428,31 @@ def frequency_at_rotation(osc: Oscillator, candidate: TrimCandidate, rotation_pc
     lowest/highest frequency over every tolerance and threshold corner (the
     edges of the guaranteed band at each rotation). NaN where it stops.
     """
-    r, p, c = (candidate.networks[k] for k in (candidate.trimmed, "P", "C"))
+    r, p = (candidate.networks[k] for k in (candidate.trimmed, "P"))
+    others = {k: n for k, n in candidate.networks.items() if k not in (candidate.trimmed, "P")}
+    diode = candidate.diode_steered
     if corner is None:
         total = r.value + pot_resistance(p.value, rotation_pct, candidate.taper)
-        return _frequency(osc, total, np.full(np.shape(total), c.value))
+        return _frequency(osc, total, {k: np.full(np.shape(total), n.value)
+                                       for k, n in others.items()}, diode)
     if corner not in ("low", "high"):
         raise InputError("corner is None, 'low' or 'high'", text=str(corner), what="corner")
-    (r_lo, r_hi), (p_lo, p_hi), (c_lo, c_hi) = (n.value_range for n in (r, p, c))
-    slow = corner == "low"
+    (r_lo, r_hi), (p_lo, p_hi) = (n.value_range for n in (r, p))
+    slow = corner == "low"  # every part high is the slowest corner (f falls with each)
     total = (r_hi if slow else r_lo) + pot_resistance(p_hi if slow else p_lo, rotation_pct,
                                                       candidate.taper)
-    f = _corner_frequencies(osc, total, np.full(np.shape(total), c_hi if slow else c_lo))
+    fixed = {k: np.full(np.shape(total), n.value_range[1 if slow else 0])
+             for k, n in others.items()}
+    f = _corner_frequencies(osc, total, fixed, diode)
     return np.min(f, axis=0) if slow else np.max(f, axis=0)
 
 
 def rotation_for(osc: Oscillator, candidate: TrimCandidate, frequency_hz: Any) -> np.ndarray:
     """Rotation [%] that gives ``frequency_hz`` [Hz] with nominal parts; NaN outside the range."""
     f = np.asarray(frequency_hz, dtype=float)
-    total = resistance_for(osc, f, {"C": candidate.values["C"]}, candidate.trimmed)
+    others = {k: v for k, v in candidate.values.items() if k not in (candidate.trimmed, "P")}
+    total = resistance_for(osc, f, others, candidate.trimmed,
+                           diode_steered=candidate.diode_steered)
     share = (total - candidate.values[candidate.trimmed]) / candidate.values["P"]
     share = np.where((share >= -1e-9) & (share <= 1 + 1e-9), np.clip(share, 0.0, 1.0), np.nan)
     rotation = rotation_for_share(share, candidate.taper)

@@ -134,7 +134,8 @@ LAYOUT_NOTES = (
 
 ASTABLE = Astable555(name="555", title="555 timer",
                      roles=(Role("RA", "R"), Role("RB", "R"), Role("C", "C")),
-                     default_family="NE555", steerable=True, tuned="RB", oscillator="555 astable",
+                     default_family="NE555", steerable=True, tuned="RB", trimmable=("RB",),
+                     oscillator="555 astable",
                      short="555 astable",
                      threshold_words="comparators at {plus:.2f} V and {minus:.2f} V",
                      threshold_names=("threshold", "trigger"),
