@@ -39,6 +39,14 @@ DEBOUNCE_MS = 250
 """Quiet time after the last keystroke before a search starts."""
 
 
+def _plotted(outcome: Outcome, candidate: Any) -> tuple[Any, ...]:
+    """All the plots of ``candidate`` depend on: the model, the request, its values and its
+    networks' electrical content (not its parts' places, counts or lines)."""
+    return (outcome.oscillator, outcome.target, type(candidate),
+            tuple(sorted(candidate.values.items())),
+            tuple((role, node.electrical) for role, node in candidate.networks.items()))
+
+
 class SearchPresenter(QObject):
     """Runs the window's searches and shows their results.
 
@@ -69,6 +77,8 @@ class SearchPresenter(QObject):
         """Generation of the plot drawing in progress (a newer selection supersedes it)."""
         self._announce = False
         """Emit sigDone once the plots of the new result are drawn."""
+        self._plotted: tuple[Any, ...] | None = None
+        """What the plots show (``_plotted``), None while they show nothing or are drawing."""
 
         self.candidates = CandidatesModel(self)
         self.order = QSortFilterProxyModel(self)
@@ -259,6 +269,7 @@ class SearchPresenter(QObject):
         self.details.clear()
         self.spread_note.hide()
         self.window.drawer_model.set_used({})
+        self._plotted = None
         if self.plots is not None:
             self.plots.clear("No candidate to show")
 
@@ -326,8 +337,13 @@ class SearchPresenter(QObject):
             w.drawer_panel.scroll_to_row(min(used))
         if self.plots is None:
             return  # drawn once the plots exist (see _plots_built)
-        self._in_steps(self._drawing_steps(self.outcome, candidate), self._plots_drawn,
-                       self._drawing)
+        shows = _plotted(self.outcome, candidate)
+        if shows == self._plotted:  # e.g. a location or quantity edit: the same plots
+            self._plots_drawn()
+            return
+        self._plotted = None
+        self._in_steps(self._drawing_steps(self.outcome, candidate),
+                       lambda: self._plots_drawn(shows), self._drawing)
 
     def _drawing_steps(self, outcome: Outcome, candidate: Any) -> Iterator[None]:
         """Plots one at a time, then the advice on the spread; a model error (a candidate
@@ -344,7 +360,10 @@ class SearchPresenter(QObject):
         self.spread_note.setText(advice)
         self.spread_note.setVisible(bool(advice))
 
-    def _plots_drawn(self) -> None:
+    def _plots_drawn(self, shows: tuple[Any, ...] | None = None) -> None:
+        """The plots are drawn (``shows``: what they show, when it is new)."""
+        if shows is not None:
+            self._plotted = shows
         if self._announce:
             self._announce = False
             self.sigDone.emit()
@@ -370,6 +389,7 @@ class SearchPresenter(QObject):
             self._drawing += 1
             for _ in self._drawing_steps(self.outcome, candidate):
                 pass
+            self._plotted = _plotted(self.outcome, candidate)
         self.plot_area.layout().addWidget(panel, 1)
         if candidate is not None:
             if self.plot_area.isVisible():

@@ -132,6 +132,17 @@ class Network:
     def part_count(self) -> int:
         return len(self.parts())
 
+    @property
+    def electrical(self) -> tuple[Any, ...]:
+        """The network's shape and each part's electrical content (kind, value, tolerance,
+        taper, dielectric), not where the part is, how many there are or its line: equal
+        for networks that behave alike."""
+        if self.part is not None:
+            p = self.part
+            return (p.kind, p.value, p.tolerance, p.taper, p.dielectric)
+        return (bool(self.series),
+                tuple(c.electrical for c in (self.series or self.parallel)))
+
     def to_json(self) -> dict[str, Any]:
         """The contract's NODE: ``{"line": N}``, ``{"series": [...]}``, ``{"parallel": [...]}``."""
         if self.part is not None:

@@ -388,6 +388,30 @@ def test_a_location_edit_rebuilds_no_index(qtbot, window):
     assert "tray 9" in window.details.text()
 
 
+def test_a_location_edit_keeps_the_plots_a_redraw_would_give(qtbot, window):
+    # A new result whose chosen candidate is electrically the same draws nothing again;
+    # what stays is what drawing it afresh gives (waveform, spread histogram).
+    plots = window.plots
+    t, v_cap = plots.cap_curve.getData()
+    edges, share = plots.hist_curve.getData()
+    row = min(p.row for node in window.selected_candidate().networks.values()
+              for p in node.parts())
+    search_done(qtbot, window, lambda: window.drawer.set_cell(row, "location", "tray 9"))
+    assert "tray 9" in window.details.text()
+    assert plots.cap_curve.getData()[0] is t  # not drawn again
+    window.select_candidate(3)
+    window.select_candidate(0)  # drawn afresh
+
+    def redrawn() -> bool:
+        again_edges, again_share = plots.hist_curve.getData()
+        return again_edges is not edges and np.array_equal(again_share, share)
+
+    qtbot.waitUntil(redrawn, timeout=10_000)
+    again_t, again_cap = plots.cap_curve.getData()
+    assert np.array_equal(again_t, t) and np.array_equal(again_cap, v_cap)
+    assert np.array_equal(plots.hist_curve.getData()[0], edges)
+
+
 def test_import_adds_rows_as_one_step_and_keeps_bad_cells(qtbot, window, tmp_path,
                                                            monkeypatch):
     from gui.main_window import MainWindow
