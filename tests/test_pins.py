@@ -71,6 +71,7 @@ def test_555_pinned_capacitor(parts):
     ("schmitt", (R_10K, 10), "another line is pinned as its resistor already"),
     ("schmitt-duty", (R_10K,), "has 2 resistor places (RH, RL)"),
     ("schmitt", (24,), "has no place for a pot here"),  # line 24: a 1k trimmer
+    ("schmitt", (2,), "100 Ω is outside the 1 kΩ … 2.2 MΩ"),  # 74HC14: R from 1 kΩ
 ])
 def test_a_pin_that_cannot_be_used_says_why_in_one_line(parts, circuit, pins, says):
     duty = 40.0 if circuit.endswith("-duty") else None  # two steering diodes: RH, RL

@@ -19,7 +19,7 @@ from core.errors import InputError, TickbinError
 if TYPE_CHECKING:
     from core.design.search import SearchResult
     from core.design.trim import TrimResult
-    from core.model.circuits.base import Circuit, Oscillator
+    from core.model.circuits.base import Oscillator
     from core.model.drift import Conditions
     from core.parts.drawer import Part
     from core.parts.networks import DrawerIndex
@@ -124,7 +124,7 @@ class Request:
         usable, top = list(self.usable(parts)), self.top if top is None else top
         if self.pins:
             wired = osc.with_steering() if self.duty_pct is not None and not self.trim else osc
-            usable, index = self.pinned(parts, usable, wired.circuit, index)
+            usable, index = self.pinned(parts, usable, wired, index)
         result: SearchResult | TrimResult
         if self.band_hz is not None:
             result = trim(usable, osc, self.band_hz, top=top, max_resistors=self.max_resistors,
@@ -146,12 +146,15 @@ class Request:
         return result
 
     def pinned(self, parts: tuple[Part, ...] | list[Part], usable: list[Part],
-               circuit: Circuit, index: DrawerIndex | None
+               osc: Oscillator, index: DrawerIndex | None
                ) -> tuple[list[Part], DrawerIndex | None]:
         """``usable`` with each pinned part (one of it) the only part of its kind, and
         ``index`` with those kinds' networks rebuilt from it; InputError naming the line
-        when it holds no usable part or the circuit has no single place for it."""
+        when it holds no usable part or ``osc``'s circuit has no single place for it."""
         from core.parts.networks import DrawerIndex, drawer_index
+        from core.units import format_resistance
+
+        circuit, device = osc.circuit, osc.device
 
         chosen: dict[str, Part] = {}
         for line in self.pins:
@@ -167,6 +170,13 @@ class Request:
                          else f"another line is pinned as its {word} already")
                 raise InputError(f"line {line} cannot be pinned: {where}", text=str(line),
                                  what="--pin")
+            if (part.kind == "R" and not self.trim  # a trim's fixed R has a pot beside it
+                    and not device.r_min_ohm <= part.value <= device.r_max_ohm):
+                raise InputError(
+                    f"line {line} cannot be pinned: {format_resistance(part.value)} is outside "
+                    f"the {format_resistance(device.r_min_ohm)} … "
+                    f"{format_resistance(device.r_max_ohm)} a timing resistor of the "
+                    f"{device.family.name} may have", text=str(line), what="--pin")
             chosen[part.kind] = replace(part, quantity=1)
         kept = [p for p in usable if p.kind not in chosen] + list(chosen.values())
         if index is None:
