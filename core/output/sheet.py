@@ -435,7 +435,7 @@ def build_sheet(osc: Oscillator, candidate: Design, target: str, *,
     combined = [(role, node) for role, node in networks.items() if node.part_count > 1]
     if combined:
         summary += [("Networks", "; ".join(
-            f"{role} = {node.describe()} = {format_part_value(node.value, node.kind)}"
+            f"{role} = {node.describe()} = {format_part_value(node.label_value, node.kind)}"
             for role, node in combined)), ("Notation", NOTATION)]
     # A trim candidate's notes restate its rotations, which the adjustment covers; what
     # its capacitors do (DC bias, ageing) still goes on the sheet.
