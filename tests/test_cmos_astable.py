@@ -1,8 +1,9 @@
 """The two-inverter CMOS astable (core/model/circuits/cmos_astable.py) against outside sources.
 
 References named beside each check: the textbook period of the two-inverter
-astable (ln 9 R C ≈ 2.2 R C at half the supply), the CD4060B data sheet's RC
-oscillator note (from memory), and scipy's ODE solver integrating the timing
+astable (ln 9 R C ≈ 2.2 R C at half the supply), the 4000B RC-oscillator note (ON
+Semiconductor MC14541B data sheet, operating characteristics: f = 1 / (2.3 Rtc Ctc),
+RS ≈ 2 Rtc), and scipy's ODE solver integrating the timing
 node itself, jumps and input clamp diodes included.
 """
 
@@ -30,7 +31,7 @@ def _period(osc, r: float, rs: float, c: float) -> float:
 
 def test_textbook_period_with_the_clamp_isolated() -> None:
     # Textbook two-inverter astable: T = RC[ln((2V-Vt)/(V-Vt)) + ln((V+Vt)/Vt)],
-    # = ln 9 RC ≈ 2.197 RC at Vt = V/2 (CD4069UB/CD4060B application notes; from memory).
+    # = ln 9 RC ≈ 2.197 RC at Vt = V/2 (textbook algebra of the two exponentials).
     osc = make_oscillator("cmos-astable", "CD4069UB", 10.0).idealised()
     r, c = 100e3, 10e-9
     assert _period(osc, r, 1e12, c) == pytest.approx(math.log(9) * r * c, rel=1e-6)
@@ -52,8 +53,9 @@ def test_small_rs_drops_the_period_toward_1_4_rc() -> None:
 
 
 def test_data_sheet_rs_relation_and_formula() -> None:
-    # CD4060B data sheet, RC oscillator: f ≈ 1 / (2.3 RTC CTC) with RS about 2…10 × RTC
-    # (from memory). At RS = 10 R the model is within 5 % of it (the 2.3 is approximate).
+    # ON Semiconductor MC14541B data sheet, operating characteristics (the 4000B RC
+    # oscillator the CD4060B shares): f = 1 / (2.3 Rtc Ctc) with RS ≈ 2 Rtc; the upper
+    # bound RS ≤ 10 R is from memory. At RS = 10 R the model is within 5 % of it.
     osc = make_oscillator("cmos-astable", "CD4069UB", 10.0)
     r, c = 100e3, 10e-9
     assert _period(osc, r, 10 * r, c) == pytest.approx(2.3 * r * c, rel=0.05)
@@ -136,7 +138,7 @@ def test_threshold_is_one_voltage() -> None:
 
 def test_worst_case_spans_the_switching_voltage() -> None:
     # The period is shortest at half the supply and longest at either end of the
-    # data sheet's VIL…VIH window (CD4069UB data sheet input levels, from memory).
+    # data sheet's VIL…VIH window (MC14069UB input levels, tests/test_devices_datasheets.py).
     osc = make_oscillator("cmos-astable", "CD4069UB", 10.0)
     r, c = 100e3, 10e-9
     pred = predict(osc, {"R": r, "RS": 10 * r, "C": c})

@@ -1,7 +1,8 @@
 """The oscillator-and-counter chip (CD4060B, 74HC4060) against outside sources.
 
-References named beside each check: the CD4060B and 74HC4060 data sheets (pinned-out
-stages, Qn = oscillator / 2^n, RC-oscillator note; from memory) and the two-inverter
+References named beside each check: the 4060 data sheets (pinned-out stages: Motorola
+MC54/74HC4060 logic diagram, TI SN74HC4060 SCLS161D; Qn = oscillator / 2^n, a ripple
+counter), the 4000B RC-oscillator note (ON Semiconductor MC14541B) and the two-inverter
 astable's textbook period.
 """
 
@@ -26,7 +27,7 @@ def test_stage_divides_the_oscillator_with_an_even_duty() -> None:
     t_high, t_low = (float(t) for t in times(q10, values))
     assert t_high == pytest.approx(t_low, rel=1e-12)
     # The built-in oscillator is the two-inverter astable: ≈ ln 9 R C at half the supply
-    # (textbook; CD4060B RC-oscillator note, f ≈ 1 / (2.2…2.3 R C); from memory).
+    # (textbook; MC14541B RC-oscillator note, f ≈ 1 / (2.3 Rtc Ctc) with RS ≈ 2 Rtc).
     t_osc = (t_high + t_low) / 1024
     assert t_osc == pytest.approx(math.log(9) * 100e3 * 10e-9, rel=0.01)
     osc_high, osc_low = (float(t) for t in times(bare.idealised(), values))
@@ -34,7 +35,7 @@ def test_stage_divides_the_oscillator_with_an_even_duty() -> None:
 
 
 def test_only_pinned_stages() -> None:
-    # CD4060B / 74HC4060 pinout: Q4…Q10 and Q12…Q14; Q11 is not pinned out (from memory).
+    # MC54/74HC4060 logic diagram, TI SN74HC4060 pinout: Q4…Q10 and Q12…Q14, no Q11.
     osc = make_oscillator("divider", "74HC4060", 5.0)
     with pytest.raises(InputError, match=r"Q10.*Q12"):
         with_divide_by(osc, 2048)

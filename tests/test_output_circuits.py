@@ -1,8 +1,9 @@
 """Build sheets and netlists of the circuits issue 13 adds: the diode-steered Schmitt
 oscillator, the two-inverter CMOS astable and the oscillator with a binary counter.
 
-Outside references: the CD4060B / 74HC4060 and CD4069UB / 74HCU04 pinouts (from memory:
-the TI CD4060B and CD4069UB data sheets' pin tables), ngspice simulating the exported
+Outside references: the CD4060B / 74HC4060 and CD4069UB / 74HCU04 pinouts (Motorola
+MC54/74HC4060 logic diagram, TI SN74HC4060 SCLS161D, Nexperia 74HCU04 Rev. 7 Table 2, TI
+CD4069UB functional diagram), ngspice simulating the exported
 netlists, and the facts of the trade issue 13 names for the sheet (the 4060's reset
 held low, unused inputs tied, decoupling).
 """
@@ -40,8 +41,8 @@ def test_divider_sheet_names_the_tap_pin_and_holds_reset_low():
     osc = divider()
     sheet = build_sheet(osc, one_part_design(osc, DIVIDER_VALUES), "4 mHz", today=TODAY)
     pins = _pins(sheet)
-    # CD4060B pinout (from memory, TI data sheet pin table): Q10 on 15, MR on 12,
-    # φI 11, φO 10, φO̅ 9, VSS 8, VDD 16.
+    # 4060 pinout (MC54/74HC4060 logic diagram, pin-for-pin with the CD4060B): Q10 on
+    # 15, reset on 12, Osc In 11, Osc Out 1 10, Osc Out 2 9, VSS 8, VDD 16.
     assert pins["15"][0] == "Q10 output"
     assert pins["12"][1].startswith("GND")
     assert "RS" in pins["11"][1] and "R to" in pins["10"][1] and "C to" in pins["9"][1]
@@ -59,7 +60,7 @@ def test_74hc4060_takes_the_same_pins():
     osc = divider("74HC4060", 5.0, 16)
     sheet = build_sheet(osc, one_part_design(osc, {"R": 10e3, "RS": 47e3, "C": 1e-9}), "x",
                         today=TODAY)
-    # Q4 is pin 7 on both makers' parts (from memory: 74HC4060 pin table).
+    # Q4 is pin 7 (MC54/74HC4060 logic diagram; TI SN74HC4060 QD on 7).
     assert _pins(sheet)["7"][0] == "Q4 output"
 
 
@@ -67,8 +68,8 @@ def test_cmos_astable_sheet_ties_the_unused_inputs_and_joins_the_gates():
     osc = make_oscillator("cmos-astable", "CD4069UB", 10.0)
     sheet = build_sheet(osc, one_part_design(osc, RING_VALUES), "460 Hz", today=TODAY)
     pins = _pins(sheet)
-    # CD4069UB pinout (from memory): 1A=1 1Y=2 2A=3 2Y=4, VSS=7, VDD=14; the other
-    # inverters' inputs 5, 9, 11, 13 must not float (CMOS input, common practice).
+    # CD4069UB pinout (TI CD4069UB functional diagram): A=1 G=2, B=3 H=4, VSS=7, VDD=14;
+    # the other inverters' inputs 5, 9, 11, 13 must not float (CMOS input, common practice).
     assert pins["5, 9, 11, 13"][1].startswith("GND or VCC")
     assert "RS" in pins["1"][1] and "C to the timing node" in pins["4"][1]
     assert any("join pin 2 to pin 3" in n for n in sheet.build_notes)

@@ -2,8 +2,9 @@
 oscillator-and-counter chip and the Schmitt inverter with two steering diodes.
 
 Outside references named at each check: series/parallel rules (Horowitz & Hill, The
-Art of Electronics, 3rd ed., §1.2.1 and §1.4.1) in the brute forces; the CD4060B data
-sheet's RC-oscillator formula and its RS/RT relation (from memory); the DESIGN.md ranking
+Art of Electronics, 3rd ed., §1.2.1 and §1.4.1) in the brute forces; the 4000B
+RC-oscillator formula and its RS/RT relation (ON Semiconductor MC14541B data sheet:
+f = 1 / (2.3 Rtc Ctc), RS ≈ 2 Rtc; RS ≤ 10 Rtc from memory); the DESIGN.md ranking
 (second round); IEC 60062 tolerance corners.
 """
 
@@ -55,12 +56,12 @@ def test_cmos_astable_first_candidate_is_never_beaten(target: float) -> None:
     best, reached = brute_force_best_follower(SMALL, [osc], target, 2, 2, 1.0)
     assert_first_or_empty(result, best, reached, 1.0)
     for c in result.candidates:
-        # CD4060B/CD4069UB data sheet RC-oscillator note (from memory): RS 2 to 10 × R.
+        # RS ≈ 2 Rtc at least (MC14541B RC-oscillator note); at most 10 × R (from memory).
         assert 2.0 * c.values["R"] <= c.values["RS"] <= 10.0 * c.values["R"]
 
 
 def stage_oscillators(osc: object, target: float) -> list[object]:
-    """Every pinned-out stage (CD4060B and 74HC4060 pin tables, from memory: Q4–Q10 and
+    """Every pinned-out stage (MC54/74HC4060 logic diagram, SN74HC4060 pinout: Q4–Q10 and
     Q12–Q14, no Q11) whose oscillator frequency stays within the chip's limit."""
     return [replace(osc, divide_by=2 ** n) for n in PINNED_STAGES
             if target * 2 ** n <= osc.device.f_max_hz]
@@ -85,15 +86,16 @@ def test_divider_candidates_report_their_stage() -> None:
     for c in result.candidates:
         data = c.to_json()
         n = data["divide_by"]
-        # A pinned-out stage only (CD4060B pin table, from memory: Q11 is not pinned out).
+        # A pinned-out stage only (MC54/74HC4060 logic diagram: Q11 is not pinned out).
         assert n in [2 ** k for k in PINNED_STAGES] and data["tap"] == f"Q{int(math.log2(n))}"
         assert data["tap"] != "Q11"
         assert data["oscillator_hz"] == pytest.approx(n * data["frequency_hz"], rel=1e-12)
         # A binary counter's output is a square wave (each stage toggles once per cycle
         # of the one before: textbook ripple counter).
         assert data["duty_pct"] == pytest.approx(50.0)
-        # CD4060B data sheet, RC oscillator (from memory): f ≈ 1 / (2.3 RT C) with RS
-        # about 2 to 10 × RT; the model's own threshold and clamp details stay within 10 %.
+        # MC14541B data sheet, 4000B RC oscillator: f ≈ 1 / (2.3 Rtc Ctc) with RS ≈ 2 Rtc
+        # (the search's RS of 2 to 10 × RT, the top from memory); the model's own
+        # threshold and clamp details stay within 10 %.
         rt, ct = data["values"]["R"], data["values"]["C"]
         assert data["oscillator_hz"] == pytest.approx(1.0 / (2.3 * rt * ct), rel=0.10)
         # The oscillator stays within the chip's own limit at this supply.

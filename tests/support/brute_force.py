@@ -254,8 +254,8 @@ def plain_follower(r: float, r_nets: list[tuple[Any, ...]], low: float, high: fl
                    ) -> tuple[Any, ...] | None:
     """The RS network by our stated rule (core.design.inversion.follower_entries, written
     again with plain loops): within low … high × R, fewest parts, then nearest the
-    window's geometric middle in ratio. The window is the CD4060B data sheet's RS of
-    about 2 to 10 times RT (from memory)."""
+    window's geometric middle in ratio. The window is RS of 2 to 10 times RT: at least
+    RS ≈ 2 Rtc (ON Semiconductor MC14541B RC-oscillator note), at most 10 × (from memory)."""
     middle = math.sqrt(low * high) * r
     inside = [n for n in r_nets if low * r <= n[0] <= high * r]
     return min(inside, key=lambda n: (n[4], abs(math.log(n[0] / middle))), default=None)

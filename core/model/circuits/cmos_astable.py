@@ -8,7 +8,8 @@ output step. With the input clamp diodes isolated (RS large):
 
     T = R C [ln((2 Vdd − Vth)/(Vdd − Vth)) + ln((Vdd + Vth)/Vth)]   (≈ 2.2 R C at Vdd/2)
 
-(textbook; the CD4060B and CD4069UB data sheets' RC-oscillator notes, f ≈ 1/(2.2…2.3 R C)).
+(textbook; the 4000B RC-oscillator note, f ≈ 1/(2.3 Rtc Ctc) with RS ≈ 2 Rtc: ON Semiconductor
+MC14541B data sheet; Philips 74HC4060: f ≈ 1/(2.5 Rt Ct) with R2 ≈ 2 Rt).
 With RS small the clamp diodes (a fixed forward drop, ``input_clamp_v`` in the
 table) pull the node back toward the rail through RS while it is beyond it, and
 the period falls toward 1.4 R C.
@@ -44,10 +45,11 @@ from core.model.devices import DeviceAtSupply
 from core.units import format_quantity
 
 RS_RATIO_MIN = 2.0
-"""RS at least this many times R keeps the clamp diodes out of the timing (from memory:
-the CD4060B data sheet's RC-oscillator note gives RS about 2 to 10 times RTC)."""
+"""RS at least this many times R keeps the clamp diodes out of the timing (RS ≈ 2 Rtc: ON
+Semiconductor MC14541B RC-oscillator note; Philips 74HC4060: R2 ≈ 2 Rt)."""
 RS_RATIO_MAX = 10.0
-"""The top of that window: a search picks RS within RS_RATIO_MIN … RS_RATIO_MAX × R."""
+"""The top of that window (from memory): a search picks RS within RS_RATIO_MIN … RS_RATIO_MAX
+× R."""
 
 
 def cmos_astable_phases(osc: Oscillator, r: ArrayLike, rs: ArrayLike, c: ArrayLike,
