@@ -272,22 +272,12 @@ def test_a_malformed_table_is_refused_with_the_entry_named():
         load_device_table(text)
 
 
-# Unbuffered inverters (from memory: TI CD4069UB and Nexperia 74HCU04 data sheets, static
-# characteristics at 25 °C). The switching window is VIL max … VIH min; the drive is
-# (supply, output low level, typical current, guaranteed current).
-UNBUFFERED_INPUT_LEVELS = [("CD4069UB", 5.0, 1.0, 4.0), ("CD4069UB", 10.0, 2.0, 8.0),
-                           ("CD4069UB", 15.0, 2.5, 12.5), ("74HCU04", 2.0, 0.3, 1.7),
-                           ("74HCU04", 4.5, 0.9, 3.6), ("74HCU04", 6.0, 1.2, 4.8)]
+# Unbuffered inverters: the switching windows are checked against their data sheets in
+# tests/test_devices_datasheets.py; here the guaranteed drive. CD4069UB sink current at
+# 25 °C (ON Semiconductor MC14069UB electrical characteristics): (supply, VOL, IOL typ,
+# IOL min).
 CD4069UB_SINK = [(5.0, 0.4, 0.88e-3, 0.51e-3), (10.0, 0.5, 2.25e-3, 1.3e-3),
                  (15.0, 1.5, 8.8e-3, 3.4e-3)]
-
-
-@pytest.mark.parametrize(("family", "supply", "vil_max", "vih_min"), UNBUFFERED_INPUT_LEVELS)
-def test_unbuffered_switching_window_is_the_input_level_table(family, supply, vil_max,
-                                                              vih_min):
-    lo, typ, hi = device_table().family(family).at(supply).vt_plus
-    assert (lo, hi) == pytest.approx((vil_max, vih_min))
-    assert typ == pytest.approx(supply / 2)  # the textbook unbuffered inverter's middle
 
 
 @pytest.mark.parametrize(("supply", "vol", "i_typ", "i_min"), CD4069UB_SINK)
@@ -298,9 +288,11 @@ def test_cd4069ub_output_resistance_is_the_drive_table(supply, vol, i_typ, i_min
     assert d.r_out_low_ohm * i_min <= vol
 
 
-@pytest.mark.parametrize(("supply", "i_out", "voh_min", "vol_max"),
-                         [(4.5, 4e-3, 3.98, 0.26), (6.0, 5.2e-3, 5.48, 0.26)])
-def test_74hcu04_output_meets_the_drive_table(supply, i_out, voh_min, vol_max):
+# Fairchild MM74HCU04 DC electrical characteristics, 25 °C guaranteed limits:
+# (supply, IOH, VOH min, IOL, VOL max).
+@pytest.mark.parametrize(("supply", "i_high", "voh_min", "i_low", "vol_max"),
+                         [(4.5, 4.0e-3, 3.98, 6.0e-3, 0.26), (6.0, 5.2e-3, 5.48, 7.8e-3, 0.26)])
+def test_74hcu04_output_meets_the_drive_table(supply, i_high, voh_min, i_low, vol_max):
     d = device_table().family("74HCU04").at(supply)
-    assert d.voh_v - i_out * d.r_out_high_ohm >= voh_min
-    assert d.vol_v + i_out * d.r_out_low_ohm <= vol_max
+    assert d.voh_v - i_high * d.r_out_high_ohm >= voh_min
+    assert d.vol_v + i_low * d.r_out_low_ohm <= vol_max
