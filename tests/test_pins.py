@@ -98,3 +98,16 @@ def test_the_command_line_pins(tmp_path):
     assert out.returncode == 0, out.stderr
     candidates = json.loads(out.stdout)["candidates"]
     assert candidates and all(c["networks"]["C"] == {"line": C_22N} for c in candidates)
+
+
+def test_what_to_buy_never_replaces_the_pinned_part(parts):
+    from core.design.search import search
+
+    pinned = Request(circuit="schmitt", target_hz=1000.0, pins=(R_10K,))
+    osc = pinned.oscillator()
+    around, _ = pinned.pinned(parts, list(parts), osc, None)
+    # The search alone, around the pinned 10k, would buy a resistor in its place.
+    assert any(s["buy"]["kind"] == "R" for s in search(around, osc, 1000.0).suggestions)
+    result = pinned.run(parts, osc)
+    assert all(s["buy"]["kind"] != "R" for s in result.suggestions)
+    assert not any(n.startswith("buying") and "kΩ" in n for n in result.notes)

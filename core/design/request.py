@@ -140,6 +140,9 @@ class Request:
                             max_resistors=self.max_resistors,
                             max_capacitors=self.max_capacitors, accept_pct=self.accept_pct,
                             top=top, index=index, **within)
+            if self.pins:
+                result = _buying_around_pins(result, {p.kind for p in usable
+                                                      if p.stock_line in self.pins})
         for cand in result.candidates:
             cand.notes.extend(capacitor_notes(osc, (p for n in cand.networks.values()
                                                     for p in n.parts())))
@@ -188,6 +191,19 @@ class Request:
 
 
 _KIND_WORDS = {"R": "resistor", "C": "capacitor", "P": "pot"}
+
+
+def _buying_around_pins(result: SearchResult, kinds: set[str]) -> SearchResult:
+    """What to buy without replacing a pinned part: suggestions buying a part of a pinned
+    kind are dropped, and the note names the best one left."""
+    from core.design.search import buy_note
+
+    kept = [s for s in result.suggestions if s["buy"]["kind"] not in kinds]
+    if kept == result.suggestions:
+        return result
+    notes = [n for n in result.notes if n != buy_note(result.suggestions[0])]
+    return replace(result, notes=[*notes, buy_note(kept[0])] if kept else notes,
+                   suggestions=kept)
 
 
 def _pinned_part(line: int, parts: tuple[Part, ...] | list[Part], usable: list[Part]) -> Part:

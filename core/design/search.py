@@ -312,10 +312,14 @@ def search(parts: list[Part], osc: Oscillator, target_hz: float, duty_pct: float
         notes += _why_no_hit(goal, shortlist, candidates, score, low, reached, stalled)
         suggestions = goal.suggest(index)
         if suggestions:
-            first = suggestions[0]
-            notes.append(f"buying {first['buy']['text']} ({first['buy']['series']}) would give "
-                         f"{format_signed_pct(first['error_pct'])} with parts you have")
+            notes.append(buy_note(suggestions[0]))
     return SearchResult(target_hz, goal.limits, notes, candidates, suggestions)
+
+
+def buy_note(suggestion: dict[str, Any]) -> str:
+    """The note that names the best part to buy (``suggest``'s first answer)."""
+    return (f"buying {suggestion['buy']['text']} ({suggestion['buy']['series']}) would give "
+            f"{format_signed_pct(suggestion['error_pct'])} with parts you have")
 
 
 def _check_goal(osc: Oscillator, target_hz: float, duty_pct: float | None, accept_pct: float,
