@@ -167,3 +167,38 @@ def test_steered_sheet_from_the_command_line_lists_both_diodes(tmp_path, capsys)
     refs = {p["refs"]: p for p in data["parts"]}
     assert refs["D1"]["value"] == refs["D2"]["value"] == "1N4148"
     assert set(data["candidate"]["values"]) == {"RH", "RL", "C"}
+
+
+@pytest.fixture(scope="module")
+def trim_555():
+    from core.design.trim import trim
+    from core.parts.drawer import read_drawer
+    from core.storage.locations import demo_drawer_path
+    osc = make_oscillator("555", "NE555", 9.0)
+    (design,) = trim(read_drawer(demo_drawer_path()).parts(), osc, (900.0, 1100.0),
+                     top=1).candidates
+    return osc, design
+
+
+def test_555_trim_sheet_draws_the_pot_in_series_with_rb(trim_555):
+    # The pot sits in series with the role the design trims (RB): between DIS and THR the
+    # drawing holds RB plus the whole pot (series resistances add, Horowitz & Hill §1.2.1).
+    from core.output import schematic as sch
+    osc, design = trim_555
+    assert design.trimmed == "RB"
+    sheet = build_sheet(osc, design, "900 Hz … 1.10 kHz", today=TODAY)
+    drawing = sheet.schematic
+    pots = [i for i in drawing.items if isinstance(i, sch.Component) and i.symbol == "pot"]
+    assert len(pots) == 1
+    refs = {p.ref: p.role for p in drawing.placed}
+    assert refs[pots[0].ref] == "P" and sum(role == "RB" for role in refs.values()) >= 1
+    # Pin 3 is the 555's output (NE555 data sheet pin table): the procedure measures there.
+    assert any("Measure at OUT (pin 3), never" in step for step in sheet.adjustment)
+
+
+@pytest.mark.spice
+def test_555_trim_netlist_matches_ngspice(trim_555):
+    osc, design = trim_555
+    sim, model, text = ngspice_run(osc, design)
+    assert "then the pot" in text and "RP1 " in text
+    assert sim["period_s"] == pytest.approx(model.period_s, rel=5e-3)

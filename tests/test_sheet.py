@@ -193,6 +193,27 @@ def test_555_schematic_wires_each_network_as_the_candidate(ra, rb, c, diode):
         assert find(_key(d.b)) == find(_key(t["thr"]))
 
 
+@settings(max_examples=20, deadline=None)
+@given(ra=_tree("R"), rb=_tree("R"), c=_tree("C"))
+def test_555_schematic_puts_a_trim_pot_in_series_with_rb(ra, rb, c):
+    pot = Network(part=_part("P", 1e4))
+    pins = dict(gnd="1", trig="2", out="3", reset="4", ctrl="5", thr="6", dis="7", vcc="8")
+    drawing = sch.astable_schematic([sch.NetworkDrawing(ra, "RA", _text)],
+                                    [sch.NetworkDrawing(rb, "RB", _text),
+                                     sch.NetworkDrawing(pot, "P", _text)],
+                                    sch.NetworkDrawing(c, "C", _text), pins=pins,
+                                    chip="U1 NE555", supply_text="+9 V",
+                                    decoupling_text="100 nF", control_text="10 nF",
+                                    diode_text=None)
+    values = _values(drawing)
+    t = drawing.terminals
+    # Series resistances add (Horowitz & Hill §1.2.1): RB and the whole pot.
+    assert _between(drawing, values, {"resistor", "pot"}, t["dis"], t["thr"]) == \
+        pytest.approx(rb.value + 1e4, rel=1e-9)
+    assert _between(drawing, values, {"resistor", "pot"}, t["vcc"], t["dis"]) == \
+        pytest.approx(ra.value, rel=1e-9)
+
+
 def _diodes(drawing: sch.Schematic) -> dict[str, sch.Component]:
     return {i.ref: i for i in drawing.items if isinstance(i, sch.Component)
             and i.symbol == "diode"}

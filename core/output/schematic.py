@@ -237,7 +237,11 @@ class _Pen:
                 items.append(Component("pot", a, b, wiper=w, ref=ref))
                 items.append(Wire((w, corner, at(s + LEAF - 0.3, t))))
                 items.append(Junction(at(s + LEAF - 0.3, t)))
-                items.append(Label(at(s + 0.5, t - 0.4 * grow), "1", "center", "top"))
+                # Pin 1 beside its end, clear of the lead (a vertical lead runs through
+                # where a horizontal pot's label sits).
+                items.append(Label(at(s + 0.5, t - 0.4 * grow), "1", "center", "top")
+                             if axis == "h" else
+                             Label(at(s + 1.0, t - 0.5 * grow), "1", "left", "middle"))
                 items.append(Label(at(s + LEAF / 2 - 0.4, t - 1.4 * grow), "2", "left",
                                    "middle"))
             else:

@@ -529,6 +529,7 @@ def _adjustment(osc: Oscillator, candidate: TrimCandidate, start: float, f_start
     """The bench procedure for a trim design (common practice, no published source)."""
     lo, hi = design_band(osc, candidate)
     rot_high, rot_low = candidate.rotation_pct
+    package = osc.family.package
     pot = candidate.networks["P"].parts()[0]
     resolution = _hz(candidate.resolution_hz_per_pct)
     taper = (" It is a log-taper pot: the frequency moves slowly near zero rotation and "
@@ -545,10 +546,12 @@ def _adjustment(osc: Oscillator, candidate: TrimCandidate, start: float, f_start
         f"anticlockwise raises it. With nominal parts the band's top, {_hz(hi)}, is near "
         f"{rot_high:.0f} % and its bottom, {_hz(lo)}, near {rot_low:.0f} %; your parts' "
         f"tolerances move these points, but every build reaches the whole band.{taper}",
-        "Measure at OUT or at a spare gate driven from it, never on the timing capacitor. A "
-        "frequency counter with 1 s gate time reads to 1 Hz (10 s to 0.1 Hz). On an "
-        "oscilloscope, trigger on the rising edge, read the period T between two rising "
-        "edges (or over ten periods, then divide) and take f = 1/T.",
+        f"Measure at OUT (pin {package.pins['output']})"
+        + (" or at a spare gate driven from it" if package.unused_inputs else "")
+        + ", never on the timing capacitor. A frequency counter with 1 s gate time reads to "
+        "1 Hz (10 s to 0.1 Hz). On an oscilloscope, trigger on the rising edge, read the "
+        "period T between two rising edges (or over ten periods, then divide) and take "
+        "f = 1/T.",
         f"Fine-tune: expect about {resolution} per 1 % of rotation near the band centre. "
         "Approach the target from one side in small steps, wait a few seconds after each, "
         "give the circuit a minute to warm up before the last step, and read again after "

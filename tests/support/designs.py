@@ -5,6 +5,7 @@ from __future__ import annotations
 
 from collections.abc import Mapping
 
+from core.design.design import Design
 from core.design.search import Candidate
 from core.model.circuits.base import Oscillator
 from core.model.timing import Prediction, predict
@@ -30,7 +31,7 @@ def one_part_design(osc: Oscillator, values: Mapping[str, float], steered: bool 
                      pred.duty_pct, pred.worst_case_hz, steered)
 
 
-def ngspice_run(osc: Oscillator, design: Candidate) -> tuple[dict[str, float], Prediction, str]:
+def ngspice_run(osc: Oscillator, design: Design) -> tuple[dict[str, float], Prediction, str]:
     """(ngspice's measurements, the model's prediction, the netlist) for one design."""
     text = spice_netlist(osc, design)
     return simulate(text, require_tool("ngspice")), model_prediction(osc, design), text
