@@ -263,7 +263,7 @@ def test_uncertainty_is_saved_and_an_older_file_reads_as_unknown():
 
 def _textbook_ring(vth: float, v: float, r: float, c: float) -> tuple[float, float]:
     """(t_high, t_low) [s] of the two-inverter astable with the input clamps isolated and
-    an ideal chip (textbook; the CD4069UB / CD4060B data sheets' RC-oscillator note):
+    an ideal chip (Philips HEF4069UB data sheet, January 1995, application information Fig. 7):
     OUT high while the node falls from V + Vth to Vth, low while it rises from Vth − V."""
     return r * c * math.log((v + vth) / vth), r * c * math.log((2 * v - vth) / (v - vth))
 

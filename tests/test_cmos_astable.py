@@ -31,7 +31,8 @@ def _period(osc, r: float, rs: float, c: float) -> float:
 
 def test_textbook_period_with_the_clamp_isolated() -> None:
     # Textbook two-inverter astable: T = RC[ln((2V-Vt)/(V-Vt)) + ln((V+Vt)/Vt)],
-    # = ln 9 RC ≈ 2.197 RC at Vt = V/2 (textbook algebra of the two exponentials).
+    # = ln 9 RC ≈ 2.197 RC at Vt = V/2 (Philips HEF4069UB data sheet, January 1995,
+    # application information Fig. 7: Tp = T1 + T2 with these two logarithms).
     osc = make_oscillator("cmos-astable", "CD4069UB", 10.0).idealised()
     r, c = 100e3, 10e-9
     assert _period(osc, r, 1e12, c) == pytest.approx(math.log(9) * r * c, rel=1e-6)

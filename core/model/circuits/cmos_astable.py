@@ -8,8 +8,9 @@ output step. With the input clamp diodes isolated (RS large):
 
     T = R C [ln((2 Vdd − Vth)/(Vdd − Vth)) + ln((Vdd + Vth)/Vth)]   (≈ 2.2 R C at Vdd/2)
 
-(textbook; the 4000B RC-oscillator note, f ≈ 1/(2.3 Rtc Ctc) with RS ≈ 2 Rtc: ON Semiconductor
-MC14541B data sheet; Philips 74HC4060: f ≈ 1/(2.5 Rt Ct) with R2 ≈ 2 Rt).
+(Philips HEF4069UB data sheet, application information; the 4000B RC-oscillator note,
+f ≈ 1/(2.3 Rtc Ctc) with RS ≈ 2 Rtc: ON Semiconductor MC14541B data sheet; Philips
+74HC4060: f ≈ 1/(2.5 Rt Ct) with R2 ≈ 2 Rt).
 With RS small the clamp diodes (a fixed forward drop, ``input_clamp_v`` in the
 table) pull the node back toward the rail through RS while it is beyond it, and
 the period falls toward 1.4 R C.
