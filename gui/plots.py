@@ -254,7 +254,9 @@ class PlotPanel(QWidget):
         self.accept_region.setRegion(accept_hz)
         self.accept_region.show()
         self.spread.setTitle(title, color=INK.name(), size="10pt")
-        self.spread.getPlotItem().enableAutoRange()
+        self.spread.getPlotItem().enableAutoRange(axis="x")
+        # Head room over the tallest bar for the target's label (drawn near the top).
+        self.spread.setYRange(0.0, 100.0 * counts.max() / freqs.size * 1.2, padding=0)
 
     def show_rotation(self, rotation_pct: np.ndarray, nominal_hz: np.ndarray,
                       low_hz: np.ndarray, high_hz: np.ndarray, band_hz: tuple[float, float],
