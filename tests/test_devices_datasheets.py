@@ -160,3 +160,12 @@ def test_74hc4060_rc_oscillator_formula() -> None:
         for rt, ct in ((10e3, 1e-9), (100e3, 1e-9), (1e6, 100e-9)):
             f = 1 / _oscillator_period("74HC4060", supply, rt, 2 * rt, ct)
             assert 1.08 <= f * 2.5 * rt * ct <= 1.17
+
+
+@pytest.mark.parametrize("name", ["CD4069UB", "CD4060B"])
+def test_4000b_timing_resistor_top(name: str) -> None:
+    # TI CD4045B data sheet, description: an RC oscillator from a 4000B inverter and a
+    # CD4069 takes RX up to 10 MΩ (with CX = 50 pF).
+    fam = device_table().family(name)
+    for supply in fam.supplies_v:
+        assert fam.at(supply).r_max_ohm == pytest.approx(10e6)
