@@ -450,7 +450,7 @@ def format_quantity(value: float, quantity: Quantity, digits: int = 3) -> str:
     symbol = _SYMBOL[quantity]
     if not math.isfinite(value):
         return f"— {symbol}"
-    if quantity in ("period", "time") and abs(value) >= 60:  # a builder reads min and h
+    if quantity in ("period", "time") and 60 <= abs(value) < 3.6e8:  # min and h, to 1e5 h
         minutes = abs(value) < 3600
         text = f"{value / (60 if minutes else 3600):#.{digits}g}".rstrip(".")
         return f"{text} {'min' if minutes else 'h'}"

@@ -23,6 +23,7 @@ from core.design.search import Candidate, search
 from core.design.trim import frequency_at_rotation, trim
 from core.errors import InputError
 from core.model.timing import make_oscillator
+from core.output import drawings
 from core.output import schematic as sch
 from core.output.sheet import build_sheet, start_rotation, take_parts, voltage_ratings
 from core.parts.drawer import Part, parse_drawer_text, read_drawer, write_drawer
@@ -150,9 +151,10 @@ def test_schmitt_schematic_wires_each_network_as_the_candidate(r, c, pot):
     feedback = [sch.NetworkDrawing(r, "R", _text)]
     if pot:
         feedback.append(sch.NetworkDrawing(Network(part=_part("P", 1e4)), "P", _text))
-    drawing = sch.schmitt_schematic([feedback], sch.NetworkDrawing(c, "C", _text), gate_ref="U1a X",
-                                    input_pin="1", output_pin="2", vcc_pin="14", gnd_pin="7",
-                                    supply_text="+5 V", decoupling_text="100 nF")
+    drawing = drawings.schmitt_schematic([feedback], sch.NetworkDrawing(c, "C", _text),
+                                         gate_ref="U1a X", input_pin="1", output_pin="2",
+                                         vcc_pin="14", gnd_pin="7", supply_text="+5 V",
+                                         decoupling_text="100 nF")
     values = _values(drawing)
     t = drawing.terminals
     # Kirchhoff on the drawing; a pot at full rotation is its whole end-to-end value.
@@ -170,7 +172,7 @@ def test_schmitt_schematic_wires_each_network_as_the_candidate(r, c, pot):
 @given(ra=_tree("R"), rb=_tree("R"), c=_tree("C"), diode=st.booleans())
 def test_555_schematic_wires_each_network_as_the_candidate(ra, rb, c, diode):
     pins = dict(gnd="1", trig="2", out="3", reset="4", ctrl="5", thr="6", dis="7", vcc="8")
-    drawing = sch.astable_schematic([sch.NetworkDrawing(ra, "RA", _text)],
+    drawing = drawings.astable_schematic([sch.NetworkDrawing(ra, "RA", _text)],
                                     [sch.NetworkDrawing(rb, "RB", _text)],
                                     sch.NetworkDrawing(c, "C", _text),
                                     pins=pins, chip="U1 NE555",
@@ -198,7 +200,7 @@ def test_555_schematic_wires_each_network_as_the_candidate(ra, rb, c, diode):
 def test_555_schematic_puts_a_trim_pot_in_series_with_rb(ra, rb, c):
     pot = Network(part=_part("P", 1e4))
     pins = dict(gnd="1", trig="2", out="3", reset="4", ctrl="5", thr="6", dis="7", vcc="8")
-    drawing = sch.astable_schematic([sch.NetworkDrawing(ra, "RA", _text)],
+    drawing = drawings.astable_schematic([sch.NetworkDrawing(ra, "RA", _text)],
                                     [sch.NetworkDrawing(rb, "RB", _text),
                                      sch.NetworkDrawing(pot, "P", _text)],
                                     sch.NetworkDrawing(c, "C", _text), pins=pins,
@@ -225,7 +227,7 @@ def test_steered_schmitt_schematic_steers_each_phase_through_its_resistor(rh, rl
     rows = [[sch.DiodeDrawing("D2", "1N4148", forward=True), sch.NetworkDrawing(rl, "RL", _text)],
             [sch.DiodeDrawing("D1", "1N4148", forward=False),
              sch.NetworkDrawing(rh, "RH", _text)]]
-    drawing = sch.schmitt_schematic(rows, sch.NetworkDrawing(c, "C", _text), gate_ref="U1a X",
+    drawing = drawings.schmitt_schematic(rows, sch.NetworkDrawing(c, "C", _text), gate_ref="U1a X",
                                     input_pin="1", output_pin="2", vcc_pin="14", gnd_pin="7",
                                     supply_text="+5 V", decoupling_text="100 nF")
     values = _values(drawing)
@@ -263,7 +265,7 @@ def _wired_between(drawing: sch.Schematic, expected: dict[tuple[str, str], objec
 @given(r=_tree("R"), rs=_tree("R"), c=_tree("C"))
 def test_cmos_astable_schematic_wires_r_rs_and_c_as_the_circuit(r, rs, c):
     pins = dict(input="1", output="2", input2="3", output2="4", vcc="14", gnd="7")
-    drawing = sch.cmos_astable_schematic(*_ring_values(r, rs, c), pins=pins, chip="U1 X",
+    drawing = drawings.cmos_astable_schematic(*_ring_values(r, rs, c), pins=pins, chip="U1 X",
                                          supply_text="+9 V", decoupling_text="100 nF")
     # Issue 13: R from the first output to the node, C from the second output (OUT) to
     # the node, RS from the node to the first input.
@@ -276,7 +278,7 @@ def test_cmos_astable_schematic_wires_r_rs_and_c_as_the_circuit(r, rs, c):
 @given(r=_tree("R"), rs=_tree("R"), c=_tree("C"))
 def test_divider_schematic_wires_each_network_to_its_oscillator_pin(r, rs, c):
     pins = dict(rs="11", r="10", c="9", reset="12", vcc="16", gnd="8", tap="15")
-    drawing = sch.divider_schematic(*_ring_values(r, rs, c), pins=pins, chip="U1 X",
+    drawing = drawings.divider_schematic(*_ring_values(r, rs, c), pins=pins, chip="U1 X",
                                     tap="Q10", supply_text="+9 V", decoupling_text="100 nF")
     _wired_between(drawing, {("r", "node"): r, ("rs", "node"): rs, ("c", "node"): c})
     # The reset pin's lead ends on a ground symbol (CD4060B data sheet: MR high clears

@@ -11,7 +11,7 @@ from __future__ import annotations
 import datetime as _dt
 import re
 from collections import Counter
-from collections.abc import Callable, Iterable, Mapping, Sequence
+from collections.abc import Iterable, Mapping, Sequence
 from dataclasses import dataclass, field
 from typing import Any
 
@@ -25,21 +25,19 @@ from core.design.trim import (
     frequency_at_rotation,
     start_rotation,
 )
-from core.errors import InputError, SetupError
+from core.errors import InputError
 from core.model.circuits.divider import tap
-from core.model.diode import SMALL_SIGNAL_DIODE
 from core.model.drift import Conditions, capacitor_notes, supply_hz, temperature_hz
 from core.model.spread import monte_carlo
 from core.model.timing import Oscillator, predict, waveform
-from core.output.schematic import (
-    DiodeDrawing,
-    NetworkDrawing,
-    Schematic,
-    astable_schematic,
-    cmos_astable_schematic,
-    divider_schematic,
-    schmitt_schematic,
+from core.output.drawings import (
+    CONTROL_F,
+    DECOUPLING_F,
+    DRAWINGS,
+    STEERING_DIODE,
+    value_text,
 )
+from core.output.schematic import Schematic
 from core.parts.drawer import Drawer, Part
 from core.parts.networks import Network
 from core.parts.notation import NOTATION
@@ -52,14 +50,9 @@ from core.units import (
     parse_voltage,
 )
 
-DECOUPLING_F = 100e-9
-"""Supply decoupling at the chip (common practice, no published source: 100 nF ceramic)."""
 BULK_DECOUPLING_F = 10e-6
 """Beside the 100 nF at a bipolar 555, which draws a current spike at each output edge
 (common practice, no published source: 10 µF; the device table's pin notes ask for it)."""
-CONTROL_F = 10e-9
-"""555 control-voltage pin to ground (NE555 data sheet application circuits: 0.01 µF)."""
-STEERING_DIODE = SMALL_SIGNAL_DIODE.name
 MONTE_CARLO_DRAWS = 10_000
 TITLE_START = "Build sheet: "
 CHECK_ROTATIONS = (0.0, 25.0, 50.0, 75.0, 100.0)
@@ -214,97 +207,6 @@ def _next_ref(schematic: Schematic, letter: str) -> str:
     return f"{letter}{max(numbers, default=0) + 1}"
 
 
-def _value_text(part: Part) -> str:
-    return format_part_value(part.label_value, part.kind)
-
-
-def _drawings(design: Design, *roles: str) -> list[NetworkDrawing]:
-    """Each role's network to draw, a trim design's pot after the role it trims."""
-    out = []
-    for role in roles:
-        out.append(NetworkDrawing(design.networks[role], role, _value_text))
-        if design.has_pot and role == design.trimmed:
-            out.append(NetworkDrawing(design.networks["P"], "P", _value_text))
-    return out
-
-
-def _pin_texts(osc: Oscillator) -> dict[str, str]:
-    return {role: str(pin) for role, pin in osc.family.package.pins.items()}
-
-
-def _astable_drawing(osc: Oscillator, design: Design, supply_text: str) -> Schematic:
-    family = osc.family
-    pins = family.package.pins
-    roles = {"gnd": "gnd", "trig": "trigger", "out": "output", "reset": "reset",
-             "ctrl": "control", "thr": "threshold", "dis": "discharge", "vcc": "vcc"}
-    sheet = astable_schematic(
-        _drawings(design, "RA"), _drawings(design, "RB"), *_drawings(design, "C"),
-        pins={role: str(pins[key]) for role, key in roles.items()},
-        chip=f"U1 {family.name}", supply_text=supply_text,
-        decoupling_text=format_capacitance(DECOUPLING_F),
-        control_text=format_capacitance(CONTROL_F),
-        diode_text=STEERING_DIODE if design.diode_steered else None)
-    if design.diode_steered:
-        sheet.hookup["D1"] = (f"anode to DIS ({pins['discharge']}), cathode to THR "
-                              f"({pins['threshold']})")
-    return sheet
-
-
-def _schmitt_gate(osc: Oscillator, feedback: list[list[NetworkDrawing | DiodeDrawing]],
-                  design: Design, supply_text: str) -> Schematic:
-    family = osc.family
-    pins = family.package.pins
-    return schmitt_schematic(
-        feedback, *_drawings(design, "C"), gate_ref=f"U1a {family.name}",
-        input_pin=str(pins["input"]), output_pin=str(pins["output"]),
-        vcc_pin=str(pins["vcc"]), gnd_pin=str(pins["gnd"]), supply_text=supply_text,
-        decoupling_text=format_capacitance(DECOUPLING_F),
-        gate_note=f"NAND: pin {pins['tie_high']} to VCC" if "tie_high" in pins else "")
-
-
-def _schmitt_drawing(osc: Oscillator, design: Design, supply_text: str) -> Schematic:
-    """R (and a trim design's pot) from the output back to the input, C to ground."""
-    return _schmitt_gate(osc, [_drawings(design, "R")], design, supply_text)
-
-
-def _steered_schmitt_drawing(osc: Oscillator, design: Design, supply_text: str) -> Schematic:
-    """D1 and RH (charging C while the output is high) above D2 and RL (discharging it)."""
-    d1, d2 = (DiodeDrawing("D1", STEERING_DIODE, forward=False),
-              DiodeDrawing("D2", STEERING_DIODE, forward=True))
-    sheet = _schmitt_gate(osc, [[d2, *_drawings(design, "RL")], [d1, *_drawings(design, "RH")]],
-                          design, supply_text)
-    node = osc.family.package.pins["input"]
-    sheet.hookup.update({"D1": f"cathode to the timing node (pin {node}), anode to RH",
-                         "D2": f"anode to the timing node (pin {node}), cathode to RL"})
-    return sheet
-
-
-def _cmos_astable_drawing(osc: Oscillator, design: Design, supply_text: str) -> Schematic:
-    return cmos_astable_schematic(
-        *_drawings(design, "R", "RS", "C"), pins=_pin_texts(osc),
-        chip=f"U1 {osc.family.name}", supply_text=supply_text,
-        decoupling_text=format_capacitance(DECOUPLING_F))
-
-
-def _divider_drawing(osc: Oscillator, design: Design, supply_text: str) -> Schematic:
-    name = tap(osc.divide_by)
-    pins = _pin_texts(osc)
-    if name.lower() not in pins:
-        raise SetupError(f"a {osc.family.name} build needs its counter stage (--divide-by N)")
-    return divider_schematic(
-        *_drawings(design, "R", "RS", "C"), pins={**pins, "tap": pins[name.lower()]},
-        chip=f"U1 {osc.family.name}", tap=name, supply_text=supply_text,
-        decoupling_text=format_capacitance(DECOUPLING_F))
-
-
-DRAWINGS: dict[str, Callable[[Oscillator, Design, str], Schematic]] = {
-    "schmitt": _schmitt_drawing, "schmitt-steered": _steered_schmitt_drawing,
-    "555": _astable_drawing, "cmos-astable": _cmos_astable_drawing,
-    "divider": _divider_drawing}
-"""Each circuit's schematic from its networks and the family's package pins, by the
-circuit's drawing id (``Circuit.drawing_id``)."""
-
-
 def _parts_list(osc: Oscillator, schematic: Schematic, networks: Mapping[str, Network],
                 stock: Sequence[Part], steered: bool) -> tuple[list[PartRow], list[Part]]:
     """Rows in reference order (one per stock line and role) and the drawer parts used."""
@@ -324,7 +226,7 @@ def _parts_list(osc: Oscillator, schematic: Schematic, networks: Mapping[str, Ne
         note = "; ".join(x for x in ("+ lead to the timing node" if part.polarised else "",
                                      part.note) if x)
         rows.append(PartRow(", ".join(refs[key]), _describe(part) + role,
-                            _value_text(part), str(part.tolerance), len(refs[key]),
+                            value_text(part), str(part.tolerance), len(refs[key]),
                             part.location or "—", key[0], note))
     family = osc.family
     rows.append(PartRow("U1", family.description, family.name, "", 1, "", None,
@@ -668,7 +570,7 @@ def take_parts(drawer: Drawer, used: Sheet | Design) -> list[Taken]:
     plan: list[tuple[Part, int]] = []
     for line, count in counts.items():
         wanted = next(p for p in parts if p.stock_line == line)
-        text = _value_text(wanted)
+        text = value_text(wanted)
         have = current.get(line)
         if have is None or have.kind != wanted.kind or have.value != wanted.label_value:
             raise InputError(f"stock line {line} no longer holds the {text} the design uses; "
@@ -680,5 +582,5 @@ def take_parts(drawer: Drawer, used: Sheet | Design) -> list[Taken]:
     with drawer.edit_group("Take parts for the build"):
         for have, count in plan:
             drawer.set_cell(have.row, "quantity", str(have.quantity - count))
-    return [Taken(p.stock_line, p.location, _value_text(p), n, p.quantity,
+    return [Taken(p.stock_line, p.location, value_text(p), n, p.quantity,
                   p.quantity - n) for p, n in plan]
