@@ -154,13 +154,19 @@ def _search_columns(keys: Sequence[str], with_duty: bool,
     return cols
 
 
-def _trim_columns() -> list[Column]:
+TRIM_HEADINGS = {"R": ("Fixed R", "Fixed resistor in series with the pot"),
+                 "C": ("Capacitor", "Timing capacitor")}
+"""Trim columns named otherwise than in a search (the Schmitt's R is the pot's fixed part)."""
+
+
+def _trim_columns(keys: Sequence[str]) -> list[Column]:
+    roles: list[Column] = [
+        (*TRIM_HEADINGS.get(key, (NETWORK_HEADINGS.get(key, key), f"The {key} network")),
+         lambda c, key=key: c.networks[key].describe()) for key in keys if key != "P"]
     return [
         ("Pot", "The potentiometer or trimmer (end-to-end value)",
          lambda c: c.networks["P"].describe()),
-        ("Fixed R", f"Fixed resistor in series with the pot\n{NOTATION}",
-         lambda c: c.networks["R"].describe()),
-        ("Capacitor", f"Timing capacitor\n{NOTATION}", lambda c: c.networks["C"].describe()),
+        *[(heading, f"{tip}\n{NOTATION}", fmt) for heading, tip, fmt in roles],
         ("Guaranteed", "Band reached at every tolerance corner",
          lambda c: _band(c.guaranteed_hz)),
         ("Nominal range", "Frequency at full rotation … at zero rotation",
@@ -190,10 +196,10 @@ class CandidatesModel(QAbstractTableModel):
         self._answers.clear()
         self._candidates = list(candidates)
         self.trim = trim
+        keys = list(self._candidates[0].networks) if self._candidates else ["R", "C"]
         if trim:
-            self._columns = _trim_columns()
+            self._columns = _trim_columns(keys)
         else:
-            keys = list(self._candidates[0].networks) if self._candidates else ["R", "C"]
             with_duty = any(c.duty_asked_pct is not None for c in self._candidates)
             sample = self._candidates[0].to_json() if self._candidates else {}
             self._columns = _search_columns(keys, with_duty, sample)

@@ -28,7 +28,8 @@ def test_a_new_circuit_appears_with_no_gui_edit(qtbot):
 
     form = TargetForm()
     qtbot.addWidget(form)
-    made_up = replace(ASTABLE, name="made-up", short="made-up astable", unready=())
+    made_up = replace(ASTABLE, name="made-up", short="made-up astable", unready=(),
+                      trimmable=())
     hidden = replace(ASTABLE, name="not-yet", short="not searched yet",
                      unready=("search",))
     form.offer_circuits([*CIRCUITS.values(), made_up, hidden])
@@ -155,3 +156,22 @@ def test_every_circuit_fits_1024_by_700(qtbot, window, fields):
     search_with(qtbot, window, **fields)
     assert window.minimumSizeHint().height() <= 700
     assert window.minimumSizeHint().width() <= 1024
+
+
+def test_every_trimmable_circuit_trims_a_band_in_the_window(qtbot, window):
+    from support.gui_helpers import search_with
+
+    for circuit in (c for c in CIRCUITS.values() if c.trimmable and c.name in
+                    offered(window.form)):
+        search_with(qtbot, window, circuit=circuit.name, family=circuit.default_family,
+                    supply="5V", mode="band", target="900..1100")
+        assert window.candidates.rowCount(), circuit.name
+        headings = window.candidates.headings()
+        assert headings[0] == "Pot" and "Guaranteed" in headings
+        cand = window.selected_candidate()
+        for key in cand.networks:  # every part of the design has its column
+            assert any(window.candidates.data(window.candidates.index(0, k))
+                       == cand.networks[key].describe() for k in range(len(headings)))
+        qtbot.waitUntil(lambda: window.plots is not None, timeout=10_000)
+        x, y = window.plots.rotation_curve.getData()
+        assert len(x) and np.all(np.diff(y[np.isfinite(y)]) <= 0)  # faster as R falls
