@@ -129,10 +129,10 @@ def test_no_pot_or_unreachable_band_gives_notes_and_no_candidates() -> None:
     assert tiny.candidates == [] and len(tiny.notes) == 2
 
 
-def test_trim_refuses_an_untrimmable_circuit_and_bad_bands() -> None:
+def test_trim_refuses_a_duty_on_the_schmitt_and_bad_bands() -> None:
     parts = drawer([(10e3, 1)], [(100e-9, 1)], [(10e3, 1, "lin")])
-    with pytest.raises(InputError):  # the 555 trims since issue 13; the CMOS astable not
-        trim(parts, make_oscillator("cmos-astable", "CD4069UB", 9.0), (400.0, 480.0))
+    with pytest.raises(InputError):  # every circuit trims since issue 13; a duty: the 555
+        trim(parts, make_oscillator("schmitt", "74HC14", 5.0), (400.0, 480.0), duty_pct=30.0)
     with pytest.raises(InputError):
         trim(parts, make_oscillator("schmitt", "74HC14", 5.0), (480.0, 400.0))
 

@@ -242,6 +242,7 @@ def _trim_text(data: dict[str, Any], result: TrimResult, osc: Oscillator) -> str
     fixed = [r for r in osc.circuit.keys if r != "C"]  # the trimmed role last among them
     trimmed = osc.circuit.tuned
     with_duty = any(c.duty_pct is not None for c in result.candidates)
+    with_tap = any(c.divide_by > 1 for c in result.candidates)
     rows = []
     for k, c in enumerate(result.candidates, 1):
         p = c.networks["P"].parts()[0]
@@ -250,12 +251,15 @@ def _trim_text(data: dict[str, Any], result: TrimResult, osc: Oscillator) -> str
                      _band_text(c.range_hz), _band_text(c.guaranteed_hz),
                      f"{c.rotation_pct[0]:.0f}–{c.rotation_pct[1]:.0f} %",
                      f"{format_frequency(c.resolution_hz_per_pct)}/%",
-                     *([f"{c.duty_pct:.1f} %"] if with_duty else []), str(c.part_count)])
+                     *([f"{c.duty_pct:.1f} %"] if with_duty else []),
+                     *([f"{tap(c.divide_by)} (÷{c.divide_by})"] if with_tap else []),
+                     str(c.part_count)])
     if rows:
         out.append("")
         out += _table(["#", *(f"fixed {r}" if r == trimmed else r for r in fixed), "pot", "C",
                        "range (full … zero rotation)", "guaranteed", "rotation", "resolution",
-                       *(["duty at centre"] if with_duty else []), "parts"], rows)
+                       *(["duty at centre"] if with_duty else []),
+                       *(["tap"] if with_tap else []), "parts"], rows)
         out += _legend(result.candidates)
         out.append("")
         out.append("where the parts are:")

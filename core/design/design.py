@@ -66,6 +66,8 @@ class Design:
     trimmed: str = ""
     """The role the pot is in series with (one of the circuit's ``trimmable``)."""
     divide_by: int = 1
+    """A counter's ratio after the oscillator (the divider's stage; 1: none)."""
+    divide_by: int = 1
     """A counter's ratio after the oscillator (the divider's chosen stage; 1: none)."""
 
     @property

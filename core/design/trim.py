@@ -26,10 +26,18 @@ from typing import Any
 
 import numpy as np
 
+from core.design.buy import at_stage, stage_oscillators
 from core.design.design import Design, pot_resistance, rotation_for_share
-from core.design.inversion import frequency_and_duty, tuned_resistance
+from core.design.inversion import (
+    follower_entries,
+    frequency_and_duty,
+    tuned_resistance,
+    with_followers,
+)
 from core.design.robust import drifted_index_ranges, drifted_part_ranges
 from core.errors import InputError
+from core.model.circuits import CIRCUITS
+from core.model.circuits.divider import tap
 from core.model.drift import (
     Conditions,
     ageing_words,
@@ -68,6 +76,7 @@ class TrimCandidate(Design):
     diode_steered: bool = False
     duty_pct: float | None = None
     """The nominal duty [%] at the band's centre (reported with a duty target)."""
+    divide_by: int = 1
 
     def to_json(self) -> dict[str, Any]:
         return {
@@ -82,6 +91,8 @@ class TrimCandidate(Design):
             "diode_steered": self.diode_steered,
             "notes": list(self.notes),
             **({} if self.duty_pct is None else {"duty_pct": self.duty_pct}),
+            **({} if self.divide_by == 1 else {"divide_by": self.divide_by,
+                                               "tap": tap(self.divide_by)}),
         }
 
 
@@ -117,8 +128,9 @@ def _corner_frequencies(osc: Oscillator, r: np.ndarray, fixed: Fixed,
 def _frequency(osc: Oscillator, r: np.ndarray, fixed: Fixed, diode: bool = False
                ) -> np.ndarray:
     """Nominal-model frequency [Hz] with the trimmed role at ``r`` [Ω] and the other parts
-    at ``fixed``."""
-    return frequency_and_duty(osc, {**fixed, osc.circuit.tuned: r}, diode)[0]
+    at ``fixed`` (a follower not among them at its preferred ratio to ``r``)."""
+    values = {**with_followers(osc, {}, r), **fixed, osc.circuit.tuned: r}
+    return frequency_and_duty(osc, values, diode)[0]
 
 
 def _fixed_corners(ranges: Mapping[str, tuple[Any, Any]]) -> list[dict[str, Any]]:
@@ -188,6 +200,9 @@ def trim(parts: list[Part], osc: Oscillator, band_hz: tuple[float, float], top: 
     _check_trim(osc, lo_band, hi_band, top, duty_pct)
     if index is None or not index.covers(max_resistors, max_capacitors):
         index = drawer_index(parts, max_resistors, max_capacitors)
+    if osc.divide_by not in osc.circuit.divide_by:  # a counter: every stage in reach
+        return _over_stages(parts, osc, (lo_band, hi_band), top, max_resistors,
+                            max_capacitors, index, conditions)
     device = osc.device
     limits = (float(device.r_min_ohm), float(device.r_max_ohm))
     notes = [f"{format_frequency(lo_band)} … {format_frequency(hi_band)} must be reachable at "
@@ -233,15 +248,26 @@ def trim(parts: list[Part], osc: Oscillator, band_hz: tuple[float, float], top: 
         if k != "C":
             keep[keep] = ~res.overused(e[cj[keep]], re[keep])
     pi, cj, re = pi[keep], cj[keep], re[keep]
+    row_fixed = {k: e[cj] for k, e in fixed.items()}
+    if osc.circuit.follower is not None:
+        # Decision where the issue is silent: RS is picked against the largest total
+        # (fixed R and the whole pot), so the clamp diodes stay isolated at every rotation.
+        fe = follower_entries(res, osc, res.values[re] + pot_value[pi], max_resistors, limits)
+        fits = fe >= 0
+        fits[fits] = ~res.overused(re[fits], fe[fits])
+        pi, re, fe = pi[fits], re[fits], fe[fits]
+        row_fixed = {**{k: e[fits] for k, e in row_fixed.items()},
+                     osc.circuit.follower[0]: fe}
+    others = {k: (r_lo[e], r_hi[e]) for k, e in row_fixed.items() if k != "C"}
     low, high = guaranteed_band(osc, (r_lo[re], r_hi[re]), (pot_lo[pi], pot_hi[pi]),
-                                (c_lo[fixed["C"][cj]], c_hi[fixed["C"][cj]]), conditions,
-                                ranges(cj), diode)
+                                (c_lo[row_fixed["C"]], c_hi[row_fixed["C"]]), conditions,
+                                others, diode)
     with np.errstate(invalid="ignore"):
         ok = (low <= lo_band) & (high >= hi_band)
     if not ok.any():
         notes.append(_why_none(pots, lo_band, hi_band))
         return TrimResult((lo_band, hi_band), notes, [])
-    rows = _Rows({k: e[cj[ok]] for k, e in fixed.items()}, re[ok], pi[ok], low[ok], high[ok])
+    rows = _Rows({k: e[ok] for k, e in row_fixed.items()}, re[ok], pi[ok], low[ok], high[ok])
     candidates = _chosen(index, osc, rows, (lo_band, hi_band), top, diode, duty_pct,
                          duty_within)
     if not candidates and duty_pct is not None:
@@ -325,14 +351,28 @@ def _chosen(index: DrawerIndex, osc: Oscillator, rows: _Rows, band: tuple[float,
     return candidates
 
 
+def _over_stages(parts: list[Part], osc: Oscillator, band: tuple[float, float], top: int,
+                 max_resistors: int, max_capacitors: int, index: DrawerIndex,
+                 conditions: Conditions | None) -> TrimResult:
+    """A counter's trim: the designs of every stage whose oscillator stays within the chip's
+    limit at the band's top, finest first (then fewest parts)."""
+    results = [trim(parts, stage, band, top, max_resistors, max_capacitors, index, conditions)
+               for stage in stage_oscillators(osc, band[1])]
+    found = sorted((c for r in results for c in r.candidates),
+                   key=lambda c: (c.range_hz[1] / c.range_hz[0], c.part_count))
+    notes = list(dict.fromkeys(n for r in results for n in r.notes))
+    return TrimResult(band, notes, found[:top])
+
+
 def _check_trim(osc: Oscillator, lo_band: float, hi_band: float, top: int,
                 duty_pct: float | None) -> None:
     """InputError naming the first impossible part of a trim request."""
     if not (0 < lo_band < hi_band and math.isfinite(hi_band)):
         raise InputError("a band needs 0 < LO < HI", text=f"{lo_band}..{hi_band}", what="band")
     if not osc.circuit.trimmable:
-        raise InputError("trim designs are for circuits a pot can tune (--circuit "
-                         "schmitt or 555)", text=osc.circuit.name, what="circuit")
+        names = " or ".join(c.name for c in CIRCUITS.values() if c.trimmable)
+        raise InputError(f"trim designs are for circuits a pot can tune (--circuit {names})",
+                         text=osc.circuit.name, what="circuit")
     if top < 1:
         raise InputError("--top must be at least 1", text=str(top), what="top")
     if duty_pct is not None and not osc.circuit.steerable:
@@ -398,7 +438,7 @@ def _design(osc: Oscillator, nets: dict[str, Network], p_node: Network,
     networks.update(P=p_node, C=nets["C"])
     values = {k: n.value if k != "P" else pot.value for k, n in networks.items()}
     cand = TrimCandidate(values, networks, range_hz, guaranteed, (0.0, 0.0), 0.0,
-                         trimmed=trimmed, diode_steered=diode)
+                         trimmed=trimmed, diode_steered=diode, divide_by=osc.divide_by)
     centre = 0.5 * (band[0] + band[1])
     rot_high, rot_low, x = (float(r) for r in rotation_for(osc, cand, np.array(
         [band[1], band[0], centre])))
@@ -428,6 +468,7 @@ def frequency_at_rotation(osc: Oscillator, candidate: TrimCandidate, rotation_pc
     lowest/highest frequency over every tolerance and threshold corner (the
     edges of the guaranteed band at each rotation). NaN where it stops.
     """
+    osc = at_stage(osc, candidate.divide_by) if candidate.divide_by > 1 else osc
     r, p = (candidate.networks[k] for k in (candidate.trimmed, "P"))
     others = {k: n for k, n in candidate.networks.items() if k not in (candidate.trimmed, "P")}
     diode = candidate.diode_steered
@@ -449,6 +490,7 @@ def frequency_at_rotation(osc: Oscillator, candidate: TrimCandidate, rotation_pc
 
 def rotation_for(osc: Oscillator, candidate: TrimCandidate, frequency_hz: Any) -> np.ndarray:
     """Rotation [%] that gives ``frequency_hz`` [Hz] with nominal parts; NaN outside the range."""
+    osc = at_stage(osc, candidate.divide_by) if candidate.divide_by > 1 else osc
     f = np.asarray(frequency_hz, dtype=float)
     others = {k: v for k, v in candidate.values.items() if k not in (candidate.trimmed, "P")}
     total = resistance_for(osc, f, others, candidate.trimmed,

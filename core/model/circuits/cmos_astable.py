@@ -147,5 +147,6 @@ CMOS_ASTABLE = CmosAstable(name="cmos-astable", title="two-inverter CMOS astable
                            threshold_names=("switching voltage", ""),
                            pins=PINS, layout_notes=LAYOUT_NOTES, one_threshold=True,
                            reversing_c=True, follower=("RS", RS_RATIO_MIN, RS_RATIO_MAX),
+                           trimmable=("R",),
                            measure_note="Measure at OUT (the second inverter's output), "
                            "never with a probe on the timing node.")

@@ -83,6 +83,6 @@ DIVIDER = Divider(name="divider", title="oscillator and binary counter",
                   pins=PINS, layout_notes=("Keep RS right at φI (pin 11) and the timing node "
                                            "small: the node swings beyond the supply rails.",),
                   one_threshold=True, reversing_c=True,
-                  follower=("RS", RS_RATIO_MIN, RS_RATIO_MAX),
+                  follower=("RS", RS_RATIO_MIN, RS_RATIO_MAX), trimmable=("R",),
                   divide_by=tuple(2 ** n for n in PINNED_STAGES),
                   measure_note="Measure at the chosen Q output.")

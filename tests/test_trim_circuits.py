@@ -1,4 +1,5 @@
-"""The 555 trimmed into a band: a pot in series with RB (RA, RB, P, C).
+"""Trim for the circuits of the second round: the 555 (RA, RB, P, C: the pot in series
+with RB), the two-inverter CMOS astable (R, RS, P, C) and the divider (its stage).
 
 Each design is checked corner by corner with the timing model only (no trim code):
 every part at either end of its tolerance (IEC 60062), every comparator-level corner
@@ -99,9 +100,47 @@ def test_rotation_matches_the_data_sheet_formula() -> None:
         assert 1.44 / ((v["RA"] + 2 * rb) * v["C"]) == pytest.approx(f_band, rel=0.05)
 
 
-def test_no_duty_target_on_a_schmitt_trim() -> None:
-    from core.errors import InputError
+def check_every_corner(osc: object, c: object, band: tuple[float, float]) -> None:
+    """Every part at either end (IEC 60062) and every threshold corner of the table, the pot
+    at zero and full rotation: the band lies inside (DESIGN.md), by the timing model."""
+    fixed = [k for k in c.values if k not in ("P", c.trimmed)]
+    zero, full = [], []
+    for ends_ in itertools.product(*(ends(c.networks[k]) for k in (c.trimmed, "P", *fixed))):
+        r, p, rest = ends_[0], ends_[1], dict(zip(fixed, ends_[2:], strict=True))
+        for vt in osc.threshold_corners():
+            for total, out in ((r, zero), (r + p, full)):
+                t_high, t_low = times(osc, {**rest, c.trimmed: total}, False, vt[0], vt[1])
+                out.append(1.0 / float(t_high + t_low))
+    assert all(math.isfinite(f) for f in zero + full)
+    assert max(full) <= band[0] * (1 + 1e-9) and min(zero) >= band[1] * (1 - 1e-9)
 
-    osc = make_oscillator("schmitt", "74HC14", 5.0)
-    with pytest.raises(InputError):
-        trim(drawer(), osc, (400.0, 480.0), duty_pct=30.0)
+
+def test_cmos_astable_trim_covers_every_corner() -> None:
+    osc = make_oscillator("cmos-astable", "CD4069UB", 9.0)
+    parts = drawer() + [Part("R", v, FIVE, 2, location="RS", line=40 + k)
+                        for k, v in enumerate([100e3, 220e3, 470e3])]
+    result = trim(parts, osc, (300.0, 360.0), top=4)
+    assert result.candidates, result.notes
+    for c in result.candidates:
+        assert list(c.values) == ["R", "RS", "P", "C"]
+        # CD4060B/CD4069UB data sheet RC-oscillator note (from memory): RS 2 to 10 × R, here
+        # against the largest total (fixed R and the whole pot).
+        total = c.values["R"] + c.values["P"]
+        assert 2.0 * total <= c.values["RS"] <= 10.0 * total
+        check_every_corner(osc, c, (300.0, 360.0))
+
+
+def test_divider_trim_picks_a_pinned_stage() -> None:
+    # A 2-minute band (0.0080 … 0.0087 Hz) from film capacitors: the search's stages.
+    osc = make_oscillator("divider", "CD4060B", 9.0)
+    parts = drawer() + [Part("R", v, FIVE, 2, location="RS", line=40 + k)
+                        for k, v in enumerate([100e3, 220e3, 470e3, 1e6])]
+    band = (0.0080, 0.0087)
+    result = trim(parts, osc, band, top=3)
+    assert result.candidates, result.notes
+    for c in result.candidates:
+        # CD4060B pin table (from memory): Q4–Q10 and Q12–Q14 pinned out, no Q11.
+        assert c.divide_by in [2 ** n for n in (4, 5, 6, 7, 8, 9, 10, 12, 13, 14)]
+        assert c.to_json()["tap"] == f"Q{int(math.log2(c.divide_by))}"
+        stage = osc.__class__(**{**osc.__dict__, "divide_by": c.divide_by})
+        check_every_corner(stage, c, band)
