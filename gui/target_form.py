@@ -99,7 +99,7 @@ class TargetForm(QWidget):
             QComboBox.SizeAdjustPolicy.AdjustToMinimumContentsLengthWithIcon)
         self._list_circuit_names()
         self.family = QComboBox()
-        self.family.setMinimumContentsLength(9)
+        self.family.setMinimumContentsLength(14)  # "CD4060B 5–15 V" whole
         self.family.setSizeAdjustPolicy(QComboBox.SizeAdjustPolicy.AdjustToContents)
         self.supply = QLineEdit("5V")
         self.mode = QComboBox()
@@ -315,7 +315,7 @@ class TargetForm(QWidget):
                 family = table.family(name)
                 self._ranges[name] = tuple(family.supply_range_v)  # type: ignore[assignment]
                 lo, hi = family.supply_range_v
-                self.family.addItem(f"{name}  ({lo:g}–{hi:g} V)", name)
+                self.family.addItem(f"{name} {lo:g}–{hi:g} V", name)
                 self.family.setItemData(self.family.count() - 1,
                                         f"{name}: supply {lo:g} … {hi:g} V",
                                         Qt.ItemDataRole.ToolTipRole)
