@@ -99,18 +99,21 @@ class Request:
     def usable(self, parts: tuple[Part, ...] | list[Part]) -> tuple[Part, ...]:
         """The drawer's parts this request may use (the dielectric filter applied), each
         class-2 ceramic with a rated voltage at the capacitance it has under the DC bias
-        of this request's circuit (``core.model.drift.with_dc_bias``)."""
+        of this request's circuit (``core.model.drift.with_dc_bias``). A circuit whose
+        timing capacitor's voltage reverses (``Circuit.reversing_c``) never gets a
+        polarised one: it would be reverse-biased half of every cycle."""
+        from core.model.drift import with_dc_bias
         from core.parts.drawer import with_dielectrics
 
         kept = with_dielectrics(parts, self.dielectrics)
-        if not any(p.kind == "C" and p.voltage is not None for p in kept):
-            return tuple(kept)
-        from core.model.drift import with_dc_bias
-
         try:
             osc = self.oscillator()
         except TickbinError:
             return tuple(kept)  # running the request reports why
+        if osc.circuit.reversing_c:
+            kept = [p for p in kept if not (p.kind == "C" and p.polarised)]
+        if not any(p.kind == "C" and p.voltage is not None for p in kept):
+            return tuple(kept)
         return tuple(with_dc_bias(kept, osc))
 
     def run(self, parts: tuple[Part, ...] | list[Part], osc: Oscillator,
