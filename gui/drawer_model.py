@@ -20,7 +20,8 @@ from PySide6.QtCore import (
 )
 from PySide6.QtGui import QBrush, QColor, QFont
 
-from core.parts.drawer import Drawer, Part
+from core.parts.drawer import Drawer
+from core.parts.part import Part
 
 DISPLAY_COLUMNS = ("kind", "value", "tolerance", "quantity", "location", "taper",
                    "dielectric", "voltage", "note")

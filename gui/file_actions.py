@@ -16,14 +16,8 @@ from PySide6.QtGui import QAction, QKeySequence
 from PySide6.QtWidgets import QMessageBox
 
 from core.errors import DrawerFileError, TickbinError
-from core.parts.drawer import (
-    Drawer,
-    DrawerChangedError,
-    Row,
-    drawer_csv_text,
-    read_drawer,
-    write_drawer,
-)
+from core.parts.drawer import Drawer, Row
+from core.parts.drawer_file import DrawerChangedError, drawer_csv_text, read_drawer, write_drawer
 from core.storage.atomic import write_text_atomically
 from core.storage.locations import demo_drawer_path
 from gui import settings as keys

@@ -20,7 +20,7 @@ from typing import Any
 from PySide6.QtCore import QObject, QRunnable, QThreadPool, Signal
 
 from core.errors import TickbinError
-from core.parts.drawer import Part
+from core.parts.part import Part
 from gui.target_form import Target
 
 TOP = 20

@@ -32,7 +32,7 @@ from support.trim_checks import check_trim_candidate
 
 from core.model.drift import with_dc_bias
 from core.model.timing import make_oscillator
-from core.parts.drawer import Part
+from core.parts.part import Part
 from core.storage.locations import demo_drawer_path
 from core.units import Tolerance
 
@@ -414,7 +414,7 @@ def test_search_555_duty_and_every_option(tmp_path: Path) -> None:
 
 
 def test_search_on_the_demo_drawer(tmp_path: Path) -> None:
-    from core.parts.drawer import read_drawer
+    from core.parts.drawer_file import read_drawer
 
     parts = read_drawer(DEMO).parts()
     data = run_json(tmp_path, "search", "--stock", DEMO, *SCHMITT, "--target", "1kHz")
@@ -462,7 +462,7 @@ def test_trim_contract_with_given_thresholds(tmp_path: Path) -> None:
 
 
 def test_trim_on_the_demo_drawer_with_the_table_spread(tmp_path: Path) -> None:
-    from core.parts.drawer import read_drawer
+    from core.parts.drawer_file import read_drawer
 
     parts = read_drawer(DEMO).parts()
     by_line = {p.stock_line: p for p in parts}

@@ -12,7 +12,8 @@ from core.design.request import Request
 from core.errors import DrawerFileError
 from core.model import drift
 from core.model.timing import frequency, make_oscillator
-from core.parts.drawer import CASES, Part, parse_drawer_text, read_drawer, write_drawer
+from core.parts.drawer_file import parse_drawer_text, read_drawer, write_drawer
+from core.parts.part import CASES, Part
 from core.units import Tolerance
 
 HEADER = "kind,value,tolerance,quantity,dielectric,voltage,case\n"

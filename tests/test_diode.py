@@ -211,7 +211,7 @@ def test_steered_search_aims_rb_at_the_duty_with_the_real_diode():
     # (NE555 data sheet's diode-steered duty vs the integrated model checked above
     # against scipy); the search aims RB with the model and lands within 2 points.
     from core.design.search import search
-    from core.parts.drawer import read_drawer
+    from core.parts.drawer_file import read_drawer
     from core.storage.locations import demo_drawer_path
 
     osc = make_oscillator("555", "NE555", 5.0)

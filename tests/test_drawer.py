@@ -9,15 +9,8 @@ from hypothesis import HealthCheck, given, settings
 from hypothesis import strategies as st
 
 from core.errors import DrawerFileError
-from core.parts.drawer import (
-    Drawer,
-    Row,
-    cell_problems,
-    drawer_csv_text,
-    parse_drawer_text,
-    read_drawer,
-    write_drawer,
-)
+from core.parts.drawer import Drawer, Row, cell_problems
+from core.parts.drawer_file import drawer_csv_text, parse_drawer_text, read_drawer, write_drawer
 from core.storage.locations import demo_drawer_path
 
 

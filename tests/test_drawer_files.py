@@ -12,13 +12,12 @@ import pytest
 from hypothesis import HealthCheck, given, settings
 from hypothesis import strategies as st
 
-import core.parts.drawer as drawer_module
+import core.parts.drawer_file as drawer_module
 import core.storage.atomic as atomic_module
 from core.errors import DrawerFileError, LineProblem, TickbinError
-from core.parts.drawer import (
+from core.parts.drawer import Drawer, Row
+from core.parts.drawer_file import (
     MAX_LINE_CHARS,
-    Drawer,
-    Row,
     drawer_csv_text,
     parse_drawer_text,
     read_drawer,

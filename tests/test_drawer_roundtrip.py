@@ -16,15 +16,15 @@ from hypothesis import HealthCheck, given, settings
 from hypothesis import strategies as st
 
 from core.errors import DrawerFileError
-from core.parts.drawer import (
-    Row,
-    _decode,
+from core.parts.drawer import Row
+from core.parts.drawer_file import (
     drawer_csv_text,
     drawer_file_text,
     parse_drawer_text,
     read_drawer,
     write_drawer,
 )
+from core.parts.file_layout import decode
 
 # A drawer as a German spreadsheet on Windows saves it: cp1252, semicolons, CRLF, its own
 # header spelling, an unknown column, comments, blank lines, spaces, quotes and the bytes
@@ -143,13 +143,13 @@ def test_a_character_cp1252_lacks_makes_the_file_utf8_with_a_bom(tmp_path):
 def test_any_readable_file_is_written_back_unchanged(data):
     blob = b"".join(data)
     try:
-        drawer = parse_drawer_text(_decode(blob), "fuzz.csv")
+        drawer = parse_drawer_text(decode(blob), "fuzz.csv")
     except DrawerFileError:
         return
-    from core.parts.drawer import _encoding_of
+    from core.parts.file_layout import encoding_of
 
     assert drawer.layout is not None
-    drawer.layout.encoding = _encoding_of(blob)
+    drawer.layout.encoding = encoding_of(blob)
     text, layout, _ = drawer_file_text(drawer)
     assert text.encode(layout.encoding, errors="tickbin-keep-byte") == blob
 

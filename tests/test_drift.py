@@ -181,7 +181,7 @@ def test_a_worst_case_over_conditions_covers_ten_years_of_ageing():
     # (87 660 h: − log10(87.66) × rate), at the typical rate above; f ∝ 1/C (textbook).
     from core.design.robust import robust_candidate
     from core.design.search import search
-    from core.parts.drawer import Part
+    from core.parts.part import Part
     from core.units import Tolerance
 
     osc = make_oscillator("schmitt", "74HC14", 5.0, vt_plus=3.0, vt_minus=2.0)
@@ -330,7 +330,7 @@ def test_sheet_prints_the_drift_lines():
     from core.design.search import search
     from core.model.drift import Conditions
     from core.output.sheet import build_sheet
-    from core.parts.drawer import Part
+    from core.parts.part import Part
     from core.units import Tolerance
 
     osc = make_oscillator("schmitt", "74HC14", 5.0)

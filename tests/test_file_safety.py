@@ -27,7 +27,7 @@ import pytest
 import core.cli
 import core.storage.atomic as atomic
 from core.errors import TickbinError
-from core.parts.drawer import read_drawer, write_drawer
+from core.parts.drawer_file import read_drawer, write_drawer
 from core.storage.atomic import clean_stale_temporaries, read_regular_file, write_text_atomically
 from core.storage.locations import demo_drawer_path
 
@@ -155,7 +155,7 @@ def test_stale_temporaries_are_removed_and_fresh_ones_kept(tmp_path):
 
 _SAVER = """
 import sys
-from core.parts.drawer import read_drawer, write_drawer
+from core.parts.drawer_file import read_drawer, write_drawer
 
 read_drawer(sys.argv[1])  # a first read before the forks: what is imported stays
 
@@ -181,7 +181,7 @@ def work(path):
 
 _FORKER = """
 import os, sys
-from core.parts.drawer import read_drawer
+from core.parts.drawer_file import read_drawer
 from core.storage.locations import demo_drawer_path
 read_drawer(demo_drawer_path())  # the unit registry is built once, before the forks
 for line in sys.stdin:
@@ -331,7 +331,7 @@ def test_six_parallel_takes_lose_no_update(drawer_file, tmp_path):
 
 
 def test_a_line_added_by_another_program_is_never_dropped(drawer_file):
-    from core.parts.drawer import DrawerChangedError
+    from core.parts.drawer_file import DrawerChangedError
 
     drawer = read_drawer(drawer_file)
     added = b"R,3k3,7,added by another program\n"

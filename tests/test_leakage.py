@@ -17,8 +17,9 @@ from core.cli import main
 from core.model.leakage import capacitor_leakage_a, network_leakage_a, node_current_corners
 from core.model.spread import worst_case_hz
 from core.model.timing import make_oscillator, predict
-from core.parts.drawer import Part, read_drawer
+from core.parts.drawer_file import read_drawer
 from core.parts.networks import Network
+from core.parts.part import Part
 from core.storage.locations import resource
 from core.units import Tolerance
 

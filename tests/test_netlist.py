@@ -17,7 +17,8 @@ from core.design.search import search
 from core.design.trim import trim
 from core.model.timing import make_oscillator
 from core.output.netlist import model_prediction, simulate, spice_netlist
-from core.parts.drawer import Part, read_drawer
+from core.parts.drawer_file import read_drawer
+from core.parts.part import Part
 from core.storage.locations import demo_drawer_path
 
 pytestmark = pytest.mark.spice

@@ -20,7 +20,6 @@ from hypothesis import given, settings
 from hypothesis import strategies as st
 
 from core.errors import InputError
-from core.parts.drawer import Part
 from core.parts.networks import (
     RESOLUTION,
     Network,
@@ -29,6 +28,7 @@ from core.parts.networks import (
     electrical_key,
     index_of,
 )
+from core.parts.part import Part
 from core.units import Tolerance
 
 FIVE = Tolerance(0.05, 0.05)

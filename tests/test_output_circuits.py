@@ -172,7 +172,7 @@ def test_steered_sheet_from_the_command_line_lists_both_diodes(tmp_path, capsys)
 @pytest.fixture(scope="module")
 def trim_555():
     from core.design.trim import trim
-    from core.parts.drawer import read_drawer
+    from core.parts.drawer_file import read_drawer
     from core.storage.locations import demo_drawer_path
     osc = make_oscillator("555", "NE555", 9.0)
     (design,) = trim(read_drawer(demo_drawer_path()).parts(), osc, (900.0, 1100.0),

@@ -15,7 +15,7 @@ from support.cli import run_tickbin
 
 from core.design.request import Request
 from core.errors import InputError
-from core.parts.drawer import read_drawer
+from core.parts.drawer_file import read_drawer
 from core.storage.locations import demo_drawer_path
 
 R_10K, C_22N, C_104, C_10U = 11, 34, 36, 41

@@ -44,7 +44,8 @@ from core.design.search import STOPS_NOTE, search
 from core.model.spread import worst_case_hz
 from core.model.timing import make_oscillator
 from core.output.sheet import build_sheet
-from core.parts.drawer import Part, read_drawer
+from core.parts.drawer_file import read_drawer
+from core.parts.part import Part
 from core.storage.locations import demo_drawer_path
 from core.units import Tolerance
 

@@ -13,7 +13,7 @@ an electrolytic with + to the timing node is fine there.
 from __future__ import annotations
 
 from core.design.request import Request
-from core.parts.drawer import Part
+from core.parts.part import Part
 from core.units import Tolerance
 
 FIVE = Tolerance(0.05, 0.05)

@@ -28,7 +28,7 @@ from support.cli import run_tickbin
 from core.design.search import search
 from core.model.circuits.divider import PINNED_STAGES
 from core.model.timing import frequency, make_oscillator, times
-from core.parts.drawer import Part
+from core.parts.part import Part
 from core.units import Tolerance
 
 FIVE = Tolerance(0.05, 0.05)

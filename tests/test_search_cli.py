@@ -9,7 +9,7 @@ from typing import Any
 import pytest
 
 from core.cli import main
-from core.parts.drawer import read_drawer
+from core.parts.drawer_file import read_drawer
 from core.storage.locations import demo_drawer_path
 
 DEMO = str(demo_drawer_path())

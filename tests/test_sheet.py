@@ -26,8 +26,9 @@ from core.model.timing import make_oscillator
 from core.output import drawings
 from core.output import schematic as sch
 from core.output.sheet import build_sheet, start_rotation, take_parts, voltage_ratings
-from core.parts.drawer import Part, parse_drawer_text, read_drawer, write_drawer
+from core.parts.drawer_file import parse_drawer_text, read_drawer, write_drawer
 from core.parts.networks import Network
+from core.parts.part import Part
 from core.storage.locations import demo_drawer_path
 from core.units import Tolerance, format_frequency, format_quantity
 

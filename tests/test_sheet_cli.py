@@ -12,7 +12,7 @@ import pytest
 from support.tools import require_tool
 
 import core.cli
-from core.parts.drawer import read_drawer
+from core.parts.drawer_file import read_drawer
 from core.storage.locations import demo_drawer_path
 from gui.entry import render_sheet
 

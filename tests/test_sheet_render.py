@@ -20,7 +20,7 @@ from core.design.search import search
 from core.design.trim import trim
 from core.model.timing import make_oscillator
 from core.output.sheet import Sheet, build_sheet
-from core.parts.drawer import read_drawer
+from core.parts.drawer_file import read_drawer
 from core.storage.locations import demo_drawer_path
 from core.units import format_frequency
 from gui.sheet_render import MARGIN_MM, PrintDialog, print_sheet, render_sheet_pdf

@@ -28,7 +28,7 @@ import core.cli
 from core.design.search import search
 from core.model.timing import make_oscillator
 from core.output.netlist import spice_netlist
-from core.parts.drawer import read_drawer
+from core.parts.drawer_file import read_drawer
 
 
 @pytest.fixture
@@ -185,7 +185,8 @@ def test_predict_text_escapes_a_calibration_file(capsys):
 def test_spreadsheet_export_neutralises_the_header_too(name):
     """OWASP "CSV Injection": a cell starting = + - @ (tab, CR) is run as a formula by
     spreadsheets; the header row is a row of cells like any other."""
-    from core.parts.drawer import Drawer, Row, drawer_csv_text, parse_drawer_text
+    from core.parts.drawer import Drawer, Row
+    from core.parts.drawer_file import drawer_csv_text, parse_drawer_text
 
     drawer = Drawer([Row({"kind": "R", "value": "1k", "quantity": "1", name: "=1+1"})],
                     columns=["kind", "value", "quantity", name])
@@ -306,7 +307,7 @@ def test_values_refuse_forms_that_change_the_number(text):
 
 def test_quantities_follow_the_same_rule_as_values(tmp_path, capsys):
     from core.errors import InputError
-    from core.parts.drawer import parse_quantity_count
+    from core.parts.part import parse_quantity_count
 
     assert parse_quantity_count("\uff11\uff10") == 10
     for text in ("10\u00b2", "\u0661\u0660"):

@@ -23,8 +23,8 @@ from support.trim_checks import check_trim_candidate, f_of
 from core.design.trim import frequency_at_rotation, pot_resistance, rotation_for, trim
 from core.errors import InputError
 from core.model.timing import make_oscillator
-from core.parts.drawer import Part
 from core.parts.eseries import kit
+from core.parts.part import Part
 from core.units import Tolerance
 
 FIVE = Tolerance(0.05, 0.05)

@@ -18,7 +18,7 @@ import pytest
 
 from core.design.trim import trim
 from core.model.timing import make_oscillator, times
-from core.parts.drawer import Part
+from core.parts.part import Part
 from core.units import Tolerance
 
 FIVE = Tolerance(0.05, 0.05)

@@ -31,7 +31,7 @@ from core.model.devices import device_table
 from core.model.drift import ageing_note, effective_capacitance
 from core.model.spread import monte_carlo
 from core.model.timing import Oscillator, default_tolerances, predict
-from core.parts.drawer import case_name
+from core.parts.part import case_name
 from core.storage.atomic import read_regular_file
 from core.units import (
     Tolerance,

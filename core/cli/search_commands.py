@@ -29,15 +29,11 @@ from core.design.search import DUTY_WITHIN_POINTS, Candidate, SearchResult
 from core.design.trim import TrimCandidate, TrimResult
 from core.model.circuits.divider import tap
 from core.model.timing import Oscillator
-from core.parts.drawer import (
-    Drawer,
-    Part,
-    dielectric_note,
-    parse_dielectrics,
-    read_drawer,
-)
+from core.parts.drawer import Drawer
+from core.parts.drawer_file import read_drawer
 from core.parts.networks import MAX_PARTS, Network
 from core.parts.notation import NOTATION
+from core.parts.part import Part, dielectric_note, parse_dielectrics
 from core.storage.locations import demo_drawer_path
 from core.units import format_frequency, format_signed_pct, parse_band
 

@@ -33,7 +33,8 @@ from core.output.netlist import (
     spice_netlist,
 )
 from core.output.sheet import build_sheet, take_parts, voltage_ratings
-from core.parts.drawer import Drawer, write_drawer
+from core.parts.drawer import Drawer
+from core.parts.drawer_file import write_drawer
 from core.storage.atomic import check_output, drawer_lock, write_text_atomically
 from core.storage.locations import demo_drawer_path
 from core.units import format_frequency, format_quantity

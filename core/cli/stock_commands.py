@@ -9,7 +9,9 @@ from typing import Any
 
 from core.cli.common import add_json_option, emit, one_line
 from core.errors import DrawerFileError
-from core.parts.drawer import Drawer, Part, read_drawer
+from core.parts.drawer import Drawer
+from core.parts.drawer_file import read_drawer
+from core.parts.part import Part
 from core.units import format_part_value
 
 _KIND_NAMES = {"R": "resistors", "P": "potentiometers", "C": "capacitors"}

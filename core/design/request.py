@@ -21,8 +21,8 @@ if TYPE_CHECKING:
     from core.design.trim import TrimResult
     from core.model.circuits.base import Oscillator
     from core.model.drift import Conditions
-    from core.parts.drawer import Part
     from core.parts.networks import DrawerIndex
+    from core.parts.part import Part
 
 DEFAULT_SUPPLY_V = 5.0
 """The supply [V] when neither the person nor a calibration names one."""
@@ -103,7 +103,7 @@ class Request:
         timing capacitor's voltage reverses (``Circuit.reversing_c``) never gets a
         polarised one: it would be reverse-biased half of every cycle."""
         from core.model.drift import with_dc_bias
-        from core.parts.drawer import with_dielectrics
+        from core.parts.part import with_dielectrics
 
         kept = with_dielectrics(parts, self.dielectrics)
         try:

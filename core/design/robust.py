@@ -31,8 +31,8 @@ from core.model.drift import (
 )
 from core.model.leakage import network_leakage_a
 from core.model.timing import Oscillator
-from core.parts.drawer import Part
 from core.parts.networks import Network, NetworkIndex
+from core.parts.part import Part
 
 
 def part_envelope(role: str, part: Part) -> Envelope:

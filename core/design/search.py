@@ -43,8 +43,8 @@ from core.model.timing import (
     practitioner_warnings,
     times,
 )
-from core.parts.drawer import Part
 from core.parts.networks import DrawerIndex, Network, NetworkIndex, drawer_index
+from core.parts.part import Part
 from core.units import format_frequency, format_signed_pct
 
 NEAR_COPY = 0.02

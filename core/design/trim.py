@@ -46,8 +46,8 @@ from core.model.drift import (
 )
 from core.model.spread import calibration_factors
 from core.model.timing import Oscillator, resistance_for
-from core.parts.drawer import Part
 from core.parts.networks import DrawerIndex, Network, NetworkIndex, drawer_index, single
+from core.parts.part import Part
 from core.units import format_frequency
 
 MARGIN = 1e-7

@@ -29,7 +29,7 @@ import numpy as np
 
 from core.errors import InputError, SetupError
 from core.model.timing import Oscillator, frequency, make_oscillator
-from core.parts.drawer import Part
+from core.parts.part import Part
 from core.units import Tolerance, format_part_value
 
 REFERENCE_C = 25.0
@@ -134,7 +134,7 @@ CAPACITOR_DRIFT: dict[str, Envelope] = {
                          "sheets (about −10 % at −55 °C, +12 % at 125 °C)"),
 }
 CAPACITOR_DRIFT["np0"] = CAPACITOR_DRIFT["c0g"]
-# An unmarked ceramic is assumed as poor as Y5V (as in core.parts.drawer's stability ranks).
+# An unmarked ceramic is assumed as poor as Y5V (as in core.parts.part's stability ranks).
 CAPACITOR_DRIFT[""] = replace(CAPACITOR_DRIFT["y5v"],
                               source="unmarked ceramic taken as Y5V: " +
                               CAPACITOR_DRIFT["y5v"].source)
@@ -365,7 +365,7 @@ DC_BIAS_LOSS_AT_RATED: dict[str, float] = {
     "0402": 0.75, "0603": 0.65, "0805": 0.55, "1206": 0.45, "1210": 0.35, "1812": 0.30,
     "radial": 0.25,
 }
-"""X7R/X5R capacitance lost at the rated DC voltage, by case [1] (``core.parts.drawer.CASES``).
+"""X7R/X5R capacitance lost at the rated DC voltage, by case [1] (``core.parts.part.CASES``).
 Typical, from memory of makers' typical DC-bias characteristic curves for general-purpose
 X7R/X5R MLCCs (Murata, TDK, KEMET data sheets and their online characteristic charts):
 smaller cases hold thinner layers at the same rating and lose more. Y5V and Z5U lose

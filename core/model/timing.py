@@ -38,7 +38,7 @@ from core.model.circuits.phases import cycle, diode_conducts, phase_times
 from core.model.devices import Family, device_table
 from core.model.leakage import capacitor_leakage_a
 from core.model.spread import worst_case_hz
-from core.parts.drawer import ELECTROLYTIC
+from core.parts.part import ELECTROLYTIC
 from core.parts.tolerances import DEFAULT_TOLERANCE, DIELECTRIC_TOLERANCE
 from core.units import Tolerance, format_quantity
 
@@ -214,7 +214,7 @@ class Prediction:
 
 
 def default_tolerances(osc: Oscillator, dielectric: str = "") -> dict[str, Tolerance]:
-    """Tolerances when none are given: the drawer's defaults (core.parts.drawer)."""
+    """Tolerances when none are given: the drawer's defaults (core.parts.tolerances)."""
     tol = {k: DEFAULT_TOLERANCE["R"] for k in osc.circuit.resistors}
     tol["C"] = DIELECTRIC_TOLERANCE.get(dielectric, DIELECTRIC_TOLERANCE[""])
     return tol

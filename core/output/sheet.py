@@ -38,9 +38,10 @@ from core.output.drawings import (
     value_text,
 )
 from core.output.schematic import Schematic
-from core.parts.drawer import Drawer, Part
+from core.parts.drawer import Drawer
 from core.parts.networks import Network
 from core.parts.notation import NOTATION
+from core.parts.part import Part
 from core.units import (
     format_capacitance,
     format_part_value,
@@ -561,7 +562,7 @@ def take_parts(drawer: Drawer, used: Sheet | Design) -> list[Taken]:
     capacitors it found in the drawer) or just a candidate (its networks).
     Nothing changes unless every line still holds enough: InputError names
     the line that does not, or that changed since the search. The caller
-    saves the drawer (``core.parts.drawer.write_drawer``).
+    saves the drawer (``core.parts.drawer_file.write_drawer``).
     """
     parts = list(used.take) if isinstance(used, Sheet) else [
         p for node in used.networks.values() for p in node.parts()]

@@ -12,7 +12,7 @@ import io
 from collections.abc import Iterable, Sequence
 
 from core.output.sheet import Sheet
-from core.parts.drawer import neutralise_formula
+from core.parts.drawer_file import neutralise_formula
 
 PARTS_HEADER = ("Ref", "Part", "Value", "Tolerance", "Quantity", "Location", "Line", "Note")
 

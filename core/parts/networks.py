@@ -51,8 +51,8 @@ from typing import Any, Literal, TypeVar
 import numpy as np
 
 from core.errors import InputError
-from core.parts.drawer import DIELECTRIC_STABILITY, Part
 from core.parts.notation import PARALLEL_WORD, SERIES_WORD
+from core.parts.part import DIELECTRIC_STABILITY, Part
 from core.units import format_part_value
 
 NetworkKind = Literal["R", "C"]

@@ -26,7 +26,7 @@ from pathlib import Path
 from core.design.search import search
 from core.design.trim import trim
 from core.model.timing import make_oscillator
-from core.parts.drawer import read_drawer
+from core.parts.drawer_file import read_drawer
 from core.parts.eseries import kit
 from core.parts.networks import drawer_index
 

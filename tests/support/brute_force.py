@@ -22,8 +22,8 @@ import numpy as np
 
 from core.model.spread import worst_case_hz
 from core.model.timing import astable_times, schmitt_times
-from core.parts.drawer import Part
 from core.parts.networks import RESOLUTION
+from core.parts.part import Part
 
 
 def plain_networks(lines: list[Part], max_parts: int,

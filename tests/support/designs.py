@@ -10,8 +10,8 @@ from core.design.search import Candidate
 from core.model.circuits.base import Oscillator
 from core.model.timing import Prediction, predict
 from core.output.netlist import model_prediction, simulate, spice_netlist
-from core.parts.drawer import Part
 from core.parts.networks import Network
+from core.parts.part import Part
 from core.units import Tolerance
 from support.tools import require_tool
 

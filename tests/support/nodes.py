@@ -5,7 +5,7 @@ from __future__ import annotations
 
 from typing import Any
 
-from core.parts.drawer import Part
+from core.parts.part import Part
 
 
 def node_value(node: dict[str, Any], by_line: dict[int, Part]) -> float:

@@ -10,7 +10,7 @@ node voltage that never falls below a low VT−).
 from __future__ import annotations
 
 from core.model.timing import make_oscillator
-from core.parts.drawer import Part
+from core.parts.part import Part
 from core.units import Tolerance
 
 ONE = Tolerance(0.01, 0.01)

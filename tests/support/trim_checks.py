@@ -14,7 +14,7 @@ from typing import Any
 import pytest
 
 from core.model.timing import schmitt_times
-from core.parts.drawer import Part
+from core.parts.part import Part
 from support.nodes import node_lines, node_value
 
 

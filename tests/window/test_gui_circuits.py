@@ -110,7 +110,7 @@ class _Divided:
 def test_a_counter_adds_its_columns(qtmodeltester):
     from core.design.search import search
     from core.model.timing import make_oscillator
-    from core.parts.drawer import read_drawer
+    from core.parts.drawer_file import read_drawer
     from core.storage.locations import demo_drawer_path
     from gui.candidates_model import CandidatesModel
 

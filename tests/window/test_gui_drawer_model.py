@@ -6,7 +6,8 @@ import pytest
 from PySide6.QtCore import Qt
 from support.gui_helpers import QUIET_OFFSCREEN
 
-from core.parts.drawer import Drawer, Row, parse_drawer_text
+from core.parts.drawer import Drawer, Row
+from core.parts.drawer_file import parse_drawer_text
 from gui.drawer_model import PROBLEM_ROLE, DrawerFilterProxy, DrawerTableModel
 
 pytest_plugins = ["support.gui_helpers"]  # fixtures: private_settings, answers, make_window, window

@@ -10,7 +10,7 @@ import pytest
 from PySide6.QtWidgets import QMessageBox
 from support.gui_helpers import QUIET_OFFSCREEN
 
-from core.parts.drawer import read_drawer
+from core.parts.drawer_file import read_drawer
 from core.storage.locations import demo_drawer_path
 
 pytest_plugins = ["support.gui_helpers"]  # fixtures: private_settings, answers, make_window
@@ -100,7 +100,7 @@ def test_two_windows_never_take_each_others_autosave(qtbot, answers, make_window
 
 def test_a_snapshot_over_the_readers_limits_still_restores(qtbot, answers, make_window,
                                                              mine):
-    from core.parts.drawer import MAX_LINE_CHARS
+    from core.parts.drawer_file import MAX_LINE_CHARS
 
     crashed = make_window(str(mine))
     long_note = "x" * (MAX_LINE_CHARS + 10)

@@ -117,7 +117,7 @@ def test_saving_unreadable_cells_names_them_and_asks(qtbot, make_window, answers
 
     from PySide6.QtWidgets import QMessageBox
 
-    from core.parts.drawer import read_drawer
+    from core.parts.drawer_file import read_drawer
     from core.storage.locations import demo_drawer_path
     from gui.main_window import MainWindow
 

@@ -17,7 +17,8 @@ from PySide6.QtCore import QTimer
 from PySide6.QtWidgets import QMessageBox
 from support.gui_helpers import QUIET_OFFSCREEN, fail_searches, search_done
 
-from core.parts.drawer import Row, read_drawer
+from core.parts.drawer import Row
+from core.parts.drawer_file import read_drawer
 from core.storage.locations import data_dir, demo_drawer_path
 
 pytest_plugins = ["support.gui_helpers"]  # fixtures: private_settings, answers, make_window, window

@@ -12,7 +12,7 @@ from PySide6.QtWidgets import QMessageBox
 from support.gui_helpers import QUIET_OFFSCREEN
 from support.tools import require_tool
 
-from core.parts.drawer import read_drawer
+from core.parts.drawer_file import read_drawer
 
 pytest_plugins = ["support.gui_helpers"]
 pytestmark = QUIET_OFFSCREEN

@@ -18,7 +18,8 @@ from support.gui_helpers import QUIET_OFFSCREEN, fail_searches, search_done, sea
 from core.design.search import search
 from core.model.drift import with_dc_bias
 from core.model.timing import make_oscillator
-from core.parts.drawer import Row, read_drawer
+from core.parts.drawer import Row
+from core.parts.drawer_file import read_drawer
 from gui.drawer_model import PROBLEM_ROLE
 
 pytest_plugins = ["support.gui_helpers"]  # fixtures: private_settings, answers, make_window, window
