@@ -19,7 +19,7 @@ import pytest
 from support.tools import require_tool
 
 from core.errors import InputError
-from core.model.timing import make_oscillator, predict, times
+from core.model.timing import make_oscillator, predict, times, waveform
 
 integrate = pytest.importorskip("scipy.integrate")
 
@@ -127,6 +127,32 @@ def test_against_scipy_ode(family: str, supply: float, rs_ratio: float,
     assert t_high + t_low == pytest.approx(sim_high + sim_low, rel=1e-6)
     assert t_high == pytest.approx(sim_high, rel=1e-6)
     assert t_low == pytest.approx(sim_low, rel=1e-6)
+
+
+@pytest.mark.parametrize("rs_ratio", [10.0, 2.0, 0.3])
+def test_waveform_follows_scipy_through_the_clamp(rs_ratio: float) -> None:
+    # scipy.integrate.solve_ivp (reference library) on the node from the waveform's own
+    # first sample: the plotted node (core.model.timing.waveform, via timing_node_v)
+    # follows it through the clamped start of each phase and the free run after.
+    osc = make_oscillator("cmos-astable", "CD4069UB", 9.0)
+    d, r, c = osc.device, 47e3, 22e-9
+    rs, ct = rs_ratio * r, c + osc.stray_capacitance_f
+    top, bottom = d.supply_v + osc.family.input_clamp_v, -osc.family.input_clamp_v
+    t, v_cap, v_out = waveform(osc, {"R": r, "RS": rs, "C": c}, periods=1, points=4001)
+    node = osc.circuit.timing_node_v(osc, v_cap, v_out)[:-1]  # the last: the next period
+    t, high = t[:-1], v_out[:-1] > 0.5 * d.supply_v
+    for phase, v_a, r_a in ((high, d.vol_v, r + d.r_out_low_ohm),
+                            (~high, d.voh_v, r + d.r_out_high_ohm)):
+        ts = t[phase]
+
+        def f(_t: float, y: np.ndarray, v_a: float = v_a, r_a: float = r_a) -> list[float]:
+            v = y[0]
+            clamp = (top - v) / rs if v > top else (bottom - v) / rs if v < bottom else 0.0
+            return [((v_a - v) / r_a + clamp) / ct]
+
+        sol = integrate.solve_ivp(f, (ts[0], ts[-1]), [node[phase][0]], t_eval=ts,
+                                  method="DOP853", rtol=1e-10, atol=1e-12)
+        np.testing.assert_allclose(node[phase], sol.y[0], atol=1e-4 * d.supply_v)
 
 
 def test_threshold_is_one_voltage() -> None:

@@ -322,6 +322,18 @@ def practitioner_warnings(osc: Oscillator, values: Mapping[str, float], pred: Pr
 
 # ---------------------------------------------------------------- waveform
 
+def _clamped(t: np.ndarray, start: float, level: float, clamp_target: float,
+             clamp_tau: float, target: float, tau: float) -> np.ndarray:
+    """One phase [V] from ``start`` at t = 0 [s] that runs toward ``clamp_target`` with
+    ``clamp_tau`` until it passes ``level`` (the clamp diodes conduct till then; no such
+    segment where it starts there), then toward ``target`` with ``tau``
+    (core.model.circuits.phases.clamped_times gives the same times)."""
+    t_clamp = clamp_tau * math.log((clamp_target - start) / (clamp_target - level))
+    clamped = clamp_target - (clamp_target - start) * np.exp(-t / clamp_tau)
+    free = target - (target - level) * np.exp(-(t - t_clamp) / tau)
+    return np.where(t < t_clamp, clamped, free)
+
+
 def waveform(osc: Oscillator, values: Mapping[str, float], periods: int = 3,
              points: int = 600, diode_steered: bool = False
              ) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
@@ -348,6 +360,12 @@ def waveform(osc: Oscillator, values: Mapping[str, float], periods: int = 3,
     else:
         charge = vh - (vh - v_start) * np.exp(-phase / th)
     discharge = vl + (v_peak - vl) * np.exp(-(phase - t_high) / tl)
+    if n.clamp is not None:
+        k = n.clamp
+        charge = _clamped(phase, v_start, max(v_start, float(k.below)), float(k.v_high),
+                          float(k.tau_high), vh, th)
+        discharge = _clamped(phase - t_high, v_peak, min(v_peak, float(k.above)),
+                             float(k.v_low), float(k.tau_low), vl, tl)
     if n.steering_low is not None:
         s = n.steering_low
         v_grid = np.linspace(v_peak, float(n.vt_minus), 200)
@@ -357,3 +375,20 @@ def waveform(osc: Oscillator, values: Mapping[str, float], periods: int = 3,
     d = osc.device
     v_out = np.where(high, d.output_high_v, osc.circuit.output_low_v(d))
     return t, v_cap, v_out
+
+
+def output_waveform(osc: Oscillator, values: Mapping[str, float], periods: int = 2,
+                    diode_steered: bool = False) -> tuple[np.ndarray, np.ndarray]:
+    """(t [s], output [V]) at the output pin over ``periods`` periods, starting high: its
+    edges as corner points (a counter's output is its own, slower square wave)."""
+    vals = check_values(osc, values)
+    t_high, t_low = (float(x) for x in times(osc, vals, diode_steered))
+    if not (math.isfinite(t_high) and math.isfinite(t_low)):
+        raise SetupError(why_no_oscillation(osc, vals, diode_steered))
+    d = osc.device
+    high, low = d.output_high_v, osc.circuit.output_low_v(d)
+    starts = np.arange(periods) * (t_high + t_low)
+    t = np.stack([starts, starts + t_high, starts + t_high, starts + t_high + t_low,
+                  starts + t_high + t_low], axis=1).ravel()
+    v = np.tile([high, high, low, low, high], periods)
+    return t, v
