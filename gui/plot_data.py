@@ -12,7 +12,8 @@ from typing import Any
 
 import numpy as np
 
-from core.units import format_frequency
+from core.model.circuits.divider import tap
+from core.units import format_frequency, format_quantity
 from gui.drift_plots import drift_subject
 from gui.search_worker import Outcome
 
@@ -119,16 +120,37 @@ def draw_steps(plots: Any, outcome: Outcome, candidate: Any) -> Iterator[None]:
 
 def _waveform(plots: Any, osc: Any, values: dict[str, float], diode_steered: bool,
               title: str) -> None:
-    from core.model.timing import waveform
+    """The timing node (what a scope probe there shows) and the oscillator's output over
+    three periods; for a counter, its output below, over two of its own periods."""
+    from core.model.timing import output_waveform, waveform
 
     t, v_cap, v_out = waveform(osc, values, periods=3, diode_steered=diode_steered)
-    plots.show_waveform(t, v_cap, v_out, osc.vt_plus_v, osc.vt_minus_v, osc.circuit, title)
+    node = osc.circuit.timing_node_v(osc, v_cap, v_out)
+    plots.show_waveform(t, node, v_out, osc.vt_plus_v, osc.vt_minus_v, osc.circuit, title,
+                        "C" if node is v_cap else "node")
+    if osc.divide_by == 1:
+        plots.hide_divided()
+        return
+    t_q, v_q = output_waveform(osc, values, periods=2, diode_steered=diode_steered)
+    period = float(t_q[4] - t_q[0])
+    name = tap(osc.divide_by)
+    plots.show_divided(t_q, v_q, f"{name} output", f"÷ {osc.divide_by}: period "
+                       f"{format_quantity(period, 'period', 4)}, duty 50 %")
+
+
+def _title(osc: Any, cand: Any) -> str:
+    """The waveform's title: the frequency it shows (the oscillator's own before a
+    counter, whose output has its own tab)."""
+    if osc.divide_by > 1:
+        return f"Oscillator {format_frequency(cand.oscillator_hz, 4)}"
+    if osc.circuit.one_threshold:  # near 50 % by its symmetry (the table says it): room
+        return format_frequency(cand.frequency_hz, 4)  # for the key
+    return f"{format_frequency(cand.frequency_hz, 4)}, duty {cand.duty_pct:.1f} %"
 
 
 def _draw_search(plots: Any, outcome: Outcome, cand: Any) -> Iterator[None]:
     osc, target = stage_of(outcome, cand), outcome.target
-    _waveform(plots, osc, cand.values, cand.diode_steered,
-              f"{format_frequency(cand.frequency_hz, 4)}, duty {cand.duty_pct:.1f} %")
+    _waveform(plots, osc, cand.values, cand.diode_steered, _title(osc, cand))
     yield
     mc = builds(osc, cand)
     accept = accept_band(target)
@@ -159,7 +181,9 @@ def _draw_trim(plots: Any, outcome: Outcome, cand: Any) -> Iterator[None]:
     yield
     centre = float(np.sqrt(lo_band * hi_band))
     turn = rotation_for(osc, cand, centre)
-    _waveform(plots, osc, cand.values_at(turn), False,
-              f"At {turn:.0f} % rotation: {format_frequency(centre)}")
+    title = f"At {turn:.0f} % rotation: {format_frequency(centre)}"
+    if osc.divide_by > 1:
+        title += f", oscillator {format_frequency(centre * osc.divide_by)}"
+    _waveform(plots, osc, cand.values_at(turn), False, title)
     plots.drift.set_subject(drift_subject(osc, cand, cand.values_at(turn), None,
                                           target.band_hz))

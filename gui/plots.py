@@ -70,9 +70,25 @@ def styled_plot(title: str, accessible: str) -> pg.PlotWidget:
     return widget
 
 
+def compact_tabs(accessible: str) -> QTabWidget:
+    """Tabs in our look, small enough that three short names and the drift range field
+    stay in view at 1024 px."""
+    tabs = QTabWidget()
+    tabs.setDocumentMode(True)
+    tabs.tabBar().setUsesScrollButtons(False)
+    tabs.tabBar().setStyleSheet(
+        "QTabBar::tab { padding: 1px 6px; margin-right: 1px; background: #ece9e3;"
+        " border: 1px solid #d6d2ca; border-bottom: none; border-top-left-radius: 3px;"
+        " border-top-right-radius: 3px; }"
+        " QTabBar::tab:selected { background: white; }")
+    tabs.setAccessibleName(accessible)
+    return tabs
+
+
 class PlotPanel(QWidget):
-    """Waveform on the left; on the right, tabs: frequency spread (search) or frequency vs
-    rotation (trim), frequency against temperature, frequency against supply.
+    """Waveform on the left (a counter's output in a second tab); on the right, tabs: frequency
+    spread (search) or frequency vs rotation (trim), frequency against temperature,
+    frequency against supply.
 
     Making a pyqtgraph plot takes about 25 ms here, so ``build_steps()`` makes
     one per step (the window runs the steps from its event loop) and the trimmer
@@ -84,17 +100,12 @@ class PlotPanel(QWidget):
         self.remember = remember  # the drift ranges typed, between runs
         pg.setConfigOptions(antialias=True)
         self.right = QStackedWidget()
-        self.tabs = QTabWidget()
-        self.tabs.setDocumentMode(True)
-        # Three short names and the range field in view at 1024 px: compact tabs.
-        self.tabs.tabBar().setUsesScrollButtons(False)
-        self.tabs.tabBar().setStyleSheet(
-            "QTabBar::tab { padding: 1px 6px; margin-right: 1px; background: #ece9e3;"
-            " border: 1px solid #d6d2ca; border-bottom: none; border-top-left-radius: 3px;"
-            " border-top-right-radius: 3px; }"
-            " QTabBar::tab:selected { background: white; }")
-        self.tabs.setAccessibleName("plots of the selected candidate")
+        self.tabs = compact_tabs("plots of the selected candidate")
         self.tabs.addTab(self.right, "Spread")
+        # The waveform, and a counter's output beside it in a second tab (the bar shows
+        # only then: a single tab hides it).
+        self.left = compact_tabs("waveforms of the selected candidate")
+        self.left.setTabBarAutoHide(True)
         self._layout = QHBoxLayout(self)
         self._layout.setContentsMargins(0, 0, 0, 0)
         self._layout.setSpacing(8)
@@ -104,13 +115,15 @@ class PlotPanel(QWidget):
         shows the panel once it is built, with a result already drawn into it, so each
         plot is first painted once, with its data."""
         self._make_waveform()
-        self._layout.addWidget(self.waveform, 1)
+        self.left.addTab(self.waveform, "Oscillator")
+        self._layout.addWidget(self.left, 1)
         yield
         self._make_spread()
         self.right.addWidget(self.spread)
         self._make_drift()
         self._layout.addWidget(self.tabs, 1)
         self._rotation_made = False  # made when a trim result first needs it
+        self._divided_made = False  # made when a counter's result first needs it
         self.clear()
 
     def _make_waveform(self) -> None:
@@ -152,6 +165,35 @@ class PlotPanel(QWidget):
 
         self.drift = DriftPlots(self.tabs, remember=self.remember)
 
+    def _make_divided(self) -> None:
+        if self._divided_made:
+            return
+        self._divided_made = True
+        self.divided = styled_plot("", "counter output plot")
+        self.divided.setLabel("bottom", "Time", units="s")
+        self.divided.setLabel("left", "Voltage", units="V")
+        self.divided_curve = self.divided.plot(pen=cosmetic_pen(OUT, width=1.6))
+
+    def hide_divided(self) -> None:
+        """No counter after the oscillator: no second tab."""
+        if self._divided_made and self.left.indexOf(self.divided) >= 0:
+            self.divided_curve.setData([], [])
+            self.left.removeTab(self.left.indexOf(self.divided))
+
+    def show_divided(self, t_s: np.ndarray, v_out: np.ndarray, tab: str, title: str) -> None:
+        """A counter's output (t in s, V) in the tab named ``tab`` beside the oscillator's
+        waveform."""
+        self._make_divided()
+        if self.left.indexOf(self.divided) < 0:
+            self.left.addTab(self.divided, tab)
+        self.left.setTabText(self.left.indexOf(self.divided), tab)
+        self.divided_curve.setData(t_s, v_out)
+        self.divided.setTitle(title, color=INK.name(), size="10pt")
+        self.divided.setXRange(float(t_s[0]), float(t_s[-1]), padding=0.02)
+        lo, hi = float(np.min(v_out)), float(np.max(v_out))
+        span = hi - lo or 1.0
+        self.divided.setYRange(lo - 0.1 * span, hi + 0.1 * span, padding=0)
+
     def _make_rotation(self) -> None:
         if self._rotation_made:
             return
@@ -187,6 +229,7 @@ class PlotPanel(QWidget):
             self.right.setCurrentWidget(self.spread)  # no trim design left to show
             self.tabs.setTabText(0, "Spread")
         self.drift.clear()
+        self.hide_divided()
         for curve in curves:
             curve.setData([], [])
         for item in marks:
@@ -199,9 +242,11 @@ class PlotPanel(QWidget):
 
     def show_waveform(self, t_s: np.ndarray, v_cap: np.ndarray, v_out: np.ndarray,
                       vt_plus_v: float, vt_minus_v: float, circuit: Circuit,
-                      title: str) -> None:
+                      title: str, node: str = "C") -> None:
         """Traces over a few periods; t in s, voltages in V; thresholds as dashed lines,
-        labelled in ``circuit``'s words (one line where it switches at one voltage)."""
+        labelled in ``circuit``'s words (one line where it switches at one voltage).
+        ``v_cap`` is the timing node's voltage; ``node`` names it in the key ("C" where
+        the capacitor's other end is grounded)."""
         self.cap_curve.setData(t_s, v_cap)
         self.out_curve.setData(t_s, v_out)
         swing = float(np.ptp(np.concatenate([v_cap, v_out]))) or 1.0
@@ -224,7 +269,7 @@ class PlotPanel(QWidget):
         self.vt_minus_line.setVisible(not circuit.one_threshold)
         self.vt_plus_line.setValue(vt_plus_v)
         self.vt_minus_line.setValue(vt_minus_v)
-        key = (f'<span style="color:{CAP.name()}">━ C</span> &nbsp; '
+        key = (f'<span style="color:{CAP.name()}">━ {node}</span> &nbsp; '
                f'<span style="color:{OUT.name()}">━ out</span>')
         self.waveform.setTitle(f"{title} &nbsp; {key}", color=INK.name(), size="10pt")
         # Room above the highest trace and below the lowest for the threshold labels.
