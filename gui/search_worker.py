@@ -2,7 +2,7 @@
 
 Every request gets a generation number. A request that is superseded before
 it starts is skipped; one that is running stops at its next progress step
-(index building reports progress, see ``core.parts.networks.build_index``); a
+(index building reports progress, see ``core.parts.index_build.build_index``); a
 result that arrives late is ignored by the window. Errors come back as a
 message (``TickbinError``: the person's input; anything else: logged, then
 reported), never lost in the thread.
@@ -48,7 +48,7 @@ class Outcome:
 
 class _Indexes:
     """Resistor and capacitor indexes, each cached on its kind's electrical content only
-    (``core.parts.networks.electrical_key``): editing a location or note, or the other
+    (``core.parts.network_index.electrical_key``): editing a location or note, or the other
     kind, rebuilds nothing. Shared by requests (guarded by a lock)."""
 
     def __init__(self) -> None:
@@ -58,7 +58,7 @@ class _Indexes:
     @staticmethod
     def _keys(parts: tuple[Part, ...], max_resistors: int,
               max_capacitors: int) -> dict[str, tuple[Any, ...]]:
-        from core.parts.networks import electrical_key
+        from core.parts.network_index import electrical_key
 
         return {kind: (kind, size, electrical_key(parts, kind))
                 for kind, size in (("R", max_resistors), ("C", max_capacitors))}
@@ -66,7 +66,8 @@ class _Indexes:
     def get(self, parts: tuple[Part, ...], max_resistors: int, max_capacitors: int,
             step: Callable[[str, float], None]) -> Any:
         """The drawer index, building a kind with progress through ``step`` when not cached."""
-        from core.parts.networks import DrawerIndex, build_index, drawer_pots
+        from core.parts.index_build import build_index, drawer_pots
+        from core.parts.network_index import DrawerIndex
 
         built = {}
         keys = self._keys(parts, max_resistors, max_capacitors)

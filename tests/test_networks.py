@@ -20,14 +20,9 @@ from hypothesis import given, settings
 from hypothesis import strategies as st
 
 from core.errors import InputError
-from core.parts.networks import (
-    RESOLUTION,
-    Network,
-    build_drawer_index,
-    build_index,
-    electrical_key,
-    index_of,
-)
+from core.parts.index_build import build_drawer_index, build_index, index_of
+from core.parts.network_index import RESOLUTION, electrical_key
+from core.parts.networks import Network
 from core.parts.part import Part
 from core.units import Tolerance
 
@@ -166,7 +161,7 @@ def test_index_over_distinct_values_equals_the_plain_set(kind: str, look_up: boo
     lines = [(v * scale, t, q) for v, t, q in GRADED]
     parts = [part(kind, v, q, line=i + 2, tolerance=Tolerance(t, t))
              for i, (v, t, q) in enumerate(lines)]
-    monkeypatch.setattr("core.parts.networks._enumeration_cheaper", lambda *_: not look_up)
+    monkeypatch.setattr("core.parts.index_build._enumeration_cheaper", lambda *_: not look_up)
     index = index_of(parts, kind, 3)  # type: ignore[arg-type]
     assert len(index.groups) == 5
     plain = _plain_line_networks(lines, kind, 3)
@@ -201,7 +196,7 @@ def test_looked_up_three_part_layer_equals_the_plain_set(lines: list[tuple[float
     parts = [part(kind, v, q, line=i + 2) for i, (v, q) in enumerate(zip(values, quantities,
                                                                           strict=True))]
     with pytest.MonkeyPatch.context() as patch:
-        patch.setattr("core.parts.networks._enumeration_cheaper", lambda *_: False)
+        patch.setattr("core.parts.index_build._enumeration_cheaper", lambda *_: False)
         index = index_of(parts, kind, 3)  # type: ignore[arg-type]
     plain = _plain_networks(values, quantities, kind, 3)
     for value, count in plain:
@@ -238,8 +233,8 @@ def test_two_networks_never_overuse_a_line() -> None:
 def test_a_huge_drawer_is_bounded_and_says_what_it_skipped(
         monkeypatch: pytest.MonkeyPatch) -> None:
     # Issue 10: the work of every search is bounded by design; what is skipped is said.
-    monkeypatch.setattr("core.parts.networks.PAIR_LIMIT", 45)  # ten of the values
-    monkeypatch.setattr("core.parts.networks.THREE_PART_BUDGET", 1000)
+    monkeypatch.setattr("core.parts.index_build.PAIR_LIMIT", 45)  # ten of the values
+    monkeypatch.setattr("core.parts.index_build.THREE_PART_BUDGET", 1000)
     parts = [part("R", 100.0 * 1.05 ** k, 3, line=k + 2) for k in range(40)]
     index = index_of(parts, "R", 3)
     assert any("even spread of 9 of them" in n for n in index.notes)
@@ -340,7 +335,7 @@ def test_chunked_three_part_layer_matches_one_pass(monkeypatch: pytest.MonkeyPat
     parts = [part("R", v, 3, line=i + 2) for i, v in enumerate(
         [100.0, 150.0, 220.0, 330.0, 470.0, 680.0, 1e3, 1.5e3, 2.2e3, 3.3e3, 4.7e3, 6.8e3])]
     whole = index_of(parts, "R", 3)
-    monkeypatch.setattr("core.parts.networks.TRIPLE_CHUNK", 37)
+    monkeypatch.setattr("core.parts.index_build.TRIPLE_CHUNK", 37)
     chunked = index_of(parts, "R", 3)
     for p in (1, 2, 3):
         a, b = whole.values[whole.layers[p]], chunked.values[chunked.layers[p]]

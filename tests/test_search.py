@@ -28,7 +28,7 @@ from support.nodes import node_lines, node_value
 from core.design.search import _rank_order, build_steadiness, search
 from core.model.timing import astable_times, make_oscillator, predict, schmitt_times
 from core.parts.eseries import kit
-from core.parts.networks import drawer_index
+from core.parts.index_build import drawer_index
 from core.parts.part import Part
 from core.units import Tolerance, format_frequency
 

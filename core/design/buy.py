@@ -29,7 +29,7 @@ from core.model.leakage import capacitor_leakage_a, network_leakage_a
 from core.model.spread import worst_case_hz
 from core.model.timing import Oscillator
 from core.parts.eseries import nearest
-from core.parts.networks import DrawerIndex
+from core.parts.network_index import DrawerIndex
 from core.units import format_part_value
 
 BUY_SERIES = ("E12", "E24", "E96")

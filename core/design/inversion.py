@@ -16,7 +16,7 @@ from typing import Any
 import numpy as np
 
 from core.model.timing import Oscillator, resistance_for, times
-from core.parts.networks import NetworkIndex
+from core.parts.network_index import NetworkIndex
 
 
 def frequency_and_duty(osc: Oscillator, values: Mapping[str, Any], diode_steered: bool = False

@@ -21,7 +21,7 @@ if TYPE_CHECKING:
     from core.design.trim import TrimResult
     from core.model.circuits.base import Oscillator
     from core.model.drift import Conditions
-    from core.parts.networks import DrawerIndex
+    from core.parts.network_index import DrawerIndex
     from core.parts.part import Part
 
 DEFAULT_SUPPLY_V = 5.0
@@ -157,7 +157,8 @@ class Request:
         """``usable`` with each pinned part (one of it) the only part of its kind, and
         ``index`` with those kinds' networks rebuilt from it; InputError naming the line
         when it holds no usable part or ``osc``'s circuit has no single place for it."""
-        from core.parts.networks import DrawerIndex, drawer_index
+        from core.parts.index_build import drawer_index
+        from core.parts.network_index import DrawerIndex
         from core.units import format_resistance
 
         circuit, device = osc.circuit, osc.device

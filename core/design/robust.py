@@ -31,7 +31,8 @@ from core.model.drift import (
 )
 from core.model.leakage import network_leakage_a
 from core.model.timing import Oscillator
-from core.parts.networks import Network, NetworkIndex
+from core.parts.network_index import NetworkIndex
+from core.parts.networks import Network
 from core.parts.part import Part
 
 

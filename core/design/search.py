@@ -43,7 +43,9 @@ from core.model.timing import (
     practitioner_warnings,
     times,
 )
-from core.parts.networks import DrawerIndex, Network, NetworkIndex, drawer_index
+from core.parts.index_build import drawer_index
+from core.parts.network_index import DrawerIndex, NetworkIndex
+from core.parts.networks import Network
 from core.parts.part import Part
 from core.units import format_frequency, format_signed_pct
 

@@ -26,7 +26,7 @@ import numpy as np
 from core.design.buy import stage_oscillators, suggest
 from core.design.inversion import follower_entries, frequency_and_duty, tuned_resistance
 from core.model.timing import Oscillator, times
-from core.parts.networks import DrawerIndex
+from core.parts.network_index import DrawerIndex
 from core.units import format_frequency, format_resistance
 
 PER_SIDE = 2

@@ -46,7 +46,9 @@ from core.model.drift import (
 )
 from core.model.spread import calibration_factors
 from core.model.timing import Oscillator, resistance_for
-from core.parts.networks import DrawerIndex, Network, NetworkIndex, drawer_index, single
+from core.parts.index_build import drawer_index
+from core.parts.network_index import DrawerIndex, NetworkIndex
+from core.parts.networks import Network, single
 from core.parts.part import Part
 from core.units import format_frequency
 

@@ -38,6 +38,7 @@ class Row:
     def get(self, column: str) -> str:
         return self.cells.get(column, "")
 
+
 def cell_problems(row: Row) -> dict[str, str]:
     """Reasons per column why ``row`` is not a usable part (empty when it is)."""
     return _parse_row(row, 0)[1]

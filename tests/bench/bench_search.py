@@ -28,7 +28,7 @@ from core.design.trim import trim
 from core.model.timing import make_oscillator
 from core.parts.drawer_file import read_drawer
 from core.parts.eseries import kit
-from core.parts.networks import drawer_index
+from core.parts.index_build import drawer_index
 
 POTS = (100, 500, 1e3, 2e3, 5e3, 10e3, 20e3, 50e3, 100e3, 200e3, 500e3, 1e6)
 SIX_PARTS = [("R", "10k", 5), ("R", "22k", 5), ("R", "4k7", 5), ("C", "100n", 5),

@@ -22,7 +22,7 @@ import numpy as np
 
 from core.model.spread import worst_case_hz
 from core.model.timing import astable_times, schmitt_times
-from core.parts.networks import RESOLUTION
+from core.parts.network_index import RESOLUTION
 from core.parts.part import Part
 
 
