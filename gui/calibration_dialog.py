@@ -44,6 +44,7 @@ from PySide6.QtWidgets import (
 
 from core.errors import TickbinError
 from core.model.calibration import ADVICE, Calibration
+from core.model.circuits import DEFAULT_CIRCUIT
 from gui.background import LatestJob
 from gui.bench_table import BenchTableModel
 from gui.target_form import Target
@@ -134,7 +135,8 @@ class CalibrationDialog(QDialog):
         self.setWindowTitle("Calibrations from bench measurements")
         self.saved_name: str | None = None
         self.saved: Calibration | None = None
-        self.chip = (Chip(target.circuit or "schmitt", target.family or "", target.supply_v)
+        self.chip = (Chip(target.circuit or DEFAULT_CIRCUIT.name, target.family or "",
+                          target.supply_v)
                      if target is not None and target.family and target.supply_v else None)
         self._fit: tuple[Any, Calibration] | None = None
         self._save_after_fit = False

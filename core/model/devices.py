@@ -15,13 +15,14 @@ import tomllib
 from collections.abc import Mapping
 from dataclasses import dataclass, field, fields, replace
 from functools import cache
-from typing import Any, Literal
+from typing import Any, Literal, get_args
 
 from core.errors import InputError, SetupError, TickbinError
 
 CircuitName = Literal["schmitt", "555", "cmos-astable", "divider"]
-CIRCUIT_NAMES: tuple[CircuitName, ...] = ("schmitt", "555", "cmos-astable", "divider")
-"""The circuits a family may name; core.model.circuits has one object per name."""
+CIRCUIT_NAMES: tuple[CircuitName, ...] = get_args(CircuitName)
+"""The circuits a family may name; core.model.circuits has one object per name (its
+registry imports this module, so these names cannot be read from it)."""
 Triplet = tuple[float, float, float]
 
 F_MAX_DELAY_SHARE = 0.10
