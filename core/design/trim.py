@@ -362,7 +362,10 @@ def _over_stages(parts: list[Part], osc: Oscillator, band: tuple[float, float], 
                for stage in stage_oscillators(osc, band[1])]
     found = sorted((c for r in results for c in r.candidates),
                    key=lambda c: (c.range_hz[1] / c.range_hz[0], c.part_count))
-    notes = list(dict.fromkeys(n for r in results for n in r.notes))
+    # A stage's "none covers" note would deny the other stages' designs: only the notes of
+    # stages with designs, unless none has one.
+    notes = list(dict.fromkeys(n for r in results if r.candidates or not found
+                               for n in r.notes))
     return TrimResult(band, notes, found[:top])
 
 
