@@ -181,9 +181,9 @@ def _draw_trim(plots: Any, outcome: Outcome, cand: Any) -> Iterator[None]:
     yield
     centre = float(np.sqrt(lo_band * hi_band))
     turn = rotation_for(osc, cand, centre)
-    title = f"At {turn:.0f} % rotation: {format_frequency(centre)}"
-    if osc.divide_by > 1:
-        title += f", oscillator {format_frequency(centre * osc.divide_by)}"
-    _waveform(plots, osc, cand.values_at(turn), False, title)
+    # Before a counter, the oscillator's own frequency (its tab says so; the output's
+    # tab shows the band's centre).
+    _waveform(plots, osc, cand.values_at(turn), False, f"Pot at {turn:.0f} %: "
+              f"{format_frequency(centre * osc.divide_by)}")
     plots.drift.set_subject(drift_subject(osc, cand, cand.values_at(turn), None,
                                           target.band_hz))

@@ -104,7 +104,9 @@ class SearchPresenter(QObject):
         self.spread_note.setAccessibleName("advice on the spread")
         self.spread_note.hide()
         self.plot_area = QWidget()
-        self.plot_area.setMinimumHeight(190)
+        # The least that keeps the plots legible and, beside a three-part trim's four
+        # parts and notes, the window within 1024 × 700.
+        self.plot_area.setMinimumHeight(176)
         plot_layout = QVBoxLayout(self.plot_area)
         plot_layout.setContentsMargins(0, 0, 0, 0)
         plot_layout.addWidget(self.spread_note)
