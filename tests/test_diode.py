@@ -222,3 +222,36 @@ def test_steered_search_aims_rb_at_the_duty_with_the_real_diode():
     parts = read_drawer(demo_drawer_path()).parts()
     first = search(parts, osc, 440.0, duty_pct=30.0).candidates[0]
     assert first.diode_steered and abs(first.duty_pct - 30.0) <= 2.0
+
+
+def test_many_steered_builds_in_slices_match_scipy_and_bounded_memory():
+    """A search's worth of diode-steered builds is evaluated a slice at a time: every slice
+    gives the times scipy's ODE solver does, and no array grows with the build count."""
+    import tracemalloc
+
+    from core.model.circuits.base import STEERED_SLICE
+    from core.model.timing import times
+
+    osc = make_oscillator("555", "NE555", 9.0)
+    rng = np.random.default_rng(7)
+
+    def peak_bytes(n: int) -> tuple[int, dict[str, np.ndarray], tuple[np.ndarray, ...]]:
+        values = {"RA": 10 ** rng.uniform(3, 5, n), "RB": 10 ** rng.uniform(3, 5, n),
+                  "C": 1e-7}
+        tracemalloc.start()
+        out = times(osc, values, True)
+        peak = tracemalloc.get_traced_memory()[1]
+        tracemalloc.stop()
+        return peak, values, out
+
+    small, _, _ = peak_bytes(2 * STEERED_SLICE)
+    n = 12 * STEERED_SLICE + 17
+    large, values, (t_high, t_low) = peak_bytes(n)
+    # Per build only the two answers (16 bytes) may add to the peak; one evaluation of
+    # every build at once held 12 quadrature nodes in several arrays (hundreds of bytes).
+    assert large - small < 32 * (n - 2 * STEERED_SLICE)
+    # scipy's solve_ivp on the same circuit (as above), builds at slice edges.
+    for k in (0, STEERED_SLICE - 1, STEERED_SLICE, n - 1):
+        ref_high, ref_low = _simulate_555(osc, values["RA"][k], values["RB"][k], 1e-7)
+        assert t_high[k] == pytest.approx(ref_high, rel=1e-4)
+        assert t_low[k] == pytest.approx(ref_low, rel=1e-4)

@@ -320,7 +320,9 @@ def _rb_neighbours(index: DrawerIndex, osc: Oscillator, target_hz: float,
     # of reach is missed least there.
     wanted = [_astable_rb(osc, target_hz, va, vc, diode), np.full(va.shape, limits[0])]
     if duty_pct is not None:
-        wanted += [_duty_rb(osc, va, duty_pct + side * duty_within, diode)
+        # The duty depends on RA alone (C cancels): solved once per distinct RA.
+        distinct, at = np.unique(va, return_inverse=True)
+        wanted += [_duty_rb(osc, distinct, duty_pct + side * duty_within, diode)[at]
                    for side in (-1.0, 1.0)]
     # Duty is monotone in RB, so the two entries bracketing its edges suffice; frequency
     # is not quite (a small RB discharges C below the trigger level during the edge

@@ -333,6 +333,41 @@ def times(osc: Oscillator, values: Mapping[str, ArrayLike], diode_steered: bool 
     output is high/low (leakage, comparator inputs; core.model.leakage);
     negative pushes current in. All arguments broadcast.
     """
+    if not (diode_steered or osc.circuit.always_steered):
+        return _times(osc, values, diode_steered, vt_plus, vt_minus, i_high, i_low)
+    # The diode's charge integral holds QUADRATURE_NODES values per build: taken a slice
+    # of builds at a time, its arrays stay in cache and memory stays bounded.
+    given = [*values.values(), vt_plus, vt_minus, i_high, i_low]
+    shape = np.broadcast_shapes(*(np.shape(x) for x in given if x is not None))
+    size = math.prod(shape)
+    if size <= STEERED_SLICE:
+        return _times(osc, values, diode_steered, vt_plus, vt_minus, i_high, i_low)
+
+    def flat(x: Any) -> Any:
+        return x if x is None or not np.ndim(x) else np.broadcast_to(x, shape).reshape(-1)
+
+    def part(x: Any, k: slice) -> Any:
+        return x if x is None or not np.ndim(x) else x[k]
+
+    keys, (*v, a, b, ih, il) = list(values), [flat(x) for x in given]
+    t_high, t_low = np.empty(size), np.empty(size)
+    for start in range(0, size, STEERED_SLICE):
+        k = slice(start, start + STEERED_SLICE)
+        t_high[k], t_low[k] = _times(osc, {r: part(x, k) for r, x in zip(keys, v, strict=True)},
+                                     diode_steered, part(a, k), part(b, k), part(ih, k),
+                                     part(il, k))
+    return t_high.reshape(shape), t_low.reshape(shape)
+
+
+STEERED_SLICE = 4096
+"""Builds per slice of a diode-steered evaluation (fastest of 4096…65536 on a search of
+820,000 builds; memory then stays in the megabytes)."""
+
+
+def _times(osc: Oscillator, values: Mapping[str, ArrayLike], diode_steered: bool,
+           vt_plus: ArrayLike, vt_minus: ArrayLike, i_high: ArrayLike, i_low: ArrayLike
+           ) -> tuple[np.ndarray, np.ndarray]:
+    """``times`` for one slice of builds."""
     t_high, t_low = phase_times(osc.circuit.phases(osc, values, diode_steered, vt_plus,
                                                    vt_minus, i_high, i_low))
     return osc.circuit.output_times(osc, t_high, t_low)
