@@ -198,6 +198,29 @@ def median(runs: list[dict[str, float]], key: str) -> float:
     return statistics.median(r[key] for r in runs if key in r)
 
 
+DEMO = Path(__file__).resolve().parents[2] / "resources" / "demo_drawer.csv"
+
+
+def steered_rows(n: int = 3) -> list[tuple[str, str, str]]:
+    """The searches with steering diodes on the demo drawer, against the plain 555 search
+    on it: CPU and wall ratios and peak memory."""
+    plain = ["search", "--stock", str(DEMO), "--target", "1kHz", "--json", "--circuit", "555",
+             "--family", "NE555", "--supply", "9V"]
+    wall0, cpu0, _ = process_time(plain, n)
+    rows = []
+    for label, argv in (
+            ("555 `--duty 30`, demo drawer ÷ the same search without `--duty`",
+             [*plain, "--duty", "30"]),
+            ("Schmitt `--duty 30` (two steering diodes, 74HC14 at 5 V), demo drawer ÷ the "
+             "plain 555 search", [*plain[:6], "--circuit", "schmitt", "--family", "74HC14",
+                                 "--supply", "5V", "--duty", "30"])):
+        wall, cpu, rss = process_time(argv, n)
+        rows.append((label, "≤ 2× CPU, ≤ 200 MB",
+                     f"{cpu / cpu0:.2f}× CPU, {wall / wall0:.2f}× wall ({wall:.2f} / "
+                     f"{wall0:.2f} s), {rss / 1024:.0f} MB"))
+    return rows
+
+
 def main() -> None:
     with tempfile.TemporaryDirectory() as tmp:
         d = write_drawers(Path(tmp))
@@ -223,6 +246,7 @@ def main() -> None:
             wall, cpu, _ = process_time(argv)
             rows.append((label, target, f"{cpu / six_cpu:.2f}× CPU, {wall / six:.2f}× wall "
                                         f"({wall * 1e3:.0f} ms)"))
+        rows += steered_rows()
         for label, target, key, extra in (
                 ("three-resistor search, E192 over five decades (961 values)", "a few s",
                  "e192", ["--max-resistors", "3"]),
