@@ -21,6 +21,7 @@ from PySide6.QtWidgets import (
     QMainWindow,
     QMessageBox,
     QProgressBar,
+    QScrollArea,
     QSplitter,
     QVBoxLayout,
     QWidget,
@@ -144,13 +145,29 @@ class MainWindow(QMainWindow):
             self.say(note)
 
     # ------------------------------------------------------------ building
+    def _parts_text(self) -> QScrollArea:
+        """The selected candidate's parts and the notes, scrolling when space is short:
+        their wrapped lines never push the table under them (a 555 trim at 700 px)."""
+        text = QWidget()
+        column = QVBoxLayout(text)
+        column.setContentsMargins(0, 0, 0, 0)
+        column.addWidget(self.details)
+        column.addWidget(self.notes)
+        column.addStretch(1)
+        scroll = QScrollArea()
+        scroll.setWidget(text)
+        scroll.setWidgetResizable(True)
+        scroll.setFrameShape(QFrame.Shape.NoFrame)
+        scroll.setHorizontalScrollBarPolicy(Qt.ScrollBarPolicy.ScrollBarAlwaysOff)
+        scroll.setMinimumHeight(2 * self.fontMetrics().lineSpacing())
+        return scroll
+
     def _build_layout(self) -> None:
         candidates_box = QWidget()
         layout = QVBoxLayout(candidates_box)
         layout.setContentsMargins(0, 0, 0, 0)
         layout.addWidget(self.candidate_view, 1)
-        layout.addWidget(self.details)
-        layout.addWidget(self.notes)
+        layout.addWidget(self._parts_text())
         self.right_split = QSplitter(Qt.Orientation.Vertical)
         self.right_split.addWidget(_section("Target", self.form, "target form"))
         self.right_split.addWidget(_section("Candidates from your drawer", candidates_box,

@@ -181,3 +181,18 @@ def test_every_trimmable_circuit_trims_a_band_in_the_window(qtbot, window):
         qtbot.waitUntil(lambda: window.plots is not None, timeout=10_000)
         x, y = window.plots.rotation_curve.getData()
         assert len(x) and np.all(np.diff(y[np.isfinite(y)]) <= 0)  # faster as R falls
+
+
+def test_parts_text_never_covers_the_table_at_1024_by_700(qtbot, window):
+    # Issue 15 (the window works at 1024 × 700): a 555 trim at 5 V lists four parts whose
+    # lines wrap at 1024 px; they scroll instead of being drawn over the table.
+    window.resize(1024, 700)
+    qtbot.waitUntil(lambda: window.width() == 1024 and window.height() == 700, timeout=3000)
+    search_with(qtbot, window, circuit="555", family="NE555", supply="5V", mode="band",
+                target="900..1100")
+    qtbot.waitUntil(lambda: bool(window.details.text()), timeout=10_000)
+    view = window.candidate_view
+    table_bottom = view.mapTo(window, view.rect().bottomLeft()).y()
+    details = window.details
+    assert details.mapTo(window, details.rect().topLeft()).y() > table_bottom
+    assert view.height() >= 3 * view.verticalHeader().defaultSectionSize()
