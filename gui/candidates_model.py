@@ -15,7 +15,7 @@ from PySide6.QtCore import QAbstractTableModel, QModelIndex, QPersistentModelInd
 from PySide6.QtGui import QBrush, QColor
 
 from core.parts.notation import NOTATION
-from core.units import format_frequency, format_signed_pct
+from core.units import format_frequency, format_quantity, format_signed_pct
 
 CANDIDATE_ROLE = Qt.ItemDataRole.UserRole + 10
 """Role giving the core candidate object of a row."""
@@ -85,6 +85,15 @@ def _band(lo_hi: Sequence[float]) -> str:
 
 Column = tuple[str, str, Callable[[Any], str]]
 
+SLOW_HZ = 0.1
+"""Below this a clock is set by its period (a 2 min timer), so the period is shown too."""
+
+
+def _frequency(hertz: float) -> str:
+    text = format_frequency(hertz, 4)
+    return f"{text} ({format_quantity(1.0 / hertz, 'period', 4)})" if 0 < hertz < SLOW_HZ else text
+
+
 SORT_KEYS: dict[str, Callable[[Any], float]] = {
     "Frequency": lambda c: c.frequency_hz,
     "Error": lambda c: abs(c.error_pct),  # nearest the target first, either side
@@ -132,8 +141,8 @@ def _counter_columns(sample: dict[str, Any]) -> list[Column]:
 def _search_columns(keys: Sequence[str], with_duty: bool,
                     sample: dict[str, Any] | None = None) -> list[Column]:
     cols: list[Column] = [
-        ("Frequency", "Predicted frequency with the nominal model",
-         lambda c: format_frequency(c.frequency_hz, 4)),
+        ("Frequency", "Predicted frequency with the nominal model (with its period when "
+         "slower than one cycle in ten seconds)", lambda c: _frequency(c.frequency_hz)),
         ("Error", "(predicted − target) / target", lambda c: format_signed_pct(c.error_pct)),
         ("Duty", "Share of each period the output is high",
          lambda c: f"{c.duty_pct:.1f} %"),

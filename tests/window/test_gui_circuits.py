@@ -196,3 +196,17 @@ def test_parts_text_never_covers_the_table_at_1024_by_700(qtbot, window):
     details = window.details
     assert details.mapTo(window, details.rect().topLeft()).y() > table_bottom
     assert view.height() >= 3 * view.verticalHeader().defaultSectionSize()
+
+
+def test_a_slow_clock_reads_with_its_period(qtbot, window):
+    # A 2-minute timer is set by its period (period = 1 / frequency, by definition).
+    from core.units import format_quantity
+
+    search_with(qtbot, window, circuit="divider", family="CD4060B", supply="9V",
+                target="2min")
+    assert window.candidates.rowCount()
+    cand = window.selected_candidate()
+    column = window.candidates.headings().index("Frequency")
+    text = window.candidates.data(window.candidates.index(0, column))
+    assert text.endswith(f"({format_quantity(1 / cand.frequency_hz, 'period', 4)})")
+    assert " min)" in text
