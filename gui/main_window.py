@@ -156,6 +156,8 @@ class MainWindow(QMainWindow):
         column.addStretch(1)
         scroll = QScrollArea()
         scroll.setWidget(text)
+        text.setAutoFillBackground(False)  # the section's own background, as before
+        scroll.viewport().setAutoFillBackground(False)
         scroll.setWidgetResizable(True)
         scroll.setFrameShape(QFrame.Shape.NoFrame)
         scroll.setHorizontalScrollBarPolicy(Qt.ScrollBarPolicy.ScrollBarAlwaysOff)
