@@ -255,3 +255,22 @@ def test_many_steered_builds_in_slices_match_scipy_and_bounded_memory():
         ref_high, ref_low = _simulate_555(osc, values["RA"][k], values["RB"][k], 1e-7)
         assert t_high[k] == pytest.approx(ref_high, rel=1e-4)
         assert t_low[k] == pytest.approx(ref_low, rel=1e-4)
+
+
+def test_quadrature_node_slope_is_the_node_voltage_derivative():
+    # The charge integral takes only the node's slope at its nodes; it must be the very
+    # number at_junction gives (bit for bit, so a search's results do not move) and the
+    # derivative of the node voltage (central difference, the derivative's definition).
+    rng = np.random.default_rng(16)
+    n = 2000
+    r_series = 10 ** rng.uniform(2, 7, n)
+    r_across = np.where(rng.random(n) < 0.3, math.inf, 10 ** rng.uniform(2, 7, n))
+    br = SteeringBranch(D, 10 ** rng.uniform(0.3, 1.2, n), r_series, r_across)
+    vj = rng.uniform(0.05, 0.75, n)
+    _, _, slope = br.at_junction(vj)
+    got = br._node_slope(*br._slopes(vj)[1:])
+    assert np.array_equal(got, slope)
+    h = 1e-6
+    central = (br.at_junction(vj + h)[0] - br.at_junction(vj - h)[0]) / (2 * h)
+    np.testing.assert_allclose(got, central, rtol=1e-5)
+    assert np.all(got < 0)  # the node falls as more current flows through the branch

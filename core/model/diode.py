@@ -123,14 +123,24 @@ class SteeringBranch:
     r_series_ohm: Any
     r_across_ohm: Any
 
-    def _pair(self, vj: Any) -> tuple[Any, Any, Any, Any]:
-        """Across diode ∥ resistor: (voltage [V], current [A], and their d/d vj)."""
+    def _slopes(self, vj: Any) -> tuple[Any, Any, Any]:
+        """(diode current [A], d/d vj of the voltage across and of the current through
+        diode ∥ resistor): all the charge integral needs at its nodes."""
         d = self.diode
         i_d = d.junction_current(vj)
         g = (i_d + d.saturation_current_a) / d.n_vt  # d i_d / d vj
-        v_pair = vj + i_d * d.series_resistance_ohm
         dv_pair = 1.0 + g * d.series_resistance_ohm
-        return v_pair, i_d + v_pair / self.r_across_ohm, dv_pair, g + dv_pair / self.r_across_ohm
+        return i_d, dv_pair, g + dv_pair / self.r_across_ohm
+
+    def _pair(self, vj: Any) -> tuple[Any, Any, Any, Any]:
+        """Across diode ∥ resistor: (voltage [V], current [A], and their d/d vj)."""
+        i_d, dv_pair, d_current = self._slopes(vj)
+        v_pair = vj + i_d * self.diode.series_resistance_ohm
+        return v_pair, i_d + v_pair / self.r_across_ohm, dv_pair, d_current
+
+    def _node_slope(self, dv_pair: Any, d_current: Any) -> Any:
+        """d node voltage / d vj from the pair's slopes (``_slopes``)."""
+        return -(d_current * self.r_series_ohm + dv_pair)
 
     def _current(self, vj: Any) -> tuple[Any, Any]:
         """(branch current [A], its slope d/d vj [S]) at junction ``vj``."""
@@ -141,7 +151,7 @@ class SteeringBranch:
         """(node voltage [V], branch current [A], d node voltage / d vj) at junction ``vj``."""
         v_pair, current, dv_pair, d_current = self._pair(vj)
         node = self.source_v - current * self.r_series_ohm - v_pair
-        return node, current, -(d_current * self.r_series_ohm + dv_pair)
+        return node, current, self._node_slope(dv_pair, d_current)
 
     def _newton(self, residual: Any, start: Any) -> Any:
         """Root of an increasing convex ``residual(vj) -> (value, slope)`` from its right.
@@ -222,7 +232,7 @@ class SteeringBranch:
         ref = x_ref[..., None]
         wide = SteeringBranch(d, *(np.asarray(p, dtype=float)[..., None] for p in
                                    (self.source_v, self.r_series_ohm, self.r_across_ohm)))
-        _, _, slope = wide.at_junction(ref + dx)
+        slope = wide._node_slope(*wide._slopes(ref + dx)[1:])
         # Branch current above the reference without cancellation: expm1 of the step.
         di_d = d.saturation_current_a * np.exp(ref / d.n_vt) * np.expm1(dx / d.n_vt)
         dv_pair = dx + di_d * d.series_resistance_ohm
