@@ -332,3 +332,23 @@ def test_a_load_on_the_timing_output_changes_the_frequency():
     loaded = predict(make_oscillator("schmitt", "74LS14", 5.0, load_ohm=1e3),
                      values).frequency_hz
     assert loaded != pytest.approx(free, rel=0.01)
+
+
+def test_a_huge_resistor_leaves_the_leakage_bound_in_place() -> None:
+    # As R grows the resistor's own current vanishes and a leakage corner that helps both
+    # phases sets a constant-current ramp, t = C·ΔV / I (textbook: an RC charge with a
+    # parallel current source, R → ∞). So the fastest corner stops moving with R; before
+    # the log1p form, R ≥ 1e24 Ω rounded each phase's log to zero and the worst case
+    # jumped to the chip's propagation-delay limit (44 MHz).
+    from core.model.spread import worst_case_hz
+
+    osc = make_oscillator("schmitt", "74HC14", 5.0)
+    highs = []
+    for r in (1e15, 1e24, 1e30):
+        lo, hi = worst_case_hz(osc, {"R": r, "C": 100e-9},
+                               {"R": (0.95 * r, 1.05 * r), "C": (80e-9, 120e-9)})
+        assert lo == 0.0  # some leakage corner stops it (the opposite ramp)
+        highs.append(hi)
+    assert highs[1] == pytest.approx(highs[0], rel=1e-6)
+    assert highs[2] == pytest.approx(highs[0], rel=1e-6)
+    assert 0 < highs[0] < 10.0

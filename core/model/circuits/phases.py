@@ -115,6 +115,13 @@ def diode_conducts(n: Phases, v_start: Any) -> np.ndarray:
     return np.asarray((share > DIODE_OFF_SHARE) | np.isinf(br.r_across_ohm))
 
 
+def log_ratio(far: Any, start: Any, end: Any) -> Any:
+    """ln((far − start)/(far − end)): the time constants an exponential toward ``far``
+    takes from ``start`` to ``end``. Written with log1p so it stays exact when ``far`` is
+    huge (a leakage current through a gigantic R), where the plain ratio rounds to 1."""
+    return np.log1p((end - start) / (far - end))
+
+
 def cycle(n: Phases) -> tuple[np.ndarray, np.ndarray, Any, Any]:
     """Steady-state (t_high, t_low) [s] and the turning voltages (v_start, v_peak) [V].
 
@@ -125,16 +132,15 @@ def cycle(n: Phases) -> tuple[np.ndarray, np.ndarray, Any, Any]:
     a, b = n.vt_plus, n.vt_minus
     low = n.steering_low
     with np.errstate(all="ignore"):
-        v_start = n.v_low + (b - n.v_low) * np.exp(-n.delay_lh / n.tau_low)
+        v_start = b + (b - n.v_low) * np.expm1(-n.delay_lh / n.tau_low)
         if low is not None:  # over the delay the node falls on at its slope at VT-
             v_start = b + low.net_current(b) * n.delay_lh / low.capacitance
-        v_peak = n.v_high - (n.v_high - a) * np.exp(-n.delay_hl / n.tau_high)
-        t_high = np.where(n.v_high > a, n.tau_high * np.log((n.v_high - v_start)
-                                                             / (n.v_high - a)), np.nan)
+        v_peak = a - (n.v_high - a) * np.expm1(-n.delay_hl / n.tau_high)
+        t_high = np.where(n.v_high > a, n.tau_high * log_ratio(n.v_high, v_start, a), np.nan)
         t_high = t_high + n.delay_hl
         if n.steering is not None:
             t_high, v_peak = steered_charge(n, v_start, t_high, v_peak)
-        t_low = n.tau_low * np.log((v_peak - n.v_low) / (b - n.v_low)) + n.delay_lh
+        t_low = n.tau_low * log_ratio(n.v_low, v_peak, b) + n.delay_lh
         if low is not None:
             t_low = low.time(v_peak, b)[0] + n.delay_lh
         if n.clamp is not None:
@@ -150,11 +156,10 @@ def clamped_times(n: Phases, v_start: Any, v_peak: Any) -> tuple[Any, Any]:
     assert k is not None
     from_high = np.maximum(v_start, k.below)
     from_low = np.minimum(v_peak, k.above)
-    t_high = (k.tau_high * np.log((k.v_high - v_start) / (k.v_high - from_high))
-              + n.tau_high * np.log((n.v_high - from_high) / (n.v_high - n.vt_plus))
-              + n.delay_hl)
-    t_low = (k.tau_low * np.log((v_peak - k.v_low) / (from_low - k.v_low))
-             + n.tau_low * np.log((from_low - n.v_low) / (n.vt_minus - n.v_low)) + n.delay_lh)
+    t_high = (k.tau_high * log_ratio(k.v_high, v_start, from_high)
+              + n.tau_high * log_ratio(n.v_high, from_high, n.vt_plus) + n.delay_hl)
+    t_low = (k.tau_low * log_ratio(k.v_low, v_peak, from_low)
+             + n.tau_low * log_ratio(n.v_low, from_low, n.vt_minus) + n.delay_lh)
     return np.where(n.v_high > n.vt_plus, t_high, np.nan), t_low
 
 
