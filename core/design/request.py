@@ -106,6 +106,8 @@ class Request:
         from core.parts.part import with_dielectrics
 
         kept = with_dielectrics(parts, self.dielectrics)
+        if not any(p.kind == "C" and (p.polarised or p.voltage is not None) for p in kept):
+            return tuple(kept)  # nothing depends on the circuit: no oscillator to build
         try:
             osc = self.oscillator()
         except TickbinError:
