@@ -19,7 +19,7 @@ from core.model.timing import (
     astable_times,
     make_oscillator,
     predict,
-    schmitt_resistance_for,
+    resistance_for,
     schmitt_times,
     waveform,
 )
@@ -235,7 +235,7 @@ def test_broadcasting_over_r_and_c():
 def test_resistance_for_inverts_the_model(freq, c, family):
     fam = device_table().family(family)
     osc = make_oscillator("schmitt", fam, fam.supplies_v[0])
-    r = float(schmitt_resistance_for(osc, freq, c))
+    r = float(resistance_for(osc, freq, {"C": c}, "R"))
     if math.isnan(r):
         # Only when no R can do it: the TTL input limit, or faster than R → 1 Ω allows.
         t_high, t_low = schmitt_times(osc, np.array([1.0, 1e10]), c)
@@ -256,7 +256,7 @@ def test_resistance_for_agrees_with_scipy_brentq(family):
     osc = make_oscillator("schmitt", fam, fam.supplies_v[0])
     rng = np.random.default_rng(3)
     freq, c = 10 ** rng.uniform(0, 5, 40), 10 ** rng.uniform(-10, -5, 40)
-    r = schmitt_resistance_for(osc, freq, c)
+    r = resistance_for(osc, freq, {"C": c}, "R")
     for f, cap, got in zip(freq, c, r, strict=True):
         def excess(log_r, f=f, cap=cap):
             t_high, t_low = schmitt_times(osc, math.exp(log_r), cap)
@@ -272,10 +272,10 @@ def test_resistance_for_agrees_with_scipy_brentq(family):
 def test_resistance_for_is_vectorised():
     osc = hc14()
     c = np.array([1e-9, 10e-9, 100e-9])
-    r = schmitt_resistance_for(osc, 1e3, c)
+    r = resistance_for(osc, 1e3, {"C": c}, "R")
     assert r.shape == (3,)
     assert (np.diff(r) < 0).all()
-    assert np.isnan(schmitt_resistance_for(osc, 1e9, 1e-9))  # beyond any 74HC14
+    assert np.isnan(resistance_for(osc, 1e9, {"C": 1e-9}, "R"))  # beyond any 74HC14
 
 
 # ---------------------------------------------------------------- set-up errors

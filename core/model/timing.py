@@ -119,13 +119,6 @@ ROOT_STEPS = 60
 """Most steps of the bracketed secant in ``resistance_for`` (it needs about eight)."""
 
 
-def schmitt_resistance_for(osc: Oscillator, frequency_hz: ArrayLike, c: ArrayLike,
-                           r_bounds: tuple[float, float] = (1.0, 1e10)) -> np.ndarray:
-    """R [Ω] giving exactly ``frequency_hz`` [Hz] with capacitor ``c`` [F] on the Schmitt
-    inverter (nominal model; see ``resistance_for``)."""
-    return resistance_for(osc, frequency_hz, {"C": c}, "R", r_bounds)
-
-
 def resistance_for(osc: Oscillator, frequency_hz: ArrayLike, values: Mapping[str, ArrayLike],
                    role: str, r_bounds: tuple[float, float] = (1.0, 1e10),
                    diode_steered: bool = False) -> np.ndarray:

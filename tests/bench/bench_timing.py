@@ -15,7 +15,7 @@ from core.model.timing import (
     astable_times,
     make_oscillator,
     predict,
-    schmitt_resistance_for,
+    resistance_for,
     schmitt_times,
 )
 from core.units import Tolerance
@@ -47,8 +47,8 @@ def main() -> None:
         ("schmitt_times, 1 000 000 (R, C), 74HC14", lambda: schmitt_times(hc, r, c), 5),
         ("schmitt_times, 1 000 000 (R, C), 74LS14", lambda: schmitt_times(ls, r, c), 5),
         ("astable_times, 1 000 000 (RA, RB, C)", lambda: astable_times(ne, r, 2 * r, c), 5),
-        ("schmitt_resistance_for, 1000 capacitors", lambda: schmitt_resistance_for(hc, 1e3, caps),
-         20),
+        ("resistance_for (R of a Schmitt), 1000 capacitors",
+         lambda: resistance_for(hc, 1e3, {"C": caps}, "R"), 20),
         ("monte_carlo, 10 000 draws, 74HC14",
          lambda: monte_carlo(hc, {"R": 21.7e3, "C": 1e-6}, tol, n=10_000), 20),
         ("monte_carlo, 10 000 draws, NE555",
