@@ -18,12 +18,12 @@ from dataclasses import dataclass
 from typing import Any
 
 import numpy as np
-import pyqtgraph as pg
 from PySide6.QtCore import QObject, Qt, Signal
 from PySide6.QtWidgets import QLineEdit, QTabWidget, QVBoxLayout, QWidget
 
 from core.units import format_frequency
 from gui.background import LatestJob
+from gui.plot_library import pg
 from gui.plots import ACCEPT, ACCEPT_EDGE, CAP, ENVELOPE, INK, cosmetic_pen, styled_plot
 
 DEFAULT_TEMPERATURE = "-20..70"

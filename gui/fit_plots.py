@@ -11,10 +11,10 @@ from __future__ import annotations
 from typing import Any
 
 import numpy as np
-import pyqtgraph as pg
 from PySide6.QtCore import Qt
 from PySide6.QtWidgets import QHBoxLayout, QWidget
 
+from gui.plot_library import pg
 from gui.plots import CAP, INK, cosmetic_pen, styled_plot
 
 

@@ -12,10 +12,11 @@ from collections.abc import Iterator
 from typing import TYPE_CHECKING
 
 import numpy as np
-import pyqtgraph as pg
 from PySide6.QtCore import Qt
 from PySide6.QtGui import QColor, QFont, QGuiApplication, QPen
 from PySide6.QtWidgets import QGraphicsItem, QHBoxLayout, QStackedWidget, QTabWidget, QWidget
+
+from gui.plot_library import pg
 
 if TYPE_CHECKING:
     from core.model.circuits.base import Circuit
