@@ -328,15 +328,16 @@ class MainWindow(QMainWindow):
         self.search.warm_up(self._first_paint.then)
 
     def _became_ready(self) -> None:
-        """The worker has imported the slow modules: offer every circuit, add the build
-        actions (PDF, print, netlist, take parts) and check the drawer's cells, before the
-        first search."""
+        """The worker has imported the slow modules: offer every circuit and add the build
+        actions (PDF, print, netlist, take parts) before the first search; mark the drawer's
+        bad cells once its result is shown (that redraws the whole drawer table)."""
         from core.model.circuits import CIRCUITS
         from gui.sheet_actions import install
 
         self.form.offer_circuits(CIRCUITS.values())
         install(self)
-        self.drawer_model.start_checking()
+        self.search.sigDone.connect(self.drawer_model.start_checking,
+                                    Qt.ConnectionType.SingleShotConnection)
 
     # -- the search, for build actions and tests (gui.search_presenter does the work)
     @property

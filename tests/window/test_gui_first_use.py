@@ -282,3 +282,19 @@ def test_two_candidates_side_by_side(qtbot, window, monkeypatch):
     # Each one's parts with their drawer places.
     assert "Parts" in rows and "line" in rows["Parts"][0] and "line" in rows["Parts"][1]
     dialog.close()
+
+
+def test_a_bad_cell_is_marked_once_the_first_result_is_shown(qtbot, make_window, tmp_path):
+    """Cells are checked after the first result (marking them redraws the whole drawer
+    table), but they are checked: a quantity that is not a count shows its problem."""
+    from gui.drawer_model import PROBLEM_ROLE
+
+    stock = tmp_path / "stock.csv"
+    stock.write_text("kind,value,tolerance,quantity\nR,10k,1%,5\nR,22k,1%,lots\n"
+                     "C,100n,5%,3\n", encoding="utf-8")
+    window = make_window(str(stock))
+    model = window.drawer_model
+    assert model.checking
+    problem = model.index(1, model.column_of("quantity")).data(PROBLEM_ROLE)
+    assert problem and "whole number" in problem
+    assert model.index(0, model.column_of("quantity")).data(PROBLEM_ROLE) is None
