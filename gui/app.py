@@ -20,9 +20,13 @@ from PySide6.QtCore import (
 from PySide6.QtGui import QGuiApplication
 from PySide6.QtWidgets import QApplication
 
-from core.errors import TickbinError
-from gui import error_hook, settings
-from gui.main_window import MainWindow
+from gui.pyside_imports import quicken_import_check
+
+quicken_import_check()  # before the window's imports (numpy, pyqtgraph and ours follow)
+
+from core.errors import TickbinError  # noqa: E402
+from gui import error_hook, settings  # noqa: E402
+from gui.main_window import MainWindow  # noqa: E402
 
 SCREENSHOT_SIZE = (1280, 800)
 SCREENSHOT_TIMEOUT_MS = 60_000
