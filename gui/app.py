@@ -20,9 +20,10 @@ from PySide6.QtCore import (
 from PySide6.QtGui import QGuiApplication
 from PySide6.QtWidgets import QApplication
 
-from gui.pyside_imports import quicken_import_check
+from gui import startup
 
-quicken_import_check()  # before the window's imports (numpy, pyqtgraph and ours follow)
+startup.quicken_import_check()  # before the window's imports (numpy, pyqtgraph, ours)
+startup.pause_collection()  # until the first result (MainWindow.finish_startup)
 
 from core.errors import TickbinError  # noqa: E402
 from gui import error_hook, settings  # noqa: E402

@@ -29,6 +29,7 @@ from PySide6.QtWidgets import (
 
 from core.parts.drawer import Drawer
 from gui import settings as keys
+from gui import startup
 from gui.drawer_model import DrawerTableModel
 from gui.drawer_panel import DrawerPanel
 from gui.file_actions import FileActions, initial_drawer
@@ -39,6 +40,9 @@ CSV_FILTER = "Drawer files (*.csv *.txt);;All files (*)"
 
 FIRST_PAINT_WAIT_MS = 300
 """Longest wait for the window's first paint before the warm-up starts anyway."""
+COLLECTION_PAUSE_MS = 10_000
+"""Longest start-up pause of the garbage collector (``gui.startup``), should the first
+result take longer (a very large drawer's index)."""
 
 
 class _FirstPaint(QObject):
@@ -326,6 +330,9 @@ class MainWindow(QMainWindow):
         if self.remember:
             self.files.begin()
         self.search.warm_up(self._first_paint.then)
+        self.search.sigDone.connect(startup.resume_collection,
+                                    Qt.ConnectionType.SingleShotConnection)
+        QTimer.singleShot(COLLECTION_PAUSE_MS, startup.resume_collection)
 
     def _became_ready(self) -> None:
         """The worker has imported the slow modules: offer every circuit and add the build

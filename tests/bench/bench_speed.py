@@ -16,7 +16,9 @@ machine, so process ratios are given in both. The drawers are written to a tempo
 
 The window figures come from child processes: process start to the first paint
 of a bare Qt window and of Tickbin's window, to Tickbin's first full result
-(search and plots); from an edit of a 1,000-line drawer with three-resistor
+(search and plots), each window run paired with a bare run just before it and the
+ratio taken per pair (a shared machine's speed drifts from minute to minute, by
+up to half of a bare window's time); from an edit of a 1,000-line drawer with three-resistor
 networks, and from a new target, to the new result in the table and to its plots
 drawn (the search is started at once, without the typing pause), as wall time and
 as the process's CPU time (both threads: what the edit costs, whatever else the
@@ -179,6 +181,16 @@ def child_times(code: str, *args: str) -> dict[str, float]:
     return out
 
 
+WINDOW_PAIRS = 9
+SETTLE_S = 0.3
+
+
+def settled(code: str, *args: str) -> dict[str, float]:
+    """``child_times`` after a pause, so no run starts while the last one is still exiting."""
+    time.sleep(SETTLE_S)
+    return child_times(code, *args)
+
+
 def compiled_children(folder: Path) -> None:
     """Child processes keep their bytecode in ``folder`` (see the module's docstring)."""
     os.environ.pop("PYTHONDONTWRITEBYTECODE", None)
@@ -188,10 +200,6 @@ def compiled_children(folder: Path) -> None:
 def load_average() -> str:
     with open("/proc/loadavg", encoding="ascii") as f:
         return " ".join(f.read().split()[:3])
-
-
-def best(runs: list[dict[str, float]], key: str) -> float:
-    return min(r[key] for r in runs if key in r)
 
 
 def median(runs: list[dict[str, float]], key: str) -> float:
@@ -263,16 +271,16 @@ def main() -> None:
                 for note in search_notes(argv)[1:2]:
                     print(f"  note: {note}")
 
-        bare = [child_times(BARE) for _ in range(5)]
-        window = [child_times(WINDOW, str(d["six"])) for _ in range(5)]
+        pairs = [(settled(BARE), settled(WINDOW, str(d["six"]))) for _ in range(WINDOW_PAIRS)]
         edits = [child_times(WINDOW, str(d["graded"]), "edit") for _ in range(3)]
-        b, mb = best(bare, "painted"), median(bare, "painted")
         for label, target, key in (("window first paint ÷ bare Qt window", "≤ 3×", "painted"),
                                    ("window first full result ÷ bare Qt window", "≤ 5×",
                                     "result")):
-            rows.append((label, target, f"{best(window, key) / b:.2f}× "
-                         f"({best(window, key) * 1e3:.0f} / {b * 1e3:.0f} ms; medians "
-                         f"{median(window, key) / mb:.2f}×)"))
+            ratios = [w[key] / b["painted"] for b, w in pairs]
+            rows.append((label, target, f"{statistics.median(ratios):.2f}× median of "
+                         f"{len(pairs)} pairs (range {min(ratios):.2f}–{max(ratios):.2f}×; "
+                         f"{median([w for _, w in pairs], key) * 1e3:.0f} / "
+                         f"{median([b for b, _ in pairs], 'painted') * 1e3:.0f} ms)"))
         for what in ("location", "capacitor quantity", "resistor quantity",
                      "target (1 kHz to 1.2 kHz)"):
             for stage in ("", ", plots drawn"):
