@@ -77,6 +77,27 @@ def test_charge_time_matches_scipy_quadrature(v, ra, rb, drawn):
     assert float(t) == pytest.approx(ref, rel=1e-9)
 
 
+def _series_current(drive: float, r: float) -> float:
+    """Current [A] through R and a bare diode in series with ``drive`` [V] across both
+    (scipy's brentq on drive = I R + Vd(I), Shockley with RS)."""
+    return optimize.brentq(lambda i: i * r + float(D.voltage(i)) - drive, 0.0, drive / r,
+                           xtol=1e-22, rtol=1e-14)
+
+
+@pytest.mark.parametrize(("v", "r"), [(3.0, 10e3), (5.0, 1e3), (5.0, 100e3), (15.0, 2.2e6)])
+@pytest.mark.parametrize("drawn", [0.0, 1e-6, -D.saturation_current_a, -1e-7])
+def test_bare_diode_charge_time_matches_scipy_quadrature(v, r, drawn):
+    # A resistor and a bare diode in series (each phase of the steered Schmitt): the
+    # closed form against t = ∫ C dV / (I(V) - I_drawn) from V/3 to 2V/3 by
+    # scipy.integrate.quad. A drawn current of -IS is the closed form's B = 0 case.
+    c = 10e-9
+    ref = integrate.quad(lambda x: c / (_series_current(v - x, r) - drawn), v / 3,
+                         2 * v / 3, epsabs=0, epsrel=1e-11, limit=200)[0]
+    t, net = SteeringBranch(D, v, r, math.inf).charge_time(c, drawn, v / 3, 2 * v / 3)
+    assert float(t) == pytest.approx(ref, rel=1e-9)
+    assert float(net) == pytest.approx(_series_current(v - 2 * v / 3, r) - drawn, rel=1e-9)
+
+
 def test_charge_that_never_arrives_is_nan():
     # 10 µA drawn through RA + RB = 1.01 MΩ: the node settles near 5 - 10 V, below 2/3 VCC.
     t, _ = SteeringBranch(D, 5.0, 1e6, 10e3).charge_time(10e-9, 10e-6, 5 / 3, 10 / 3)
@@ -257,10 +278,9 @@ def test_many_steered_builds_in_slices_match_scipy_and_bounded_memory():
         assert t_low[k] == pytest.approx(ref_low, rel=1e-4)
 
 
-def test_quadrature_node_slope_is_the_node_voltage_derivative():
-    # The charge integral takes only the node's slope at its nodes; it must be the very
-    # number at_junction gives (bit for bit, so a search's results do not move) and the
-    # derivative of the node voltage (central difference, the derivative's definition).
+def test_node_slope_is_the_node_voltage_derivative():
+    # at_junction's slope (what the Newton solves for the node rest on) is the derivative
+    # of the node voltage (central difference, the derivative's definition).
     rng = np.random.default_rng(16)
     n = 2000
     r_series = 10 ** rng.uniform(2, 7, n)
@@ -268,9 +288,7 @@ def test_quadrature_node_slope_is_the_node_voltage_derivative():
     br = SteeringBranch(D, 10 ** rng.uniform(0.3, 1.2, n), r_series, r_across)
     vj = rng.uniform(0.05, 0.75, n)
     _, _, slope = br.at_junction(vj)
-    got = br._node_slope(*br._slopes(vj)[1:])
-    assert np.array_equal(got, slope)
     h = 1e-6
     central = (br.at_junction(vj + h)[0] - br.at_junction(vj - h)[0]) / (2 * h)
-    np.testing.assert_allclose(got, central, rtol=1e-5)
-    assert np.all(got < 0)  # the node falls as more current flows through the branch
+    np.testing.assert_allclose(slope, central, rtol=1e-5)
+    assert np.all(slope < 0)  # the node falls as more current flows through the branch

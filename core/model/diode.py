@@ -15,8 +15,11 @@ across the pair, the branch current, the node voltage), so the charge time
 
     t = ∫ C dV / (I(V) − I_drawn)
 
-is a quadrature over Vj; only its end points need a (vectorised, monotone)
-Newton solve. The substitution Vj = Vj∞ + e^s, with Vj∞ where the branch
+is an integral over Vj; only its end points need a (vectorised, monotone)
+Newton solve. The series resistance's share of it is R ln(I − I_drawn) between
+the ends, and with no resistor across the diode (the steered Schmitt inverter)
+Shockley's law integrates in closed form too. With one (the 555's RB) the rest
+is a quadrature: the substitution Vj = Vj∞ + e^s, with Vj∞ where the branch
 current equals the drawn current (the phase's asymptote), removes the
 logarithmic end singularity, so Gauss–Legendre converges fast. A branch
 discharging the node through a diode is the mirror image (voltages measured
@@ -40,6 +43,9 @@ BOLTZMANN_OVER_CHARGE = 8.617333262e-5
 """k / q [V/K] (CODATA 2018, exact since the 2019 SI)."""
 SPICE_NOMINAL_K = 300.15
 """27 °C, SPICE's nominal temperature TNOM [K] (ngspice manual)."""
+NEWTON_STEP_V = 1e-9
+"""A junction solve stops once every Newton step is below this [V]: what is left is at
+most (1e-9)² / (2 nVT), about 1e-17 V, below rounding (see ``SteeringBranch._newton``)."""
 QUADRATURE_NODES = 12
 """Gauss–Legendre nodes per charge time: after the substitution the integrand is so
 smooth that 12 nodes agree with scipy's adaptive quadrature to about 1e-14 (checked
@@ -104,7 +110,7 @@ def drop_drift_share(far_v: float, near_v: float) -> float:
 
 @cache
 def _legendre(n: int) -> tuple[np.ndarray, np.ndarray]:
-    """Gauss–Legendre nodes and weights on [0, 1]."""
+    """Gauss–Legendre nodes (ascending, symmetric about 1/2) and weights on [0, 1]."""
     x, w = np.polynomial.legendre.leggauss(n)
     return 0.5 * (x + 1.0), 0.5 * w
 
@@ -125,7 +131,7 @@ class SteeringBranch:
 
     def _slopes(self, vj: Any) -> tuple[Any, Any, Any]:
         """(diode current [A], d/d vj of the voltage across and of the current through
-        diode ∥ resistor): all the charge integral needs at its nodes."""
+        diode ∥ resistor)."""
         d = self.diode
         i_d = d.junction_current(vj)
         g = (i_d + d.saturation_current_a) / d.n_vt  # d i_d / d vj
@@ -138,10 +144,6 @@ class SteeringBranch:
         v_pair = vj + i_d * self.diode.series_resistance_ohm
         return v_pair, i_d + v_pair / self.r_across_ohm, dv_pair, d_current
 
-    def _node_slope(self, dv_pair: Any, d_current: Any) -> Any:
-        """d node voltage / d vj from the pair's slopes (``_slopes``)."""
-        return -(d_current * self.r_series_ohm + dv_pair)
-
     def _current(self, vj: Any) -> tuple[Any, Any]:
         """(branch current [A], its slope d/d vj [S]) at junction ``vj``."""
         _, current, _, d_current = self._pair(vj)
@@ -151,20 +153,30 @@ class SteeringBranch:
         """(node voltage [V], branch current [A], d node voltage / d vj) at junction ``vj``."""
         v_pair, current, dv_pair, d_current = self._pair(vj)
         node = self.source_v - current * self.r_series_ohm - v_pair
-        return node, current, self._node_slope(dv_pair, d_current)
+        return node, current, -(d_current * self.r_series_ohm + dv_pair)
+
+    def _drive_terms(self) -> tuple[Any, Any]:
+        """(k_j, k_d): the drive, source − node, is k_j·vj + k_d·i_d, linear in the junction
+        voltage and the diode current; the Newton solve for the node needs nothing more."""
+        r, rs, r_across = self.r_series_ohm, self.diode.series_resistance_ohm, self.r_across_ohm
+        return 1.0 + r / r_across, r + rs + r * rs / r_across
 
     def _newton(self, residual: Any, start: Any) -> Any:
         """Root of an increasing convex ``residual(vj) -> (value, slope)`` from its right.
 
         Newton's steps from the right of such a root never overshoot it, so
-        the iteration is monotone and safe for every element at once.
+        the iteration is monotone and safe for every element at once. Both
+        residuals here are an exponential in vj/nVT plus a linear part, so their
+        curvature over slope is at most 1/nVT and a step δ leaves the root at most
+        δ²/(2 nVT) away: once every step is below NEWTON_STEP_V the answer is exact
+        to rounding.
         """
         vj = np.asarray(start, dtype=float)
         for _ in range(200):
             value, slope = residual(vj)
             step = value / slope
             vj = vj - step
-            if not np.any(np.abs(step) > 1e-13):
+            if not np.any(np.abs(step) > NEWTON_STEP_V):
                 break
         return vj
 
@@ -172,17 +184,28 @@ class SteeringBranch:
         """Junction voltage [V] where the node sits at ``v_node`` [V]."""
         d = self.diode
         drive = np.asarray(self.source_v - v_node, dtype=float)
+        k_j, k_d = self._drive_terms()
 
         def residual(vj: Any) -> tuple[Any, Any]:
-            node, _, slope = self.at_junction(vj)
-            return v_node - node, -slope
+            i_d = d.junction_current(vj)
+            return (k_j * vj + k_d * i_d - drive,
+                    k_j + k_d * (i_d + d.saturation_current_a) / d.n_vt)
 
         # Right of the root: the diode alone through RS would already pass the
-        # whole drive (or the drive itself, which is smaller then).
+        # whole drive (or the drive itself, which is smaller then); with a positive
+        # drive so does drive / k_j (the diode current is positive there).
         with np.errstate(divide="ignore", invalid="ignore"):
             alone = d.n_vt * np.log1p(np.maximum(drive, 0.0)
                                       / (np.asarray(self.r_series_ohm) * d.saturation_current_a))
-        start = np.maximum(np.minimum(np.nan_to_num(alone, nan=np.inf), drive), 0.0)
+            start = np.minimum(np.nan_to_num(alone, nan=np.inf), drive / k_j)
+            # One Newton step on vj = nVT ln(1 + i_d / IS), i_d = (drive − k_j vj) / k_d: that
+            # form is concave and decreasing in vj, so the step stays right of the root,
+            # and it is nearly linear where the diode conducts (where the exponential
+            # form is steep), leaving the exponential form a few steps.
+            log_arg = (drive - k_j * start) / (k_d * d.saturation_current_a)
+            value = d.n_vt * np.log1p(log_arg) - start
+            slope = -1.0 - d.n_vt * k_j / (k_d * d.saturation_current_a * (1.0 + log_arg))
+            start = np.where(drive > 0, start - value / slope, 0.0)
         return self._newton(residual, start)
 
     def pair_at_node(self, v_node: Any) -> tuple[Any, Any]:
@@ -207,37 +230,77 @@ class SteeringBranch:
         reachable = np.isfinite(self.r_across_ohm) | (i > -d.saturation_current_a)
         return np.where(reachable, vj, -np.inf)
 
-
     def charge_time(self, capacitance_f: Any, drawn_a: Any, v_from: Any, v_to: Any
                     ) -> tuple[Any, Any]:
         """(time [s] for the node to rise from ``v_from`` to ``v_to`` [V], net current there [A]).
 
         The node holds ``capacitance_f`` [F] and ``drawn_a`` [A] is drawn from
         it (leakage). NaN where the node settles below ``v_to`` and never gets there.
+
+        Over the junction voltage, t = C ∫ (R dI + dV_pair) / (I − I_drawn): the series
+        resistor's share is R ln(e0 / e1), e = I − I_drawn at the two ends, and a bare
+        diode's pair voltage integrates in closed form too (``_bare_integral``); only a
+        resistor across the diode leaves a quadrature (``_pair_integral``).
+        """
+        given = (capacitance_f, drawn_a, v_from, v_to, self.source_v, self.r_series_ohm,
+                 self.r_across_ohm)
+        shape = np.broadcast_shapes(*(np.shape(x) for x in given))
+        c, drawn, v0, v1, *branch = (np.broadcast_to(np.asarray(x, dtype=float), shape)
+                                     for x in given)
+        br = SteeringBranch(self.diode, *branch)
+        x0, x1 = br.junction_at_node(np.stack([v0, v1]))  # both ends in one solve
+        e0, e1 = br._current(np.stack([x0, x1]))[0] - drawn
+        bare = np.isinf(br.r_across_ohm)
+        pair = np.empty(shape)
+        with np.errstate(divide="ignore", invalid="ignore"):
+            log_ratio = np.log(e0 / e1)
+            if bare.any():
+                pair[bare] = br._bare_integral(x0[bare], x1[bare], e1[bare], drawn[bare])
+            if not bare.all():
+                k = ~bare
+                pair[k] = SteeringBranch(self.diode, *(p[k] for p in branch)
+                                         )._pair_integral(x0[k], x1[k], drawn[k])
+            t = c * ((br.r_series_ohm + np.where(bare, self.diode.series_resistance_ohm, 0.0))
+                     * log_ratio + pair)
+        return np.where(e1 > 0, t, np.nan), e1
+
+    def _bare_integral(self, x0: Any, x1: Any, e1: Any, drawn: Any) -> Any:
+        """∫ dvj / (I − I_drawn) [Ω] from junction ``x1`` up to ``x0`` [V] for a bare diode, in
+        closed form (its RS adds RS ln(e0 / e1) to the pair's share, as R does).
+
+        With I = IS (e^(vj/nVT) − 1) and B = IS + I_drawn the integral is
+        (nVT / B) ln(1 + B z), z = (1 − e^((x1 − x0)/nVT)) / e1, written so that it
+        stays exact as B z → 0.
         """
         d = self.diode
-        x0, x1 = self.junction_at_node(v_from), self.junction_at_node(v_to)
-        drawn = np.asarray(drawn_a, dtype=float)
+        z = -np.expm1((x1 - x0) / d.n_vt) / e1
+        y = (d.saturation_current_a + drawn) * z
+        return d.n_vt * z * np.where(y == 0.0, 1.0, np.log1p(y) / y)
+
+    def _pair_integral(self, x0: Any, x1: Any, drawn: Any) -> Any:
+        """∫ dV_pair / (I − I_drawn) [Ω] from junction ``x1`` up to ``x0`` [V] with a resistor
+        across the diode, by Gauss–Legendre in s = ln(vj − vj∞).
+
+        vj∞ is where the branch carries the drawn current (the phase's asymptote);
+        the substitution removes the logarithmic end singularity there, so the
+        nodes converge fast. Quantities are taken as steps above vj∞ (expm1), free
+        of cancellation.
+        """
+        d = self.diode
         x_inf = self.junction_for_current(drawn)
-        reaches = x1 > x_inf
-        # Measure from the asymptote (or, without one, from just below the end).
-        x_ref = np.where(np.isfinite(x_inf), x_inf, x1 - d.n_vt)
-        i_ref, _ = self._current(x_ref)
-        excess_ref = np.where(np.isfinite(x_inf), 0.0, i_ref - drawn)
-        with np.errstate(divide="ignore", invalid="ignore"):
-            s0, s1 = np.log(x0 - x_ref), np.log(x1 - x_ref)
+        near = x1 - x_inf
+        ratio = (x0 - x_inf) / near
+        span = np.log(ratio)  # the interval's length in s
         u, w = _legendre(QUADRATURE_NODES)
-        s = s1[..., None] + (s0 - s1)[..., None] * u
-        dx = np.exp(s)
-        ref = x_ref[..., None]
-        wide = SteeringBranch(d, *(np.asarray(p, dtype=float)[..., None] for p in
-                                   (self.source_v, self.r_series_ohm, self.r_across_ohm)))
-        slope = wide._node_slope(*wide._slopes(ref + dx)[1:])
-        # Branch current above the reference without cancellation: expm1 of the step.
-        di_d = d.saturation_current_a * np.exp(ref / d.n_vt) * np.expm1(dx / d.n_vt)
-        dv_pair = dx + di_d * d.series_resistance_ohm
-        excess = di_d + dv_pair / wide.r_across_ohm + excess_ref[..., None]
-        integrand = np.asarray(capacitance_f, dtype=float)[..., None] * (-slope) * dx / excess
-        t = (s0 - s1) * np.sum(w * integrand, axis=-1)
-        i_end, _ = self._current(x1)
-        return np.where(reaches, t, np.nan), i_end - drawn
+        # vj − vj∞ = near · ratio^u at the nodes; the nodes pair up as u and 1 − u, so
+        # half the powers are ratio over the other half.
+        half = np.exp(span[..., None] * u[:QUADRATURE_NODES // 2])
+        dx = near[..., None] * np.concatenate([half, ratio[..., None] / half[..., ::-1]],
+                                              axis=-1)
+        at_inf = d.saturation_current_a * np.exp(x_inf / d.n_vt)[..., None]  # i_d + IS at vj∞
+        di_d = at_inf * np.expm1(dx / d.n_vt)
+        rs = d.series_resistance_ohm
+        dv_pair = (1.0 + at_inf * (rs / d.n_vt)) + di_d * (rs / d.n_vt)
+        r_across = self.r_across_ohm[..., None]
+        excess = di_d * (1.0 + rs / r_across) + dx / r_across
+        return span * ((dv_pair * dx / excess) @ w)

@@ -359,9 +359,9 @@ def times(osc: Oscillator, values: Mapping[str, ArrayLike], diode_steered: bool 
     return t_high.reshape(shape), t_low.reshape(shape)
 
 
-STEERED_SLICE = 4096
-"""Builds per slice of a diode-steered evaluation (fastest of 4096…65536 on a search of
-820,000 builds; memory then stays in the megabytes)."""
+STEERED_SLICE = 16384
+"""Builds per slice of a diode-steered evaluation (fastest of 4096…32768 on the demo
+drawer's duty searches, about a million builds each; memory stays in the megabytes)."""
 
 
 def _times(osc: Oscillator, values: Mapping[str, ArrayLike], diode_steered: bool,
