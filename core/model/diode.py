@@ -291,16 +291,20 @@ class SteeringBranch:
         near = x1 - x_inf
         ratio = (x0 - x_inf) / near
         span = np.log(ratio)  # the interval's length in s
+        rs_slope = d.series_resistance_ohm / d.n_vt
+        at_inf = d.saturation_current_a * np.exp(x_inf / d.n_vt)  # i_d + IS at vj∞
+        dv_inf = 1.0 + at_inf * rs_slope  # d V_pair / d vj at vj∞
+        di_share = 1.0 + d.series_resistance_ohm / self.r_across_ohm
+
+        def integrand(dx: Any) -> Any:
+            di_d = at_inf * np.expm1(dx / d.n_vt)
+            return (dv_inf + di_d * rs_slope) * dx / (di_d * di_share + dx / self.r_across_ohm)
+
+        # vj − vj∞ = near · ratio^u at the nodes; they pair up as u and 1 − u (same
+        # weight), so one power serves both. A node at a time keeps the arrays in cache.
         u, w = _legendre(QUADRATURE_NODES)
-        # vj − vj∞ = near · ratio^u at the nodes; the nodes pair up as u and 1 − u, so
-        # half the powers are ratio over the other half.
-        half = np.exp(span[..., None] * u[:QUADRATURE_NODES // 2])
-        dx = near[..., None] * np.concatenate([half, ratio[..., None] / half[..., ::-1]],
-                                              axis=-1)
-        at_inf = d.saturation_current_a * np.exp(x_inf / d.n_vt)[..., None]  # i_d + IS at vj∞
-        di_d = at_inf * np.expm1(dx / d.n_vt)
-        rs = d.series_resistance_ohm
-        dv_pair = (1.0 + at_inf * (rs / d.n_vt)) + di_d * (rs / d.n_vt)
-        r_across = self.r_across_ohm[..., None]
-        excess = di_d * (1.0 + rs / r_across) + dx / r_across
-        return span * ((dv_pair * dx / excess) @ w)
+        total = np.zeros(np.shape(near))
+        for uk, wk in zip(u[:QUADRATURE_NODES // 2], w, strict=False):
+            power = np.exp(span * uk)
+            total += wk * (integrand(near * power) + integrand(near * (ratio / power)))
+        return span * total
