@@ -191,9 +191,8 @@ class SteeringBranch:
             return (k_j * vj + k_d * i_d - drive,
                     k_j + k_d * (i_d + d.saturation_current_a) / d.n_vt)
 
-        # Right of the root: the diode alone through RS would already pass the
-        # whole drive (or the drive itself, which is smaller then); with a positive
-        # drive so does drive / k_j (the diode current is positive there).
+        # Right of the root, for a positive drive: the diode alone through R would
+        # already pass the whole drive, and so would the rest alone (drive / k_j).
         with np.errstate(divide="ignore", invalid="ignore"):
             alone = d.n_vt * np.log1p(np.maximum(drive, 0.0)
                                       / (np.asarray(self.r_series_ohm) * d.saturation_current_a))
@@ -304,7 +303,8 @@ class SteeringBranch:
         # weight), so one power serves both. A node at a time keeps the arrays in cache.
         u, w = _legendre(QUADRATURE_NODES)
         total = np.zeros(np.shape(near))
-        for uk, wk in zip(u[:QUADRATURE_NODES // 2], w, strict=False):
+        half = QUADRATURE_NODES // 2
+        for uk, wk in zip(u[:half], w[:half], strict=True):
             power = np.exp(span * uk)
             total += wk * (integrand(near * power) + integrand(near * (ratio / power)))
         return span * total
