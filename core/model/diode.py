@@ -33,7 +33,7 @@ References: W. Shockley (1949), the ideal diode law; ngspice User's Manual
 from __future__ import annotations
 
 import math
-from dataclasses import dataclass
+from dataclasses import dataclass, replace
 from functools import cache
 from typing import Any
 
@@ -161,22 +161,31 @@ class SteeringBranch:
         r, rs, r_across = self.r_series_ohm, self.diode.series_resistance_ohm, self.r_across_ohm
         return 1.0 + r / r_across, r + rs + r * rs / r_across
 
-    def _newton(self, residual: Any, start: Any) -> Any:
-        """Root of an increasing convex ``residual(vj) -> (value, slope)`` from its right.
+    @staticmethod
+    def _newton(residual: Any, start: Any, *given: Any) -> Any:
+        """Root of an increasing convex ``residual(vj, *given) -> (value, slope)`` from its
+        right, element by element (``start`` and ``given`` broadcast).
 
         Newton's steps from the right of such a root never overshoot it, so
         the iteration is monotone and safe for every element at once. Both
         residuals here are an exponential in vj/nVT plus a linear part, so their
         curvature over slope is at most 1/nVT and a step δ leaves the root at most
-        δ²/(2 nVT) away: once every step is below NEWTON_STEP_V the answer is exact
-        to rounding.
+        δ²/(2 nVT) away: once its step is below NEWTON_STEP_V an element is exact to
+        rounding and drops out of the iteration (a few elements need twice the steps
+        of most).
         """
-        vj = np.asarray(start, dtype=float)
+        shape = np.broadcast_shapes(np.shape(start), *(np.shape(g) for g in given))
+        vj = np.array(np.broadcast_to(start, shape), dtype=float)
+        flat = vj.reshape(-1)
+        given = tuple(np.broadcast_to(np.asarray(g, dtype=float), shape).reshape(-1)
+                      for g in given)
+        k = np.arange(flat.size)
         for _ in range(200):
-            value, slope = residual(vj)
+            value, slope = residual(flat[k], *(g[k] for g in given))
             step = value / slope
-            vj = vj - step
-            if not np.any(np.abs(step) > NEWTON_STEP_V):
+            flat[k] -= step
+            k = k[np.abs(step) > NEWTON_STEP_V]
+            if not k.size:
                 break
         return vj
 
@@ -186,7 +195,7 @@ class SteeringBranch:
         drive = np.asarray(self.source_v - v_node, dtype=float)
         k_j, k_d = self._drive_terms()
 
-        def residual(vj: Any) -> tuple[Any, Any]:
+        def residual(vj: Any, drive: Any, k_j: Any, k_d: Any) -> tuple[Any, Any]:
             i_d = d.junction_current(vj)
             return (k_j * vj + k_d * i_d - drive,
                     k_j + k_d * (i_d + d.saturation_current_a) / d.n_vt)
@@ -205,7 +214,7 @@ class SteeringBranch:
             value = d.n_vt * np.log1p(log_arg) - start
             slope = -1.0 - d.n_vt * k_j / (k_d * d.saturation_current_a * (1.0 + log_arg))
             start = np.where(drive > 0, start - value / slope, 0.0)
-        return self._newton(residual, start)
+        return self._newton(residual, start, drive, k_j, k_d)
 
     def pair_at_node(self, v_node: Any) -> tuple[Any, Any]:
         """(voltage across diode ∥ resistor [V], the diode's share of the current) at
@@ -219,13 +228,13 @@ class SteeringBranch:
         d = self.diode
         i = np.asarray(current, dtype=float)
 
-        def residual(vj: Any) -> tuple[Any, Any]:
-            got, slope = self._current(vj)
+        def residual(vj: Any, i: Any, r_across: Any) -> tuple[Any, Any]:
+            got, slope = replace(self, r_across_ohm=r_across)._current(vj)
             return got - i, slope
 
         start = np.where(i > 0, d.n_vt * np.log1p(np.maximum(i, 0.0) / d.saturation_current_a),
                          0.0)
-        vj = self._newton(residual, start)
+        vj = self._newton(residual, start, i, self.r_across_ohm)
         reachable = np.isfinite(self.r_across_ohm) | (i > -d.saturation_current_a)
         return np.where(reachable, vj, -np.inf)
 
