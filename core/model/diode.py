@@ -47,9 +47,10 @@ NEWTON_STEP_V = 1e-9
 """A junction solve stops once every Newton step is below this [V]: what is left is at
 most (1e-9)² / (2 nVT), about 1e-17 V, below rounding (see ``SteeringBranch._newton``)."""
 QUADRATURE_NODES = 12
-"""Gauss–Legendre nodes per charge time: after the substitution the integrand is so
-smooth that 12 nodes agree with scipy's adaptive quadrature to about 1e-14 (checked
-over supplies 2–15 V and RA/RB 1/100…100 in tests/test_diode.py)."""
+"""Gauss–Legendre nodes per charge time, an even number (``_pair_integral`` takes them in
+pairs): after the substitution the integrand is so smooth that 12 nodes agree with scipy's
+adaptive quadrature to about 1e-14 (checked over supplies 2–15 V and RA/RB 1/100…100 in
+tests/test_diode.py)."""
 
 
 @dataclass(frozen=True)
@@ -129,20 +130,15 @@ class SteeringBranch:
     r_series_ohm: Any
     r_across_ohm: Any
 
-    def _slopes(self, vj: Any) -> tuple[Any, Any, Any]:
-        """(diode current [A], d/d vj of the voltage across and of the current through
-        diode ∥ resistor)."""
+    def _pair(self, vj: Any) -> tuple[Any, Any, Any, Any]:
+        """Across diode ∥ resistor: (voltage [V], current [A], and their d/d vj)."""
         d = self.diode
         i_d = d.junction_current(vj)
         g = (i_d + d.saturation_current_a) / d.n_vt  # d i_d / d vj
         dv_pair = 1.0 + g * d.series_resistance_ohm
-        return i_d, dv_pair, g + dv_pair / self.r_across_ohm
-
-    def _pair(self, vj: Any) -> tuple[Any, Any, Any, Any]:
-        """Across diode ∥ resistor: (voltage [V], current [A], and their d/d vj)."""
-        i_d, dv_pair, d_current = self._slopes(vj)
-        v_pair = vj + i_d * self.diode.series_resistance_ohm
-        return v_pair, i_d + v_pair / self.r_across_ohm, dv_pair, d_current
+        v_pair = vj + i_d * d.series_resistance_ohm
+        return (v_pair, i_d + v_pair / self.r_across_ohm, dv_pair,
+                g + dv_pair / self.r_across_ohm)
 
     def _current(self, vj: Any) -> tuple[Any, Any]:
         """(branch current [A], its slope d/d vj [S]) at junction ``vj``."""
